@@ -1,0 +1,221 @@
+"""The workbook contract: every input sheet and column, in one place.
+
+The template writer, the reader, the validator and the README's column reference all
+read this table, so a column is added here once and appears everywhere.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+MODES = ("road", "rail", "sea", "inland_water", "air")
+DEPOT_KINDS = ("depot", "hub", "terminal", "customer", "port")
+OBJECTIVES = ("cost", "time", "distance", "emissions")
+YES_NO = ("yes", "no")
+DRIVING_RULES = ("none", "eu_561_2006", "us_49cfr395")
+
+
+@dataclass(frozen=True)
+class Column:
+    name: str
+    kind: str  # text | id | number | yesno | choice | depot | vehicle
+    required: bool = False
+    unit: str = ""
+    note: str = ""
+    choices: tuple[str, ...] = ()
+    default: object = None
+    # numbers: inclusive bounds; None = unbounded
+    minimum: float | None = None
+    maximum: float | None = None
+    integer: bool = False
+    width: float = 14
+    # required header whose cells may be left blank (with a warning)
+    allow_blank: bool = False
+
+    @property
+    def key(self) -> str:
+        return self.name
+
+
+@dataclass(frozen=True)
+class SheetSpec:
+    name: str
+    columns: tuple[Column, ...]
+    required: bool = True
+    note: str = ""
+    id_column: str | None = None
+    extra: dict = field(default_factory=dict)
+
+    def column(self, name: str) -> Column:
+        for c in self.columns:
+            if c.name == name:
+                return c
+        raise KeyError(name)
+
+
+@dataclass(frozen=True)
+class SettingSpec:
+    name: str
+    kind: str  # number | choice | text
+    default: object
+    note: str
+    choices: tuple[str, ...] = ()
+    minimum: float | None = None
+    maximum: float | None = None
+
+
+SETTINGS: tuple[SettingSpec, ...] = (
+    SettingSpec("currency", "text", "EUR",
+                "ISO 4217 three-letter code of every money figure in this workbook, e.g. EUR, GBP, "
+                "USD, JPY. Sets the rounding: to the currency's minor unit."),
+    SettingSpec("objective", "choice", "cost",
+                "What the route search minimises when a shipment does not say: cost, time (hours), "
+                "distance (km) or emissions (kg CO2e).", choices=OBJECTIVES),
+    SettingSpec("detour_factor", "number", 1.25,
+                "Road km per straight-line km, used when a lane's distance_km is blank. "
+                "Common practice: 1.2 to 1.3 between cities.", minimum=1.0, maximum=5.0),
+    SettingSpec("default_speed_kmh", "number", 70.0,
+                "Average speed in km/h, used when a lane's drive_hours is blank "
+                "(hours = km / speed).", minimum=1.0, maximum=1000.0),
+    SettingSpec("value_of_time_per_hour", "number", 0.0,
+                "Money per hour of transit time, for trade-off read-outs (currency per hour).",
+                minimum=0.0),
+    SettingSpec("driving_rules", "choice", "none",
+                "Driving-time rules applied to road legs: none, eu_561_2006 or us_49cfr395. "
+                "Planning estimate only, not compliance advice.", choices=DRIVING_RULES),
+    SettingSpec("fuel_price_per_litre", "number", None,
+                "Fuel price per litre in the workbook currency (blank: no fuel surcharge).",
+                minimum=0.0),
+)
+
+SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
+
+SHEETS: tuple[SheetSpec, ...] = (
+    SheetSpec(
+        "Settings",
+        (
+            Column("setting", "text", True, note="Name of a setting (one per row). Known settings are "
+                   "listed below the header; a blank value means the default.", width=26),
+            Column("value", "text", False, note="Value of the setting. Blank: the default is used.",
+                   width=16),
+            Column("note", "text", False, note="What the setting means (for you; not read).", width=90),
+        ),
+        required=False,
+        note="Run settings. Leave a value blank for its default.",
+    ),
+    SheetSpec(
+        "Depots",
+        (
+            Column("depot_id", "id", True, note="Short unique code of the depot, e.g. DEP-01. "
+                   "Lanes and shipments refer to it.", width=12),
+            Column("name", "text", False, note="Readable name of the depot.", width=26),
+            Column("latitude", "number", True, "degrees", "Latitude in decimal degrees, WGS84, "
+                   "-90 to 90 (north positive). Blank: no straight-line estimates or search bound "
+                   "for this depot.", minimum=-90.0, maximum=90.0, width=11, allow_blank=True),
+            Column("longitude", "number", True, "degrees", "Longitude in decimal degrees, WGS84, "
+                   "-180 to 180 (east positive).", minimum=-180.0, maximum=180.0, width=11,
+                   allow_blank=True),
+            Column("kind", "choice", False, note="depot, hub, terminal, customer or port. "
+                   "Handling is charged at a hub the route passes through. Blank: depot.",
+                   choices=DEPOT_KINDS, default="depot", width=10),
+            Column("handling_cost", "number", False, "currency per vehicle", "Cost of handling one "
+                   "vehicle here (loading, unloading or cross-dock), charged where a route starts, "
+                   "ends, or passes through a hub. Blank: 0.", default=0.0, minimum=0.0, width=14),
+            Column("handling_hours", "number", False, "hours", "Hours one vehicle spends being "
+                   "handled here. Blank: 0.", default=0.0, minimum=0.0, maximum=240.0, width=14),
+        ),
+        id_column="depot_id",
+        note="Places: depots, hubs, terminals, ports and customers.",
+    ),
+    SheetSpec(
+        "Lanes",
+        (
+            Column("lane_id", "id", True, note="Short unique code of the lane, e.g. L-001.", width=10),
+            Column("from_depot", "depot", True, note="depot_id where the lane starts.", width=12),
+            Column("to_depot", "depot", True, note="depot_id where the lane ends.", width=12),
+            Column("mode", "choice", True, note="road, rail, sea, inland_water or air.",
+                   choices=MODES, width=12),
+            Column("distance_km", "number", False, "km", "Length of the lane in km. Blank: "
+                   "straight-line km x detour_factor (marked as estimated).", minimum=0.0,
+                   maximum=25000.0, width=12),
+            Column("drive_hours", "number", False, "hours", "Moving time of one vehicle on the "
+                   "lane, in hours. Blank: km / default_speed_kmh (marked as estimated).",
+                   minimum=0.0, maximum=1000.0, width=12),
+            Column("toll", "number", False, "currency per vehicle", "Toll or access charge per "
+                   "vehicle for one pass of the lane. Blank: 0.", default=0.0, minimum=0.0, width=10),
+            Column("fixed_cost", "number", False, "currency per vehicle", "Other fixed cost per "
+                   "vehicle for one pass of the lane (ferry ticket, terminal fee). Blank: 0.",
+                   default=0.0, minimum=0.0, width=11),
+            Column("two_way", "yesno", False, note="yes: the lane can be used in both directions "
+                   "with the same figures. Blank: yes.", choices=YES_NO, default=True, width=9),
+            Column("max_weight_t", "number", False, "tonnes", "Heaviest loaded vehicle allowed, in "
+                   "tonnes. Blank: no limit.", minimum=0.0, width=12),
+            Column("hazmat_allowed", "yesno", False, note="no: dangerous goods may not use this "
+                   "lane. Blank: yes.", choices=YES_NO, default=True, width=14),
+            Column("open", "yesno", False, note="no: the lane is closed and never used. Blank: yes.",
+                   choices=YES_NO, default=True, width=8),
+        ),
+        id_column="lane_id",
+        note="Legs that vehicles can run between two depots.",
+    ),
+    SheetSpec(
+        "Rates",
+        (
+            Column("vehicle", "text", True, note="Name of the vehicle type, e.g. artic_40t. "
+                   "One row per vehicle and mode.", width=14),
+            Column("mode", "choice", True, note="Mode of the lanes this rate card prices.",
+                   choices=MODES, width=12),
+            Column("per_km", "number", True, "currency per km", "Cost per vehicle-km.", minimum=0.0,
+                   width=10),
+            Column("per_hour", "number", True, "currency per hour", "Cost per vehicle-hour of "
+                   "driving (driver, vehicle time).", minimum=0.0, width=10),
+            Column("per_trip", "number", False, "currency per vehicle", "Charge once per vehicle "
+                   "per shipment (dispatch, paperwork). Blank: 0.", default=0.0, minimum=0.0, width=10),
+            Column("payload_t", "number", True, "tonnes", "Most a vehicle may carry, in tonnes. "
+                   "A heavier shipment is split over several vehicles.", minimum=0.0, width=10),
+            Column("fuel_l_per_100km", "number", False, "litres per 100 km", "Fuel use of one "
+                   "vehicle. Blank: no emissions are computed for this card.", minimum=0.0,
+                   maximum=10000.0, width=14),
+            Column("co2e_kg_per_litre", "number", False, "kg CO2e per litre", "Emission factor of "
+                   "the fuel, e.g. diesel about 2.5 to 2.7 tank-to-wheel.", minimum=0.0,
+                   maximum=10.0, width=14),
+            Column("min_charge", "number", False, "currency per shipment", "Least a shipment "
+                   "using this card is charged. Blank: 0.", default=0.0, minimum=0.0, width=11),
+        ),
+        note="Rate cards: what each vehicle costs on each mode.",
+    ),
+    SheetSpec(
+        "Shipments",
+        (
+            Column("shipment_id", "id", True, note="Unique reference of the shipment.", width=12),
+            Column("origin", "depot", True, note="depot_id where the goods are collected.", width=12),
+            Column("destination", "depot", True, note="depot_id where the goods are delivered.",
+                   width=12),
+            Column("weight_t", "number", True, "tonnes", "Weight of the goods in tonnes.",
+                   minimum=0.0, maximum=100000.0, width=10),
+            Column("vehicle", "vehicle", False, note="Vehicle to use (from Rates). Blank: the "
+                   "vehicle that gives the best route under the objective.", width=14),
+            Column("objective", "choice", False, note="cost, time, distance or emissions. "
+                   "Blank: the objective in Settings.", choices=OBJECTIVES, width=11),
+            Column("hazmat", "yesno", False, note="yes: dangerous goods. Blank: no.",
+                   choices=YES_NO, default=False, width=9),
+            Column("customer", "text", False, note="Customer name, for your reference.", width=20),
+        ),
+        id_column="shipment_id",
+        note="The shipments to cost.",
+    ),
+)
+
+SHEETS_BY_NAME = {s.name: s for s in SHEETS}
+
+
+def normalise_header(text: object) -> str:
+    """`Distance km`, ` distance_KM ` and `distance-km` all become `distance_km`."""
+    s = str(text if text is not None else "").strip().lower()
+    out = []
+    for ch in s:
+        if ch.isalnum():
+            out.append(ch)
+        elif out and out[-1] != "_":
+            out.append("_")
+    return "".join(out).strip("_")

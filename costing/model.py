@@ -1,0 +1,122 @@
+"""Frozen records that flow through the pipeline. No I/O here."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+ERROR = "error"
+WARNING = "warning"
+INFO = "info"
+
+
+@dataclass(frozen=True)
+class Problem:
+    severity: str  # error | warning | info
+    sheet: str
+    cell: str  # e.g. "D14", or "" for a whole sheet
+    message: str
+    fix: str
+
+    @property
+    def where(self) -> str:
+        if not self.sheet:
+            return "workbook"
+        sheet = f"'{self.sheet}'" if (" " in self.sheet or "-" in self.sheet) else self.sheet
+        return f"{sheet}!{self.cell}" if self.cell else sheet
+
+    def __str__(self) -> str:
+        return f"{self.where}: {self.message} ({self.fix})"
+
+
+@dataclass(frozen=True)
+class Depot:
+    depot_id: str
+    name: str
+    latitude: float | None
+    longitude: float | None
+    kind: str = "depot"
+    handling_cost: float = 0.0
+    handling_hours: float = 0.0
+    row: int = 0
+
+
+@dataclass(frozen=True)
+class Lane:
+    lane_id: str
+    from_depot: str
+    to_depot: str
+    mode: str
+    distance_km: float | None
+    drive_hours: float | None
+    toll: float = 0.0
+    fixed_cost: float = 0.0
+    two_way: bool = True
+    max_weight_t: float | None = None
+    hazmat_allowed: bool = True
+    open: bool = True
+    row: int = 0
+
+
+@dataclass(frozen=True)
+class RateCard:
+    vehicle: str
+    mode: str
+    per_km: float
+    per_hour: float
+    payload_t: float
+    per_trip: float = 0.0
+    fuel_l_per_100km: float | None = None
+    co2e_kg_per_litre: float | None = None
+    min_charge: float = 0.0
+    row: int = 0
+
+
+@dataclass(frozen=True)
+class Shipment:
+    shipment_id: str
+    origin: str
+    destination: str
+    weight_t: float
+    vehicle: str | None = None
+    objective: str | None = None
+    hazmat: bool = False
+    customer: str = ""
+    row: int = 0
+
+
+@dataclass(frozen=True)
+class Settings:
+    currency: str = "EUR"
+    objective: str = "cost"
+    detour_factor: float = 1.25
+    default_speed_kmh: float = 70.0
+    value_of_time_per_hour: float = 0.0
+    driving_rules: str = "none"
+    fuel_price_per_litre: float | None = None
+
+
+@dataclass(frozen=True)
+class Model:
+    settings: Settings
+    depots: tuple[Depot, ...]
+    lanes: tuple[Lane, ...]
+    rates: tuple[RateCard, ...]
+    shipments: tuple[Shipment, ...]
+    problems: tuple[Problem, ...] = field(default_factory=tuple)
+
+    def depot(self, depot_id: str) -> Depot:
+        return self.depot_index[depot_id]
+
+    @property
+    def depot_index(self) -> dict[str, Depot]:
+        return {d.depot_id: d for d in self.depots}
+
+    def vehicles(self) -> list[str]:
+        seen: dict[str, None] = {}
+        for r in self.rates:
+            seen.setdefault(r.vehicle, None)
+        return list(seen)
+
+    def cards_for(self, vehicle: str) -> dict[str, RateCard]:
+        """mode -> rate card of one vehicle."""
+        return {r.mode: r for r in self.rates if r.vehicle == vehicle}

@@ -1,0 +1,123 @@
+"""Write the blank input template: every sheet and column of the contract, with notes,
+dropdowns, number formats and frozen headers."""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+import xlsxwriter
+from xlsxwriter.utility import xl_col_to_name
+
+from .contract import SETTINGS, SHEETS, SheetSpec
+
+# Validations reach this far down; a coordinator with more rows extends them in the app.
+TEMPLATE_ROWS = 5000
+FIXED_TIME = _dt.datetime(2026, 1, 1, 0, 0, 0)
+
+_NUMBER_FORMATS = {
+    "degrees": "0.0000",
+    "km": "#,##0.0",
+    "hours": "0.00",
+    "tonnes": "#,##0.00",
+    "litres per 100 km": "0.0",
+    "kg CO2e per litre": "0.000",
+}
+
+
+def header_note(spec: SheetSpec, col) -> str:
+    parts = [col.note]
+    if col.unit:
+        parts.append(f"Unit: {col.unit}.")
+    if col.choices:
+        parts.append("Allowed: " + ", ".join(col.choices) + ".")
+    parts.append("Required." if col.required else "Optional.")
+    return " ".join(p for p in parts if p)
+
+
+def _list_source(spec: SheetSpec, col) -> str | list[str] | None:
+    if col.kind in ("choice", "yesno"):
+        return list(col.choices)
+    if col.kind == "depot":
+        return f"=Depots!$A$2:$A${TEMPLATE_ROWS}"
+    if col.kind == "vehicle":
+        return f"=Rates!$A$2:$A${TEMPLATE_ROWS}"
+    return None
+
+
+def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None:
+    """Write the template to `path`. `data` (sheet name -> list of row dicts keyed by column
+    name) fills rows below the headers; the example workbook is written this way."""
+    data = data or {}
+    wb = xlsxwriter.Workbook(path, {"strings_to_formulas": False, "strings_to_urls": False})
+    wb.set_properties({"title": "Route costing input", "created": FIXED_TIME,
+                       "comments": "Input workbook for the costing tool. Fill one record per row."})
+    head_req = wb.add_format({"bold": True, "bg_color": "#1F4E78", "font_color": "#FFFFFF",
+                              "border": 1})
+    head_opt = wb.add_format({"bold": True, "bg_color": "#DDEBF7", "border": 1})
+    note_fmt = wb.add_format({"italic": True, "font_color": "#595959", "text_wrap": False})
+    text_fmt = wb.add_format({"num_format": "@"})
+    fmt_cache: dict[str, object] = {}
+
+    def number_format(unit: str):
+        nf = _NUMBER_FORMATS.get(unit, "#,##0.00" if "currency" in unit else "General")
+        if nf not in fmt_cache:
+            fmt_cache[nf] = wb.add_format({"num_format": nf})
+        return fmt_cache[nf]
+
+    for spec in SHEETS:
+        ws = wb.add_worksheet(spec.name)
+        ws.freeze_panes(1, 0)
+        for c, col in enumerate(spec.columns):
+            ws.write_string(0, c, col.name, head_req if col.required else head_opt)
+            ws.write_comment(0, c, header_note(spec, col),
+                             {"x_scale": 2.2, "y_scale": 1.6, "author": "costing"})
+            cell_format = None
+            if col.kind == "number":
+                cell_format = number_format(col.unit)
+            elif col.kind in ("id", "text", "depot", "vehicle"):
+                cell_format = text_fmt
+            ws.set_column(c, c, col.width, cell_format)
+            rng = f"{xl_col_to_name(c)}2:{xl_col_to_name(c)}{TEMPLATE_ROWS}"
+            source = _list_source(spec, col)
+            if source is not None:
+                ws.data_validation(rng, {
+                    "validate": "list", "source": source,
+                    "input_title": col.name[:32], "input_message": col.note[:255],
+                    "error_title": "Not in the list",
+                    "error_message": f"Pick a value from the list for {col.name}."[:255],
+                    "error_type": "warning" if col.kind in ("depot", "vehicle") else "stop",
+                })
+            elif col.kind == "number":
+                lo = col.minimum if col.minimum is not None else -1e307
+                hi = col.maximum if col.maximum is not None else 1e307
+                ws.data_validation(rng, {
+                    "validate": "decimal", "criteria": "between", "minimum": lo, "maximum": hi,
+                    "input_title": col.name[:32],
+                    "input_message": (col.note + (f" Unit: {col.unit}." if col.unit else ""))[:255],
+                    "error_title": "Not a number in range",
+                    "error_message": f"{col.name} takes a number from {lo:g} to {hi:g}."[:255],
+                })
+        ws.autofilter(0, 0, 0, len(spec.columns) - 1)
+        if spec.name == "Settings" and "Settings" not in data:
+            for r, s in enumerate(SETTINGS, start=1):
+                ws.write_string(r, 0, s.name)
+                if s.default is not None:
+                    if isinstance(s.default, (int, float)):
+                        ws.write_number(r, 1, s.default)
+                    else:
+                        ws.write_string(r, 1, str(s.default))
+                ws.write_string(r, 2, s.note, note_fmt)
+                if s.choices:
+                    ws.data_validation(r, 1, r, 1, {"validate": "list", "source": list(s.choices)})
+        for r, record in enumerate(data.get(spec.name, []), start=1):
+            for c, col in enumerate(spec.columns):
+                v = record.get(col.name)
+                if v is None:
+                    continue
+                if isinstance(v, bool):
+                    ws.write_string(r, c, "yes" if v else "no")
+                elif isinstance(v, (int, float)):
+                    ws.write_number(r, c, v)
+                else:
+                    ws.write_string(r, c, str(v))
+    wb.close()

@@ -1,0 +1,420 @@
+"""Turn raw rows into the Model, with every problem tied to its sheet and cell.
+Knows the rules of the trade; knows nothing of openpyxl or xlsxwriter."""
+
+from __future__ import annotations
+
+import datetime as _dt
+import difflib
+import math
+import re
+
+from .contract import SETTINGS, SETTINGS_BY_NAME, SHEETS_BY_NAME, Column, normalise_header
+from .geo import great_circle_km
+from .model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
+from .money import is_known_currency
+from .reader import RawRow, RawSheet, RawWorkbook
+
+# A stated lane length this much below the straight line between its depots is flagged.
+# 1 % covers the sphere-versus-ellipsoid difference (at most 0.57 %) and rounding of km.
+STRAIGHT_LINE_TOLERANCE = 0.99
+# Implied average speeds above these (km/h) are flagged as likely typos in hours or km.
+MAX_PLAUSIBLE_SPEED = {"road": 130, "rail": 200, "sea": 60, "inland_water": 40, "air": 1000}
+
+_MISSING = object()
+
+
+class _Sheet:
+    """Helper that converts one sheet's cells and records problems with their addresses."""
+
+    def __init__(self, raw: RawSheet, problems: list[Problem]):
+        self.raw = raw
+        self.problems = problems
+        self.spec = SHEETS_BY_NAME[raw.name]
+
+    def problem(self, severity: str, column: str | None, row: int, message: str, fix: str):
+        cell = self.raw.cell(column, row) if column else f"A{row}:{row}"
+        self.problems.append(Problem(severity, self.raw.title, cell, message, fix))
+
+    def value(self, rr: RawRow, col: Column):
+        """Converted cell value, col.default when blank, or _MISSING after an error."""
+        if col.name not in self.raw.columns:
+            return col.default
+        if col.name in rr.formulas:
+            self.problem(ERROR, col.name, rr.row,
+                         f"{col.name} is a formula with no saved result",
+                         "open the workbook in a spreadsheet application and save it (so results "
+                         "are stored), or type the value itself")
+            return _MISSING
+        v = rr.values.get(col.name)
+        if v is None:
+            if col.allow_blank:
+                self.problem(WARNING, col.name, rr.row, f"{col.name} is blank",
+                             f"fill in {col.name} so distances can be estimated and checked; "
+                             "until then routes from this depot are found without a bound")
+                return None
+            if col.required:
+                self.problem(ERROR, col.name, rr.row, f"{col.name} is blank",
+                             f"fill in {col.name}" + (f" ({col.unit})" if col.unit else ""))
+                return _MISSING
+            return col.default
+        if col.kind == "number":
+            return self._number(rr, col, v)
+        if col.kind in ("yesno",):
+            return self._yes_no(rr, col, v)
+        if col.kind == "choice":
+            return self._choice(rr, col, v)
+        return self._text(rr, col, v)
+
+    def _number(self, rr, col, v):
+        unit = f" in {col.unit}" if col.unit else ""
+        if isinstance(v, bool):
+            self.problem(ERROR, col.name, rr.row, f"{col.name} holds TRUE/FALSE, not a number",
+                         f"type the {col.name} as a number{unit}")
+            return _MISSING
+        if isinstance(v, (_dt.datetime, _dt.date, _dt.time)):
+            self.problem(ERROR, col.name, rr.row,
+                         f"{col.name} holds a date or time ({v}), not a number",
+                         f"format the cell as Number and type the {col.name}{unit}")
+            return _MISSING
+        if isinstance(v, str):
+            guess = _number_in_text(v)
+            hint = f"type {guess:g} as a number" if guess is not None else \
+                f"type the {col.name} as a number{unit}"
+            self.problem(ERROR, col.name, rr.row,
+                         f"{col.name} holds the text '{_short(v)}', not a number",
+                         hint + " (no units, no thousands separators)")
+            return _MISSING
+        x = float(v)
+        if not math.isfinite(x):
+            self.problem(ERROR, col.name, rr.row, f"{col.name} is not a finite number",
+                         f"type the {col.name} as a number{unit}")
+            return _MISSING
+        if col.minimum is not None and x < col.minimum:
+            what = "negative" if col.minimum == 0 else f"below {col.minimum:g}"
+            self.problem(ERROR, col.name, rr.row, f"{col.name} is {what} ({x:g})",
+                         f"enter a value of at least {col.minimum:g}{unit}")
+            return _MISSING
+        if col.maximum is not None and x > col.maximum:
+            self.problem(ERROR, col.name, rr.row, f"{col.name} {x:g} is above {col.maximum:g}",
+                         f"check the value; {col.name} takes at most {col.maximum:g}{unit}")
+            return _MISSING
+        return x
+
+    def _yes_no(self, rr, col, v):
+        if isinstance(v, bool):
+            return v
+        s = str(v).strip().lower()
+        if s in ("yes", "y", "true", "1", "1.0"):
+            return True
+        if s in ("no", "n", "false", "0", "0.0"):
+            return False
+        self.problem(ERROR, col.name, rr.row, f"{col.name} is '{_short(v)}', not yes or no",
+                     "pick yes or no from the list")
+        return _MISSING
+
+    def _choice(self, rr, col, v):
+        s = normalise_header(v)
+        if s in col.choices:
+            return s
+        close = difflib.get_close_matches(s, col.choices, n=1, cutoff=0.5)
+        hint = f"did you mean {close[0]}? " if close else ""
+        self.problem(ERROR, col.name, rr.row, f"{col.name} '{_short(v)}' is not one of "
+                     + ", ".join(col.choices), f"{hint}pick a value from the list")
+        return _MISSING
+
+    def _text(self, rr, col, v):
+        if isinstance(v, bool):
+            self.problem(ERROR, col.name, rr.row, f"{col.name} holds TRUE/FALSE",
+                         f"type the {col.name} as text")
+            return _MISSING
+        if isinstance(v, float) and v.is_integer():
+            v = int(v)
+        if isinstance(v, (_dt.datetime, _dt.date)):
+            self.problem(ERROR, col.name, rr.row,
+                         f"{col.name} holds a date ({v}); the cell was probably auto-formatted",
+                         "format the cell as Text and type the value again")
+            return _MISSING
+        s = str(v).strip()
+        if col.kind in ("id", "depot", "vehicle") and len(s) > 200:
+            self.problem(ERROR, col.name, rr.row, f"{col.name} is {len(s)} characters long",
+                         "use a code of at most 200 characters")
+            return _MISSING
+        return s
+
+
+def _short(v, n: int = 40) -> str:
+    s = str(v)
+    return s if len(s) <= n else s[: n - 1] + "…"
+
+
+def _number_in_text(s: str) -> float | None:
+    """What number a coordinator probably meant by '1,200 km' or ' 12.5 '."""
+    t = re.sub(r"[^\d.,\-]", "", s)
+    if not t or not re.search(r"\d", t):
+        return None
+    if "," in t and "." in t:
+        t = t.replace(",", "") if t.rfind(".") > t.rfind(",") else t.replace(".", "").replace(",", ".")
+    elif "," in t:
+        parts = t.split(",")
+        t = t.replace(",", "") if all(len(p) == 3 for p in parts[1:]) else t.replace(",", ".")
+    try:
+        return float(t)
+    except ValueError:
+        return None
+
+
+def _records(sheet: _Sheet):
+    """Yield (raw row, converted dict, ok) for each row."""
+    for rr in sheet.raw.rows:
+        rec = {}
+        ok = True
+        for col in sheet.spec.columns:
+            v = sheet.value(rr, col)
+            if v is _MISSING:
+                ok = False
+                v = None
+            rec[col.name] = v
+        yield rr, rec, ok
+
+
+def _settings(raw: RawSheet | None, problems: list[Problem]) -> Settings:
+    values: dict[str, object] = {}
+    if raw is None:
+        problems.append(Problem(INFO, "Settings", "", "no Settings sheet; defaults used",
+                                "add a Settings sheet (from `costing template`) to change them"))
+        return Settings()
+    sh = _Sheet(raw, problems)
+    seen: dict[str, int] = {}
+    for rr in raw.rows:
+        name_v = rr.values.get("setting")
+        if name_v is None:
+            continue
+        name = normalise_header(name_v)
+        spec = SETTINGS_BY_NAME.get(name)
+        if spec is None:
+            close = difflib.get_close_matches(name, list(SETTINGS_BY_NAME), n=1, cutoff=0.6)
+            sh.problem(WARNING, "setting", rr.row, f"unknown setting '{_short(name_v)}' is ignored",
+                       f"did you mean {close[0]}?" if close else
+                       "known settings: " + ", ".join(SETTINGS_BY_NAME))
+            continue
+        if name in seen:
+            sh.problem(ERROR, "setting", rr.row, f"setting {name} is given twice (also row "
+                       f"{seen[name]})", "delete one of the two rows")
+            continue
+        seen[name] = rr.row
+        v = rr.values.get("value")
+        if "value" in rr.formulas:
+            sh.problem(ERROR, "value", rr.row, f"{name} is a formula with no saved result",
+                       "type the value itself, or save the workbook in a spreadsheet application")
+            continue
+        if v is None:
+            continue
+        if spec.kind == "number":
+            col = Column(name, "number", minimum=spec.minimum, maximum=spec.maximum)
+            x = sh._number(rr, _as_value_col(col), v)
+            if x is not _MISSING:
+                values[name] = x
+        elif spec.kind == "choice":
+            s = normalise_header(v)
+            if s in spec.choices:
+                values[name] = s
+            else:
+                sh.problem(ERROR, "value", rr.row, f"{name} '{_short(v)}' is not one of "
+                           + ", ".join(spec.choices), "pick a value from the list")
+        else:
+            s = str(v).strip().upper()
+            if name == "currency":
+                if not re.fullmatch(r"[A-Z]{3}", s):
+                    sh.problem(ERROR, "value", rr.row, f"currency '{_short(v)}' is not an ISO 4217 "
+                               "code", "type a three-letter code such as EUR, GBP or USD")
+                    continue
+                if not is_known_currency(s):
+                    sh.problem(WARNING, "value", rr.row, f"currency {s} is not in the tool's list; "
+                               "money is rounded to 2 decimals", "check the ISO 4217 code")
+            values[name] = s
+    defaults = {s.name: s.default for s in SETTINGS}
+    merged = {**defaults, **values}
+    return Settings(**merged)
+
+
+def _as_value_col(col: Column) -> Column:
+    # the Settings sheet keeps every number in its 'value' column
+    return Column("value", col.kind, minimum=col.minimum, maximum=col.maximum)
+
+
+def _ids(sheet: _Sheet, rows, key: str, what: str):
+    seen: dict[str, int] = {}
+    out = []
+    for rr, rec, ok in rows:
+        k = rec.get(key)
+        if k is not None:
+            if k in seen:
+                sheet.problem(ERROR, key, rr.row, f"duplicate {what} '{_short(k)}' (first in row "
+                              f"{seen[k]})", f"give each {what} its own {key}")
+                ok = False
+            else:
+                seen[k] = rr.row
+        out.append((rr, rec, ok))
+    return out
+
+
+def _suggest(value: str, known) -> str:
+    close = difflib.get_close_matches(value, list(known), n=1, cutoff=0.6)
+    return f"did you mean {close[0]}? " if close else ""
+
+
+def validate(raw: RawWorkbook) -> Model:
+    problems: list[Problem] = list(raw.problems)
+    settings = _settings(raw.sheets.get("Settings"), problems)
+
+    depots: list[Depot] = []
+    if "Depots" in raw.sheets:
+        sh = _Sheet(raw.sheets["Depots"], problems)
+        for rr, rec, ok in _ids(sh, list(_records(sh)), "depot_id", "depot"):
+            lat, lon = rec["latitude"], rec["longitude"]
+            if lat is not None and lon is not None and (lat, lon) == (0.0, 0.0):
+                sh.problem(WARNING, "latitude", rr.row, "coordinates are 0, 0 (in the Gulf of "
+                           "Guinea)", "check latitude and longitude")
+            if rec["depot_id"] is None:
+                continue
+            if not ok and (rec["latitude"] is None or rec["longitude"] is None):
+                lat = lon = None
+            depots.append(Depot(rec["depot_id"], rec["name"] or "", lat, lon,
+                                rec["kind"] or "depot", rec["handling_cost"] or 0.0,
+                                rec["handling_hours"] or 0.0, rr.row))
+            if not ok:
+                continue
+    depot_ix = {d.depot_id: d for d in depots}
+    _check_swapped_coordinates(raw, problems)
+
+    rates: list[RateCard] = []
+    if "Rates" in raw.sheets:
+        sh = _Sheet(raw.sheets["Rates"], problems)
+        seen: dict[tuple, int] = {}
+        for rr, rec, ok in _records(sh):
+            if rec["vehicle"] is None or rec["mode"] is None:
+                continue
+            key = (rec["vehicle"], rec["mode"])
+            if key in seen:
+                sh.problem(ERROR, "vehicle", rr.row, f"duplicate rate card for {key[0]} on "
+                           f"{key[1]} (first in row {seen[key]})",
+                           "keep one row per vehicle and mode")
+                continue
+            seen[key] = rr.row
+            if rec["payload_t"] is not None and rec["payload_t"] <= 0:
+                sh.problem(ERROR, "payload_t", rr.row, "payload_t is 0",
+                           "enter the payload of one vehicle in tonnes (more than 0)")
+                ok = False
+            fuel, factor = rec["fuel_l_per_100km"], rec["co2e_kg_per_litre"]
+            if (fuel is None) != (factor is None):
+                sh.problem(WARNING, "fuel_l_per_100km" if fuel is None else "co2e_kg_per_litre",
+                           rr.row, "only one of fuel_l_per_100km and co2e_kg_per_litre is given; "
+                           "emissions for this card are reported as 0",
+                           "fill in both, or neither")
+            if ok:
+                rates.append(RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
+                                      rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
+                                      rec["min_charge"] or 0.0, rr.row))
+    vehicles = {r.vehicle for r in rates}
+    rated_modes = {r.mode for r in rates}
+
+    lanes: list[Lane] = []
+    if "Lanes" in raw.sheets:
+        sh = _Sheet(raw.sheets["Lanes"], problems)
+        for rr, rec, ok in _ids(sh, list(_records(sh)), "lane_id", "lane"):
+            for end in ("from_depot", "to_depot"):
+                d = rec[end]
+                if d is not None and d not in depot_ix:
+                    sh.problem(ERROR, end, rr.row, f"{end} '{_short(d)}' is not a depot_id on "
+                               "the Depots sheet", _suggest(d, depot_ix) +
+                               "use a depot_id from Depots, or add the depot there")
+                    ok = False
+            if rec["from_depot"] is not None and rec["from_depot"] == rec["to_depot"]:
+                sh.problem(ERROR, "to_depot", rr.row, f"lane goes from {rec['from_depot']} to "
+                           "itself", "correct from_depot or to_depot, or delete the row")
+                ok = False
+            if not ok:
+                continue
+            a, b = depot_ix[rec["from_depot"]], depot_ix[rec["to_depot"]]
+            gc = None
+            if None not in (a.latitude, a.longitude, b.latitude, b.longitude):
+                gc = great_circle_km(a.latitude, a.longitude, b.latitude, b.longitude)
+            km, hours = rec["distance_km"], rec["drive_hours"]
+            if km is None and gc is None:
+                sh.problem(ERROR, "distance_km", rr.row, "distance_km is blank and the depots "
+                           "have no coordinates to estimate it from",
+                           "fill in distance_km, or the coordinates of both depots")
+                continue
+            if km is not None and gc is not None and km < gc * STRAIGHT_LINE_TOLERANCE:
+                sh.problem(WARNING, "distance_km", rr.row,
+                           f"lane is {km:g} km but its depots are {gc:.1f} km apart in a straight "
+                           "line; likely a typo in the km or in a depot's coordinates",
+                           f"check distance_km and the coordinates of {a.depot_id} and "
+                           f"{b.depot_id}")
+            if km is not None and km > 0 and hours is not None:
+                speed_cap = MAX_PLAUSIBLE_SPEED.get(rec["mode"], 1000)
+                if hours == 0:
+                    sh.problem(WARNING, "drive_hours", rr.row, "drive_hours is 0 for a lane of "
+                               f"{km:g} km", "enter the hours, or leave blank to estimate them")
+                elif km / hours > speed_cap:
+                    sh.problem(WARNING, "drive_hours", rr.row, f"{km:g} km in {hours:g} h is "
+                               f"{km / hours:.0f} km/h, fast for {rec['mode']}",
+                               "check distance_km and drive_hours")
+            if rec["mode"] not in rated_modes and rates:
+                sh.problem(WARNING, "mode", rr.row, f"no rate card prices mode {rec['mode']}; "
+                           "the lane is never used", f"add a Rates row for {rec['mode']}")
+            lanes.append(Lane(rec["lane_id"], a.depot_id, b.depot_id, rec["mode"], km, hours,
+                              rec["toll"] or 0.0, rec["fixed_cost"] or 0.0,
+                              bool(rec["two_way"]), rec["max_weight_t"],
+                              bool(rec["hazmat_allowed"]), bool(rec["open"]), rr.row))
+
+    shipments: list[Shipment] = []
+    if "Shipments" in raw.sheets:
+        sh = _Sheet(raw.sheets["Shipments"], problems)
+        for rr, rec, ok in _ids(sh, list(_records(sh)), "shipment_id", "shipment"):
+            for end in ("origin", "destination"):
+                d = rec[end]
+                if d is not None and d not in depot_ix:
+                    sh.problem(ERROR, end, rr.row, f"{end} '{_short(d)}' is not a depot_id on "
+                               "the Depots sheet", _suggest(d, depot_ix) +
+                               "use a depot_id from Depots, or add the depot there")
+                    ok = False
+            v = rec["vehicle"]
+            if v is not None and v not in vehicles:
+                sh.problem(ERROR, "vehicle", rr.row, f"vehicle '{_short(v)}' has no rate card on "
+                           "the Rates sheet", _suggest(v, vehicles) +
+                           "use a vehicle from Rates, or leave blank to let the tool choose")
+                ok = False
+            if rec["weight_t"] == 0:
+                sh.problem(WARNING, "weight_t", rr.row, "weight_t is 0; costed as one vehicle",
+                           "enter the weight in tonnes")
+            if ok:
+                shipments.append(Shipment(rec["shipment_id"], rec["origin"], rec["destination"],
+                                          rec["weight_t"], v, rec["objective"],
+                                          bool(rec["hazmat"]), rec["customer"] or "", rr.row))
+
+    if "Rates" in raw.sheets and not rates and raw.sheets["Rates"].rows == []:
+        problems.append(Problem(ERROR, raw.sheets["Rates"].title, "A2", "no rate cards",
+                                "add at least one row: vehicle, mode, per_km, per_hour, payload_t"))
+    if "Shipments" in raw.sheets and not raw.sheets["Shipments"].rows:
+        problems.append(Problem(WARNING, raw.sheets["Shipments"].title, "A2", "no shipments to cost",
+                                "add shipments from row 2"))
+    return Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
+                 tuple(problems))
+
+
+def _check_swapped_coordinates(raw: RawWorkbook, problems: list[Problem]) -> None:
+    """A latitude outside +-90 next to a longitude inside it is almost always a swap."""
+    if "Depots" not in raw.sheets:
+        return
+    sheet = raw.sheets["Depots"]
+    for p in list(problems):
+        if p.sheet == sheet.title and "latitude" in p.message and "above" in p.message:
+            problems.append(Problem(INFO, p.sheet, p.cell, "a latitude beyond 90 degrees is often "
+                                    "a latitude/longitude swap", "check whether the two columns "
+                                    "were swapped"))
+            break
+
+
+def has_errors(problems) -> bool:
+    return any(p.severity == ERROR for p in problems)
