@@ -103,6 +103,14 @@ class Model:
     rates: tuple[RateCard, ...]
     shipments: tuple[Shipment, ...]
     problems: tuple[Problem, ...] = field(default_factory=tuple)
+    # where things are in the input: sheet -> (title in the file, column -> letter)
+    layout: dict[str, tuple[str, dict[str, str]]] = field(default_factory=dict)
+
+    def cell(self, sheet: str, column: str, row: int) -> tuple[str, str]:
+        """(sheet title, cell address) of a value in the input, for problem reports."""
+        title, letters = self.layout.get(sheet, (sheet, {}))
+        letter = letters.get(column)
+        return title, (f"{letter}{row}" if letter else f"row {row}")
 
     def depot(self, depot_id: str) -> Depot:
         return self.depot_index[depot_id]

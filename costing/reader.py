@@ -41,6 +41,9 @@ class RawSheet:
     columns: dict[str, int]  # contract column name -> 1-based column index
     rows: list[RawRow]
 
+    def letters(self) -> dict[str, str]:
+        return {c: get_column_letter(i) for c, i in self.columns.items()}
+
     def cell(self, column: str, row: int) -> str:
         idx = self.columns.get(column)
         return f"{get_column_letter(idx)}{row}" if idx else f"row {row}"

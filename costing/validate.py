@@ -399,8 +399,9 @@ def validate(raw: RawWorkbook) -> Model:
     if "Shipments" in raw.sheets and not raw.sheets["Shipments"].rows:
         problems.append(Problem(WARNING, raw.sheets["Shipments"].title, "A2", "no shipments to cost",
                                 "add shipments from row 2"))
+    layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     return Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
-                 tuple(problems))
+                 tuple(problems), layout)
 
 
 def _check_swapped_coordinates(raw: RawWorkbook, problems: list[Problem]) -> None:

@@ -1,0 +1,254 @@
+"""Command line: argument parsing, exit codes, progress. No algorithms here.
+
+Exit codes: 0 done; 1 the input has errors (nothing written); 2 usage error.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import tempfile
+import time
+
+from . import __version__
+from .contract import OBJECTIVES
+from .model import ERROR, WARNING, Problem
+
+EXIT_OK, EXIT_INPUT, EXIT_USAGE = 0, 1, 2
+
+
+class UsageError(Exception):
+    pass
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # usage errors exit 2 with a short message
+        self.print_usage(sys.stderr)
+        print(f"costing: error: {message}", file=sys.stderr)
+        raise SystemExit(EXIT_USAGE)
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="costing", description="Cost freight shipments over a lane network: reads an "
+                "input workbook, finds each shipment's least-cost route (A* search) and writes a new, "
+                "auditable costed workbook.")
+    p.add_argument("--version", action="version", version=f"costing {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    sub.required = True
+
+    t = sub.add_parser("template", help="write the blank input template",
+                       description="Write the blank input workbook: every sheet and column, with a "
+                       "note on each header, dropdowns and number formats.")
+    t.add_argument("path", metavar="PATH", help="where to write the template (.xlsx)")
+    t.add_argument("--overwrite", action="store_true", help="replace PATH if it exists")
+
+    c = sub.add_parser("check", help="validate an input workbook and list its problems",
+                       description="Validate INPUT and print every problem as Sheet!Cell: message "
+                       "(fix). Exit 0 when there are no errors, 1 when there are.")
+    c.add_argument("input", metavar="INPUT", help="input workbook (.xlsx)")
+
+    r = sub.add_parser("run", help="cost the shipments of an input workbook",
+                       description="Validate INPUT, route and cost every shipment, and write the costed "
+                       "workbook OUTPUT. On input errors nothing is written and the exit code is 1.")
+    r.add_argument("input", metavar="INPUT", help="input workbook (.xlsx); never modified")
+    r.add_argument("-o", "--output", metavar="OUTPUT", required=True, help="costed workbook to write")
+    _common(r)
+
+    d = sub.add_parser("demo", help="cost the bundled example workbook",
+                       description="Write the bundled example input and cost it: the quickest way to "
+                       "see what the tool produces.")
+    d.add_argument("-o", "--output", metavar="OUTPUT", default=None,
+                   help="costed workbook to write (default: costing-demo.xlsx, or the next free "
+                   "name costing-demo-2.xlsx, ... so earlier output is kept)")
+    d.add_argument("--input-copy", metavar="PATH", default=None,
+                   help="also save the example input workbook to PATH, to look at or edit")
+    _common(d)
+    return p
+
+
+def _common(p):
+    p.add_argument("--objective", choices=OBJECTIVES, default=None,
+                   help="objective for shipments that do not name one (overrides Settings)")
+    p.add_argument("--overwrite", action="store_true", help="replace OUTPUT if it exists")
+    p.add_argument("--quiet", action="store_true", help="print only errors")
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = _parser().parse_args(argv)
+    try:
+        if args.command == "template":
+            return _template(args)
+        if args.command == "check":
+            return _check(args)
+        if args.command == "run":
+            return _run(args.input, args.output, args)
+        if args.command == "demo":
+            return _demo(args)
+    except UsageError as e:
+        print(f"costing: error: {e}", file=sys.stderr)
+        return EXIT_USAGE
+    except KeyboardInterrupt:
+        print("costing: interrupted; no output written", file=sys.stderr)
+        return 130
+    return EXIT_USAGE
+
+
+def _template(args) -> int:
+    from .template import write_template
+
+    _check_output_path(args.path, None, args.overwrite)
+    _atomic_write(args.path, write_template)
+    print(f"template written: {args.path}")
+    return EXIT_OK
+
+
+def _load(path: str):
+    """read + validate; returns (model or None, problems)."""
+    from .reader import InputError, read_workbook
+    from .validate import validate
+
+    try:
+        raw = read_workbook(path)
+    except InputError as e:
+        return None, list(e.problems), None
+    model = validate(raw)
+    return model, list(model.problems), raw.sha256
+
+
+def _print_problems(problems: list[Problem], quiet: bool = False) -> None:
+    for p in problems:
+        if p.severity == ERROR or (not quiet and p.severity == WARNING):
+            print(f"{p.severity}: {p}", file=sys.stderr)
+
+
+def _check(args) -> int:
+    if not os.path.exists(args.input):
+        raise UsageError(f"input file not found: {args.input}")
+    model, problems, _ = _load(args.input)
+    errors = [p for p in problems if p.severity == ERROR]
+    for p in problems:
+        print(f"{p.severity}: {p}")
+    if model is not None and not errors:
+        print(f"OK: {len(model.depots)} depots, {len(model.lanes)} lanes, {len(model.rates)} rate cards, "
+              f"{len(model.shipments)} shipments; {len(problems)} note(s) above, no errors")
+        return EXIT_OK
+    print(f"{len(errors)} error(s); fix them and check again", file=sys.stderr)
+    return EXIT_INPUT
+
+
+def _check_output_path(output: str, input_path: str | None, overwrite: bool) -> None:
+    if not output.lower().endswith(".xlsx"):
+        raise UsageError(f"OUTPUT must end in .xlsx: {output}")
+    folder = os.path.dirname(os.path.abspath(output))
+    if not os.path.isdir(folder):
+        raise UsageError(f"the folder of OUTPUT does not exist: {folder}")
+    if input_path is not None and os.path.exists(output) and os.path.exists(input_path) and \
+            os.path.samefile(output, input_path):
+        raise UsageError("OUTPUT is the INPUT workbook; the input is never overwritten. "
+                         "Choose another OUTPUT name")
+    if input_path is not None and os.path.abspath(output) == os.path.abspath(input_path):
+        raise UsageError("OUTPUT is the INPUT workbook; choose another OUTPUT name")
+    if os.path.exists(output) and not overwrite:
+        raise UsageError(f"{output} exists; add --overwrite to replace it, or choose another name")
+
+
+def _atomic_write(output: str, write) -> None:
+    """Write to a temporary file beside OUTPUT and rename it into place only when complete,
+    so a failed or interrupted run leaves no partial file and any earlier OUTPUT intact."""
+    folder = os.path.dirname(os.path.abspath(output))
+    fd, tmp = tempfile.mkstemp(prefix=".costing-", suffix=".xlsx.part", dir=folder)
+    os.close(fd)
+    try:
+        write(tmp)
+        os.replace(tmp, output)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+class _Progress:
+    """A one-line progress bar on stderr, only when stderr is a terminal."""
+
+    def __init__(self, label: str, min_total: int = 50):
+        self.on = sys.stderr.isatty()
+        self.label = label
+        self.min_total = min_total
+        self.last = 0.0
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.on or total < self.min_total:
+            return
+        now = time.monotonic()
+        if done < total and now - self.last < 0.1:
+            return
+        self.last = now
+        width = 30
+        fill = int(width * done / total)
+        sys.stderr.write(f"\r{self.label} [{'#' * fill}{'.' * (width - fill)}] {done}/{total}")
+        if done == total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
+    from .network import build_graph
+    from .route import route_all
+    from .writer import RunInfo, run_time, write_costed
+
+    if not os.path.exists(input_path):
+        raise UsageError(f"input file not found: {input_path}")
+    _check_output_path(output, input_path, args.overwrite)
+    times: dict[str, float] = {}
+    t0 = time.perf_counter()
+    model, problems, digest = _load(input_path)
+    times["read and validate"] = time.perf_counter() - t0
+    errors = [p for p in problems if p.severity == ERROR]
+    if model is None or errors:
+        _print_problems(problems, quiet=True)
+        print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
+              f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
+        return EXIT_INPUT
+    t0 = time.perf_counter()
+    graph = build_graph(model)
+    times["build network"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    results, stats, more = route_all(model, graph, args.objective, _Progress("costing"))
+    times["search and cost"] = time.perf_counter() - t0
+    problems += more
+    stats.seconds = {**times, **stats.seconds}
+    info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
+    t0 = time.perf_counter()
+    _atomic_write(output, lambda p: write_costed(p, model, results, problems, info))
+    elapsed = time.perf_counter() - t0
+    if not args.quiet:
+        _print_problems(problems)
+        routed = sum(r.status == "routed" for r in results)
+        total = sum(r.total_cost for r in results if r.status == "routed")
+        print(f"{routed} of {len(results)} shipments routed; total {total:,.2f} "
+              f"{model.settings.currency}; wrote {output} ({elapsed:.2f} s to write)")
+    return EXIT_OK
+
+
+def _demo(args) -> int:
+    from .example import write_example
+
+    output = args.output
+    if output is None:
+        output = "costing-demo.xlsx"
+        k = 2
+        while os.path.exists(output):
+            output = f"costing-demo-{k}.xlsx"
+            k += 1
+    with tempfile.TemporaryDirectory() as tmp:
+        example = os.path.join(tmp, "example-input.xlsx")
+        write_example(example)
+        if args.input_copy:
+            _check_output_path(args.input_copy, None, args.overwrite)
+            _atomic_write(args.input_copy, write_example)
+        return _run(example, output, args, input_label="bundled example (costing.example)")
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,252 @@
+"""Demo scenario: one week of shipments for Hollowmere Freight, an invented carrier.
+
+Hollowmere runs 36 sites across the Netherlands, Belgium, western Germany and northern France:
+cross-dock hubs at Tilburg, Duisburg and Lille-Lesquin, four rail terminals, two port quays, own
+depots and customer sites. The company, customers and every figure are invented; coordinates sit
+near real towns. The data plants a few faults on purpose (see the comments) so validation and
+no-route reporting have something to show.
+"""
+
+from __future__ import annotations
+
+from .template import write_template
+
+# Every name and number below is invented for this demo. Coordinates are WGS84 decimal degrees.
+# Road lane km = straight line x a detour factor of 1.15 to 1.42; hours = km / 62 to 77 km/h.
+# Rail lane km = straight line x 1.15 to 1.27; hours = km / 47 to 54 km/h.
+
+_SETTINGS = [
+    ("currency", "EUR", "All money in euro."),
+    ("objective", "cost", "Shipments without an objective take the cheapest route."),
+    ("detour_factor", 1.25, "Road km per straight-line km for lanes with a blank distance."),
+    ("default_speed_kmh", 70, "Speed for lanes with blank drive_hours."),
+    ("value_of_time_per_hour", 45, "What an hour of transit is worth to Hollowmere's planners."),
+    ("driving_rules", "none", "No driving-time rules applied in the demo."),
+    ("fuel_price_per_litre", 1.62, "Diesel price per litre, for the fuel surcharge."),
+]
+
+_DEPOT_COLUMNS = ("depot_id", "name", "latitude", "longitude", "kind", "handling_cost",
+                  "handling_hours")
+_DEPOTS = [
+    ("D01", "Hollowmere Venlo DC", 51.3704, 6.1724, "depot", 28, 0.5),
+    ("D02", "Hollowmere Tilburg Cross-Dock", 51.5606, 5.0919, "hub", 45, 1.0),
+    ("D03", "Hollowmere Duisburg Cross-Dock", 51.4344, 6.7623, "hub", 55, 1.25),
+    ("D04", "Hollowmere Lille-Lesquin Cross-Dock", 50.5890, 3.0830, "hub", 40, 0.75),
+    ("D05", "Hollowmere Barendrecht Rail Terminal", 51.8560, 4.5340, "terminal", 65, 1.5),
+    ("D06", "Hollowmere Blerick Rail Terminal", 51.3790, 6.1330, "terminal", 60, 1.5),
+    ("D07", "Hollowmere Koeln-Eifeltor Rail Terminal", 50.8950, 6.9300, "terminal", 70, 1.5),
+    ("D08", "Hollowmere Dourges Rail Terminal", 50.4400, 2.9850, "terminal", 60, 1.25),
+    ("D09", "Hollowmere Waalhaven Quay", 51.8800, 4.4400, "port", 50, 1.0),
+    ("D10", "Hollowmere Antwerp North Quay", 51.2800, 4.3300, "port", 50, 1.0),
+    ("D11", "Hollowmere Utrecht Depot", 52.0907, 5.1214, "depot", 25, 0.5),
+    ("D12", "Hollowmere Amsterdam West Depot", 52.3870, 4.8300, "depot", 25, 0.5),
+    ("D13", "Hollowmere Alkmaar Depot", 52.6320, 4.7480, "depot", 20, 0.5),
+    ("D14", "Hollowmere Den Helder Depot", 52.9560, 4.7600, "depot", 20, 0.5),
+    # CUT-OFF SITE: on the island of Texel. Its only lane (L003, the ferry) is closed this week,
+    # so nothing reaches it by road: shipment S007 ends as no_route.
+    ("D15", "Duneveld Dairy, Oudeschild (Texel)", 53.0400, 4.8500, "customer", 10, 0.25),
+    ("D16", "Hollowmere Eindhoven Depot", 51.4416, 5.4697, "depot", 25, 0.5),
+    ("D17", "Hollowmere Nijmegen Depot", 51.8126, 5.8372, "depot", 25, 0.5),
+    ("D18", "Hollowmere Zwolle Depot", 52.5168, 6.0830, "depot", 22, 0.5),
+    ("D19", "Hollowmere Groningen Depot", 53.2194, 6.5665, "depot", 22, 0.5),
+    ("D20", "Bramblecote Foods, Breda", 51.5719, 4.7683, "customer", 12, 0.3),
+    ("D21", "Hollowmere Gent Depot", 51.0543, 3.7174, "depot", 25, 0.5),
+    ("D22", "Hollowmere Vilvoorde Depot", 50.9280, 4.4290, "depot", 25, 0.5),
+    ("D23", "Hollowmere Liege Depot", 50.6326, 5.5797, "depot", 25, 0.5),
+    ("D24", "Copperfinch Tools, Hasselt", 50.9307, 5.3325, "customer", 10, 0.25),
+    ("D25", "Hollowmere Aachen Depot", 50.7753, 6.0839, "depot", 25, 0.5),
+    ("D26", "Emberlight Glass, Duesseldorf", 51.2277, 6.7735, "customer", 15, 0.3),
+    ("D27", "Umberfield Steel, Essen", 51.4556, 7.0116, "customer", 15, 0.4),
+    ("D28", "Hollowmere Muenster Depot", 51.9607, 7.6261, "depot", 25, 0.5),
+    ("D29", "Foxmarsh Textiles, Moenchengladbach", 51.1805, 6.4428, "customer", 10, 0.25),
+    ("D30", "Larkspire Print, Arras", 50.2910, 2.7775, "customer", 10, 0.25),
+    ("D31", "Saltmarrow Seafood, Amiens", 49.8941, 2.2958, "customer", 12, 0.3),
+    ("D32", "Reedwhistle Plastics, Dunkerque", 51.0343, 2.3768, "customer", 12, 0.3),
+    ("D33", "Pebblestone Tiles, Valenciennes", 50.3570, 3.5234, "customer", 10, 0.25),
+    ("D34", "Thistledown Bedding, Namur", 50.4674, 4.8720, "customer", 10, 0.25),
+    ("D35", "Willowquay Wines, Bonn", 50.7374, 7.0982, "customer", 10, 0.25),
+    ("D36", "Oakhollow Toys, Kortrijk", 50.8279, 3.2649, "customer", 10, 0.25),
+]
+
+_LANE_COLUMNS = ("lane_id", "from_depot", "to_depot", "mode", "distance_km", "drive_hours", "toll",
+                 "fixed_cost", "two_way", "max_weight_t", "hazmat_allowed", "open")
+_LANES = [
+    # North Holland, up to the Texel ferry
+    ("L001", "D14", "D13", "road", 45.2, 0.63, 0, 0, True, None, True, True),
+    ("L002", "D13", "D12", "road", 37.4, 0.49, 0, 0, True, None, True, True),
+    # Texel ferry, suspended this week (closed): the only lane to D15, see the Depots comment
+    ("L003", "D14", "D15", "road", 14.0, 0.19, 0, 95, True, None, True, False),
+    ("L004", "D12", "D11", "road", 51.8, 0.77, 0, 0, True, None, True, True),
+    # through a river tunnel: no dangerous goods
+    ("L005", "D12", "D09", "road", 74.3, 1.03, 0, 0, True, None, False, True),
+    ("L006", "D12", "D18", "road", 108.4, 1.48, 0, 0, True, None, True, True),
+    ("L007", "D11", "D05", "road", 63.9, 0.98, 0, 0, True, None, True, True),
+    ("L008", "D11", "D17", "road", 72.7, 1.1, 0, 0, True, None, True, True),
+    ("L009", "D11", "D18", "road", 94.6, 1.24, 0, 0, True, None, True, True),
+    ("L010", "D11", "D02", "road", 79.9, 1.08, 0, 0, True, None, True, True),
+    ("L011", "D18", "D19", "road", 98.1, 1.4, 0, 0, True, None, True, True),
+    # PLANTED TYPO: 16.7 km should read 167.3 km (the depots are 121.9 km apart in a straight line);
+    # validation flags it as a warning.
+    ("L012", "D18", "D28", "road", 16.7, 2.26, 45, 0, True, None, True, True),
+    ("L013", "D19", "D28", "road", 204.4, 2.76, 45, 0, True, None, True, True),
+    # blank distance_km: estimated by the tool
+    ("L014", "D09", "D05", "road", None, 0.13, 0, 0, True, None, True, True),
+    ("L015", "D05", "D20", "road", 47.6, 0.73, 0, 0, True, None, True, True),
+    # one-way port exit route
+    ("L016", "D09", "D20", "road", 47.8, 0.71, 0, 0, False, None, True, True),
+    ("L017", "D20", "D02", "road", 30.3, 0.42, 0, 0, True, None, True, True),
+    ("L018", "D02", "D16", "road", 33.9, 0.48, 0, 0, True, None, True, True),
+    ("L019", "D02", "D17", "road", 71.7, 0.98, 0, 0, True, None, True, True),
+    ("L020", "D16", "D01", "road", 66.4, 0.92, 0, 0, True, None, True, True),
+    # blank distance_km: estimated by the tool (DC to rail terminal shuttle)
+    ("L021", "D01", "D06", "road", None, 0.05, 0, 0, True, None, True, True),
+    ("L022", "D17", "D01", "road", 68.8, 0.93, 0, 0, True, None, True, True),
+    # parallel pair 1, Breda - Antwerp: motorway with km charge, or country road without
+    ("L023", "D20", "D10", "road", 52.5, 0.69, 10, 0, True, None, True, True),
+    ("L024", "D20", "D10", "road", 63.1, 1.0, 0, 0, True, None, True, True),
+    ("L025", "D02", "D10", "road", 84.6, 1.3, 17, 0, True, None, True, True),
+    ("L026", "D16", "D24", "road", 75.6, 1.1, 15, 0, True, None, True, True),
+    # parallel pair 2, Venlo - Duisburg: motorway with truck toll, or country road with a 30 t bridge
+    ("L027", "D01", "D03", "road", 48.2, 0.63, 14, 0, True, None, True, True),
+    ("L028", "D01", "D03", "road", 58.1, 0.94, 0, 0, True, 30, True, True),
+    ("L029", "D06", "D29", "road", 39.5, 0.61, 12, 0, True, None, True, True),
+    ("L030", "D29", "D26", "road", 29.3, 0.43, 9, 0, True, None, True, True),
+    # Rhine ferry crossing: ticket 85 per vehicle, 30 t limit
+    ("L031", "D29", "D03", "road", 48.5, 0.78, 0, 85, True, 30, True, True),
+    ("L032", "D03", "D26", "road", 30.9, 0.48, 9, 0, True, None, True, True),
+    ("L033", "D03", "D27", "road", 20.9, 0.33, 6, 0, True, None, True, True),
+    ("L034", "D27", "D28", "road", 88.5, 1.18, 27, 0, True, None, True, True),
+    # one-way return route, westbound only
+    ("L035", "D28", "D03", "road", 103.6, 1.59, 31, 0, False, None, True, True),
+    ("L036", "D26", "D07", "road", 49.4, 0.74, 15, 0, True, None, True, True),
+    ("L037", "D07", "D35", "road", 28.1, 0.41, 8, 0, True, None, True, True),
+    ("L038", "D25", "D07", "road", 74.7, 1.1, 22, 0, True, None, True, True),
+    ("L039", "D25", "D29", "road", 63.2, 0.9, 19, 0, True, None, True, True),
+    ("L040", "D25", "D23", "road", 51.5, 0.79, 10, 0, True, None, True, True),
+    ("L041", "D17", "D03", "road", 90.3, 1.2, 27, 0, True, None, True, True),
+    ("L042", "D03", "D07", "road", 71.7, 1.12, 22, 0, True, None, True, True),
+    ("L043", "D10", "D22", "road", 50.0, 0.7, 10, 0, True, None, True, True),
+    # under the Scheldt by tunnel: no dangerous goods
+    ("L044", "D10", "D21", "road", 59.0, 0.82, 12, 0, True, None, False, True),
+    ("L045", "D21", "D22", "road", 61.7, 0.86, 12, 0, True, None, True, True),
+    ("L046", "D22", "D24", "road", 75.6, 1.01, 15, 0, True, None, True, True),
+    ("L047", "D24", "D23", "road", 49.7, 0.71, 10, 0, True, None, True, True),
+    # blank drive_hours: estimated by the tool
+    ("L048", "D22", "D34", "road", 77.8, None, 16, 0, True, None, True, True),
+    ("L049", "D34", "D23", "road", 66.1, 0.99, 13, 0, True, None, True, True),
+    # blank distance_km: estimated by the tool
+    ("L050", "D21", "D36", "road", None, 0.61, 9, 0, True, None, True, True),
+    ("L051", "D36", "D04", "road", 37.9, 0.59, 4, 0, True, None, True, True),
+    ("L052", "D22", "D04", "road", 122.1, 1.74, 24, 0, True, None, True, True),
+    ("L053", "D04", "D08", "road", 24.8, 0.34, 0, 0, True, None, True, True),
+    # one-way: Lille out to Dunkerque, back along the coast to Gent
+    ("L054", "D04", "D32", "road", 91.0, 1.4, 0, 0, False, None, True, True),
+    ("L055", "D32", "D21", "road", 108.7, 1.65, 22, 0, False, None, True, True),
+    ("L056", "D04", "D30", "road", 47.4, 0.7, 12, 0, True, None, True, True),
+    ("L057", "D08", "D30", "road", 25.5, 0.35, 0, 0, True, None, True, True),
+    # blank drive_hours: estimated by the tool
+    ("L058", "D30", "D31", "road", 68.6, None, 18, 0, True, None, True, True),
+    ("L059", "D04", "D33", "road", 50.1, 0.77, 0, 0, True, None, True, True),
+    ("L060", "D33", "D34", "road", 112.8, 1.55, 23, 0, True, None, True, True),
+    ("L061", "D08", "D33", "road", 50.9, 0.8, 0, 0, True, None, True, True),
+    ("L062", "D04", "D31", "road", 122.9, 1.78, 32, 0, True, None, True, True),
+    ("L063", "D16", "D23", "road", 116.7, 1.77, 23, 0, True, None, True, True),
+    ("L064", "D17", "D18", "road", 109.8, 1.55, 0, 0, True, None, True, True),
+    ("L065", "D09", "D10", "road", 90.0, 1.36, 18, 0, True, None, True, True),
+    ("L066", "D24", "D25", "road", 74.9, 1.13, 15, 0, True, None, True, True),
+    # rail between every pair of the four terminals, and a rail link from the Antwerp quay
+    ("L067", "D05", "D06", "rail", 149.4, 2.99, 0, 0, True, None, True, True),
+    ("L068", "D06", "D07", "rail", 97.9, 2.0, 0, 0, True, None, True, True),
+    ("L069", "D05", "D07", "rail", 244.3, 5.09, 0, 0, True, None, True, True),
+    ("L070", "D05", "D08", "rail", 236.4, 4.38, 0, 0, True, None, True, True),
+    ("L071", "D06", "D08", "rail", 281.0, 5.4, 0, 0, True, None, True, True),
+    ("L072", "D07", "D08", "rail", 356.3, 7.58, 0, 0, True, None, True, True),
+    ("L073", "D10", "D06", "rail", 149.3, 3.18, 0, 0, True, None, True, True),
+]
+
+_RATE_COLUMNS = ("vehicle", "mode", "per_km", "per_hour", "per_trip", "payload_t", "fuel_l_per_100km",
+                 "co2e_kg_per_litre", "min_charge")
+# Invented but plausible rates in EUR. Road fuel is diesel at 2.51 kg CO2e per litre.
+# rail_wagon fuel is one wagon's share of a diesel-hauled train (about 8.6 litres per 100 km),
+# so rail emissions and the fuel surcharge are computed on the same diesel basis as road.
+_RATES = [
+    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0),
+    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0),
+    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0),
+    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0),
+]
+
+_SHIPMENT_COLUMNS = ("shipment_id", "origin", "destination", "weight_t", "vehicle", "objective",
+                     "hazmat", "customer")
+_SHIPMENTS = [
+    ("S001", "D01", "D27", 18.0, None, None, False, "Umberfield Steel"),
+    ("S002", "D02", "D10", 6.5, None, None, False, "Saltmarrow Seafood"),
+    # dangerous goods: must avoid the tunnel lane L005
+    ("S003", "D09", "D12", 8.0, None, None, True, "Kettlewick Chemicals"),
+    # dangerous goods: must avoid the tunnel lane L044
+    ("S004", "D10", "D21", 14.0, None, None, True, "Velvetash Coatings"),
+    # heavier than one artic: 38 t over 2 artics
+    ("S005", "D10", "D03", 38.0, "artic_40t", None, False, "Umberfield Steel"),
+    # heavier than one artic: 55 t over 3 artics
+    ("S006", "D09", "D26", 55.0, "artic_40t", None, False, "Emberlight Glass"),
+    # to the cut-off Texel site D15: no road route this week -> no_route
+    ("S007", "D12", "D15", 16.0, "artic_40t", None, False, "Duneveld Dairy"),
+    # rail terminal to rail terminal
+    ("S008", "D05", "D07", 48.0, "rail_wagon", None, False, "Gildwater Beverages"),
+    ("S009", "D08", "D06", 60.0, None, None, False, "Pebblestone Tiles"),
+    ("S010", "D07", "D05", 22.0, "rail_wagon", None, False, "Willowquay Wines"),
+    ("S011", "D20", "D16", 3.2, None, None, False, "Bramblecote Foods"),
+    ("S012", "D16", "D20", 0.8, None, None, False, "Bramblecote Foods"),
+    ("S013", "D21", "D30", 7.5, None, None, False, "Larkspire Print"),
+    ("S014", "D36", "D08", 11.0, None, None, False, "Oakhollow Toys"),
+    ("S015", "D22", "D31", 4.4, None, "time", False, "Saltmarrow Seafood"),
+    ("S016", "D17", "D27", 21.0, "artic_40t", None, False, "Umberfield Steel"),
+    ("S017", "D11", "D10", 2.1, None, None, False, "Ashgrove Paints"),
+    ("S018", "D12", "D19", 5.6, "rigid_18t", None, False, "Mossbank Furniture"),
+    ("S019", "D28", "D29", 9.0, None, None, False, "Foxmarsh Textiles"),
+    ("S020", "D04", "D32", 16.5, None, None, False, "Reedwhistle Plastics"),
+    ("S021", "D32", "D10", 12.0, None, None, False, "Reedwhistle Plastics"),
+    ("S022", "D23", "D35", 1.6, None, "time", False, "Willowquay Wines"),
+    ("S023", "D25", "D24", 0.4, "van_3t5", None, False, "Copperfinch Tools"),
+    ("S024", "D09", "D04", 24.0, None, None, False, "Hazelrun Machinery"),
+    ("S025", "D34", "D22", 3.9, None, "distance", False, "Thistledown Bedding"),
+    ("S026", "D03", "D01", 19.5, None, None, False, "Ironpeel Fasteners"),
+    ("S027", "D07", "D29", 6.0, None, None, False, "Foxmarsh Textiles"),
+    ("S028", "D18", "D28", 10.0, None, None, False, "Reedwhistle Plastics"),
+    ("S029", "D13", "D11", 1.0, "van_3t5", None, False, "Quillfeather Paper"),
+    ("S030", "D16", "D26", 8.8, None, "time", False, "Emberlight Glass"),
+    ("S031", "D24", "D20", 2.7, None, None, False, "Bramblecote Foods"),
+    ("S032", "D33", "D21", 13.0, None, None, False, "Pebblestone Tiles"),
+    ("S033", "D10", "D16", 23.5, None, None, False, "Nightjar Pharma"),
+    ("S034", "D31", "D36", 5.0, None, None, False, "Oakhollow Toys"),
+    ("S035", "D05", "D17", 15.0, None, "distance", False, "Gildwater Beverages"),
+    ("S036", "D26", "D23", 4.2, "rigid_18t", None, False, "Emberlight Glass"),
+    ("S037", "D19", "D14", 0.9, None, None, False, "Saltmarrow Seafood"),
+    ("S038", "D27", "D17", 17.0, None, None, False, "Umberfield Steel"),
+    ("S039", "D21", "D08", 20.0, None, "time", False, "Hazelrun Machinery"),
+    ("S040", "D02", "D03", 12.5, None, None, False, "Ironpeel Fasteners"),
+    ("S041", "D30", "D04", 2.2, None, None, False, "Larkspire Print"),
+    ("S042", "D35", "D25", 7.0, None, None, False, "Willowquay Wines"),
+    ("S043", "D12", "D02", 9.5, None, None, False, "Mossbank Furniture"),
+    ("S044", "D08", "D27", 33.0, None, None, False, "Umberfield Steel"),
+]
+
+
+def _rows(columns: tuple[str, ...], table: list[tuple]) -> list[dict]:
+    return [dict(zip(columns, row, strict=True)) for row in table]
+
+
+def example_data() -> dict[str, list[dict]]:
+    """The demo workbook's rows: sheet name -> list of row dicts keyed by column name."""
+    return {
+        "Settings": _rows(("setting", "value", "note"), _SETTINGS),
+        "Depots": _rows(_DEPOT_COLUMNS, _DEPOTS),
+        "Lanes": _rows(_LANE_COLUMNS, _LANES),
+        "Rates": _rows(_RATE_COLUMNS, _RATES),
+        "Shipments": _rows(_SHIPMENT_COLUMNS, _SHIPMENTS),
+    }
+
+
+def write_example(path: str) -> None:
+    """Write the demo workbook to `path`."""
+    write_template(path, example_data())

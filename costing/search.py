@@ -1,0 +1,117 @@
+"""A* over a compact network: node ids 0..n-1, an adjacency list of (head, weight, edge id),
+and a lower bound h on the remaining weight. Nothing here knows about depots or rates.
+
+Correctness, in brief. Weights are non-negative. If h is consistent,
+    h(u) <= w(u, v) + h(v) for every edge u->v, and h(target) = 0,
+then the key f = g + h along any path never decreases, so the first time a node is popped its
+g is the least weight from the source (it is "settled"), and the route to the target is optimal
+when the target is popped. A consistent h with h(target) = 0 is also admissible (never above the
+true remaining weight). With h = 0 this is plain uniform-cost search (Dijkstra).
+
+Ties on f are broken by the order in which entries were pushed, which depends only on the
+adjacency order, so the same network gives the same route every time.
+"""
+
+from __future__ import annotations
+
+import heapq
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+Adjacency = Sequence[Sequence[tuple[int, float, int]]]
+
+
+@dataclass(frozen=True)
+class SearchStats:
+    settled: int = 0  # nodes popped with their final weight
+    pushed: int = 0  # entries put on the priority queue
+
+    def __add__(self, other: SearchStats) -> SearchStats:
+        return SearchStats(self.settled + other.settled, self.pushed + other.pushed)
+
+
+@dataclass(frozen=True)
+class SearchResult:
+    found: bool
+    weight: float  # total weight of the route (inf when not found)
+    nodes: tuple[int, ...]  # source .. target
+    edges: tuple[int, ...]  # edge ids, one per step
+    stats: SearchStats
+
+
+def astar(adj: Adjacency, source: int, target: int,
+          h: Sequence[float] | Callable[[int], float] | None = None) -> SearchResult:
+    """Least-weight route from source to target. `h` is a lower bound per node (a sequence
+    indexed by node id, a function, or None for uniform-cost search)."""
+    if h is None:
+        def bound(_v: int) -> float:
+            return 0.0
+    elif callable(h):
+        bound = h
+    else:
+        bound = h.__getitem__
+    n = len(adj)
+    g = [float("inf")] * n
+    parent_node = [-1] * n
+    parent_edge = [-1] * n
+    done = [False] * n
+    g[source] = 0.0
+    counter = 0
+    heap: list[tuple[float, int, int]] = [(bound(source), counter, source)]
+    pushed = 1
+    settled = 0
+    push, pop = heapq.heappush, heapq.heappop
+    while heap:
+        _f, _c, u = pop(heap)
+        if done[u]:
+            continue  # a stale entry: u was settled through a better one
+        done[u] = True
+        settled += 1
+        if u == target:
+            break
+        gu = g[u]
+        for v, w, e in adj[u]:
+            if done[v]:
+                continue
+            gv = gu + w
+            if gv < g[v]:
+                g[v] = gv
+                parent_node[v] = u
+                parent_edge[v] = e
+                counter += 1
+                push(heap, (gv + bound(v), counter, v))
+                pushed += 1
+    stats = SearchStats(settled, pushed)
+    if not done[target]:
+        return SearchResult(False, float("inf"), (), (), stats)
+    nodes = [target]
+    edges = []
+    v = target
+    while v != source:
+        edges.append(parent_edge[v])
+        v = parent_node[v]
+        nodes.append(v)
+    nodes.reverse()
+    edges.reverse()
+    return SearchResult(True, g[target], tuple(nodes), tuple(edges), stats)
+
+
+def dijkstra_all(adj: Adjacency, source: int) -> list[float]:
+    """Least weight from source to every node (inf where unreachable). Used for the
+    reverse-search checks of the bound and for reachability reports."""
+    n = len(adj)
+    g = [float("inf")] * n
+    g[source] = 0.0
+    heap = [(0.0, source)]
+    done = [False] * n
+    while heap:
+        gu, u = heapq.heappop(heap)
+        if done[u]:
+            continue
+        done[u] = True
+        for v, w, _e in adj[u]:
+            gv = gu + w
+            if gv < g[v]:
+                g[v] = gv
+                heapq.heappush(heap, (gv, v))
+    return g
