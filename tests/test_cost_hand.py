@@ -1,0 +1,132 @@
+"""A hand-worked costing example, written out in full, and the rounding rule.
+
+The rates and lanes are the invented test network of conftest.py; the expected figures below
+are worked by hand from the formulas in costing/cost.py's docstring (and the design's
+workbook contract), not produced by the code under test.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from costing.money import minor_unit, round_money
+from costing.network import build_graph
+from costing.reader import read_workbook
+from costing.route import route_all
+from costing.validate import validate
+
+
+def _run(path, objective=None):
+    model = validate(read_workbook(path))
+    results, _stats, problems = route_all(model, build_graph(model), objective)
+    return {r.shipment.shipment_id: r for r in results}, problems
+
+
+def test_hand_worked_costs(make_input):
+    res, problems = _run(make_input())
+    s1 = res["S1"]
+    # S1: 10 t, one truck (10 / 24 -> 1). Direct lane L3: 190 km, 2.6 h.
+    #   km   190 x 1.10 = 209.00;  hours 2.6 x 35 = 91.00;  toll 0;  fixed 0
+    #   handling: start A 20.00, end C 10.00;  per trip 40.00      -> 370.00
+    # Via hub B (L1 + L2):
+    #   L1: 80 x 1.10 = 88.00, 1.2 x 35 = 42.00, toll 5.00, hub B handling 40.00 -> 175.00
+    #   L2: 85 x 1.10 = 93.50, 1.3 x 35 = 45.50                                  -> 139.00
+    #   + start 20 + end 10 + trip 40                                            -> 384.00
+    # So the least-cost route is the direct lane at 370.00.
+    assert [leg.use.lane.lane_id for leg in s1.legs] == ["L3"]
+    assert s1.vehicles == 1
+    leg = s1.legs[0]
+    assert (leg.km_cost, leg.hour_cost, leg.toll_cost, leg.fixed_cost) == (209.00, 91.00, 0.0, 0.0)
+    assert (leg.start_handling_cost, leg.end_handling_cost, leg.trip_cost) == (20.00, 10.00, 40.00)
+    assert s1.subtotal == 370.00
+    assert s1.min_charge == 300.00 and s1.min_charge_uplift == 0.0
+    assert s1.total_cost == 370.00
+    # co2e: 190 km x 30 l/100 km / 100 x 2.5 kg/l = 142.5 kg
+    assert s1.co2e_kg == pytest.approx(142.5)
+
+    s2 = res["S2"]
+    # S2: 50 t on 24 t payloads -> ceil(2.083) = 3 trucks.
+    #   direct: 3 x 190 x 1.1 = 627.00; 3 x 2.6 x 35 = 273.00; handling 3 x 20 + 3 x 10 = 90.00;
+    #           trips 3 x 40 = 120.00                                         -> 1110.00
+    #   via B:  264.00 + 126.00 + 15.00 + 120.00 + 280.50 + 136.50 + 90 + 120 -> 1152.00
+    assert s2.vehicles == 3
+    assert [leg.use.lane.lane_id for leg in s2.legs] == ["L3"]
+    assert s2.total_cost == 1110.00
+    assert any("split over 3 vehicles" in p.message and p.cell == "D3" for p in problems)
+
+    # S3: the only lane into D (L4) is closed.
+    assert res["S3"].status == "no_route"
+    assert "L4" in res["S3"].message and "closed" in res["S3"].message
+
+
+def test_objectives_pick_different_routes(make_input):
+    # distance: direct 190 km vs via B 80 + 85 = 165 km -> via B
+    res, _ = _run(make_input(), "distance")
+    assert [leg.use.lane.lane_id for leg in res["S1"].legs] == ["L1", "L2"]
+    assert res["S1"].distance_km == 165
+    # time: direct 2.6 h (+ 0.5 start handling) vs 1.2 + 1.0 (hub) + 1.3 = 3.5 h -> direct
+    res, _ = _run(make_input(), "time")
+    assert [leg.use.lane.lane_id for leg in res["S1"].legs] == ["L3"]
+
+
+def test_min_charge_uplift(make_input):
+    from tests.conftest import base_data
+
+    data = base_data()
+    data["Rates"][0]["min_charge"] = 500
+    res, _ = _run(make_input(data))
+    s1 = res["S1"]
+    # subtotal 370.00 (above) is under the 500.00 minimum: uplift 130.00, total 500.00
+    assert s1.subtotal == 370.00 and s1.min_charge_uplift == 130.00 and s1.total_cost == 500.00
+
+
+def test_estimated_distance_and_hours(make_input):
+    from costing.geo import great_circle_km
+    from tests.conftest import base_data
+
+    data = base_data()
+    data["Lanes"][2]["distance_km"] = None
+    data["Lanes"][2]["drive_hours"] = None
+    res, _ = _run(make_input(data), "distance")
+    model = validate(read_workbook(make_input(data, "again.xlsx")))
+    lane = [u for u in (d["use"] for _a, _b, d in build_graph(model).edges(data=True))
+            if u.lane.lane_id == "L3"][0]
+    # estimated km = straight line (haversine) x detour_factor 1.25, rounded to 0.1 km;
+    # hours = km / 70 km/h, rounded to 0.01 h
+    expected_km = round(great_circle_km(52.0, 5.0, 53.0, 6.0) * 1.25, 1)
+    assert lane.km == expected_km and lane.km_estimated
+    assert lane.hours == round(expected_km / 70, 2) and lane.hours_estimated
+
+
+# Spreadsheet ROUND rounds half away from zero (Microsoft's ROUND function documentation; from
+# memory). Python's built-in round() rounds half to even and on binary floats, so it differs:
+@pytest.mark.parametrize("value, places, expected", [
+    (2.675, 2, 2.68),     # binary 2.67499999... ; ROUND(2.675, 2) = 2.68 in a spreadsheet
+    (-2.675, 2, -2.68),   # away from zero for negatives too
+    (0.125, 2, 0.13),     # round() gives 0.12 (half to even)
+    (1.005, 2, 1.01),
+    (2.5, 0, 3.0),        # round(2.5) == 2
+    (-0.5, 0, -1.0),
+    (1.0005, 3, 1.001),
+    (12.344999, 2, 12.34),
+])
+def test_round_half_away_from_zero(value, places, expected):
+    assert round_money(value, places) == expected
+
+
+def test_currency_minor_units():
+    # ISO 4217 minor units (from memory, matching the ISO 4217 list): JPY 0, EUR 2, KWD 3
+    assert (minor_unit("JPY"), minor_unit("EUR"), minor_unit("KWD"), minor_unit("USD")) == (0, 2, 3, 2)
+
+
+def test_yen_rounds_to_whole_units(make_input):
+    from tests.conftest import base_data
+
+    data = base_data()
+    data["Settings"][0]["value"] = "JPY"
+    data["Rates"][0]["per_km"] = 151.37  # invented yen rate
+    res, _ = _run(make_input(data), "distance")
+    leg = res["S1"].legs[0]
+    # the 165 km route via B; its first lane L1: 80 x 151.37 = 12109.6 -> 12110 yen
+    assert leg.use.lane.lane_id == "L1"
+    assert leg.km_cost == 12110
