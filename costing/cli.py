@@ -161,6 +161,9 @@ def _atomic_write(output: str, write) -> None:
     os.close(fd)
     try:
         write(tmp)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the usual file mode
         os.replace(tmp, output)
     except BaseException:
         if os.path.exists(tmp):
@@ -224,6 +227,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     elapsed = time.perf_counter() - t0
     if not args.quiet:
         _print_problems(problems)
+        sys.stderr.flush()
         routed = sum(r.status == "routed" for r in results)
         total = sum(r.total_cost for r in results if r.status == "routed")
         print(f"{routed} of {len(results)} shipments routed; total {total:,.2f} "

@@ -97,7 +97,7 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         note = (f"{s.weight_t:g} t is more than one {best.vehicle} carries ({payloads}): "
                 f"split over {best.vehicles} vehicles")
         problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id}: {note}",
-                                "check the weight, or accept the split (costed per vehicle)"))
+                                "check the weight; otherwise nothing to do: each vehicle is costed"))
     if not s.vehicle and len(candidates) > 1:
         note = (note + "; " if note else "") + f"vehicle chosen as best of {len(candidates)} by {obj}"
     return CostedShipment(best.shipment, best.status, best.objective, best.vehicle, best.legs,

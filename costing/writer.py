@@ -142,7 +142,7 @@ class _Writer:
     def header(self, ws, columns):
         for c, (name, width, kind) in enumerate(columns):
             ws.write_string(0, c, name, self.f["head"])
-            ws.set_column(c, c, width, self.f.get(kind) if kind != "text" else None)
+            ws.set_column(c, c, max(width, len(name) + 2), self.f.get(kind) if kind != "text" else None)
             if name in HEADER_NOTES:
                 ws.write_comment(0, c, HEADER_NOTES[name], {"x_scale": 2, "y_scale": 1.2})
         ws.freeze_panes(1, 0)
@@ -418,9 +418,9 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     recon = [
         ("sum of Legs leg_cost", w.round_f(f"SUM(Legs!{L['leg_cost']}2:{L['leg_cost']}{max(lr, 2)})"),
          leg_total),
-        ("+ sum of min_charge_uplift",
+        ("plus sum of min_charge_uplift",
          w.round_f(f"SUM(Summary!{S['min_charge_uplift']}2:{S['min_charge_uplift']}{last + 1})"), uplift),
-        ("= Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),
+        ("equals Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),
     ]
     for k, expr, value in recon:
         r += 1
