@@ -1,0 +1,191 @@
+"""End to end through the command line: template -> filled -> run -> output read back.
+The ties are checked with our own arithmetic on the values read back (openpyxl, a general
+reader), independent of the code that wrote them."""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+import zipfile
+
+import openpyxl
+import pytest
+
+from costing.writer import LEG_COLUMNS, SUMMARY_COLUMNS
+from tests.conftest import base_data
+
+LEG = {name: i for i, (name, _w, _k) in enumerate(LEG_COLUMNS)}
+SUM = {name: i for i, (name, _w, _k) in enumerate(SUMMARY_COLUMNS)}
+MONEY = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "handling_start_cost", "handling_end_cost",
+         "trip_cost"]
+
+
+def _sha(path):
+    return hashlib.sha256(open(path, "rb").read()).hexdigest()
+
+
+def _cents(x):
+    return round(x * 100)
+
+
+def check_costed_workbook(path):
+    """Every total equals the sum of its legs to the cent; returns (summary rows, legs rows)."""
+    wb = openpyxl.load_workbook(path, data_only=True)
+    assert wb.sheetnames[:4] == ["Summary", "Legs", "Problems", "Run"]
+    legs = [r for r in wb["Legs"].iter_rows(min_row=2, values_only=True) if r[0] is not None]
+    summary = [r for r in wb["Summary"].iter_rows(min_row=2, values_only=True) if r[0] is not None]
+    total_row = summary[-1]
+    assert total_row[0] == "TOTAL"
+    summary = summary[:-1]
+    by_ship: dict[str, list] = {}
+    for leg in legs:
+        parts = [leg[LEG[m]] for m in MONEY]
+        assert _cents(leg[LEG["leg_cost"]]) == sum(_cents(p) for p in parts)
+        # each component is ROUND(vehicles x quantity x rate) to the cent
+        n = leg[LEG["vehicles"]]
+        assert _cents(leg[LEG["km_cost"]]) == pytest.approx(
+            n * leg[LEG["distance_km"]] * leg[LEG["per_km"]] * 100, abs=0.5 + 1e-6)
+        by_ship.setdefault(leg[0], []).append(leg)
+    grand = 0
+    for row in summary:
+        sid, status = row[SUM["shipment_id"]], row[SUM["status"]]
+        if status != "routed":
+            assert sid not in by_ship and row[SUM["total_cost"]] is None
+            continue
+        ls = by_ship[sid]
+        assert [x[LEG["seq"]] for x in ls] == list(range(1, len(ls) + 1))
+        subtotal = sum(_cents(x[LEG["leg_cost"]]) for x in ls)
+        assert _cents(row[SUM["subtotal"]]) == subtotal
+        uplift = max(0, _cents(row[SUM["min_charge"]]) - subtotal)
+        assert _cents(row[SUM["min_charge_uplift"]]) == uplift
+        assert _cents(row[SUM["total_cost"]]) == subtotal + uplift
+        assert row[SUM["distance_km"]] == pytest.approx(sum(x[LEG["distance_km"]] for x in ls))
+        # the legs chain from origin to destination
+        assert ls[0][LEG["from_depot"]] == row[SUM["origin"]]
+        assert ls[-1][LEG["to_depot"]] == row[SUM["destination"]]
+        for a, b in zip(ls, ls[1:]):
+            assert a[LEG["to_depot"]] == b[LEG["from_depot"]]
+        grand += subtotal + uplift
+    assert _cents(total_row[SUM["total_cost"]]) == grand
+    run = dict(wb["Run"].iter_rows(min_row=2, max_col=2, values_only=True))
+    assert run["difference (must be 0)"] == 0
+    assert len(run["input SHA-256"]) == 64
+    assert "not legal or compliance advice" in run["caution"]
+    return summary, legs
+
+
+def test_run_end_to_end(cli, make_input, tmp_path):
+    inp = make_input()
+    before = _sha(inp)
+    out = tmp_path / "costed.xlsx"
+    code, stdout, stderr = cli("run", inp, "-o", str(out))
+    assert code == 0, stderr
+    assert "2 of 3 shipments routed" in stdout
+    assert _sha(inp) == before, "the input workbook is never modified"
+    summary, legs = check_costed_workbook(out)
+    assert [r[SUM["status"]] for r in summary] == ["routed", "routed", "no_route"]
+    run = dict(openpyxl.load_workbook(out)["Run"].iter_rows(min_row=2, max_col=2, values_only=True))
+    assert run["input SHA-256"] == before
+
+
+def test_demo_end_to_end(cli, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    code, stdout, _ = cli("demo")
+    assert code == 0 and os.path.exists("costing-demo.xlsx")
+    code, stdout2, _ = cli("demo")  # run twice: earlier output is kept, a fresh name is used
+    assert code == 0 and os.path.exists("costing-demo-2.xlsx")
+    summary, legs = check_costed_workbook("costing-demo.xlsx")
+    assert len(summary) >= 40 and len(legs) >= 40
+
+
+def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_path):
+    data = base_data()
+    nasty = ['=HYPERLINK("http://example.invalid","x")', "+1+1", "-2+3", "@SUM(A1)",
+             "{=1+1}", "http://example.invalid"]
+    data["Shipments"][0]["customer"] = nasty[0]
+    data["Shipments"][1]["customer"] = nasty[1]
+    data["Shipments"][0]["shipment_id"] = "=1+1"
+    data["Depots"][0]["name"] = nasty[3]
+    inp = make_input(data)
+    out = tmp_path / "costed.xlsx"
+    code, _, err = cli("run", inp, "-o", str(out))
+    assert code == 0, err
+    ours = re.compile(r"^(ROUND|SUM|COUNT|IF|[A-Z]{1,3}\d+\+[A-Z]{1,3}\d+$|Summary!)")
+    with zipfile.ZipFile(out) as z:
+        for name in z.namelist():
+            if name.startswith("xl/worksheets/sheet"):
+                xml = z.read(name).decode()
+                for f in re.findall(r"<f>(.*?)</f>", xml):
+                    assert ours.match(f), f"{name}: unexpected formula {f!r}"
+                assert "HYPERLINK" not in xml
+        strings = z.read("xl/sharedStrings.xml").decode()
+    assert "=HYPERLINK(" in strings.replace("&quot;", '"')  # kept, as text
+    wb = openpyxl.load_workbook(out, data_only=True)
+    ids = [r[0] for r in wb["Summary"].iter_rows(min_row=2, values_only=True)]
+    assert "=1+1" in ids
+
+
+def test_errors_stop_the_run_and_write_nothing(cli, make_input, tmp_path):
+    data = base_data()
+    data["Lanes"][0]["to_depot"] = "ZZ"
+    inp = make_input(data)
+    out = tmp_path / "costed.xlsx"
+    code, _, err = cli("run", inp, "-o", str(out))
+    assert code == 1
+    assert "Lanes!C2" in err and "ZZ" in err
+    assert not out.exists()
+    assert not [f for f in os.listdir(tmp_path) if f.startswith(".costing-")]
+
+
+def test_output_may_not_be_input_and_is_not_clobbered(cli, make_input, tmp_path):
+    inp = make_input()
+    before = _sha(inp)
+    code, _, err = cli("run", inp, "-o", inp)
+    assert code == 2 and "INPUT" in err
+    code, _, err = cli("run", inp, "-o", inp, "--overwrite")
+    assert code == 2 and _sha(inp) == before
+    out = tmp_path / "o.xlsx"
+    out.write_bytes(b"earlier output")
+    code, _, err = cli("run", inp, "-o", str(out))
+    assert code == 2 and "--overwrite" in err and out.read_bytes() == b"earlier output"
+    code, _, _ = cli("run", inp, "-o", str(out), "--overwrite")
+    assert code == 0
+    check_costed_workbook(out)
+
+
+def test_check_command_exit_codes(cli, make_input):
+    code, out, _ = cli("check", make_input())
+    assert code == 0 and "no errors" in out
+    data = base_data()
+    data["Depots"][1]["latitude"] = 152.5
+    code, out, _ = cli("check", make_input(data, "bad.xlsx"))
+    assert code == 1 and "Depots!C3" in out
+    code, _, _ = cli("check")
+    assert code == 2
+    code, _, _ = cli("frobnicate")
+    assert code == 2
+
+
+def test_objective_option(cli, make_input, tmp_path):
+    out = tmp_path / "o.xlsx"
+    code, _, _ = cli("run", make_input(), "-o", str(out), "--objective", "distance")
+    assert code == 0
+    summary, legs = check_costed_workbook(out)
+    assert summary[0][SUM["objective"]] == "distance"
+    assert summary[0][SUM["route"]] == "A > B > C"
+
+
+def test_reproducible_bytes(cli, make_input, tmp_path, monkeypatch):
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
+    inp = make_input()
+    a, b = tmp_path / "a.xlsx", tmp_path / "b.xlsx"
+    assert cli("run", inp, "-o", str(a))[0] == 0
+    assert cli("run", inp, "-o", str(b))[0] == 0
+    # stage timings differ between runs; everything else must be identical
+    wa, wb_ = openpyxl.load_workbook(a), openpyxl.load_workbook(b)
+    for ws in wa:
+        for ra, rb in zip(ws.iter_rows(values_only=True), wb_[ws.title].iter_rows(values_only=True)):
+            if ra[0] and str(ra[0]).startswith("seconds:"):
+                continue
+            assert ra == rb
