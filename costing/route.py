@@ -40,7 +40,7 @@ def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None
               progress: Callable[[int, int], None] | None = None
               ) -> tuple[list[CostedShipment], RunStats, list[Problem]]:
     stats = RunStats()
-    problems: list[Problem] = []
+    problems: list[Problem] = _not_yet_applied(model)
     networks: dict[Profile, CompactNetwork] = {}
     vehicles = model.vehicles()
     out: list[CostedShipment] = []
@@ -52,6 +52,22 @@ def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None
             progress(k + 1, total)
     stats.networks = len(networks)
     return out, stats, problems
+
+
+def _not_yet_applied(model: Model) -> list[Problem]:
+    """Settings the contract reserves but this version does not apply yet: say so, never
+    pretend."""
+    out = []
+    s = model.settings
+    title = model.layout.get("Settings", ("Settings", {}))[0]
+    if s.driving_rules != "none":
+        out.append(Problem(WARNING, title, "", f"driving_rules {s.driving_rules} is not applied in this "
+                           "version: hours are driving hours plus handling, without breaks or rests",
+                           "plan breaks and rests separately, or set driving_rules to none"))
+    if s.fuel_price_per_litre is not None:
+        out.append(Problem(WARNING, title, "", "fuel_price_per_litre is not applied in this version: "
+                           "no fuel surcharge is added", "include fuel in per_km, or leave it blank"))
+    return out
 
 
 def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: RunStats,

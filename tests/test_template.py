@@ -67,3 +67,10 @@ def test_forgiving_headers(header, key):
     from costing.contract import normalise_header
 
     assert normalise_header(header) == key
+
+
+def test_readme_column_reference_is_current():
+    from costing.docs import column_reference
+
+    assert column_reference() in open("README.md", encoding="utf-8").read(), \
+        "README column reference is stale: paste the output of `python -m costing.docs`"
