@@ -84,8 +84,24 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Driving-time rules applied to road legs: none, eu_561_2006 or us_49cfr395. "
                 "Planning estimate only, not compliance advice.", choices=DRIVING_RULES),
     SettingSpec("fuel_price_per_litre", "number", None,
-                "Fuel price per litre in the workbook currency (blank: no fuel surcharge).",
-                minimum=0.0),
+                "Fuel price per litre in the workbook currency. With a rate card's fuel_included_at "
+                "it gives a fuel surcharge per km (blank: no surcharge).", minimum=0.0),
+    SettingSpec("break_after_driving_hours", "number", None,
+                "Driving hours after which a break is due. Blank: from driving_rules "
+                "(eu_561_2006: 4.5; us_49cfr395: 8).", minimum=0.1, maximum=24.0),
+    SettingSpec("break_hours", "number", None,
+                "Length of that break in hours. Blank: from driving_rules (0.75; 0.5).",
+                minimum=0.0, maximum=24.0),
+    SettingSpec("daily_driving_hours", "number", None,
+                "Most driving hours before a daily rest. Blank: from driving_rules (9; 11).",
+                minimum=0.5, maximum=24.0),
+    SettingSpec("daily_rest_hours", "number", None,
+                "Length of the daily rest in hours. Blank: from driving_rules (11; 10).",
+                minimum=0.0, maximum=72.0),
+    SettingSpec("break_hours_paid", "choice", "yes",
+                "yes: break hours are charged at the rate card's per_hour.", choices=YES_NO),
+    SettingSpec("rest_hours_paid", "choice", "no",
+                "yes: daily rest hours are charged at the rate card's per_hour.", choices=YES_NO),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
@@ -181,6 +197,13 @@ SHEETS: tuple[SheetSpec, ...] = (
                    maximum=10.0, width=14),
             Column("min_charge", "number", False, "currency per shipment", "Least a shipment "
                    "using this card is charged. Blank: 0.", default=0.0, minimum=0.0, width=11),
+            Column("fuel_included_at", "number", False, "currency per litre", "Fuel price per litre "
+                   "that per_km already includes. With the setting fuel_price_per_litre it gives a "
+                   "fuel surcharge (or rebate) per km. Blank: no surcharge.", minimum=0.0,
+                   maximum=100.0, width=14),
+            Column("tare_t", "number", False, "tonnes", "Empty weight of one vehicle, added to its "
+                   "load when checking a lane's max_weight_t. Blank: 0 (load only).", default=0.0,
+                   minimum=0.0, maximum=1000.0, width=9),
         ),
         note="Rate cards: what each vehicle costs on each mode.",
     ),

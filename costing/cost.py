@@ -1,15 +1,18 @@
-"""Price a route: legs, rates, tolls, handling, vehicles, rounding. Knows nothing of graphs'
-internals or workbooks.
+"""Price a route: legs, rates, tolls, handling, vehicles, driving-time stops, rounding.
+Knows nothing of graphs' internals or workbooks.
 
 Per leg, with n = vehicles needed on that leg's rate card (ceil(weight / payload)):
-    km_cost       = ROUND(n x distance_km x per_km)
-    hour_cost     = ROUND(n x drive_hours x per_hour)
-    toll_cost     = ROUND(n x toll)
-    fixed_cost    = ROUND(n x fixed_cost)
-    handling_cost = ROUND(n x handling at the start (first leg only)) +
-                    ROUND(n x handling at the end (a hub passed through, or the destination))
-    trip_cost     = ROUND(n x per_trip), on the first leg priced by each rate card
-    leg_cost      = the sum of the above
+    km_cost        = ROUND(n x distance_km x per_km)
+    hour_cost      = ROUND(n x drive_hours x per_hour)
+    toll_cost      = ROUND(n x toll)
+    fixed_cost     = ROUND(n x fixed_cost)
+    fuel_surcharge = ROUND(n x km x l/100 km / 100 x (fuel price - fuel_included_at))
+    stop_cost      = ROUND(n x paid break and rest hours x per_hour)   (driving rules)
+    handling_start_cost = ROUND(n x handling where a vehicle run starts: origin or a transfer)
+    handling_end_cost   = ROUND(n x handling at to_depot when it is a hub or the destination)
+    trip_cost      = ROUND(n x per_trip), on the first leg of each vehicle run
+    leg_cost       = the sum of the above
+A vehicle run is a stretch of legs on one rate card; it changes only at a terminal or port.
 Per shipment: subtotal = sum of leg_cost; min_charge_uplift = max(0, min_charge - subtotal)
 with min_charge the largest of the rate cards used; total_cost = subtotal + uplift.
 ROUND is half away from zero to the currency's minor unit, as the spreadsheet ROUND does.
@@ -22,6 +25,8 @@ from dataclasses import dataclass
 from .model import Depot, Model, RateCard, Shipment
 from .money import minor_unit, round_money
 from .network import LaneUse, vehicles_needed
+from .pricing import charge, co2e_kg, fuel_surcharge_rate, lane_charges
+from .rules import rules_for, stops_for_run
 
 ROUTED, NO_ROUTE, REJECTED = "routed", "no_route", "rejected"
 
@@ -32,27 +37,36 @@ class Leg:
     use: LaneUse
     card: RateCard
     vehicles: int
-    start_handling_rate: float  # per vehicle, at from_depot (first leg only)
+    start_handling_rate: float  # per vehicle, at from_depot where a vehicle run starts
     end_handling_rate: float  # per vehicle, at to_depot (hub or destination)
     handling_hours: float  # per vehicle (vehicles are handled in parallel)
-    trip_rate: float  # per vehicle, on the first leg of each rate card
+    trip_rate: float  # per vehicle, on the first leg of each vehicle run
     km_cost: float
     hour_cost: float
     toll_cost: float
     fixed_cost: float
+    fuel_surcharge: float
     start_handling_cost: float
     end_handling_cost: float
     trip_cost: float
+    break_hours: float
+    rest_hours: float
+    paid_stop_hours: float
+    stop_cost: float
     leg_cost: float
-    co2e_kg: float  # 0 where the card has no fuel figures
+    co2e_kg: float
+    co2e_basis: str  # "fuel" or "default intensity"
+    intensity_g_per_tkm: float | None  # the default intensity used, if any
+    weight_t: float
+    fuel_price: float | None  # the fuel price used for the surcharge, if any
 
     @property
     def handling_cost(self) -> float:
         return self.start_handling_cost + self.end_handling_cost
 
     @property
-    def has_fuel(self) -> bool:
-        return self.card.fuel_l_per_100km is not None and self.card.co2e_kg_per_litre is not None
+    def elapsed_hours(self) -> float:
+        return self.use.hours + self.break_hours + self.rest_hours + self.handling_hours
 
 
 @dataclass(frozen=True)
@@ -97,6 +111,18 @@ class CostedShipment:
         return sum(leg.handling_hours for leg in self.legs)
 
     @property
+    def break_hours(self) -> float:
+        return sum(leg.break_hours for leg in self.legs)
+
+    @property
+    def rest_hours(self) -> float:
+        return sum(leg.rest_hours for leg in self.legs)
+
+    @property
+    def elapsed_hours(self) -> float:
+        return sum(leg.elapsed_hours for leg in self.legs)
+
+    @property
     def co2e_kg(self) -> float:
         return sum(leg.co2e_kg for leg in self.legs)
 
@@ -109,40 +135,47 @@ class CostedShipment:
                 "distance": self.distance_km, "emissions": self.co2e_kg}[self.objective]
 
 
-def cost_route(model: Model, shipment: Shipment, vehicle: str, objective: str,
-               uses: list[LaneUse], settled: int = 0, pushed: int = 0) -> CostedShipment:
-    places = minor_unit(model.settings.currency)
-    cards = model.cards_for(vehicle)
+def cost_route(model: Model, shipment: Shipment, objective: str,
+               runs: list[tuple[RateCard, list[LaneUse]]], settled: int = 0,
+               pushed: int = 0) -> CostedShipment:
+    """Price a route given as vehicle runs: (rate card, its consecutive lane steps)."""
+    settings = model.settings
+    places = minor_unit(settings.currency)
     depots: dict[str, Depot] = model.depot_index
+    rules = rules_for(settings)
     legs: list[Leg] = []
-    seen_cards: set[str] = set()
-    last = len(uses) - 1
-    for i, use in enumerate(uses):
-        card = cards[use.lane.mode]
+    total_steps = sum(len(uses) for _c, uses in runs)
+    for card, uses in runs:
         n = vehicles_needed(shipment.weight_t, card.payload_t)
-        start = depots[use.from_depot] if i == 0 else None
-        end = depots[use.to_depot]
-        end_counts = i == last or end.kind == "hub"
-        start_rate = start.handling_cost if start else 0.0
-        end_rate = end.handling_cost if end_counts else 0.0
-        hours = (start.handling_hours if start else 0.0) + (end.handling_hours if end_counts else 0.0)
-        trip_rate = card.per_trip if card.mode not in seen_cards else 0.0
-        seen_cards.add(card.mode)
-        km_cost = round_money(n * use.km * card.per_km, places)
-        hour_cost = round_money(n * use.hours * card.per_hour, places)
-        toll_cost = round_money(n * use.lane.toll, places)
-        fixed_cost = round_money(n * use.lane.fixed_cost, places)
-        sh_cost = round_money(n * start_rate, places)
-        eh_cost = round_money(n * end_rate, places)
-        trip_cost = round_money(n * trip_rate, places)
-        leg_cost = round_money(km_cost + hour_cost + toll_cost + fixed_cost + sh_cost + eh_cost
-                               + trip_cost, places)
-        co2e = 0.0
-        if card.fuel_l_per_100km is not None and card.co2e_kg_per_litre is not None:
-            co2e = n * use.km * card.fuel_l_per_100km / 100 * card.co2e_kg_per_litre
-        legs.append(Leg(i + 1, use, card, n, start_rate, end_rate, hours, trip_rate, km_cost,
-                        hour_cost, toll_cost, fixed_cost, sh_cost, eh_cost, trip_cost, leg_cost, co2e))
-    min_charge = max((cards[m].min_charge for m in seen_cards), default=0.0)
+        stops = (stops_for_run([u.hours for u in uses], rules) if rules and card.mode == "road"
+                 else [(0.0, 0.0)] * len(uses))
+        surcharge_rate = fuel_surcharge_rate(card, settings)
+        for i, use in enumerate(uses):
+            last = len(legs) + 1 == total_steps
+            start = depots[use.from_depot] if i == 0 else None
+            end = depots[use.to_depot]
+            end_counts = last or end.kind == "hub"
+            start_rate = start.handling_cost if start else 0.0
+            end_rate = end.handling_cost if end_counts else 0.0
+            hours = (start.handling_hours if start else 0.0) + (end.handling_hours if end_counts else 0.0)
+            trip_rate = card.per_trip if i == 0 else 0.0
+            lc = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n, settings,
+                              places)
+            brk, rest = stops[i]
+            paid = (brk if settings.break_hours_paid == "yes" else 0.0) + \
+                (rest if settings.rest_hours_paid == "yes" else 0.0)
+            stop_cost = round_money(n * paid * card.per_hour, places)
+            sh_cost, eh_cost = charge(n, start_rate, places), charge(n, end_rate, places)
+            trip_cost = charge(n, trip_rate, places)
+            leg_cost = round_money(lc.total + stop_cost + sh_cost + eh_cost + trip_cost, places)
+            kg, basis, intensity = co2e_kg(use.km, card, n, shipment.weight_t)
+            legs.append(Leg(len(legs) + 1, use, card, n, start_rate, end_rate, hours, trip_rate,
+                            lc.km_cost, lc.hour_cost, lc.toll_cost, lc.fixed_cost, lc.fuel_surcharge,
+                            sh_cost, eh_cost, trip_cost, brk, rest, paid, stop_cost, leg_cost, kg, basis,
+                            intensity, shipment.weight_t,
+                            settings.fuel_price_per_litre if surcharge_rate is not None else None))
+    min_charge = max((card.min_charge for card, _u in runs), default=0.0)
+    vehicle = ", ".join(dict.fromkeys(card.vehicle for card, _u in runs))
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,
                           settled=settled, pushed=pushed, places=places)
 

@@ -69,6 +69,8 @@ class RateCard:
     co2e_kg_per_litre: float | None = None
     min_charge: float = 0.0
     row: int = 0
+    fuel_included_at: float | None = None  # fuel price per litre the per_km rate includes
+    tare_t: float = 0.0  # empty weight of one vehicle, for lane weight limits
 
 
 @dataclass(frozen=True)
@@ -93,6 +95,13 @@ class Settings:
     value_of_time_per_hour: float = 0.0
     driving_rules: str = "none"
     fuel_price_per_litre: float | None = None
+    # driving-time rule numbers; None = the published numbers of driving_rules
+    break_after_driving_hours: float | None = None
+    break_hours: float | None = None
+    daily_driving_hours: float | None = None
+    daily_rest_hours: float | None = None
+    break_hours_paid: str = "yes"
+    rest_hours_paid: str = "no"
 
 
 @dataclass(frozen=True)

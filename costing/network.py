@@ -17,10 +17,12 @@ import math
 from dataclasses import dataclass, field
 
 import networkx as nx
+import numpy as np
 
 from .geo import great_circle_km, great_circle_km_many
 from .model import Depot, Lane, Model, RateCard
-from .money import minor_unit, round_money
+from .money import minor_unit
+from .pricing import charge, co2e_kg, lane_charges
 
 # Keeps floating-point error in gc * r_min from pushing the bound a hair above the truth.
 BOUND_SAFETY = 1.0 - 1e-9
@@ -83,14 +85,17 @@ def build_graph(model: Model) -> nx.MultiDiGraph:
 
 @dataclass(frozen=True)
 class Profile:
-    """What makes lane weights differ between shipments."""
+    """What makes lane weights differ between shipments: the objective, the rate cards a
+    shipment may use with the vehicles each needs, and lane steps its restrictions forbid."""
 
-    vehicle: str
     objective: str
-    vehicles_by_mode: tuple[tuple[str, int], ...]  # mode -> vehicles needed
+    cards: tuple[tuple[str, str, int], ...]  # (vehicle, mode, vehicles needed)
+    blocked: frozenset[tuple[str, int]] = frozenset()  # (lane id, card index) not allowed
+    weight_t: float = 0.0  # only set when emissions weights need tonnes; else 0
 
-    def vehicles(self, mode: str) -> int:
-        return dict(self.vehicles_by_mode)[mode]
+    @property
+    def vehicles(self) -> tuple[str, ...]:
+        return tuple(dict.fromkeys(v for v, _m, _n in self.cards))
 
 
 def vehicles_needed(weight_t: float, payload_t: float) -> int:
@@ -99,97 +104,171 @@ def vehicles_needed(weight_t: float, payload_t: float) -> int:
     return max(1, math.ceil(weight_t / payload_t - 1e-9))
 
 
-def profile_for(model: Model, vehicle: str, objective: str, weight_t: float) -> Profile:
-    cards = model.cards_for(vehicle)
-    return Profile(vehicle, objective, tuple(sorted(
-        (m, vehicles_needed(weight_t, c.payload_t)) for m, c in cards.items())))
+TRANSFER_KINDS = ("terminal", "port")
 
 
-def edge_weight(use: LaneUse, card: RateCard, n: int, to_depot: Depot, objective: str,
+@dataclass(frozen=True)
+class Transfer:
+    """A change of rate card (vehicle and mode) at a terminal or port."""
+
+    depot: str
+    from_card: int
+    to_card: int
+
+
+@dataclass(frozen=True)
+class Step:
+    """What one search edge is: a lane step on one card, or a transfer."""
+
+    card: int
+    use: LaneUse | None = None
+    transfer: Transfer | None = None
+
+
+def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
+    return model.cards_for(vehicle)[mode]
+
+
+def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: int) -> float:
+    """Weight of starting the route at `origin` on card k: handling there and the card's trip."""
+    vehicle, mode, n = profile.cards[k]
+    card = card_of(model, vehicle, mode)
+    if profile.objective == "cost":
+        return charge(n, origin.handling_cost, places) + charge(n, card.per_trip, places)
+    if profile.objective == "time":
+        return origin.handling_hours
+    return 0.0
+
+
+def exit_weight(profile: Profile, k: int, destination: Depot, places: int) -> float:
+    """Weight of ending at `destination` on card k: its handling, unless it is a hub (a hub's
+    handling is already in the weight of the lane that enters it)."""
+    if destination.kind == "hub":
+        return 0.0
+    n = profile.cards[k][2]
+    if profile.objective == "cost":
+        return charge(n, destination.handling_cost, places)
+    if profile.objective == "time":
+        return destination.handling_hours
+    return 0.0
+
+
+def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places: int) -> float:
+    """Changing onto card k at a terminal or port: the depot's handling for the new vehicles
+    and the new card's trip charge (as if starting there)."""
+    return start_weight(model, profile, k, depot, places)
+
+
+def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: Depot,
                 places: int) -> float:
-    """The weight of one lane step for one shipment. Cost uses the rounded leg amounts the
-    output shows, so a route's weight is exactly what its legs add up to."""
+    """The weight of one lane step on card k. Cost uses the rounded leg amounts the output
+    shows (pricing.py), so a route's weight is exactly what its legs add up to."""
+    vehicle, mode, n = profile.cards[k]
+    card = card_of(model, vehicle, mode)
     hub = to_depot.kind == "hub"
-    if objective == "cost":
-        w = (round_money(n * use.km * card.per_km, places)
-             + round_money(n * use.hours * card.per_hour, places)
-             + round_money(n * use.lane.toll, places)
-             + round_money(n * use.lane.fixed_cost, places))
+    obj = profile.objective
+    if obj == "cost":
+        w = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
+                         model.settings, places).total
         if hub:
-            w += round_money(n * to_depot.handling_cost, places)
+            w += charge(n, to_depot.handling_cost, places)
         return w
-    if objective == "time":
+    if obj == "time":
         return use.hours + (to_depot.handling_hours if hub else 0.0)
-    if objective == "distance":
+    if obj == "distance":
         return use.km
-    if objective == "emissions":
-        if card.fuel_l_per_100km is None or card.co2e_kg_per_litre is None:
-            return 0.0
-        return n * use.km * card.fuel_l_per_100km / 100 * card.co2e_kg_per_litre
-    raise ValueError(f"unknown objective {objective}")
+    if obj == "emissions":
+        return co2e_kg(use.km, card, n, profile.weight_t)[0]
+    raise ValueError(f"unknown objective {obj}")
 
 
 @dataclass
 class CompactNetwork:
-    """Integer-indexed adjacency for one profile, plus what the bound needs."""
+    """Integer-indexed adjacency for one profile, plus what the bound needs. A node is a state
+    (depot, card): node id = depot index x number of cards + card index."""
 
     profile: Profile
     depot_ids: list[str]
-    index: dict[str, int]
+    index: dict[str, int]  # depot id -> depot index
     adj: list[list[tuple[int, float, int]]]
-    uses: list[LaneUse]  # edge id -> lane use
+    steps: list[Step]  # edge id -> what the edge is
     r_min: float
-    lats: object  # numpy array, NaN where unknown
+    lats: object  # numpy array per depot, NaN where unknown
     lons: object
     bound_note: str
     _bounds: dict[int, list[float]] = field(default_factory=dict)
 
-    def bound(self, target: int) -> list[float] | None:
-        """h(v) for every node v towards target, or None for plain uniform-cost search."""
+    @property
+    def n_cards(self) -> int:
+        return len(self.profile.cards)
+
+    def node(self, depot: str, k: int) -> int:
+        return self.index[depot] * self.n_cards + k
+
+    def depot_of(self, node: int) -> str:
+        return self.depot_ids[node // self.n_cards]
+
+    def bound(self, target_depot: int) -> list[float] | None:
+        """h(state) for every state towards the target depot (index), or None for plain
+        uniform-cost search. States of one depot share its bound; at the target it is 0."""
         if self.r_min <= 0 or self.bound_note.startswith("none"):
             return None
-        h = self._bounds.get(target)
+        h = self._bounds.get(target_depot)
         if h is None:
-            gc = great_circle_km_many(self.lats, self.lons, float(self.lats[target]),
-                                      float(self.lons[target]))
-            h = (gc * (self.r_min * BOUND_SAFETY)).tolist()
+            gc = great_circle_km_many(self.lats, self.lons, float(self.lats[target_depot]),
+                                      float(self.lons[target_depot]))
+            per_depot = gc * (self.r_min * BOUND_SAFETY)
+            h = np.repeat(per_depot, self.n_cards).tolist()
             if len(self._bounds) > 256:
                 self._bounds.clear()
-            self._bounds[target] = h
+            self._bounds[target_depot] = h
         return h
 
 
 def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile) -> CompactNetwork:
-    import numpy as np
-
-    cards = model.cards_for(profile.vehicle)
     places = minor_unit(model.settings.currency)
     depot_ids = list(graph.nodes)
     index = {d: i for i, d in enumerate(depot_ids)}
     depots = [graph.nodes[d]["depot"] for d in depot_ids]
     lats = np.array([np.nan if d.latitude is None else d.latitude for d in depots], dtype=float)
     lons = np.array([np.nan if d.longitude is None else d.longitude for d in depots], dtype=float)
-    adj: list[list[tuple[int, float, int]]] = [[] for _ in depot_ids]
-    uses: list[LaneUse] = []
+    K = len(profile.cards)
+    adj: list[list[tuple[int, float, int]]] = [[] for _ in range(len(depot_ids) * K)]
+    steps: list[Step] = []
+    by_mode: dict[str, list[int]] = {}
+    for k, (_v, mode, _n) in enumerate(profile.cards):
+        by_mode.setdefault(mode, []).append(k)
     r_min = math.inf
     missing_coords: str | None = None
     for a, b, data in graph.edges(data=True):
         use: LaneUse = data["use"]
-        card = cards.get(use.lane.mode)
-        if card is None:
+        ks = [k for k in by_mode.get(use.lane.mode, ()) if (use.lane.lane_id, k) not in profile.blocked]
+        if not ks:
             continue
-        n = dict(profile.vehicles_by_mode)[use.lane.mode]
-        w = edge_weight(use, card, n, graph.nodes[b]["depot"], profile.objective, places)
         i, j = index[a], index[b]
-        eid = len(uses)
-        uses.append(use)
-        adj[i].append((j, w, eid))
-        if math.isnan(lats[i]) or math.isnan(lats[j]) or math.isnan(lons[i]) or math.isnan(lons[j]):
+        coords_known = not (math.isnan(lats[i]) or math.isnan(lats[j]) or math.isnan(lons[i])
+                            or math.isnan(lons[j]))
+        if not coords_known:
             missing_coords = missing_coords or (a if math.isnan(lats[i]) or math.isnan(lons[i]) else b)
+        gc = great_circle_km(lats[i], lons[i], lats[j], lons[j]) if coords_known else 0.0
+        for k in ks:
+            w = lane_weight(model, profile, k, use, depots[j], places)
+            eid = len(steps)
+            steps.append(Step(k, use=use))
+            adj[i * K + k].append((j * K + k, w, eid))
+            if gc > 0:
+                r_min = min(r_min, w / gc)
+    # transfers between cards of different modes at terminals and ports
+    for i, d in enumerate(depots):
+        if d.kind not in TRANSFER_KINDS or K < 2:
             continue
-        gc = great_circle_km(lats[i], lons[i], lats[j], lons[j])
-        if gc > 0:
-            r_min = min(r_min, w / gc)
+        for k1 in range(K):
+            for k2 in range(K):
+                if profile.cards[k1][1] == profile.cards[k2][1]:
+                    continue
+                eid = len(steps)
+                steps.append(Step(k2, transfer=Transfer(d.depot_id, k1, k2)))
+                adj[i * K + k1].append((i * K + k2, transfer_weight(model, profile, k2, d, places), eid))
     if r_min is math.inf:
         r_min = 0.0
     if missing_coords is not None:
@@ -199,42 +278,43 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile) -> CompactNe
     else:
         note = (f"straight line x {r_min:.6g} {OBJECTIVE_UNITS[profile.objective]} per km "
                 "(least weight per straight-line km over the usable lanes)")
-    return CompactNetwork(profile, depot_ids, index, adj, uses, r_min, lats, lons, note)
+    return CompactNetwork(profile, depot_ids, index, adj, steps, r_min, lats, lons, note)
 
 
 def explain_no_route(graph: nx.MultiDiGraph, cn: CompactNetwork, origin: str, destination: str) -> str:
     """Why no usable path exists: which depots are cut off, and by what."""
     from .search import dijkstra_all
 
+    K = cn.n_cards
+    n_states = len(cn.adj)
     o, d = cn.index[origin], cn.index[destination]
-    reach = [x < math.inf for x in dijkstra_all(cn.adj, o)]
-    reverse: list[list[tuple[int, float, int]]] = [[] for _ in cn.adj]
+    extended = [list(edges) for edges in cn.adj] + [[(o * K + k, 0.0, -1) for k in range(K)]]
+    reach_state = dijkstra_all(extended, n_states)
+    reached = {s // K for s in range(n_states) if reach_state[s] < math.inf}
+    reverse: list[list[tuple[int, float, int]]] = [[] for _ in range(n_states + 1)]
     for u, edges in enumerate(cn.adj):
         for v, _w, e in edges:
             reverse[v].append((u, 0.0, e))
-    can_reach_d = [x < math.inf for x in dijkstra_all(reverse, d)]
-    modes = sorted(m for m, _ in cn.profile.vehicles_by_mode)
-    vehicle = f"{cn.profile.vehicle} ({', '.join(modes)})"
-    into_d = [u for u, edges in enumerate(cn.adj) for v, _w, _e in edges if v == d]
-    if not into_d:
+    reverse[n_states] = [(d * K + k, 0.0, -1) for k in range(K)]
+    back = dijkstra_all(reverse, n_states)
+    can_reach_d = {s // K for s in range(n_states) if back[s] < math.inf} - {d}
+    modes = sorted({m for _v, m, _n in cn.profile.cards})
+    vehicles = ", ".join(cn.profile.vehicles)
+    what = f"{vehicles} ({', '.join(modes)})"
+    if not can_reach_d:
         blocked = []
         for _a, _b, data in graph.in_edges(destination, data=True):
             use = data["use"]
             if use.lane.mode not in modes:
                 blocked.append(f"{use.lane.lane_id} is {use.lane.mode}")
-        closed = [ln.lane_id for ln in _lanes_touching(cn, graph, destination) if not ln.open]
+        closed = [ln.lane_id for ln in graph.graph.get("all_lanes", ())
+                  if not ln.open and destination in (ln.to_depot, ln.from_depot)]
         if closed:
             blocked.append("closed: " + ", ".join(closed))
         why = "; ".join(blocked) if blocked else "no lane ends there"
-        return f"no lane usable by {vehicle} leads into {destination} ({why})"
-    n_reach = sum(reach) - 1
-    others = [cn.depot_ids[i] for i, ok in enumerate(can_reach_d) if ok and i != d]
+        return f"no lane usable by {what} leads into {destination} ({why})"
+    others = [cn.depot_ids[i] for i in sorted(can_reach_d)]
     shown = ", ".join(others[:6]) + (" ..." if len(others) > 6 else "")
-    return (f"{destination} is cut off from {origin} for {vehicle}: {origin} reaches {n_reach} "
-            f"depot(s), none of which leads to {destination}; only {shown or 'no depot'} can "
-            f"reach {destination}")
-
-
-def _lanes_touching(cn: CompactNetwork, graph: nx.MultiDiGraph, depot: str) -> list[Lane]:
-    model_lanes = graph.graph.get("all_lanes", ())
-    return [ln for ln in model_lanes if depot in (ln.to_depot, ln.from_depot)]
+    return (f"{destination} is cut off from {origin} for {what}: {origin} reaches "
+            f"{len(reached - {o})} depot(s), none of which leads to {destination}; only {shown} "
+            f"can reach {destination}")

@@ -11,8 +11,18 @@ from dataclasses import dataclass, field
 import networkx as nx
 
 from .cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
-from .model import WARNING, Model, Problem, Shipment
-from .network import CompactNetwork, Profile, compact, explain_no_route, profile_for
+from .model import WARNING, Model, Problem, RateCard, Shipment
+from .money import minor_unit
+from .network import (
+    CompactNetwork,
+    Profile,
+    card_of,
+    compact,
+    exit_weight,
+    explain_no_route,
+    start_weight,
+    vehicles_needed,
+)
 from .search import astar
 
 
@@ -27,8 +37,9 @@ class RunStats:
 
 
 def _label(p: Profile) -> str:
-    vehicles = ", ".join(f"{m} x{n}" for m, n in p.vehicles_by_mode)
-    return f"{p.vehicle} / {p.objective} / {vehicles}"
+    cards = ", ".join(f"{v} on {m} x{n}" for v, m, n in p.cards)
+    extra = f", {len(p.blocked)} restricted lane steps" if p.blocked else ""
+    return f"{p.objective}: {cards}{extra}"
 
 
 def objective_for(model: Model, shipment: Shipment, override: str | None) -> str:
@@ -40,7 +51,7 @@ def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None
               progress: Callable[[int, int], None] | None = None
               ) -> tuple[list[CostedShipment], RunStats, list[Problem]]:
     stats = RunStats()
-    problems: list[Problem] = _not_yet_applied(model)
+    problems: list[Problem] = []
     networks: dict[Profile, CompactNetwork] = {}
     vehicles = model.vehicles()
     out: list[CostedShipment] = []
@@ -54,20 +65,68 @@ def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None
     return out, stats, problems
 
 
-def _not_yet_applied(model: Model) -> list[Problem]:
-    """Settings the contract reserves but this version does not apply yet: say so, never
-    pretend."""
-    out = []
-    s = model.settings
-    title = model.layout.get("Settings", ("Settings", {}))[0]
-    if s.driving_rules != "none":
-        out.append(Problem(WARNING, title, "", f"driving_rules {s.driving_rules} is not applied in this "
-                           "version: hours are driving hours plus handling, without breaks or rests",
-                           "plan breaks and rests separately, or set driving_rules to none"))
-    if s.fuel_price_per_litre is not None:
-        out.append(Problem(WARNING, title, "", "fuel_price_per_litre is not applied in this version: "
-                           "no fuel surcharge is added", "include fuel in per_km, or leave it blank"))
-    return out
+def make_profile(model: Model, s: Shipment, objective: str, vehicles: list[str],
+                 restricted: bool = True) -> Profile:
+    """The rate cards shipment `s` may use (those of `vehicles`), with the vehicles each needs,
+    and the lane steps its hazmat flag and weight forbid (lane by lane, card by card)."""
+    cards = [r for r in model.rates if r.vehicle in vehicles]
+    blocked: set[tuple[str, int]] = set()
+    if restricted:
+        for lane in model.lanes:
+            for k, card in enumerate(cards):
+                if lane.mode != card.mode:
+                    continue
+                if s.hazmat and not lane.hazmat_allowed:
+                    blocked.add((lane.lane_id, k))
+                elif lane.max_weight_t is not None and \
+                        loaded_weight(s, card) > lane.max_weight_t + 1e-9:
+                    blocked.add((lane.lane_id, k))
+    needs_tonnes = objective == "emissions" and any(
+        c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None for c in cards)
+    return Profile(objective,
+                   tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
+                   frozenset(blocked), s.weight_t if needs_tonnes else 0.0)
+
+
+def loaded_weight(s: Shipment, card: RateCard) -> float:
+    """Gross weight of one loaded vehicle: its share of the load plus its tare."""
+    return s.weight_t / vehicles_needed(s.weight_t, card.payload_t) + card.tare_t
+
+
+def _search(model, graph, s: Shipment, profile: Profile, networks, stats: RunStats):
+    cn = networks.get(profile)
+    if cn is None:
+        t0 = time.perf_counter()
+        cn = networks[profile] = compact(graph, model, profile)
+        key = "compact networks (within search)"
+        stats.seconds[key] = stats.seconds.get(key, 0.0) + time.perf_counter() - t0
+        stats.bounds[_label(profile)] = cn.bound_note
+    places = minor_unit(model.settings.currency)
+    origin, dest = model.depot(s.origin), model.depot(s.destination)
+    sources = [(cn.node(s.origin, k), start_weight(model, profile, k, origin, places))
+               for k in range(cn.n_cards)]
+    exits = {cn.node(s.destination, k): exit_weight(profile, k, dest, places) for k in range(cn.n_cards)}
+    res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
+    stats.searches += 1
+    stats.settled += res.stats.settled
+    stats.pushed += res.stats.pushed
+    return cn, res
+
+
+def _runs(model: Model, cn: CompactNetwork, res) -> list[tuple[RateCard, list]]:
+    """The search's path as vehicle runs: (rate card, consecutive lane steps)."""
+    def card(k):
+        v, m, _n = cn.profile.cards[k]
+        return card_of(model, v, m)
+
+    runs: list[tuple[RateCard, list]] = [(card(res.nodes[0] % cn.n_cards), [])]
+    for e in res.edges:
+        step = cn.steps[e]
+        if step.transfer is not None:
+            runs.append((card(step.card), []))
+        else:
+            runs[-1][1].append(step.use)
+    return [r for r in runs if r[1]]
 
 
 def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: RunStats,
@@ -77,44 +136,79 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id} starts and ends at "
                                 f"{s.origin}; nothing to route", "correct origin or destination"))
         return unrouted(model, s, REJECTED, obj, f"origin and destination are both {s.origin}")
-    candidates = [s.vehicle] if s.vehicle else vehicles
+    # Candidate sets of vehicles: the named one; or all together (any vehicle, changing at
+    # terminals and ports) and each alone, so a minimum charge, which the search cannot add
+    # lane by lane, still decides between vehicles.
+    if s.vehicle:
+        candidates = [[s.vehicle]]
+    else:
+        candidates = [vehicles] + ([[v] for v in vehicles] if len(vehicles) > 1 else [])
     best: CostedShipment | None = None
-    reasons: list[str] = []
     settled = pushed = 0
-    for v in candidates:
-        profile = profile_for(model, v, obj, s.weight_t)
-        cn = networks.get(profile)
-        if cn is None:
-            t0 = time.perf_counter()
-            cn = networks[profile] = compact(graph, model, profile)
-            key = "compact networks (within search)"
-            stats.seconds[key] = stats.seconds.get(key, 0.0) + time.perf_counter() - t0
-            stats.bounds[_label(profile)] = cn.bound_note
-        o, d = cn.index[s.origin], cn.index[s.destination]
-        res = astar(cn.adj, o, d, cn.bound(d))
-        stats.searches += 1
-        stats.settled += res.stats.settled
-        stats.pushed += res.stats.pushed
+    for vs in candidates:
+        profile = make_profile(model, s, obj, vs)
+        cn, res = _search(model, graph, s, profile, networks, stats)
         settled += res.stats.settled
         pushed += res.stats.pushed
         if not res.found:
-            reasons.append(explain_no_route(graph, cn, s.origin, s.destination))
             continue
-        costed = cost_route(model, s, v, obj, [cn.uses[e] for e in res.edges])
+        costed = cost_route(model, s, obj, _runs(model, cn, res))
         if best is None or costed.objective_value < best.objective_value - 1e-9:
             best = costed
     if best is None:
-        msg = reasons[0] if len(reasons) == 1 else "no vehicle has a route: " + "; ".join(reasons)
+        msg = _why_no_route(model, graph, s, obj, candidates[0], networks, stats)
         return unrouted(model, s, NO_ROUTE, obj, msg, s.vehicle or "", settled, pushed)
-    note = ""
+    notes = []
     if best.vehicles > 1:
         sheet, cell = model.cell("Shipments", "weight_t", s.row)
-        payloads = ", ".join(f"{leg.card.payload_t:g} t" for leg in best.legs[:1])
-        note = (f"{s.weight_t:g} t is more than one {best.vehicle} carries ({payloads}): "
-                f"split over {best.vehicles} vehicles")
+        split = max(best.legs, key=lambda leg: leg.vehicles)
+        note = (f"{s.weight_t:g} t is more than one {split.card.vehicle} carries "
+                f"({split.card.payload_t:g} t): split over {split.vehicles} vehicles")
+        notes.append(note)
         problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id}: {note}",
                                 "check the weight; otherwise nothing to do: each vehicle is costed"))
-    if not s.vehicle and len(candidates) > 1:
-        note = (note + "; " if note else "") + f"vehicle chosen as best of {len(candidates)} by {obj}"
+    modes = list(dict.fromkeys(leg.use.lane.mode for leg in best.legs))
+    if len(modes) > 1:
+        notes.append("intermodal: " + " > ".join(_run_modes(best)))
+    if any(leg.co2e_basis != "fuel" for leg in best.legs):
+        notes.append("CO2e partly from default intensities (see Legs)")
+    if not s.vehicle and len(vehicles) > 1:
+        notes.append(f"vehicle chosen by {obj}")
     return CostedShipment(best.shipment, best.status, best.objective, best.vehicle, best.legs,
-                          best.min_charge, note, settled, pushed, best.places)
+                          best.min_charge, "; ".join(notes), settled, pushed, best.places)
+
+
+def _run_modes(c: CostedShipment) -> list[str]:
+    out: list[str] = []
+    last = None
+    for leg in c.legs:
+        key = (leg.card.vehicle, leg.card.mode)
+        if key != last:
+            out.append(f"{leg.card.mode} ({leg.card.vehicle})")
+            last = key
+    return out
+
+
+def _why_no_route(model, graph, s: Shipment, obj: str, vehicles, networks, stats) -> str:
+    """Name the restriction that blocks the shipment, or the depots that are cut off."""
+    profile = make_profile(model, s, obj, vehicles)
+    if profile.blocked:
+        free = make_profile(model, s, obj, vehicles, restricted=False)
+        cn, res = _search(model, graph, s, free, networks, stats)
+        if res.found:
+            reasons = []
+            for e in res.edges:
+                step = cn.steps[e]
+                if step.use is None or (step.use.lane.lane_id, step.card) not in profile.blocked:
+                    continue
+                lane = step.use.lane
+                v, m, _n = free.cards[step.card]
+                if s.hazmat and not lane.hazmat_allowed:
+                    reasons.append(f"{lane.lane_id} does not allow dangerous goods")
+                else:
+                    reasons.append(f"{lane.lane_id} allows at most {lane.max_weight_t:g} t per vehicle, "
+                                   f"a loaded {v} weighs {loaded_weight(s, card_of(model, v, m)):g} t")
+            return ("blocked by lane restrictions: " + "; ".join(dict.fromkeys(reasons)) +
+                    " (no other route avoids them)")
+    cn = networks.get(profile) or compact(graph, model, profile)
+    return explain_no_route(graph, cn, s.origin, s.destination)

@@ -15,7 +15,7 @@ adjacency order, so the same network gives the same route every time.
 from __future__ import annotations
 
 import heapq
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 
 Adjacency = Sequence[Sequence[tuple[int, float, int]]]
@@ -39,10 +39,19 @@ class SearchResult:
     stats: SearchStats
 
 
-def astar(adj: Adjacency, source: int, target: int,
+def astar(adj: Adjacency, source: int | Sequence[tuple[int, float]],
+          target: int | Mapping[int, float],
           h: Sequence[float] | Callable[[int], float] | None = None) -> SearchResult:
-    """Least-weight route from source to target. `h` is a lower bound per node (a sequence
-    indexed by node id, a function, or None for uniform-cost search)."""
+    """Least-weight route from source to target.
+
+    `source` is a node id, or several (node id, starting weight) pairs; `target` is a node id, or
+    a mapping of node id -> exit weight (the route ends at one of them and pays its exit
+    weight). Several sources and exits are the same as one virtual source and one virtual
+    target joined to them by edges of those weights, so the argument above still holds with
+    h(virtual target) = 0 and h(exit node) = 0 (the caller's bound must be 0 at exits).
+    `h` is a lower bound per node (a sequence indexed by node id, a function, or None for
+    uniform-cost search). The route returned excludes the virtual ends; `weight` includes the
+    starting and exit weights."""
     if h is None:
         def bound(_v: int) -> float:
             return 0.0
@@ -50,15 +59,23 @@ def astar(adj: Adjacency, source: int, target: int,
         bound = h
     else:
         bound = h.__getitem__
+    starts = [(source, 0.0)] if isinstance(source, int) else list(source)
+    exits = {target: 0.0} if isinstance(target, int) else dict(target)
     n = len(adj)
-    g = [float("inf")] * n
-    parent_node = [-1] * n
-    parent_edge = [-1] * n
-    done = [False] * n
-    g[source] = 0.0
+    virtual = n  # the virtual target's id
+    g = [float("inf")] * (n + 1)
+    parent_node = [-1] * (n + 1)
+    parent_edge = [-1] * (n + 1)
+    done = [False] * (n + 1)
+    heap: list[tuple[float, int, int]] = []
     counter = 0
-    heap: list[tuple[float, int, int]] = [(bound(source), counter, source)]
-    pushed = 1
+    for s, g0 in starts:
+        if g0 < g[s]:
+            g[s] = g0
+            counter += 1
+            heap.append((g0 + bound(s), counter, s))
+    heapq.heapify(heap)
+    pushed = len(heap)
     settled = 0
     push, pop = heapq.heappush, heapq.heappop
     while heap:
@@ -67,9 +84,16 @@ def astar(adj: Adjacency, source: int, target: int,
             continue  # a stale entry: u was settled through a better one
         done[u] = True
         settled += 1
-        if u == target:
+        if u == virtual:
             break
         gu = g[u]
+        exit_w = exits.get(u)
+        if exit_w is not None and gu + exit_w < g[virtual]:
+            g[virtual] = gu + exit_w
+            parent_node[virtual] = u
+            counter += 1
+            push(heap, (g[virtual], counter, virtual))
+            pushed += 1
         for v, w, e in adj[u]:
             if done[v]:
                 continue
@@ -81,19 +105,20 @@ def astar(adj: Adjacency, source: int, target: int,
                 counter += 1
                 push(heap, (gv + bound(v), counter, v))
                 pushed += 1
+    settled -= 1 if done[virtual] else 0  # the virtual target is not a network node
     stats = SearchStats(settled, pushed)
-    if not done[target]:
+    if not done[virtual]:
         return SearchResult(False, float("inf"), (), (), stats)
-    nodes = [target]
+    v = parent_node[virtual]
+    nodes = [v]
     edges = []
-    v = target
-    while v != source:
+    while parent_node[v] != -1:
         edges.append(parent_edge[v])
         v = parent_node[v]
         nodes.append(v)
     nodes.reverse()
     edges.reverse()
-    return SearchResult(True, g[target], tuple(nodes), tuple(edges), stats)
+    return SearchResult(True, g[virtual], tuple(nodes), tuple(edges), stats)
 
 
 def dijkstra_all(adj: Adjacency, source: int) -> list[float]:

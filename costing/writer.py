@@ -14,6 +14,7 @@ from xlsxwriter.utility import xl_col_to_name
 from . import __version__
 from .cost import ROUTED, CostedShipment
 from .model import ERROR, INFO, WARNING, Model, Problem
+from .money import round_money
 
 MAX_ROWS = 1_048_576
 MAX_CELL_TEXT = 32_767
@@ -40,54 +41,124 @@ def run_time() -> _dt.datetime:
     return _dt.datetime.now(_dt.timezone.utc).replace(tzinfo=None, microsecond=0)
 
 
-# (header, width, kind) - kind: text | int | km | hours | money | rate | kg | plain
-LEG_COLUMNS = [
-    ("shipment_id", 12, "text"), ("seq", 5, "int"), ("lane_id", 9, "text"),
-    ("from_depot", 11, "text"), ("to_depot", 11, "text"), ("mode", 9, "text"),
-    ("vehicle", 12, "text"), ("vehicles", 8, "int"), ("distance_km", 11, "km"),
-    ("km_basis", 10, "text"), ("drive_hours", 11, "hours"), ("hours_basis", 11, "text"),
-    ("per_km", 9, "rate"), ("per_hour", 9, "rate"), ("toll", 9, "rate"), ("fixed_cost_rate", 10, "rate"),
-    ("handling_start_rate", 12, "rate"), ("handling_end_rate", 12, "rate"), ("per_trip", 9, "rate"),
-    ("km_cost", 11, "money"), ("hour_cost", 11, "money"), ("toll_cost", 10, "money"),
-    ("fixed_cost", 10, "money"), ("handling_start_cost", 12, "money"),
-    ("handling_end_cost", 12, "money"), ("trip_cost", 10, "money"), ("leg_cost", 12, "money"),
-    ("handling_hours", 10, "hours"), ("fuel_l_per_100km", 10, "plain"),
-    ("co2e_kg_per_litre", 10, "plain"), ("co2e_kg", 10, "kg"),
+# Output columns: (header, width, kind, value of a leg or shipment, formula or None).
+# kind: text | int | km | hours | money | rate | kg | plain. A formula names other columns of
+# the same row in braces ({vehicles}) and the money decimals as {d}; the writer caches the
+# value next to it, computed in Python in the same order of operations.
+def _basis(flag: bool) -> str:
+    return "estimated" if flag else "stated"
+
+
+LEG_SPEC = [
+    ("shipment_id", 12, "text", lambda r, g: r.shipment.shipment_id, None),
+    ("seq", 5, "int", lambda r, g: g.seq, None),
+    ("lane_id", 9, "text", lambda r, g: g.use.lane.lane_id, None),
+    ("from_depot", 11, "text", lambda r, g: g.use.from_depot, None),
+    ("to_depot", 11, "text", lambda r, g: g.use.to_depot, None),
+    ("mode", 9, "text", lambda r, g: g.use.lane.mode, None),
+    ("vehicle", 12, "text", lambda r, g: g.card.vehicle, None),
+    ("vehicles", 8, "int", lambda r, g: g.vehicles, None),
+    ("weight_t", 9, "plain", lambda r, g: g.weight_t, None),
+    ("distance_km", 11, "km", lambda r, g: g.use.km, None),
+    ("km_basis", 10, "text", lambda r, g: _basis(g.use.km_estimated), None),
+    ("drive_hours", 11, "hours", lambda r, g: g.use.hours, None),
+    ("hours_basis", 11, "text", lambda r, g: _basis(g.use.hours_estimated), None),
+    ("break_hours", 9, "hours", lambda r, g: g.break_hours, None),
+    ("rest_hours", 9, "hours", lambda r, g: g.rest_hours, None),
+    ("handling_hours", 10, "hours", lambda r, g: g.handling_hours, None),
+    ("elapsed_hours", 10, "hours", lambda r, g: g.elapsed_hours,
+     "{drive_hours}+{break_hours}+{rest_hours}+{handling_hours}"),
+    ("paid_stop_hours", 10, "hours", lambda r, g: g.paid_stop_hours, None),
+    ("per_km", 9, "rate", lambda r, g: g.card.per_km, None),
+    ("per_hour", 9, "rate", lambda r, g: g.card.per_hour, None),
+    ("toll", 9, "rate", lambda r, g: g.use.lane.toll, None),
+    ("fixed_cost_rate", 10, "rate", lambda r, g: g.use.lane.fixed_cost, None),
+    ("fuel_l_per_100km", 10, "plain", lambda r, g: g.card.fuel_l_per_100km, None),
+    ("fuel_price", 9, "rate", lambda r, g: g.fuel_price, None),
+    ("fuel_included_at", 10, "rate", lambda r, g: g.card.fuel_included_at if g.fuel_price is not None
+     else None, None),
+    ("handling_start_rate", 12, "rate", lambda r, g: g.start_handling_rate, None),
+    ("handling_end_rate", 12, "rate", lambda r, g: g.end_handling_rate, None),
+    ("per_trip", 9, "rate", lambda r, g: g.trip_rate, None),
+    ("km_cost", 11, "money", lambda r, g: g.km_cost, "ROUND({vehicles}*{distance_km}*{per_km},{d})"),
+    ("hour_cost", 11, "money", lambda r, g: g.hour_cost, "ROUND({vehicles}*{drive_hours}*{per_hour},{d})"),
+    ("toll_cost", 10, "money", lambda r, g: g.toll_cost, "ROUND({vehicles}*{toll},{d})"),
+    ("fixed_cost", 10, "money", lambda r, g: g.fixed_cost, "ROUND({vehicles}*{fixed_cost_rate},{d})"),
+    ("fuel_surcharge", 11, "money", lambda r, g: g.fuel_surcharge,
+     'IF(OR({fuel_price}="",{fuel_included_at}="",{fuel_l_per_100km}=""),0,'
+     "ROUND({vehicles}*{distance_km}*{fuel_l_per_100km}/100*({fuel_price}-{fuel_included_at}),{d}))"),
+    ("stop_cost", 10, "money", lambda r, g: g.stop_cost,
+     "ROUND({vehicles}*{paid_stop_hours}*{per_hour},{d})"),
+    ("handling_start_cost", 12, "money", lambda r, g: g.start_handling_cost,
+     "ROUND({vehicles}*{handling_start_rate},{d})"),
+    ("handling_end_cost", 12, "money", lambda r, g: g.end_handling_cost,
+     "ROUND({vehicles}*{handling_end_rate},{d})"),
+    ("trip_cost", 10, "money", lambda r, g: g.trip_cost, "ROUND({vehicles}*{per_trip},{d})"),
+    ("leg_cost", 12, "money", lambda r, g: g.leg_cost, "ROUND(SUM({km_cost}:{trip_cost}),{d})"),
+    ("co2e_kg_per_litre", 10, "plain", lambda r, g: g.card.co2e_kg_per_litre, None),
+    ("co2e_basis", 15, "text", lambda r, g: g.co2e_basis, None),
+    ("intensity_g_per_tkm", 11, "plain", lambda r, g: g.intensity_g_per_tkm, None),
+    ("co2e_kg", 10, "kg", lambda r, g: g.co2e_kg,
+     'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*{co2e_kg_per_litre},'
+     "{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
 ]
+LEG_COLUMNS = [(name, width, kind) for name, width, kind, _v, _f in LEG_SPEC]
 LEG = {name: i for i, (name, _w, _k) in enumerate(LEG_COLUMNS)}
 
+# Summary columns: (header, width, kind). Sums over the shipment's legs are named in SUMMED.
 SUMMARY_COLUMNS = [
     ("shipment_id", 12, "text"), ("status", 9, "text"), ("origin", 10, "text"),
     ("destination", 11, "text"), ("objective", 10, "text"), ("vehicle", 12, "text"),
     ("vehicles", 8, "int"), ("legs", 6, "int"), ("distance_km", 11, "km"), ("drive_hours", 11, "hours"),
-    ("handling_hours", 10, "hours"), ("transit_hours", 10, "hours"), ("km_cost", 11, "money"),
+    ("break_hours", 9, "hours"), ("rest_hours", 9, "hours"), ("handling_hours", 10, "hours"),
+    ("elapsed_hours", 10, "hours"), ("km_cost", 11, "money"),
     ("hour_cost", 11, "money"), ("toll_cost", 10, "money"), ("fixed_cost", 10, "money"),
+    ("fuel_surcharge", 11, "money"), ("stop_cost", 10, "money"),
     ("handling_cost", 11, "money"), ("trip_cost", 10, "money"), ("subtotal", 12, "money"),
     ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("total_cost", 12, "money"),
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("customer", 18, "text"),
     ("route", 40, "text"), ("note", 60, "text"),
 ]
 SUM = {name: i for i, (name, _w, _k) in enumerate(SUMMARY_COLUMNS)}
+# Summary column -> the Legs columns it adds up (rounded to the cent where money)
+SUMMED = {
+    "distance_km": ["distance_km"], "drive_hours": ["drive_hours"], "break_hours": ["break_hours"],
+    "rest_hours": ["rest_hours"], "handling_hours": ["handling_hours"],
+    "elapsed_hours": ["elapsed_hours"], "km_cost": ["km_cost"], "hour_cost": ["hour_cost"],
+    "toll_cost": ["toll_cost"], "fixed_cost": ["fixed_cost"], "fuel_surcharge": ["fuel_surcharge"],
+    "stop_cost": ["stop_cost"], "handling_cost": ["handling_start_cost", "handling_end_cost"],
+    "trip_cost": ["trip_cost"], "subtotal": ["leg_cost"], "co2e_kg": ["co2e_kg"],
+}
 
 HEADER_NOTES = {
     "km_basis": "stated: from the Lanes sheet; estimated: straight line x detour_factor.",
     "hours_basis": "stated: from the Lanes sheet; estimated: km / default_speed_kmh.",
     "vehicles": "Vehicles needed = ceil(weight_t / payload_t of the rate card).",
+    "break_hours": "Driving-time breaks on this leg (driving_rules; planning estimate).",
+    "rest_hours": "Daily rests on this leg (driving_rules; planning estimate).",
+    "paid_stop_hours": "Break and rest hours charged at per_hour (settings break_hours_paid, "
+                       "rest_hours_paid).",
+    "elapsed_hours": "drive_hours + break_hours + rest_hours + handling_hours",
     "km_cost": "ROUND(vehicles x distance_km x per_km)",
     "hour_cost": "ROUND(vehicles x drive_hours x per_hour)",
     "toll_cost": "ROUND(vehicles x toll)",
     "fixed_cost": "ROUND(vehicles x fixed cost per vehicle)",
-    "handling_start_cost": "ROUND(vehicles x handling at the origin); first leg only.",
+    "fuel_surcharge": "ROUND(vehicles x km x fuel_l_per_100km / 100 x (fuel_price - fuel_included_at)); "
+                      "0 without a fuel price or fuel_included_at.",
+    "stop_cost": "ROUND(vehicles x paid_stop_hours x per_hour)",
+    "handling_start_cost": "ROUND(vehicles x handling where a vehicle run starts: the origin, or a "
+                           "terminal or port where the shipment changes vehicle).",
     "handling_end_cost": "ROUND(vehicles x handling at to_depot) where it is a hub or the destination.",
-    "trip_cost": "ROUND(vehicles x per_trip) on the first leg priced by each rate card.",
+    "trip_cost": "ROUND(vehicles x per_trip) on the first leg of each vehicle run.",
     "leg_cost": "Sum of the leg's cost components.",
-    "co2e_kg": "vehicles x km x fuel_l_per_100km / 100 x co2e_kg_per_litre; 0 where the rate card "
-               "has no fuel figures. Planning estimate.",
+    "co2e_basis": "fuel: from the rate card's fuel figures; default intensity: tonnes x km x a "
+                  "published g CO2e per tonne-km for the mode (see the Run sheet).",
+    "co2e_kg": "fuel: vehicles x km x fuel_l_per_100km / 100 x co2e_kg_per_litre; default intensity: "
+               "weight_t x km x intensity_g_per_tkm / 1000. Planning estimate.",
     "subtotal": "Sum of the shipment's leg_cost on the Legs sheet.",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "subtotal + min_charge_uplift",
-    "transit_hours": "drive_hours + handling_hours (no driving-time breaks unless set).",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }
@@ -174,66 +245,40 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
 
 def _write_legs(w: _Writer, ws, results) -> dict[str, tuple[int, int]]:
     w.header(ws, LEG_COLUMNS)
-    c = LEG
-    L = {name: xl_col_to_name(i) for name, i in LEG.items()}
-    f = w.f
+    letters = {name: xl_col_to_name(i) for name, i in LEG.items()}
     ranges: dict[str, tuple[int, int]] = {}
     r = 1
     for res in results:
         if not res.legs:
             continue
         first = r
-        sid = _text(res.shipment.shipment_id)
         for leg in res.legs:
-            x = r + 1  # spreadsheet row number
-            u = leg.use
-            ws.write_string(r, c["shipment_id"], sid)
-            ws.write_number(r, c["seq"], leg.seq)
-            ws.write_string(r, c["lane_id"], _text(u.lane.lane_id))
-            ws.write_string(r, c["from_depot"], _text(u.from_depot))
-            ws.write_string(r, c["to_depot"], _text(u.to_depot))
-            ws.write_string(r, c["mode"], u.lane.mode)
-            ws.write_string(r, c["vehicle"], _text(res.vehicle))
-            ws.write_number(r, c["vehicles"], leg.vehicles)
-            ws.write_number(r, c["distance_km"], u.km)
-            ws.write_string(r, c["km_basis"], "estimated" if u.km_estimated else "stated")
-            ws.write_number(r, c["drive_hours"], u.hours)
-            ws.write_string(r, c["hours_basis"], "estimated" if u.hours_estimated else "stated")
-            ws.write_number(r, c["per_km"], leg.card.per_km)
-            ws.write_number(r, c["per_hour"], leg.card.per_hour)
-            ws.write_number(r, c["toll"], u.lane.toll)
-            ws.write_number(r, c["fixed_cost_rate"], u.lane.fixed_cost)
-            ws.write_number(r, c["handling_start_rate"], leg.start_handling_rate)
-            ws.write_number(r, c["handling_end_rate"], leg.end_handling_rate)
-            ws.write_number(r, c["per_trip"], leg.trip_rate)
-            n = f"{L['vehicles']}{x}"
-            for col, expr, value in (
-                ("km_cost", f"{n}*{L['distance_km']}{x}*{L['per_km']}{x}", leg.km_cost),
-                ("hour_cost", f"{n}*{L['drive_hours']}{x}*{L['per_hour']}{x}", leg.hour_cost),
-                ("toll_cost", f"{n}*{L['toll']}{x}", leg.toll_cost),
-                ("fixed_cost", f"{n}*{L['fixed_cost_rate']}{x}", leg.fixed_cost),
-                ("handling_start_cost", f"{n}*{L['handling_start_rate']}{x}", leg.start_handling_cost),
-                ("handling_end_cost", f"{n}*{L['handling_end_rate']}{x}", leg.end_handling_cost),
-                ("trip_cost", f"{n}*{L['per_trip']}{x}", leg.trip_cost),
-            ):
-                ws.write_formula(r, c[col], "=" + w.round_f(expr), f["money"], value)
-            ws.write_formula(r, c["leg_cost"],
-                             "=" + w.round_f(f"SUM({L['km_cost']}{x}:{L['trip_cost']}{x})"),
-                             f["money"], leg.leg_cost)
-            ws.write_number(r, c["handling_hours"], leg.handling_hours)
-            fuel, factor = leg.card.fuel_l_per_100km, leg.card.co2e_kg_per_litre
-            if fuel is not None:
-                ws.write_number(r, c["fuel_l_per_100km"], fuel)
-            if factor is not None:
-                ws.write_number(r, c["co2e_kg_per_litre"], factor)
-            fc, kc = f"{L['fuel_l_per_100km']}{x}", f"{L['co2e_kg_per_litre']}{x}"
-            ws.write_formula(r, c["co2e_kg"],
-                             f'=IF(OR({fc}="",{kc}=""),0,{n}*{L["distance_km"]}{x}*{fc}/100*{kc})',
-                             f["kg"], leg.co2e_kg)
+            refs = {name: f"{col}{r + 1}" for name, col in letters.items()}
+            refs["d"] = str(w.places)
+            for c, (_name, _width, kind, value_of, formula) in enumerate(LEG_SPEC):
+                value = value_of(res, leg)
+                if formula is not None:
+                    ws.write_formula(r, c, "=" + formula.format(**refs), w.f[kind], value)
+                elif kind == "text":
+                    ws.write_string(r, c, _text(value))
+                elif value is not None:
+                    ws.write_number(r, c, value)
             r += 1
         ranges[res.shipment.shipment_id] = (first + 1, r)  # 1-based inclusive rows
     ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
     return ranges
+
+
+def _shipment_value(res: CostedShipment, col: str) -> float:
+    """The cached value of a summed Summary column, from the same rounded leg figures."""
+    legs_cols = SUMMED[col]
+    attr = {"handling_start_cost": "start_handling_cost", "handling_end_cost": "end_handling_cost",
+            "leg_cost": "leg_cost"}
+    total = sum(getattr(leg, attr.get(c, c)) if c not in ("distance_km", "drive_hours")
+                else (leg.use.km if c == "distance_km" else leg.use.hours)
+                for leg in res.legs for c in legs_cols)
+    kind = SUMMARY_COLUMNS[SUM[col]][2]
+    return round_money(total, res.places) if kind == "money" else total
 
 
 def _write_summary(w: _Writer, ws, results, ranges) -> int:
@@ -246,40 +291,24 @@ def _write_summary(w: _Writer, ws, results, ranges) -> int:
     for r, res in enumerate(results, start=1):
         x = r + 1
         s = res.shipment
-        ws.write_string(r, c["shipment_id"], _text(s.shipment_id))
-        ws.write_string(r, c["status"], res.status)
-        ws.write_string(r, c["origin"], _text(s.origin))
-        ws.write_string(r, c["destination"], _text(s.destination))
-        ws.write_string(r, c["objective"], res.objective)
-        ws.write_string(r, c["vehicle"], _text(res.vehicle))
+        for col, value in (("shipment_id", s.shipment_id), ("status", res.status), ("origin", s.origin),
+                           ("destination", s.destination), ("objective", res.objective),
+                           ("vehicle", res.vehicle), ("customer", s.customer), ("note", res.message)):
+            ws.write_string(r, c[col], _text(value))
         ws.write_number(r, c["weight_t"], s.weight_t)
-        ws.write_string(r, c["customer"], _text(s.customer))
-        note = res.message
-        ws.write_string(r, c["note"], _text(note))
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
             continue
         a, b = ranges[s.shipment_id]
-
-        def legsum(col: str, a: int = a, b: int = b) -> str:
-            return f"SUM(Legs!{L[col]}{a}:{L[col]}{b})"
-
         ws.write_number(r, c["vehicles"], res.vehicles)
         ws.write_formula(r, c["legs"], f"=COUNT(Legs!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
-        ws.write_formula(r, c["distance_km"], "=" + legsum("distance_km"), f["km"], res.distance_km)
-        ws.write_formula(r, c["drive_hours"], "=" + legsum("drive_hours"), f["hours"], res.drive_hours)
-        ws.write_formula(r, c["handling_hours"], "=" + legsum("handling_hours"), f["hours"],
-                         res.handling_hours)
-        ws.write_formula(r, c["transit_hours"], f"={S['drive_hours']}{x}+{S['handling_hours']}{x}",
-                         f["hours"], res.drive_hours + res.handling_hours)
-        for col in ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "trip_cost"):
-            ws.write_formula(r, c[col], "=" + w.round_f(legsum(col)), f["money"], res.component(col))
-        handling = res.component("start_handling_cost") + res.component("end_handling_cost")
-        ws.write_formula(r, c["handling_cost"],
-                         "=" + w.round_f(legsum("handling_start_cost") + "+" + legsum("handling_end_cost")),
-                         f["money"], round(handling, w.places))
-        ws.write_formula(r, c["subtotal"], "=" + w.round_f(legsum("leg_cost")), f["money"], res.subtotal)
+        for col, legs_cols in SUMMED.items():
+            kind = SUMMARY_COLUMNS[c[col]][2]
+            expr = "+".join(f"SUM(Legs!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
+            if kind == "money":
+                expr = w.round_f(expr)
+            ws.write_formula(r, c[col], "=" + expr, f[kind], _shipment_value(res, col))
         ws.write_number(r, c["min_charge"], res.min_charge, f["money"])
         ws.write_formula(r, c["min_charge_uplift"],
                          "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
@@ -287,39 +316,24 @@ def _write_summary(w: _Writer, ws, results, ranges) -> int:
         ws.write_formula(r, c["total_cost"],
                          "=" + w.round_f(f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}"),
                          f["money"], res.total_cost)
-        ws.write_formula(r, c["co2e_kg"], "=" + legsum("co2e_kg"), f["kg"], res.co2e_kg)
         route = " > ".join([res.legs[0].use.from_depot] + [leg.use.to_depot for leg in res.legs])
         ws.write_string(r, c["route"], _text(route))
     last = r
-    # totals row
+    # totals row: each column's sum, cached from the same figures
     t = last + 1
     ws.write_string(t, 0, "TOTAL", f["total_text"])
     routed = [x for x in results if x.status == ROUTED]
-    totals = {
-        "vehicles": None, "legs": sum(len(x.legs) for x in routed),
-        "distance_km": sum(x.distance_km for x in routed),
-        "drive_hours": sum(x.drive_hours for x in routed),
-        "handling_hours": sum(x.handling_hours for x in routed),
-        "transit_hours": sum(x.drive_hours + x.handling_hours for x in routed),
-        "co2e_kg": sum(x.co2e_kg for x in routed),
-        "weight_t": sum(x.shipment.weight_t for x in results),
-    }
-    from .money import round_money
-
-    for col in ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "trip_cost", "subtotal",
-                "min_charge_uplift", "total_cost"):
-        totals[col] = round_money(sum(x.component(col) if col.endswith("_cost") and col != "total_cost"
-                                      else getattr(x, col) for x in routed), w.places)
-    totals["handling_cost"] = round_money(sum(x.component("start_handling_cost")
-                                              + x.component("end_handling_cost") for x in routed),
-                                          w.places)
+    totals: dict[str, float] = {col: sum(_shipment_value(x, col) for x in routed) for col in SUMMED}
+    totals["legs"] = sum(len(x.legs) for x in routed)
+    totals["weight_t"] = sum(x.shipment.weight_t for x in results)
+    totals["min_charge_uplift"] = sum(x.min_charge_uplift for x in routed)
+    totals["total_cost"] = sum(x.total_cost for x in routed)
     for col, value in totals.items():
-        if value is None:
-            continue
         kind = SUMMARY_COLUMNS[c[col]][2]
         expr = f"SUM({S[col]}2:{S[col]}{last + 1})"
         if kind == "money":
             expr = w.round_f(expr)
+            value = round_money(value, w.places)
         fmt = f.get("total_" + kind, f["total_text"])
         ws.write_formula(t, c[col], "=" + expr, fmt, value)
     ws.autofilter(0, 0, max(last, 1), len(SUMMARY_COLUMNS) - 1)
@@ -381,6 +395,25 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
         ("problems: errors / warnings / info",
          "{} / {} / {}".format(*(sum(p.severity == k for p in problems) for k in (ERROR, WARNING, INFO)))),
     ]
+    from .pricing import DEFAULT_INTENSITY
+    from .rules import rules_for
+
+    rules = rules_for(s)
+    if rules:
+        rows += [
+            ("driving rules",
+             f"{rules.name}: break of {rules.break_hours:g} h after {rules.break_after:g} h driving; "
+             f"daily rest of {rules.daily_rest:g} h after {rules.daily_driving:g} h driving "
+             "(road legs; one driver per vehicle)"),
+            ("driving rules: source", rules.source),
+            ("driving rules: route choice", "routes are chosen on driving and handling hours; breaks and "
+                                            "rests are then added to the chosen route and costed"),
+        ]
+    else:
+        rows.append(("driving rules", "none: hours are driving plus handling, no breaks or rests"))
+    if any(leg.co2e_basis != "fuel" for x in results for leg in x.legs):
+        for mode, (g, source) in DEFAULT_INTENSITY.items():
+            rows.append((f"default CO2e intensity: {mode}", f"{g:g} g CO2e per tonne-km; {source}"))
     st = info.stats
     rows += [
         ("searches (A*)", st.searches),
@@ -407,8 +440,6 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     L = {name: xl_col_to_name(i) for name, i in LEG.items()}
     S = {name: xl_col_to_name(i) for name, i in SUM.items()}
     routed = [x for x in results if x.status == ROUTED]
-    from .money import round_money
-
     leg_total = round_money(sum(leg.leg_cost for x in routed for leg in x.legs), w.places)
     uplift = round_money(sum(x.min_charge_uplift for x in routed), w.places)
     total = round_money(sum(x.total_cost for x in routed), w.places)
