@@ -1,0 +1,265 @@
+"""Bi-objective search: the Pareto frontier of routes on two non-negative criteria (cost, time)
+from one source to one target. Node ids 0..n-1, an adjacency list of (head, cost, time, edge id),
+and optional lower bounds per node and criterion. Nothing here knows about depots or rates.
+
+The method is multi-objective A* in the form of NAMOA*: L. Mandow and J. L. Pérez de la Cruz,
+"Multiobjective A* search with consistent heuristics", Journal of the ACM 57(5), 2010 (the
+algorithm first appeared in their IJCAI 2005 paper "A new approach to multiobjective A* search").
+
+Dominance. A route's value is the pair (cost, time). Pair a dominates pair b when a is no worse
+in both criteria and better in at least one; a covers b ("weakly dominates") when a is no worse
+in both. The frontier is the set of pairs no route dominates, with one route kept per pair.
+
+Labels. A label is one partial route from the source: its node, g = (cost, time) so far, and a
+pointer to the label it extends. Each node keeps one set of labels, open (waiting on the queue)
+and closed (expanded), in which no label covers another; it is a staircase, sorted by cost
+ascending with time strictly descending, so a check is a binary search. The queue orders open
+labels lexicographically by f = g + h (cost first, then time), ties by the order in which they
+were pushed. h = (h_cost, h_time) are the lower bounds on the remaining cost and time.
+
+One step: take the lexicographically least open label. If a solution (a target label taken
+earlier) covers its f, drop it. If it is at the target, its g is a new frontier point (f = g
+there). Otherwise extend it along every edge; a new label is dropped when a label of its node
+covers its g, or when a solution covers its f; otherwise it removes the labels of its node that
+it covers (open or closed: with bounds that are admissible but not consistent a closed label can
+be beaten later) and joins the queue.
+
+Why the pruning is exact, with non-negative weights and bounds that never exceed the least
+remaining cost (resp. time) to the target ("admissible"):
+  * Same node: whatever suffix completes a covered label g' also completes the covering label g,
+    and g + suffix covers g' + suffix; so nothing on the frontier is lost.
+  * Bounds: every completion of a label costs at least f = g + h in both criteria. If a solution
+    C covers f, it covers every completion, so none of them can be a new frontier point.
+  * Order: if a not-yet-found route P* dominated a target label C taken from the queue, then (by
+    induction along P*, as in the admissibility proof of NAMOA*) some open label on a route at
+    least as good as P* has f <= P* <= C componentwise, which is lexicographically smaller than
+    C, so it would have been taken first. Hence every frontier point is final when found, and
+    frontier points are found in increasing order of cost: a point of cost c has an open
+    representative with f_cost <= c that is taken before any target label of larger cost.
+With h = 0 this is a plain bi-objective label-setting search (multi-objective Dijkstra). A
+bound of inf at a node (the target is unreachable from it) drops every label there. Negative
+bounds are raised to 0 (still admissible since weights are non-negative), and the target's bound
+is taken as 0. An edge whose cost or time is inf is unusable and skipped.
+
+Guarantees.
+  * Not capped (capped=False): routes is the whole frontier, one route per non-dominated pair,
+    sorted by cost ascending (so time descending); no route covers another.
+  * Capped by max_routes: the routes are the max_routes frontier points of least cost (the
+    prefix of the full frontier in cost order), each truly on the frontier.
+  * Capped by max_labels: the routes found so far, again a prefix of the frontier in cost order
+    (possibly empty), each truly on the frontier.
+  capped=True means the search stopped with live labels left, so more points may exist (it can
+  also be set when the frontier happened to be complete); capped=False means it is complete.
+  These hold in exact arithmetic. Floating-point sums along different routes can differ in the
+  last bits, so values within 1e-9 relative are treated as equal (`REL_TOL`): two routes whose
+  costs and times agree that closely are one point, and a route better by less than that is not
+  told apart. When the max_routes cap is reached the search continues through the labels whose
+  f cost ties the last point within the tolerance, so a near-tie found a little later can still
+  replace it; the returned routes never cover one another.
+  Ties: for routes with the same pair, the one whose target label is taken first is kept; that
+  order depends only on the adjacency order, so the same input gives the same result every time.
+  Routes are simple paths: a cycle returns to a node with a g covered by the label it left from.
+
+Complexity. Let L be the number of labels created (each is a simple route from the source that
+no label of its node covered when it was made; L is at most the number of such routes). Each
+label costs O(log L) on the heap and, per outgoing edge, O(log k) to test against a node
+staircase of size k plus O(k) to insert into it (list insertion). L can grow exponentially with
+the network size, as the frontier itself can (P. Hansen, "Bicriterion path problems", 1980),
+hence the two caps. Memory is O(L).
+"""
+
+from __future__ import annotations
+
+import heapq
+import math
+from bisect import bisect_left, bisect_right
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+Adjacency = Sequence[Sequence[tuple[int, float, float, int]]]
+
+REL_TOL = 1e-9  # values within this relative difference are equal
+
+_OPEN, _CLOSED, _DEAD = 0, 1, 2
+
+
+@dataclass(frozen=True)
+class ParetoRoute:
+    cost: float
+    time: float
+    nodes: tuple[int, ...]  # source .. target
+    edges: tuple[int, ...]  # edge ids, one per step
+
+
+@dataclass(frozen=True)
+class ParetoResult:
+    routes: tuple[ParetoRoute, ...]  # sorted by cost ascending (time descending); none covers another
+    capped: bool  # True when max_routes or max_labels stopped the search with live labels left
+    labels_expanded: int  # labels taken from the queue and processed (target labels included)
+    labels_pushed: int  # labels put on the queue (the source label included)
+
+
+def _leq(a: float, b: float) -> bool:
+    """a <= b within the tolerance, for finite non-negative a and b."""
+    return a <= b or a - b <= REL_TOL * a
+
+
+def _covered(costs: list[float], times: list[float], c: float, t: float) -> bool:
+    """Whether some entry of a staircase covers (c, t). In a staircase the entries' costs
+    differ pairwise by more than the tolerance and times strictly fall, so only two entries can
+    matter: the last with cost <= c (the least time among those) and the next, whose cost may
+    equal c within the tolerance."""
+    i = bisect_right(costs, c)
+    if i and _leq(times[i - 1], t):
+        return True
+    return i < len(costs) and _leq(costs[i], c) and _leq(times[i], t)
+
+
+def _insert(costs: list[float], times: list[float], ids: list[int], c: float, t: float,
+            lid: int) -> list[int]:
+    """Put (c, t) into a staircase that does not cover it; remove and return the ids of the
+    entries it covers (a contiguous run: costs >= c within tolerance, times >= t)."""
+    start = bisect_left(costs, c)
+    if start and _leq(c, costs[start - 1]) and _leq(t, times[start - 1]):
+        start -= 1  # an entry of cost just below c (equal within tolerance) and no better time
+    end = start
+    while end < len(costs) and _leq(t, times[end]):
+        end += 1
+    removed = ids[start:end]
+    costs[start:end] = [c]
+    times[start:end] = [t]
+    ids[start:end] = [lid]
+    return removed
+
+
+def _bounds(h: Sequence[float] | None, n: int, target: int, name: str) -> list[float]:
+    if h is None:
+        return [0.0] * n
+    if len(h) != n:
+        raise ValueError(f"{name} has {len(h)} entries for {n} nodes")
+    out = []
+    for v, x in enumerate(h):
+        x = float(x)
+        if math.isnan(x):
+            raise ValueError(f"{name}[{v}] is NaN")
+        out.append(x if x > 0.0 else 0.0)
+    out[target] = 0.0
+    return out
+
+
+def pareto_frontier(adj: Adjacency, source: int, target: int,
+                    h_cost: Sequence[float] | None = None, h_time: Sequence[float] | None = None,
+                    max_routes: int = 50, max_labels: int = 200_000) -> ParetoResult:
+    """The Pareto frontier of (cost, time) over routes from source to target.
+
+    `adj[u]` lists (v, cost, time, edge id) for the edges out of u; weights must be >= 0 (inf
+    means unusable). `h_cost`/`h_time` are lower bounds on the remaining cost/time per node
+    (sequences indexed by node id, or None for 0); they must be admissible for the result to
+    be exact. At most `max_routes` routes are returned and at most `max_labels` labels expanded;
+    hitting either sets capped=True (see the module docstring for what is then guaranteed)."""
+    n = len(adj)
+    if not (0 <= source < n and 0 <= target < n):
+        raise ValueError(f"source {source} or target {target} is not a node id in 0..{n - 1}")
+    if max_routes < 1 or max_labels < 1:
+        raise ValueError("max_routes and max_labels must be at least 1")
+    hc = _bounds(h_cost, n, target, "h_cost")
+    ht = _bounds(h_time, n, target, "h_time")
+
+    # labels, by id: g pair, node, parent label id (-1 at the source), edge id, state
+    l_cost: list[float] = []
+    l_time: list[float] = []
+    l_node: list[int] = []
+    l_parent: list[int] = []
+    l_edge: list[int] = []
+    l_state: list[int] = []
+    # per node: the staircase of its open and closed labels
+    st_cost: list[list[float]] = [[] for _ in range(n)]
+    st_time: list[list[float]] = [[] for _ in range(n)]
+    st_id: list[list[int]] = [[] for _ in range(n)]
+    # the solutions (target labels taken), as a staircase
+    sol_cost: list[float] = []
+    sol_time: list[float] = []
+    sol_id: list[int] = []
+
+    heap: list[tuple[float, float, int]] = []
+    push, pop = heapq.heappush, heapq.heappop
+    expanded = 0
+    capped = False
+    full = False  # max_routes solutions held: finish the tolerance tie window, then stop
+    last_cost = 0.0
+
+    if math.isinf(hc[source]) or math.isinf(ht[source]):
+        return ParetoResult((), False, 0, 0)
+    l_cost.append(0.0)
+    l_time.append(0.0)
+    l_node.append(source)
+    l_parent.append(-1)
+    l_edge.append(-1)
+    l_state.append(_OPEN)
+    st_cost[source].append(0.0)
+    st_time[source].append(0.0)
+    st_id[source].append(0)
+    heap.append((hc[source], ht[source], 0))
+
+    while heap:
+        fc, ft, lid = pop(heap)
+        if l_state[lid] != _OPEN:
+            continue  # removed from its node's set by a label that covers it
+        if _covered(sol_cost, sol_time, fc, ft):
+            l_state[lid] = _CLOSED  # filtered; it stays in its node's set as a witness
+            continue
+        if (full and not _leq(fc, last_cost)) or expanded >= max_labels:
+            capped = True
+            break
+        l_state[lid] = _CLOSED
+        expanded += 1
+        u = l_node[lid]
+        gc, gt = l_cost[lid], l_time[lid]
+        if u == target:
+            if full:
+                i = bisect_left(sol_cost, gc)
+                near = [j for j in (i - 1, i) if 0 <= j < len(sol_cost)]
+                if not any(_leq(gc, sol_cost[j]) and _leq(gt, sol_time[j]) for j in near):
+                    capped = True  # would be a point beyond the cap (not expected: see docstring)
+                    break
+            _insert(sol_cost, sol_time, sol_id, gc, gt, lid)
+            if len(sol_id) >= max_routes:
+                full = True
+                last_cost = gc
+            continue
+        for v, wc, wt, e in adj[u]:
+            if not (wc >= 0.0 and wt >= 0.0):
+                raise ValueError(f"edge {e} ({u}->{v}) has a negative or NaN weight ({wc}, {wt})")
+            if wc == math.inf or wt == math.inf or hc[v] == math.inf or ht[v] == math.inf:
+                continue
+            c2, t2 = gc + wc, gt + wt
+            f2c, f2t = c2 + hc[v], t2 + ht[v]
+            if _covered(sol_cost, sol_time, f2c, f2t):
+                continue
+            costs, times = st_cost[v], st_time[v]
+            if _covered(costs, times, c2, t2):
+                continue
+            new = len(l_cost)
+            for old in _insert(costs, times, st_id[v], c2, t2, new):
+                l_state[old] = _DEAD
+            l_cost.append(c2)
+            l_time.append(t2)
+            l_node.append(v)
+            l_parent.append(lid)
+            l_edge.append(e)
+            l_state.append(_OPEN)
+            push(heap, (f2c, f2t, new))
+
+    routes = []
+    for lid in sol_id:
+        nodes = [l_node[lid]]
+        edges = []
+        k = lid
+        while l_parent[k] >= 0:
+            edges.append(l_edge[k])
+            k = l_parent[k]
+            nodes.append(l_node[k])
+        nodes.reverse()
+        edges.reverse()
+        routes.append(ParetoRoute(l_cost[lid], l_time[lid], tuple(nodes), tuple(edges)))
+    return ParetoResult(tuple(routes), capped, expanded, len(l_cost))
