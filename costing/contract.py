@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 
 MODES = ("road", "rail", "sea", "inland_water", "air")
 DEPOT_KINDS = ("depot", "hub", "terminal", "customer", "port")
-OBJECTIVES = ("cost", "time", "distance", "emissions")
+OBJECTIVES = ("cost", "time", "distance", "emissions", "blended")
 YES_NO = ("yes", "no")
 DRIVING_RULES = ("none", "eu_561_2006", "us_49cfr395")
 
@@ -70,7 +70,8 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "USD, JPY. Sets the rounding: to the currency's minor unit."),
     SettingSpec("objective", "choice", "cost",
                 "What the route search minimises when a shipment does not say: cost, time (hours), "
-                "distance (km) or emissions (kg CO2e).", choices=OBJECTIVES),
+                "distance (km), emissions (kg CO2e) or blended (cost + value_of_time_per_hour x "
+                "hours).", choices=OBJECTIVES),
     SettingSpec("detour_factor", "number", 1.25,
                 "Road km per straight-line km, used when a lane's distance_km is blank. "
                 "Common practice: 1.2 to 1.3 between cities.", minimum=1.0, maximum=5.0),
@@ -78,8 +79,8 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Average speed in km/h, used when a lane's drive_hours is blank "
                 "(hours = km / speed).", minimum=1.0, maximum=1000.0),
     SettingSpec("value_of_time_per_hour", "number", 0.0,
-                "Money per hour of transit time, for trade-off read-outs (currency per hour).",
-                minimum=0.0),
+                "Money per hour of transit time: the blended objective minimises cost + this x "
+                "hours (currency per hour).", minimum=0.0),
     SettingSpec("driving_rules", "choice", "none",
                 "Driving-time rules applied to road legs: none, eu_561_2006 or us_49cfr395. "
                 "Planning estimate only, not compliance advice.", choices=DRIVING_RULES),
@@ -218,7 +219,7 @@ SHEETS: tuple[SheetSpec, ...] = (
                    minimum=0.0, maximum=100000.0, width=10),
             Column("vehicle", "vehicle", False, note="Vehicle to use (from Rates). Blank: the "
                    "vehicle that gives the best route under the objective.", width=14),
-            Column("objective", "choice", False, note="cost, time, distance or emissions. "
+            Column("objective", "choice", False, note="cost, time, distance, emissions or blended. "
                    "Blank: the objective in Settings.", choices=OBJECTIVES, width=11),
             Column("hazmat", "yesno", False, note="yes: dangerous goods. Blank: no.",
                    choices=YES_NO, default=False, width=9),
@@ -226,6 +227,24 @@ SHEETS: tuple[SheetSpec, ...] = (
         ),
         id_column="shipment_id",
         note="The shipments to cost.",
+    ),
+    SheetSpec(
+        "Scenarios",
+        (
+            Column("scenario", "text", True, note="Name of the scenario, e.g. fuel_up_12. Rows with "
+                   "the same name form one scenario.", width=18),
+            Column("sheet", "text", True, note="Input sheet the change applies to: Settings, Depots, "
+                   "Lanes, Rates or Shipments.", width=12),
+            Column("key", "text", False, note="Which row: a depot_id, lane_id or shipment_id; for "
+                   "Rates a vehicle (all its modes) or vehicle/mode; for Settings the setting name. "
+                   "Blank: every row of the sheet.", width=16),
+            Column("column", "text", True, note="Column to change, e.g. per_km, toll, open "
+                   "(for Settings: value).", width=16),
+            Column("change", "text", True, note="+10% or -5% (relative), +12.5 or -3 (added), "
+                   "=1.85 or =no (set to).", width=12),
+        ),
+        required=False,
+        note="Optional what-if scenarios: each is costed beside the base case.",
     ),
 )
 

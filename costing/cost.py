@@ -81,6 +81,7 @@ class CostedShipment:
     settled: int = 0
     pushed: int = 0
     places: int = 2
+    value_of_time: float = 0.0  # per hour, for the blended objective
 
     @property
     def subtotal(self) -> float:
@@ -131,8 +132,10 @@ class CostedShipment:
 
     @property
     def objective_value(self) -> float:
-        return {"cost": self.total_cost, "time": self.drive_hours + self.handling_hours,
-                "distance": self.distance_km, "emissions": self.co2e_kg}[self.objective]
+        hours = self.drive_hours + self.handling_hours
+        return {"cost": self.total_cost, "time": hours, "distance": self.distance_km,
+                "emissions": self.co2e_kg,
+                "blended": self.total_cost + self.value_of_time * hours}[self.objective]
 
 
 def cost_route(model: Model, shipment: Shipment, objective: str,
@@ -177,7 +180,8 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     min_charge = max((card.min_charge for card, _u in runs), default=0.0)
     vehicle = ", ".join(dict.fromkeys(card.vehicle for card, _u in runs))
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,
-                          settled=settled, pushed=pushed, places=places)
+                          settled=settled, pushed=pushed, places=places,
+                          value_of_time=settings.value_of_time_per_hour)
 
 
 def unrouted(model: Model, shipment: Shipment, status: str, objective: str, message: str,

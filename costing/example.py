@@ -21,7 +21,7 @@ _SETTINGS = [
     ("detour_factor", 1.25, "Road km per straight-line km for lanes with a blank distance."),
     ("default_speed_kmh", 70, "Speed for lanes with blank drive_hours."),
     ("value_of_time_per_hour", 45, "What an hour of transit is worth to Hollowmere's planners."),
-    ("driving_rules", "none", "No driving-time rules applied in the demo."),
+    ("driving_rules", "eu_561_2006", "EU driving-time rules as a planning estimate (breaks, daily rest)."),
     ("fuel_price_per_litre", 1.62, "Diesel price per litre, for the fuel surcharge."),
 ]
 
@@ -66,6 +66,9 @@ _DEPOTS = [
     ("D34", "Thistledown Bedding, Namur", 50.4674, 4.8720, "customer", 10, 0.25),
     ("D35", "Willowquay Wines, Bonn", 50.7374, 7.0982, "customer", 10, 0.25),
     ("D36", "Oakhollow Toys, Kortrijk", 50.8279, 3.2649, "customer", 10, 0.25),
+    # the long haul to the north: far enough for the driving-time rules to call a daily rest
+    ("D37", "Hollowmere Bremen Depot", 53.0570, 8.6640, "depot", 25, 0.5),
+    ("D38", "Gorsemoor Cables, Hamburg", 53.5430, 10.0800, "customer", 12, 0.3),
 ]
 
 _LANE_COLUMNS = ("lane_id", "from_depot", "to_depot", "mode", "distance_km", "drive_hours", "toll",
@@ -111,8 +114,8 @@ _LANES = [
     ("L028", "D01", "D03", "road", 58.1, 0.94, 0, 0, True, 30, True, True),
     ("L029", "D06", "D29", "road", 39.5, 0.61, 12, 0, True, None, True, True),
     ("L030", "D29", "D26", "road", 29.3, 0.43, 9, 0, True, None, True, True),
-    # Rhine ferry crossing: ticket 85 per vehicle, 30 t limit
-    ("L031", "D29", "D03", "road", 48.5, 0.78, 0, 85, True, 30, True, True),
+    # Rhine ferry crossing: ticket 25 per vehicle, 30 t limit (loaded artics are too heavy)
+    ("L031", "D29", "D03", "road", 48.5, 0.78, 0, 25, True, 30, True, True),
     ("L032", "D03", "D26", "road", 30.9, 0.48, 9, 0, True, None, True, True),
     ("L033", "D03", "D27", "road", 20.9, 0.33, 6, 0, True, None, True, True),
     ("L034", "D27", "D28", "road", 88.5, 1.18, 27, 0, True, None, True, True),
@@ -162,18 +165,24 @@ _LANES = [
     ("L071", "D06", "D08", "rail", 281.0, 5.4, 0, 0, True, None, True, True),
     ("L072", "D07", "D08", "rail", 356.3, 7.58, 0, 0, True, None, True, True),
     ("L073", "D10", "D06", "rail", 149.3, 3.18, 0, 0, True, None, True, True),
+    # north to Bremen and Hamburg (the long haul)
+    ("L074", "D28", "D37", "road", 178.4, 2.48, 38, 0, True, None, True, True),
+    ("L075", "D37", "D38", "road", 121.6, 1.69, 26, 0, True, None, True, True),
+    ("L076", "D19", "D37", "road", 187.9, 2.68, 0, 0, True, None, True, True),
 ]
 
 _RATE_COLUMNS = ("vehicle", "mode", "per_km", "per_hour", "per_trip", "payload_t", "fuel_l_per_100km",
-                 "co2e_kg_per_litre", "min_charge")
-# Invented but plausible rates in EUR. Road fuel is diesel at 2.51 kg CO2e per litre.
+                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t")
+# Invented but plausible rates in EUR. Road fuel is diesel at 2.51 kg CO2e per litre. The per_km
+# rates include fuel at 1.45 per litre; the Settings price of 1.62 adds a fuel surcharge.
+# tare_t is the empty weight, checked with the load against lane weight limits (L028, L031).
 # rail_wagon fuel is one wagon's share of a diesel-hauled train (about 8.6 litres per 100 km),
 # so rail emissions and the fuel surcharge are computed on the same diesel basis as road.
 _RATES = [
-    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0),
-    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0),
-    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0),
-    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0),
+    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0, 1.45, 14.5),
+    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0, 1.45, 8.5),
+    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0, 1.45, 2.3),
+    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0, 1.45, 23.0),
 ]
 
 _SHIPMENT_COLUMNS = ("shipment_id", "origin", "destination", "weight_t", "vehicle", "objective",
@@ -229,6 +238,12 @@ _SHIPMENTS = [
     ("S042", "D35", "D25", 7.0, None, None, False, "Willowquay Wines"),
     ("S043", "D12", "D02", 9.5, None, None, False, "Mossbank Furniture"),
     ("S044", "D08", "D27", 33.0, None, None, False, "Umberfield Steel"),
+    # the long haul: Amiens to Hamburg, over nine hours of driving -> breaks and a daily rest
+    ("S045", "D31", "D38", 12.0, "artic_40t", None, False, "Gorsemoor Cables"),
+    # heavy load next to the 30 t Rhine ferry (L031): a loaded artic is too heavy for it
+    ("S046", "D29", "D03", 22.0, "artic_40t", None, False, "Ironpeel Fasteners"),
+    # heavy coast-to-Rhine load: road to the Dourges terminal, rail east, road to the customer
+    ("S047", "D30", "D35", 58.0, None, None, False, "Willowquay Wines"),
 ]
 
 

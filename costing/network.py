@@ -26,7 +26,8 @@ from .pricing import charge, co2e_kg, lane_charges
 
 # Keeps floating-point error in gc * r_min from pushing the bound a hair above the truth.
 BOUND_SAFETY = 1.0 - 1e-9
-OBJECTIVE_UNITS = {"cost": "currency", "time": "hours", "distance": "km", "emissions": "kg CO2e"}
+OBJECTIVE_UNITS = {"cost": "currency", "time": "hours", "distance": "km", "emissions": "kg CO2e",
+                   "blended": "currency incl. value of time"}
 
 
 @dataclass(frozen=True)
@@ -129,8 +130,19 @@ def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
     return model.cards_for(vehicle)[mode]
 
 
+def _blend(model: Model, profile: Profile, fn, *args) -> float:
+    """blended = cost + value_of_time_per_hour x time, for any weight function."""
+    from dataclasses import replace
+
+    cost = fn(model, replace(profile, objective="cost"), *args)
+    hours = fn(model, replace(profile, objective="time"), *args)
+    return cost + model.settings.value_of_time_per_hour * hours
+
+
 def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: int) -> float:
     """Weight of starting the route at `origin` on card k: handling there and the card's trip."""
+    if profile.objective == "blended":
+        return _blend(model, profile, start_weight, k, origin, places)
     vehicle, mode, n = profile.cards[k]
     card = card_of(model, vehicle, mode)
     if profile.objective == "cost":
@@ -140,11 +152,13 @@ def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: 
     return 0.0
 
 
-def exit_weight(profile: Profile, k: int, destination: Depot, places: int) -> float:
+def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, places: int) -> float:
     """Weight of ending at `destination` on card k: its handling, unless it is a hub (a hub's
     handling is already in the weight of the lane that enters it)."""
     if destination.kind == "hub":
         return 0.0
+    if profile.objective == "blended":
+        return _blend(model, profile, exit_weight, k, destination, places)
     n = profile.cards[k][2]
     if profile.objective == "cost":
         return charge(n, destination.handling_cost, places)
@@ -163,6 +177,8 @@ def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: 
                 places: int) -> float:
     """The weight of one lane step on card k. Cost uses the rounded leg amounts the output
     shows (pricing.py), so a route's weight is exactly what its legs add up to."""
+    if profile.objective == "blended":
+        return _blend(model, profile, lane_weight, k, use, to_depot, places)
     vehicle, mode, n = profile.cards[k]
     card = card_of(model, vehicle, mode)
     hub = to_depot.kind == "hub"

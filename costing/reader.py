@@ -6,17 +6,37 @@ from __future__ import annotations
 import difflib
 import hashlib
 import os
+import re
+import warnings
 import zipfile
+import zlib
 from dataclasses import dataclass, field
 
-from openpyxl.utils import get_column_letter
+from openpyxl.utils import get_column_letter, range_boundaries
 
 from .contract import SHEETS, normalise_header
 from .model import ERROR, WARNING, Problem
 
 # A workbook whose parts unpack to more than this is refused before parsing (zip bombs).
+# Only the sizes in the zip directory are read; Python's zipfile never unpacks a part beyond
+# the size stated there, so memory stays bounded even when a part lies about its size.
 MAX_UNPACKED_BYTES = 1_500_000_000
-MAX_COMPRESSION_RATIO = 200
+# A part bigger than RATIO_CHECK_MIN_BYTES that unpacks more than this many times its packed
+# size is refused. Real sheets pack 5 to 20 times (a sheet of 30,000 rows of blank text cells:
+# about 16 times); a part of spaces or zeros packs about 1,000 times.
+MAX_COMPRESSION_RATIO = 100
+RATIO_CHECK_MIN_BYTES = 10_000_000
+# Rows and columns of a sheet: Microsoft "Excel specifications and limits".
+MAX_ROWS = 1_048_576
+MAX_COLUMNS = 16_384
+# At most this many problems of one kind per sheet (merged ranges, unused columns) are listed.
+MAX_LISTED = 20
+
+# Everything openpyxl, zipfile, zlib and the XML parser raise on a damaged or hostile file.
+# defusedxml's EntitiesForbidden is a ValueError; xml.etree's ParseError is a SyntaxError.
+_READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, OverflowError,
+                SyntaxError, EOFError, OSError, RuntimeError, NotImplementedError,
+                zipfile.BadZipFile, zlib.error)
 
 
 class InputError(Exception):
@@ -100,17 +120,17 @@ def _check_container(path: str) -> None:
             total = 0
             for info in z.infolist():
                 total += info.file_size
-                if info.compress_size and info.file_size / max(info.compress_size, 1) > \
-                        MAX_COMPRESSION_RATIO and info.file_size > 50_000_000:
-                    raise _refuse(f"{os.path.basename(path)}: part {info.filename} unpacks "
-                                  f"{info.file_size / info.compress_size:.0f}x larger than it is "
-                                  "packed; refused as a possible zip bomb",
+                ratio = info.file_size / max(info.compress_size, 1)
+                if info.file_size > RATIO_CHECK_MIN_BYTES and ratio > MAX_COMPRESSION_RATIO:
+                    raise _refuse(f"{os.path.basename(path)}: part {info.filename[:80]} unpacks "
+                                  f"to {info.file_size / 1e6:,.0f} MB, {ratio:,.0f} times its "
+                                  "packed size; refused as a possible zip bomb",
                                   "save a fresh copy of the workbook from the spreadsheet application")
             if total > MAX_UNPACKED_BYTES:
                 raise _refuse(f"{os.path.basename(path)} unpacks to {total / 1e9:.1f} GB; "
                               "refused as too large or a zip bomb",
                               "split the workbook or remove unused sheets")
-    except zipfile.BadZipFile:
+    except (zipfile.BadZipFile, OSError, EOFError, ValueError, NotImplementedError):
         raise _refuse(f"{os.path.basename(path)} is damaged or not a complete .xlsx file "
                       "(bad zip container)", "save the workbook again; if it was sent to you, "
                       "ask for it again") from None
@@ -125,57 +145,147 @@ def _check_container(path: str) -> None:
                       "give the .xlsx input workbook (start from `costing template`)")
 
 
+_REREAD_FIX = "open it in a spreadsheet application, save it as .xlsx and try again"
+_DAMAGED_FIX = ("save the workbook again from the spreadsheet application; if it was sent to you, "
+                "ask for it again")
+_HOSTILE_FIX = ("spreadsheet applications do not write XML entities: do not open the file; ask "
+                "the sender for a workbook saved from a spreadsheet application")
+
+
+def _detail(e: BaseException) -> tuple[str, str]:
+    """(what went wrong, what to do), in words a coordinator can act on, for what openpyxl,
+    zipfile or the XML parser raised."""
+    names = {type(e).__name__, type(e.__cause__).__name__ if e.__cause__ else ""}
+    if any("Entities" in n or "DTD" in n or "External" in n for n in names):
+        return "it declares XML entities (possible entity-expansion attack); refused", _HOSTILE_FIX
+    text = str(e).splitlines()[0][:200] if str(e).strip() else ""
+    if isinstance(e, (zlib.error, zipfile.BadZipFile, EOFError)):
+        return f"it is damaged: a part does not unpack ({text or type(e).__name__})", _DAMAGED_FIX
+    if isinstance(e, KeyError):
+        return f"it is damaged: a part it lists is missing ({text})", _DAMAGED_FIX
+    if isinstance(e, SyntaxError):  # xml.etree.ElementTree.ParseError
+        return f"a part holds malformed XML ({text})", _DAMAGED_FIX
+    if isinstance(e, ValueError):  # e.g. a number cell holding NaN: int('NaN') fails
+        return f"a cell holds a value a spreadsheet cannot hold ({text})", _DAMAGED_FIX
+    return (f"{type(e).__name__}: {text}" if text else type(e).__name__), _REREAD_FIX
+
+
 def _open(path: str, data_only: bool):
     import openpyxl
-    from openpyxl.utils.exceptions import InvalidFileException
 
     try:
-        # read_only streams rows and never opens the file for writing
-        return openpyxl.load_workbook(path, read_only=True, data_only=data_only,
-                                      keep_links=False)
-    except (InvalidFileException, zipfile.BadZipFile, KeyError, ValueError, OSError,
-            TypeError, AttributeError, IndexError, EOFError) as e:
-        detail = str(e).splitlines()[0][:200] if str(e) else type(e).__name__
-        if "Entities" in type(e.__cause__).__name__ if e.__cause__ else False:
-            detail = "it declares XML entities (possible entity-expansion attack)"
+        # A file object, so a real .xlsx saved under another extension is still read.
+        # read_only streams rows and never opens the file for writing.
+        f = open(path, "rb")
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")  # openpyxl notes unsupported extensions
+                return openpyxl.load_workbook(f, read_only=True, data_only=data_only,
+                                              keep_links=False)
+        except BaseException:
+            f.close()
+            raise
+    except _READ_ERRORS as e:
+        detail, fix = _detail(e)
         raise _refuse(f"{os.path.basename(path)} could not be read as a workbook: {detail}",
-                      "open it in a spreadsheet application, save it as .xlsx and try again") \
-            from None
+                      fix) from None
 
 
-def _match_sheet(titles: list[str], wanted: str) -> str | None:
-    norm = {normalise_header(t): t for t in titles}
-    return norm.get(normalise_header(wanted))
+_FORMULA_RE = re.compile(rb"<(?:[\w.-]+:)?f[\s>/]")
+_MERGE_RE = re.compile(rb"<(?:[\w.-]+:)?mergeCell\b[^>]{0,1000}?\bref=[\"']([A-Za-z0-9$:]{2,40})[\"']")
+
+
+def _scan_sheet_xml(ws) -> tuple[bool, set[str]]:
+    """(has formulas, merged ranges) of a sheet, from its XML bytes, streamed in chunks.
+
+    Read-only worksheets expose neither merged cells nor whether any cell holds a formula;
+    knowing there are none saves the second (formula) pass over a large sheet. If the part
+    cannot be reached, assume formulas and no merges (a slower read, never a wrong one)."""
+    get_source = getattr(ws, "_get_source", None)
+    if get_source is None:
+        return True, set()
+    formulas = False
+    merges: set[str] = set()
+    tail = b""
+    with get_source() as src:
+        while True:
+            chunk = src.read(1 << 20)
+            if not chunk:
+                break
+            buf = tail + chunk
+            if not formulas and _FORMULA_RE.search(buf):
+                formulas = True
+            if b"mergeCell" in buf:
+                merges.update(m.group(1).decode("ascii") for m in _MERGE_RE.finditer(buf))
+            tail = buf[-1100:]
+    return formulas, merges
+
+
+def _match_sheets(titles: list[str], wanted: str) -> list[str]:
+    return [t for t in titles if normalise_header(t) == normalise_header(wanted)]
 
 
 def read_workbook(path: str) -> RawWorkbook:
     _check_container(path)
     digest = sha256_of(path)
-    values_wb = _open(path, data_only=True)
-    formula_wb = _open(path, data_only=False)
     problems: list[Problem] = []
+    ext = os.path.splitext(path)[1].lower()
+    if ext not in (".xlsx", ".xlsm", ".xltx", ".xltm"):
+        problems.append(Problem(WARNING, "", "", f"{os.path.basename(path)} is an .xlsx workbook "
+                                f"but its name ends in '{ext or '(nothing)'}'; read as .xlsx",
+                                "rename the file to end in .xlsx"))
+    values_wb = _open(path, data_only=True)
+    formula_wb = None  # opened only when a sheet holds formulas
     sheets: dict[str, RawSheet] = {}
+    current = ""
     try:
-        titles = list(values_wb.sheetnames)
-        known = {normalise_header(s.name) for s in SHEETS}
-        for spec in SHEETS:
-            title = _match_sheet(titles, spec.name)
-            if title is None:
-                if spec.required:
-                    close = difflib.get_close_matches(spec.name, [t for t in titles if
-                                                      normalise_header(t) not in known], n=1,
-                                                      cutoff=0.6)
-                    hint = f"rename sheet '{close[0]}' to {spec.name}" if close else \
-                        f"add a sheet named {spec.name} (copy it from `costing template`)"
-                    problems.append(Problem(ERROR, spec.name, "",
-                                            f"sheet {spec.name} is missing", hint))
-                continue
-            sheet = _read_sheet(spec, title, values_wb[title], formula_wb[title], problems)
-            if sheet is not None:
-                sheets[spec.name] = sheet
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            titles = list(values_wb.sheetnames)
+            known = {normalise_header(s.name) for s in SHEETS}
+            for spec in SHEETS:
+                found = _match_sheets(titles, spec.name)
+                if not found:
+                    if spec.required:
+                        others = {normalise_header(t): t for t in titles
+                                  if normalise_header(t) not in known}
+                        close = difflib.get_close_matches(normalise_header(spec.name), list(others),
+                                                          n=1, cutoff=0.6)
+                        hint = f"rename sheet '{others[close[0]]}' to {spec.name}" if close else \
+                            f"add a sheet named {spec.name} (copy it from `costing template`)"
+                        problems.append(Problem(ERROR, spec.name, "",
+                                                f"sheet {spec.name} is missing", hint))
+                    continue
+                if len(found) > 1:
+                    problems.append(Problem(ERROR, found[1], "", "sheets " + ", ".join(
+                        f"'{t}'" for t in found) + f" could each be the {spec.name} sheet",
+                        "delete or rename all but one of them"))
+                    continue
+                title = current = found[0]
+                ws = values_wb[title]
+                if not hasattr(ws, "iter_rows"):
+                    problems.append(Problem(ERROR, title, "", f"sheet {title} is a chart sheet, "
+                                            "not a table", f"put the {spec.name} table on a "
+                                            "worksheet (copy it from `costing template`)"))
+                    continue
+                has_formulas, merges = _scan_sheet_xml(ws)
+                ws_f = None
+                if has_formulas:
+                    if formula_wb is None:
+                        formula_wb = _open(path, data_only=False)
+                    ws_f = formula_wb[title]
+                sheet = _read_sheet(spec, title, ws, ws_f, merges, problems)
+                if sheet is not None:
+                    sheets[spec.name] = sheet
+    except _READ_ERRORS as e:
+        where = f"sheet {current} of " if current else ""
+        detail, fix = _detail(e)
+        raise InputError([Problem(ERROR, current, "", f"{where}{os.path.basename(path)} could "
+                                  f"not be read: {detail}", fix)]) from None
     finally:
         values_wb.close()
-        formula_wb.close()
+        if formula_wb is not None:
+            formula_wb.close()
     return RawWorkbook(path, digest, sheets, problems)
 
 
@@ -183,25 +293,34 @@ def _blank(v: object) -> bool:
     return v is None or (isinstance(v, str) and v.strip() == "")
 
 
-def _read_sheet(spec, title, ws_values, ws_formulas, problems) -> RawSheet | None:
-    rows_v = ws_values.iter_rows(values_only=True)
-    rows_f = ws_formulas.iter_rows(values_only=True)
-    header = next(rows_v, None)
-    next(rows_f, None)
-    if header is None or all(_blank(h) for h in header):
-        problems.append(Problem(ERROR, title, "A1", f"sheet {title} has no header row",
-                                f"put the column names of {spec.name} in row 1 "
+def _rows(ws, min_row: int, max_row: int | None, max_col: int | None):
+    """Rows of a read-only sheet as value tuples. The sheet's stated dimension is ignored:
+    a wrong or hostile one (A1:XFD1048576) would otherwise pad every row to 16,384 cells and
+    add empty rows up to row 1,048,576."""
+    ws.reset_dimensions()
+    return ws.iter_rows(min_row=min_row, max_row=max_row, max_col=max_col, values_only=True)
+
+
+def _looks_like_header(row, wanted) -> int:
+    return sum(1 for h in row or () if not _blank(h) and normalise_header(h) in wanted)
+
+
+def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawSheet | None:
+    header = next(_rows(ws_values, 1, 1, None), None)
+    header = tuple(header or ())[:MAX_COLUMNS]
+    wanted = {c.name: c for c in spec.columns}
+    names = ", ".join(c.name for c in spec.columns if c.required)
+    if all(_blank(h) for h in header):
+        problems.append(Problem(ERROR, title, "A1", f"sheet {title} has no header row (row 1 is "
+                                "empty)", f"put the column names of {spec.name} in row 1: {names} "
                                 "(copy them from `costing template`)"))
         return None
-    wanted = {c.name: c for c in spec.columns}
     columns: dict[str, int] = {}
     unknown: list[tuple[int, str]] = []
     for i, h in enumerate(header, start=1):
         if _blank(h):
             continue
         key = normalise_header(h)
-        if key.endswith("_") or key.startswith("_"):
-            key = key.strip("_")
         if key in wanted:
             if key in columns:
                 problems.append(Problem(ERROR, title, f"{get_column_letter(i)}1",
@@ -212,27 +331,68 @@ def _read_sheet(spec, title, ws_values, ws_formulas, problems) -> RawSheet | Non
                 columns[key] = i
         else:
             unknown.append((i, str(h)))
+    hints: list[tuple[int, str, str]] = []
     for i, h in unknown:
         missing = [c for c in wanted if c not in columns]
         close = difflib.get_close_matches(normalise_header(h), missing, n=1, cutoff=0.6)
         if close:
-            problems.append(Problem(WARNING if not wanted[close[0]].required else ERROR, title,
-                                    f"{get_column_letter(i)}1",
-                                    f"unknown column '{h}'; did you mean {close[0]}?",
-                                    f"rename the header to {close[0]}"))
-        else:
-            problems.append(Problem(WARNING, title, f"{get_column_letter(i)}1",
-                                    f"column '{h}' is not used by the tool and is ignored",
-                                    "nothing to do if it is your own note column"))
-    hinted = {p.message.split("did you mean ")[-1].rstrip("?") for p in problems
-              if p.sheet == title and "did you mean" in p.message}
+            hints.append((i, h, close[0]))
+    if not columns and not hints:
+        # Nothing in row 1 names a column: the header is lower down, or missing.
+        for r, row in enumerate(_rows(ws_values, 2, 30, min(len(header) + 5, MAX_COLUMNS)), start=2):
+            if _looks_like_header(row, wanted) >= 2:
+                problems.append(Problem(ERROR, title, f"A{r}", f"the column names of {spec.name} "
+                                        f"are in row {r}, not row 1",
+                                        f"delete rows 1 to {r - 1} so the header is row 1"))
+                return None
+        seen = ", ".join(f"'{_short(h)}'" for _, h in unknown[:4])
+        problems.append(Problem(ERROR, title, "A1", f"row 1 of sheet {title} holds no column names "
+                                f"of {spec.name} (it holds {seen}); the header row seems to be "
+                                "missing", f"insert a row 1 with the column names: {names} and the "
+                                "optional ones (copy them from `costing template`)"))
+        return None
+    hinted = set()
+    for i, h, name in hints:
+        if name in hinted:
+            continue
+        hinted.add(name)
+        problems.append(Problem(ERROR, title, f"{get_column_letter(i)}1",
+                                f"unknown column '{_short(h)}'; did you mean {name}?",
+                                f"rename the header to {name} (its values are not read until then)"))
+    ignored = [(i, h) for i, h in unknown if not any(i == j for j, _, _ in hints)]
+    for i, h in ignored[:MAX_LISTED]:
+        problems.append(Problem(WARNING, title, f"{get_column_letter(i)}1",
+                                f"column '{_short(h)}' is not used by the tool and is ignored",
+                                "nothing to do if it is your own note column"))
+    if len(ignored) > MAX_LISTED:
+        problems.append(Problem(WARNING, title, "1:1", f"{len(ignored) - MAX_LISTED} more columns "
+                                "are not used by the tool and are ignored",
+                                "nothing to do if they are your own columns"))
     for col in spec.columns:
         if col.required and col.name not in columns and col.name not in hinted:
-            problems.append(Problem(ERROR, title, "1",
+            problems.append(Problem(ERROR, title, "1:1",
                                     f"required column {col.name} is missing",
                                     f"add a column headed {col.name} in row 1"))
+    _merged_problems(spec, title, columns, merges, problems)
     rows: list[RawRow] = []
-    for r, (vals, forms) in enumerate(zip(rows_v, rows_f), start=2):
+    if not columns:
+        return RawSheet(spec.name, title, columns, rows)
+    width = max(columns.values())
+    rows_v = _rows(ws_values, 2, None, width)
+    rows_f = _rows(ws_formulas, 2, None, width) if ws_formulas is not None else None
+    r = 1
+    for vals in rows_v:
+        r += 1
+        forms = next(rows_f, None) if rows_f is not None else None
+        if r > MAX_ROWS:
+            problems.append(Problem(ERROR, title, f"A{MAX_ROWS}", "the sheet has rows beyond row "
+                                    f"{MAX_ROWS:,}, the last row a spreadsheet can have (Microsoft "
+                                    "'Excel specifications and limits'); the file is damaged",
+                                    "save a fresh copy of the workbook from the spreadsheet "
+                                    "application"))
+            break
+        if vals.count(None) == len(vals) and (forms is None or forms.count(None) == len(forms)):
+            continue
         record: dict[str, object] = {}
         formula_cols: set[str] = set()
         empty = True
@@ -243,7 +403,7 @@ def _read_sheet(spec, title, ws_values, ws_formulas, problems) -> RawSheet | Non
                 v = v.strip()
                 if v == "":
                     v = None
-            if v is None and isinstance(f, str) and f.startswith("="):
+            if v is None and _is_formula(f):
                 formula_cols.add(name)
                 empty = False
             if v is not None:
@@ -252,3 +412,49 @@ def _read_sheet(spec, title, ws_values, ws_formulas, problems) -> RawSheet | Non
         if not empty:
             rows.append(RawRow(r, record, formula_cols))
     return RawSheet(spec.name, title, columns, rows)
+
+
+def _is_formula(f: object) -> bool:
+    if isinstance(f, str):
+        return f.startswith("=")
+    # array and data-table formulas come back as objects with a text reference
+    return f is not None and type(f).__name__ in ("ArrayFormula", "DataTableFormula")
+
+
+def _short(v: object, n: int = 40) -> str:
+    s = str(v)
+    return s if len(s) <= n else s[: n - 1] + "…"
+
+
+def _merged_problems(spec, title, columns, merges, problems) -> None:
+    """Merged cells keep only their top-left value; every other cell reads as blank."""
+    by_index = {i: name for name, i in columns.items() if not (spec.name == "Settings" and
+                                                                  name == "note")}
+    listed = 0
+    for ref in sorted(merges):
+        try:
+            c1, r1, c2, r2 = range_boundaries(ref.replace("$", ""))
+        except (ValueError, TypeError):
+            continue
+        if None in (c1, r1, c2, r2):
+            continue
+        hidden = sorted({by_index[c] for c in range(c1, min(c2, MAX_COLUMNS) + 1) if c in by_index
+                         and (c != c1 or r2 > r1)})
+        header = r1 == 1 and c2 > c1
+        if not hidden and not header:
+            continue
+        listed += 1
+        if listed > MAX_LISTED:
+            continue
+        top_left = f"{get_column_letter(c1)}{r1}"
+        if header:
+            what = f"header cells {ref} are merged; only {top_left} keeps its column name"
+        else:
+            what = (f"cells {ref} are merged; only {top_left} keeps its value, so "
+                    f"{', '.join(hidden)} read as blank there")
+        problems.append(Problem(ERROR, title, ref.replace("$", ""), what,
+                                "unmerge the cells (Home > Merge & Center) and type a value in "
+                                "each cell"))
+    if listed > MAX_LISTED:
+        problems.append(Problem(ERROR, title, "", f"{listed - MAX_LISTED} more merged ranges",
+                                "unmerge all cells of the table"))

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import networkx as nx
 
@@ -14,6 +14,7 @@ from .cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
 from .model import WARNING, Model, Problem, RateCard, Shipment
 from .money import minor_unit
 from .network import (
+    OBJECTIVE_UNITS,
     CompactNetwork,
     Profile,
     card_of,
@@ -105,7 +106,8 @@ def _search(model, graph, s: Shipment, profile: Profile, networks, stats: RunSta
     origin, dest = model.depot(s.origin), model.depot(s.destination)
     sources = [(cn.node(s.origin, k), start_weight(model, profile, k, origin, places))
                for k in range(cn.n_cards)]
-    exits = {cn.node(s.destination, k): exit_weight(profile, k, dest, places) for k in range(cn.n_cards)}
+    exits = {cn.node(s.destination, k): exit_weight(model, profile, k, dest, places)
+             for k in range(cn.n_cards)}
     res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
     stats.searches += 1
     stats.settled += res.stats.settled
@@ -144,6 +146,7 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
     else:
         candidates = [vehicles] + ([[v] for v in vehicles] if len(vehicles) > 1 else [])
     best: CostedShipment | None = None
+    best_vs: list[str] = []
     settled = pushed = 0
     for vs in candidates:
         profile = make_profile(model, s, obj, vs)
@@ -154,7 +157,7 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
             continue
         costed = cost_route(model, s, obj, _runs(model, cn, res))
         if best is None or costed.objective_value < best.objective_value - 1e-9:
-            best = costed
+            best, best_vs = costed, vs
     if best is None:
         msg = _why_no_route(model, graph, s, obj, candidates[0], networks, stats)
         return unrouted(model, s, NO_ROUTE, obj, msg, s.vehicle or "", settled, pushed)
@@ -167,6 +170,9 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         notes.append(note)
         problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id}: {note}",
                                 "check the weight; otherwise nothing to do: each vehicle is costed"))
+    restricted = _restriction_note(model, graph, s, obj, best_vs, best, networks, stats)
+    if restricted:
+        notes.append(restricted)
     modes = list(dict.fromkeys(leg.use.lane.mode for leg in best.legs))
     if len(modes) > 1:
         notes.append("intermodal: " + " > ".join(_run_modes(best)))
@@ -174,8 +180,7 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         notes.append("CO2e partly from default intensities (see Legs)")
     if not s.vehicle and len(vehicles) > 1:
         notes.append(f"vehicle chosen by {obj}")
-    return CostedShipment(best.shipment, best.status, best.objective, best.vehicle, best.legs,
-                          best.min_charge, "; ".join(notes), settled, pushed, best.places)
+    return replace(best, message="; ".join(notes), settled=settled, pushed=pushed)
 
 
 def _run_modes(c: CostedShipment) -> list[str]:
@@ -189,6 +194,42 @@ def _run_modes(c: CostedShipment) -> list[str]:
     return out
 
 
+def _blocked_reasons(model: Model, s: Shipment, cn: CompactNetwork, res, profile: Profile) -> list[str]:
+    """The restrictions of `profile` that the (unrestricted) route `res` runs into."""
+    reasons = []
+    for e in res.edges:
+        step = cn.steps[e]
+        if step.use is None or (step.use.lane.lane_id, step.card) not in profile.blocked:
+            continue
+        lane = step.use.lane
+        v, m, _n = cn.profile.cards[step.card]
+        if s.hazmat and not lane.hazmat_allowed:
+            reasons.append(f"{lane.lane_id} does not allow dangerous goods")
+        else:
+            reasons.append(f"{lane.lane_id} allows at most {lane.max_weight_t:g} t per vehicle, "
+                           f"a loaded {v} weighs {loaded_weight(s, card_of(model, v, m)):g} t")
+    return list(dict.fromkeys(reasons))
+
+
+def _restriction_note(model, graph, s: Shipment, obj: str, vehicles, best: CostedShipment,
+                      networks, stats) -> str:
+    """When restrictions moved the route, say which and what they cost."""
+    profile = make_profile(model, s, obj, vehicles)
+    if not profile.blocked:
+        return ""
+    free = make_profile(model, s, obj, vehicles, restricted=False)
+    cn, res = _search(model, graph, s, free, networks, stats)
+    if not res.found:
+        return ""
+    reasons = _blocked_reasons(model, s, cn, res, profile)
+    if not reasons:
+        return ""
+    unrestricted = cost_route(model, s, obj, _runs(model, cn, res))
+    delta = best.objective_value - unrestricted.objective_value
+    unit = model.settings.currency if obj in ("cost", "blended") else OBJECTIVE_UNITS[obj]
+    return f"restrictions: {'; '.join(reasons)}; route changed, {delta:+.2f} {unit}"
+
+
 def _why_no_route(model, graph, s: Shipment, obj: str, vehicles, networks, stats) -> str:
     """Name the restriction that blocks the shipment, or the depots that are cut off."""
     profile = make_profile(model, s, obj, vehicles)
@@ -196,19 +237,7 @@ def _why_no_route(model, graph, s: Shipment, obj: str, vehicles, networks, stats
         free = make_profile(model, s, obj, vehicles, restricted=False)
         cn, res = _search(model, graph, s, free, networks, stats)
         if res.found:
-            reasons = []
-            for e in res.edges:
-                step = cn.steps[e]
-                if step.use is None or (step.use.lane.lane_id, step.card) not in profile.blocked:
-                    continue
-                lane = step.use.lane
-                v, m, _n = free.cards[step.card]
-                if s.hazmat and not lane.hazmat_allowed:
-                    reasons.append(f"{lane.lane_id} does not allow dangerous goods")
-                else:
-                    reasons.append(f"{lane.lane_id} allows at most {lane.max_weight_t:g} t per vehicle, "
-                                   f"a loaded {v} weighs {loaded_weight(s, card_of(model, v, m)):g} t")
-            return ("blocked by lane restrictions: " + "; ".join(dict.fromkeys(reasons)) +
-                    " (no other route avoids them)")
+            return ("blocked by lane restrictions: " + "; ".join(_blocked_reasons(model, s, cn, res, profile))
+                    + " (no other route avoids them)")
     cn = networks.get(profile) or compact(graph, model, profile)
     return explain_no_route(graph, cn, s.origin, s.destination)

@@ -20,6 +20,20 @@ STRAIGHT_LINE_TOLERANCE = 0.99
 # Implied average speeds above these (km/h) are flagged as likely typos in hours or km.
 MAX_PLAUSIBLE_SPEED = {"road": 130, "rail": 200, "sea": 60, "inland_water": 40, "air": 1000}
 
+# Numbers the contract leaves unbounded above (money, payloads, weight limits) are refused
+# beyond this: no freight figure is that large in any currency, and it keeps every cost the
+# tool computes finite and within the 28 digits of decimal rounding.
+MAX_PLAUSIBLE_NUMBER = 1e9
+# A payload below this (10 kg) is almost always a figure typed in kg instead of tonnes; it
+# would also split a shipment over millions of vehicles.
+MIN_PAYLOAD_T = 0.01
+# Characters in a cell: Microsoft "Excel specifications and limits".
+MAX_CELL_CHARS = 32_767
+# Error values a spreadsheet stores in place of a failed formula's result.
+SPREADSHEET_ERRORS = ("#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A",
+                      "#GETTING_DATA", "#SPILL!", "#CALC!", "#FIELD!", "#BLOCKED!", "#BUSY!",
+                      "#CONNECT!", "#UNKNOWN!")
+
 _MISSING = object()
 
 
@@ -46,6 +60,14 @@ class _Sheet:
                          "are stored), or type the value itself")
             return _MISSING
         v = rr.values.get(col.name)
+        if isinstance(v, str) and v.upper() in SPREADSHEET_ERRORS:
+            self.problem(ERROR, col.name, rr.row, f"{col.name} holds the error value {v} (a "
+                         "formula that failed)", "correct the formula, or type the value itself")
+            return _MISSING
+        if isinstance(v, float) and not math.isfinite(v):
+            self.problem(ERROR, col.name, rr.row, f"{col.name} is not a finite number ({v})",
+                         f"type the {col.name} itself" + (f" in {col.unit}" if col.unit else ""))
+            return _MISSING
         if v is None:
             if col.allow_blank:
                 self.problem(WARNING, col.name, rr.row, f"{col.name} is blank",
@@ -71,20 +93,43 @@ class _Sheet:
             self.problem(ERROR, col.name, rr.row, f"{col.name} holds TRUE/FALSE, not a number",
                          f"type the {col.name} as a number{unit}")
             return _MISSING
+        if isinstance(v, _dt.timedelta):
+            hours = v.total_seconds() / 3600
+            self.problem(ERROR, col.name, rr.row,
+                         f"{col.name} holds a duration ({v}), not a number",
+                         f"format the cell as Number and type the {col.name}{unit}"
+                         + (f", here {hours:g}" if col.unit == "hours" else ""))
+            return _MISSING
         if isinstance(v, (_dt.datetime, _dt.date, _dt.time)):
             self.problem(ERROR, col.name, rr.row,
                          f"{col.name} holds a date or time ({v}), not a number",
                          f"format the cell as Number and type the {col.name}{unit}")
             return _MISSING
         if isinstance(v, str):
+            if v.upper() in SPREADSHEET_ERRORS:
+                self.problem(ERROR, col.name, rr.row, f"{col.name} holds the error value {v} (a "
+                             "formula that failed)", "correct the formula, or type the value itself")
+                return _MISSING
+            degrees = _degrees_in_text(v) if col.unit == "degrees" else None
             guess = _number_in_text(v)
-            hint = f"type {guess:g} as a number" if guess is not None else \
-                f"type the {col.name} as a number{unit}"
+            if degrees is not None:
+                hint = f"type {degrees:.6g} (decimal degrees) as a number"
+            elif guess is not None:
+                hint = f"type {guess:g} as a number"
+            else:
+                hint = f"type the {col.name} as a number{unit}"
             self.problem(ERROR, col.name, rr.row,
                          f"{col.name} holds the text '{_short(v)}', not a number",
                          hint + " (no units, no thousands separators)")
             return _MISSING
-        x = float(v)
+        if not isinstance(v, (int, float)):
+            self.problem(ERROR, col.name, rr.row, f"{col.name} holds '{_short(v)}', not a number",
+                         f"type the {col.name} as a number{unit}")
+            return _MISSING
+        try:
+            x = float(v)
+        except OverflowError:
+            x = math.inf
         if not math.isfinite(x):
             self.problem(ERROR, col.name, rr.row, f"{col.name} is not a finite number",
                          f"type the {col.name} as a number{unit}")
@@ -97,6 +142,10 @@ class _Sheet:
         if col.maximum is not None and x > col.maximum:
             self.problem(ERROR, col.name, rr.row, f"{col.name} {x:g} is above {col.maximum:g}",
                          f"check the value; {col.name} takes at most {col.maximum:g}{unit}")
+            return _MISSING
+        if col.maximum is None and abs(x) > MAX_PLAUSIBLE_NUMBER:
+            self.problem(ERROR, col.name, rr.row, f"{col.name} {x:g} is implausibly large",
+                         f"check the value; the tool takes at most {MAX_PLAUSIBLE_NUMBER:g}{unit}")
             return _MISSING
         return x
 
@@ -136,9 +185,14 @@ class _Sheet:
             return _MISSING
         s = str(v).strip()
         if col.kind in ("id", "depot", "vehicle") and len(s) > 200:
-            self.problem(ERROR, col.name, rr.row, f"{col.name} is {len(s)} characters long",
+            self.problem(ERROR, col.name, rr.row, f"{col.name} is {len(s):,} characters long",
                          "use a code of at most 200 characters")
             return _MISSING
+        if len(s) > MAX_CELL_CHARS:
+            self.problem(WARNING, col.name, rr.row, f"{col.name} is {len(s):,} characters long; a "
+                         f"cell holds at most {MAX_CELL_CHARS:,} (Microsoft 'Excel specifications "
+                         "and limits'), so the costed workbook shows it cut short",
+                         f"shorten the {col.name}")
         return s
 
 
@@ -148,10 +202,18 @@ def _short(v, n: int = 40) -> str:
 
 
 def _number_in_text(s: str) -> float | None:
-    """What number a coordinator probably meant by '1,200 km' or ' 12.5 '."""
-    t = re.sub(r"[^\d.,\-]", "", s)
-    if not t or not re.search(r"\d", t):
+    """What number a coordinator probably meant by '1,200 km' or ' 12.5 ': one number, with
+    thousands separators or a decimal comma, and perhaps a unit or currency sign around it.
+    None when the text holds no number or more than one."""
+    try:
+        x = float(s.strip())
+        return x if math.isfinite(x) else None
+    except ValueError:
+        pass
+    m = re.fullmatch(r"[^\d+\-]*?([+\-]?\d[\d.,' \u00a0\u202f]*)[^\d]*", s.strip())
+    if not m:
         return None
+    t = re.sub(r"[' \u00a0\u202f]", "", m.group(1))
     if "," in t and "." in t:
         t = t.replace(",", "") if t.rfind(".") > t.rfind(",") else t.replace(".", "").replace(",", ".")
     elif "," in t:
@@ -163,11 +225,28 @@ def _number_in_text(s: str) -> float | None:
         return None
 
 
+def _degrees_in_text(s: str) -> float | None:
+    """Decimal degrees from text such as 52°22'N, 52° 22' 12" N or 4°53'E (a coordinate
+    copied from a map); None when the text is not in that form."""
+    m = re.fullmatch(r"\s*([+\-]?\d{1,3}(?:[.,]\d+)?)\s*°\s*(?:(\d{1,2}(?:[.,]\d+)?)\s*['′]\s*)?"
+                     r"(?:(\d{1,2}(?:[.,]\d+)?)\s*(?:\"|″|'')\s*)?([NSEWnsew])?\s*", s)
+    if not m:
+        return None
+    deg, minutes, seconds, hemi = m.groups()
+    x = abs(float(deg.replace(",", "."))) + float((minutes or "0").replace(",", ".")) / 60 \
+        + float((seconds or "0").replace(",", ".")) / 3600
+    negative = deg.startswith("-") or (hemi or "").upper() in ("S", "W")
+    return -x if negative else x
+
+
 def _records(sheet: _Sheet):
-    """Yield (raw row, converted dict, ok) for each row."""
+    """Yield (raw row, converted dict, ok) for each row. A row is not ok when a required
+    column is missing from the sheet (already reported once, at the header)."""
+    absent = any(c.required and not c.allow_blank and c.name not in sheet.raw.columns
+                 for c in sheet.spec.columns)
     for rr in sheet.raw.rows:
         rec = {}
-        ok = True
+        ok = not absent
         for col in sheet.spec.columns:
             v = sheet.value(rr, col)
             if v is _MISSING:
@@ -305,6 +384,11 @@ def validate(raw: RawWorkbook) -> Model:
                 sh.problem(ERROR, "payload_t", rr.row, "payload_t is 0",
                            "enter the payload of one vehicle in tonnes (more than 0)")
                 ok = False
+            elif rec["payload_t"] is not None and rec["payload_t"] < MIN_PAYLOAD_T:
+                sh.problem(ERROR, "payload_t", rr.row, f"payload_t {rec['payload_t']:g} t is under "
+                           f"{MIN_PAYLOAD_T * 1000:g} kg; was it typed in kg?",
+                           "enter the payload of one vehicle in tonnes (24 for a 24-tonne load)")
+                ok = False
             fuel, factor = rec["fuel_l_per_100km"], rec["co2e_kg_per_litre"]
             if (fuel is None) != (factor is None):
                 sh.problem(WARNING, "fuel_l_per_100km" if fuel is None else "co2e_kg_per_litre",
@@ -314,7 +398,9 @@ def validate(raw: RawWorkbook) -> Model:
             if ok:
                 rates.append(RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
                                       rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
-                                      rec["min_charge"] or 0.0, rr.row))
+                                      rec["min_charge"] or 0.0, rr.row,
+                                      fuel_included_at=rec["fuel_included_at"],
+                                      tare_t=rec["tare_t"] or 0.0))
     vehicles = {r.vehicle for r in rates}
     rated_modes = {r.mode for r in rates}
 
@@ -346,11 +432,14 @@ def validate(raw: RawWorkbook) -> Model:
                            "fill in distance_km, or the coordinates of both depots")
                 continue
             if km is not None and gc is not None and km < gc * STRAIGHT_LINE_TOLERANCE:
+                swapped = _swapped_depot(a, b, km)
                 sh.problem(WARNING, "distance_km", rr.row,
                            f"lane is {km:g} km but its depots are {gc:.1f} km apart in a straight "
                            "line; likely a typo in the km or in a depot's coordinates",
                            f"check distance_km and the coordinates of {a.depot_id} and "
-                           f"{b.depot_id}")
+                           f"{b.depot_id}" + (f"; the latitude and longitude of {swapped.depot_id} "
+                                              f"(Depots row {swapped.row}) look swapped"
+                                              if swapped else ""))
             if km is not None and km > 0 and hours is not None:
                 speed_cap = MAX_PLAUSIBLE_SPEED.get(rec["mode"], 1000)
                 if hours == 0:
@@ -402,6 +491,19 @@ def validate(raw: RawWorkbook) -> Model:
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     return Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
                  tuple(problems), layout)
+
+
+def _swapped_depot(a: Depot, b: Depot, km: float) -> Depot | None:
+    """The one depot of a lane whose swapped latitude and longitude would make the lane's
+    stated km agree with the straight line, if exactly one does."""
+    fits = []
+    for d, other in ((a, b), (b, a)):
+        if abs(d.longitude) > 90 or d.latitude == d.longitude:
+            continue
+        gc = great_circle_km(d.longitude, d.latitude, other.latitude, other.longitude)
+        if gc * STRAIGHT_LINE_TOLERANCE <= km <= gc * 3:
+            fits.append(d)
+    return fits[0] if len(fits) == 1 else None
 
 
 def _check_swapped_coordinates(raw: RawWorkbook, problems: list[Problem]) -> None:

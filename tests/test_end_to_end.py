@@ -17,8 +17,8 @@ from tests.conftest import base_data
 
 LEG = {name: i for i, (name, _w, _k) in enumerate(LEG_COLUMNS)}
 SUM = {name: i for i, (name, _w, _k) in enumerate(SUMMARY_COLUMNS)}
-MONEY = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "handling_start_cost", "handling_end_cost",
-         "trip_cost"]
+MONEY = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
+         "handling_start_cost", "handling_end_cost", "trip_cost"]
 
 
 def _sha(path):

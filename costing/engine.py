@@ -1,0 +1,740 @@
+"""A search engine for networks of any size: a compact array network built once and reused for
+every shipment, a landmark lower bound, and batching of shipments that share an origin.
+
+Nothing here knows about depots or rates: node ids 0..n-1, arcs with non-negative weights and
+edge ids, exactly as `costing.search`. Results are `costing.search.SearchResult`.
+
+The network (`CSRGraph`)
+------------------------
+Arcs sorted by (tail, head) in compressed sparse row form: `indptr`, `heads`, `weights`,
+`edge_ids`. Parallel arcs are merged into the lightest one (equal weights: the smaller edge id,
+which is also the one `costing.search.astar` keeps, as it relaxes arcs in list order and only
+replaces on a strict improvement); self-loops are dropped (never part of a least-weight route).
+`SearchEngine` renumbers the nodes internally (reverse Cuthill-McKee, so that neighbours sit near
+each other in memory) and maps every answer back to the caller's ids.
+
+The landmark bound (ALT)
+------------------------
+After Goldberg and Harrelson, "Computing the Shortest Path: A* Search Meets Graph Theory"
+(SODA 2005). Pick landmarks L (farthest first, below) and store d(v, L) and d(L, v) for every v,
+computed once per landmark with a compiled one-to-all search (scipy.sparse.csgraph.dijkstra on
+the network and on its transpose). For a target t and any node v:
+
+    h_L(v) = max( d(v, L) - d(t, L),  d(L, t) - d(L, v) )
+
+*Admissible.* The triangle inequality of shortest-path distances gives
+d(v, L) <= d(v, t) + d(t, L) and d(L, t) <= d(L, v) + d(v, t); so both terms are <= d(v, t).
+
+*Consistent.* For an arc u -> v of weight w, d(u, L) <= w + d(v, L) and d(L, v) <= d(L, u) + w.
+Hence d(u, L) - d(t, L) <= w + (d(v, L) - d(t, L)) and d(L, t) - d(L, u) <= w + (d(L, t) - d(L, v)):
+each term drops by at most w along an arc, so h_L(u) <= w + h_L(v). At v = t both terms are 0.
+
+The engine uses h(v) = SAFETY * max(0, h_L(v) for L in the active landmarks, b(v)) where b is an
+optional lower bound supplied by the caller (the straight-line bound of `costing.network`, itself
+consistent with b(t) = 0). A maximum of consistent functions is consistent
+(max_i h_i(u) <= max_i (w + h_i(v)) = w + max_i h_i(v)), and so is SAFETY * h for 0 < SAFETY <= 1
+(SAFETY * h(u) <= SAFETY * (w + h(v)) <= w + SAFETY * h(v) as w >= 0); h(t) = 0. So A* with h
+settles each node once and the target with its least weight, as proved in `costing.search`.
+Any subset of landmarks gives a bound with the same properties, which is why each query may use
+only its `active` best landmarks (those with the largest bound at the source).
+
+Unreachable pairs. A distance that does not exist is stored as BIG = 1e300. If d(t, L) is finite
+and d(v, L) is not, v cannot reach t (it would reach L through t); if d(L, v) is finite and
+d(L, t) is not, again v cannot reach t. In both cases the term is about BIG, and such a node is
+never put on the queue (it can be on no route to t). Both distances BIG give a term of 0; one
+finite term minus BIG is hugely negative; neither breaks the bound.
+
+Floating point. SAFETY = 1 - 1e-7 leaves a margin of 1e-7 * w on every arc, far above the
+rounding of the stored distances (relative 1e-16 of the network's diameter) whenever the
+lightest arc is more than about 1e-8 of the diameter (true of any lane network: a lane costs at
+least cents, a route at most millions). With that margin the f-value of a node's tight
+predecessor (u with g(u) + w(u, v) = g(v), w > 0) is strictly below the f-value of v, so every
+tight predecessor is settled before v, and every g is the exact (bit for bit) least sum of
+weights added along the route from the source, the same number a compiled Dijkstra computes.
+
+Ties and determinism. Queue ties on f are broken by push order, as in `costing.search`. Among
+routes of exactly equal weight, the parent of a node is its tight predecessor with the smallest
+internal id (an arc of equal g from a smaller id replaces the parent). Because all tight
+predecessors are settled before the node, this choice does not depend on the order of the search:
+A*, a one-to-many Dijkstra and the reconstruction after scipy's one-to-all give the same route,
+not only the same weight. (Zero-weight arcs break the "settled before" argument; with them the
+weights are still identical but an equal-weight route may differ between strategies. On exact
+ties the route can also differ from `costing.search.astar`, which keeps the first predecessor
+found; both are optimal.)
+
+Landmark choice (farthest first). Start from a seeded random node s0; the first landmark is the
+node farthest from s0 (out-distance); then repeatedly the node whose least "round trip"
+d(L, v) + d(v, L) over the landmarks chosen so far is largest (ties: smallest id). Nodes some
+landmark cannot reach or be reached from count as infinitely far, so every strongly connected
+piece of the network gets a landmark before any piece gets a second.
+
+Batching (`route_many`)
+-----------------------
+Shipments are grouped by origin. Per group, three ways give identical results (proved above,
+tested): one A* per destination; one Dijkstra from the origin stopped when every destination of
+the group is settled ("python-many"); or one compiled one-to-all search (scipy) plus a vectorised
+reconstruction of the routes ("scipy-all"). The choice is by estimated time, in microseconds:
+
+    astar       = sum over the group's destinations t of  C_QUERY + C_SETTLE * RHO * ball(d'(s, t))
+    python-many = C_QUERY + C_SETTLE * ball(max_t d'(s, t))
+    scipy-all   = C_SCIPY0 + C_SCIPY * (n + arcs) + C_RECON * arcs + C_PATH * destinations
+
+where d'(s, v) is the landmark lower bound of d(s, v) (all landmarks), ball(r) is n times the
+share of a fixed seeded sample of up to 1024 nodes with d'(s, v) <= r (the nodes a Dijkstra
+from s settles before reaching distance r), and RHO is the share of that ball an ALT A* settles
+(0.05 with 8 or more landmarks, as measured on the benchmark's road-like networks; 0.5 without).
+The constants were measured on the development machine (see benchmarks/README.md); they only
+steer speed, never results.
+
+The engine keeps per-node work arrays between queries (reset after each), so one engine must not
+be searched from two threads at once.
+"""
+
+from __future__ import annotations
+
+import heapq
+import time
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .search import SearchResult, SearchStats
+
+BIG = 1e300  # stored in place of a distance that does not exist
+HUGE = 1e299  # a bound at least this large means "cannot reach the target"
+SAFETY = 1.0 - 1e-7
+INF = float("inf")
+
+# Estimated cost of the strategies, microseconds (measured: see module docstring).
+C_QUERY = 40.0  # fixed cost of one A* query (landmark choice, queue, route)
+C_SETTLE = 4.5  # per node settled by the Python searches
+C_SCIPY0 = 150.0  # fixed cost of one compiled one-to-all call
+C_SCIPY = 0.05  # per node plus arc of a compiled one-to-all
+C_RECON = 0.02  # per arc of the vectorised route reconstruction
+C_PATH = 8.0  # per destination of the vectorised route reconstruction
+RHO_ALT = 0.05
+RHO_NONE = 0.5
+SAMPLE = 1024
+
+STRATEGIES = ("astar", "python-many", "scipy-all")
+
+
+# ---------------------------------------------------------------------------------------------
+# the network
+
+
+@dataclass
+class CSRGraph:
+    """Arcs in compressed sparse row form, sorted by (tail, head), no parallel arcs, no loops.
+    Build it with `from_arrays` or `from_adjacency`."""
+
+    n: int
+    indptr: np.ndarray  # (n + 1,) int64
+    heads: np.ndarray  # (m,) int32 (int64 above 2**31 nodes)
+    weights: np.ndarray  # (m,) float64, >= 0
+    edge_ids: np.ndarray  # (m,) int64, the caller's edge id of each arc
+
+    @property
+    def m(self) -> int:
+        return int(self.heads.shape[0])
+
+    @property
+    def tails(self) -> np.ndarray:
+        return np.repeat(np.arange(self.n, dtype=self.heads.dtype), np.diff(self.indptr))
+
+    @property
+    def nbytes(self) -> int:
+        return int(self.indptr.nbytes + self.heads.nbytes + self.weights.nbytes + self.edge_ids.nbytes)
+
+    @classmethod
+    def from_arrays(cls, n: int, tail, head, weight, edge_id=None) -> CSRGraph:
+        """Arcs tail[i] -> head[i] of weight[i]; edge_id[i] defaults to i. Weights must be
+        non-negative and not NaN; arcs of infinite weight are dropped (unusable)."""
+        tail = np.asarray(tail, dtype=np.int64).ravel()
+        head = np.asarray(head, dtype=np.int64).ravel()
+        weight = np.asarray(weight, dtype=np.float64).ravel()
+        if edge_id is None:
+            edge_id = np.arange(tail.shape[0], dtype=np.int64)
+        edge_id = np.asarray(edge_id, dtype=np.int64).ravel()
+        if not (tail.shape == head.shape == weight.shape == edge_id.shape):
+            raise ValueError("tail, head, weight and edge_id must have the same length")
+        if tail.size and (tail.min() < 0 or head.min() < 0 or tail.max() >= n or head.max() >= n):
+            raise ValueError("node ids must be in 0..n-1")
+        if np.isnan(weight).any() or (weight < 0).any():
+            raise ValueError("weights must be non-negative numbers")
+        keep = (tail != head) & np.isfinite(weight)
+        tail, head, weight, edge_id = tail[keep], head[keep], weight[keep], edge_id[keep]
+        # Sort by (tail, head, weight, edge id); the first of each (tail, head) run is kept.
+        order = np.lexsort((edge_id, weight, head, tail))
+        tail, head, weight, edge_id = tail[order], head[order], weight[order], edge_id[order]
+        if tail.size:
+            first = np.ones(tail.shape[0], dtype=bool)
+            first[1:] = (tail[1:] != tail[:-1]) | (head[1:] != head[:-1])
+            tail, head, weight, edge_id = tail[first], head[first], weight[first], edge_id[first]
+        indptr = np.zeros(n + 1, dtype=np.int64)
+        np.cumsum(np.bincount(tail, minlength=n), out=indptr[1:])
+        idx = np.int32 if n < 2**31 else np.int64
+        return cls(int(n), indptr, head.astype(idx), weight, edge_id)
+
+    @classmethod
+    def from_adjacency(cls, adj: Sequence[Sequence[tuple[int, float, int]]]) -> CSRGraph:
+        """From `adj[u] = [(v, weight, edge_id), ...]`, as `costing.network.CompactNetwork.adj`."""
+        n = len(adj)
+        deg = [len(row) for row in adj]
+        tail = np.repeat(np.arange(n, dtype=np.int64), deg)
+        flat = [arc for row in adj for arc in row]
+        if flat:
+            head, weight, eid = zip(*flat)
+        else:
+            head, weight, eid = (), (), ()
+        return cls.from_arrays(n, tail, np.array(head, dtype=np.int64), np.array(weight, dtype=float),
+                               np.array(eid, dtype=np.int64))
+
+    def transpose(self) -> CSRGraph:
+        """The same arcs reversed (v -> u for u -> v), keeping weights and edge ids."""
+        return CSRGraph.from_arrays(self.n, self.heads, self.tails, self.weights, self.edge_ids)
+
+    def permuted(self, new_of_old: np.ndarray) -> CSRGraph:
+        """The same network with node v renamed new_of_old[v]."""
+        p = np.asarray(new_of_old, dtype=np.int64)
+        return CSRGraph.from_arrays(self.n, p[self.tails], p[self.heads.astype(np.int64)],
+                                    self.weights, self.edge_ids)
+
+    def to_scipy(self):
+        """A scipy.sparse CSR matrix over the same arrays (explicit zeros are arcs to scipy)."""
+        import scipy.sparse as sp
+
+        return sp.csr_matrix((self.weights, self.heads, self.indptr), shape=(self.n, self.n))
+
+
+# ---------------------------------------------------------------------------------------------
+# landmarks
+
+
+@dataclass
+class Landmarks:
+    nodes: np.ndarray  # (k,) internal node ids
+    to_lm: np.ndarray  # (k, n) d(v, L), BIG where v cannot reach L
+    from_lm: np.ndarray  # (k, n) d(L, v), BIG where L cannot reach v
+    seconds: float = 0.0
+
+    @property
+    def k(self) -> int:
+        return int(self.nodes.shape[0])
+
+    @property
+    def nbytes(self) -> int:
+        return int(self.to_lm.nbytes + self.from_lm.nbytes + self.nodes.nbytes)
+
+
+def _one_to_all(matrix, source: int) -> np.ndarray:
+    from scipy.sparse.csgraph import dijkstra
+
+    return dijkstra(matrix, directed=True, indices=int(source))
+
+
+def choose_landmarks(fwd, bwd, n: int, k: int, seed: int = 0) -> Landmarks:
+    """Farthest-first landmarks on the scipy matrices of a network (`fwd`) and its transpose
+    (`bwd`), with their distance tables. See the module docstring."""
+    t0 = time.perf_counter()
+    k = max(0, min(int(k), n))
+    to_lm = np.empty((k, n), dtype=np.float64)
+    from_lm = np.empty((k, n), dtype=np.float64)
+    nodes = np.empty(k, dtype=np.int64)
+    if k:
+        rng = np.random.default_rng(seed)
+        s0 = int(rng.integers(0, n))
+        d0 = _one_to_all(fwd, s0)
+        d0[~np.isfinite(d0)] = -1.0
+        cur = int(np.argmax(d0))
+        far = np.full(n, np.inf)
+        for i in range(k):
+            fr = _one_to_all(fwd, cur)
+            to = _one_to_all(bwd, cur)
+            fr[~np.isfinite(fr)] = BIG
+            to[~np.isfinite(to)] = BIG
+            nodes[i], from_lm[i], to_lm[i] = cur, fr, to
+            np.minimum(far, np.minimum(fr + to, BIG), out=far)
+            far[nodes[: i + 1]] = -1.0
+            cur = int(np.argmax(far))
+    return Landmarks(nodes, to_lm, from_lm, time.perf_counter() - t0)
+
+
+# ---------------------------------------------------------------------------------------------
+# statistics
+
+
+@dataclass
+class EngineStats:
+    n: int = 0
+    arcs: int = 0
+    landmarks: int = 0
+    landmark_bytes: int = 0  # the two distance tables
+    graph_bytes: int = 0  # the arrays (the Python adjacency rows come on top)
+    build_seconds: float = 0.0
+    landmark_seconds: float = 0.0
+    queries: int = 0  # shipments answered
+    settled: int = 0
+    pushed: int = 0  # 0 counted for compiled searches (scipy does not report it)
+    groups: dict[str, int] = field(default_factory=dict)  # strategy -> origin groups
+    shipments: dict[str, int] = field(default_factory=dict)  # strategy -> shipments
+
+    def count(self, strategy: str, shipments: int) -> None:
+        self.groups[strategy] = self.groups.get(strategy, 0) + 1
+        self.shipments[strategy] = self.shipments.get(strategy, 0) + shipments
+
+
+@dataclass(frozen=True)
+class GroupPlan:
+    source: int
+    destinations: int
+    estimates: dict[str, float]  # strategy -> estimated microseconds
+    strategy: str
+
+
+# ---------------------------------------------------------------------------------------------
+# the engine
+
+LowerBound = Sequence[float] | np.ndarray | None
+
+
+class SearchEngine:
+    """A* with landmarks and batched one-to-many searches over one `CSRGraph`.
+
+    landmarks: how many (0 for none); active: how many of them each A* query uses;
+    reorder: renumber nodes internally for memory locality; seed: for the landmark start and the
+    estimate's node sample.
+    """
+
+    def __init__(self, graph: CSRGraph, landmarks: int = 16, active: int = 6, reorder: bool = True,
+                 seed: int = 0):
+        t0 = time.perf_counter()
+        n = graph.n
+        self.n = n
+        self.active = max(0, int(active))
+        if reorder and n > 2:
+            from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+            order = reverse_cuthill_mckee(graph.to_scipy(), symmetric_mode=True).astype(np.int64)
+            new_of_old = np.empty(n, dtype=np.int64)
+            new_of_old[order] = np.arange(n, dtype=np.int64)
+            g = graph.permuted(new_of_old)
+        else:
+            order = np.arange(n, dtype=np.int64)
+            new_of_old = order
+            g = graph
+        self.graph = g  # internal numbering
+        self._old_of_new = order
+        self._new_of_old = new_of_old
+        self._ext = order.tolist()  # internal -> caller id
+        self._int = new_of_old.tolist()  # caller id -> internal
+        self._fwd = g.to_scipy()
+        self._bwd = g.transpose().to_scipy()
+        self.has_zero_weight = bool(g.m and float(g.weights.min()) == 0.0)
+        # Python rows for the inner loop: heads share one int object per node.
+        ids = list(range(n))
+        heads = [ids[v] for v in g.heads.tolist()]
+        w = g.weights.tolist()
+        ip = g.indptr.tolist()
+        self._ip = ip
+        self._heads = [tuple(heads[ip[u]:ip[u + 1]]) for u in range(n)]
+        self._wts = [tuple(w[ip[u]:ip[u + 1]]) for u in range(n)]
+        del heads, w
+        self._eid = memoryview(np.ascontiguousarray(g.edge_ids, dtype=np.int64))
+        # Reverse order of the arcs (by head, then tail) for the route reconstruction.
+        tails = g.tails.astype(np.int64)
+        self._arc_tail = tails
+        rev = np.lexsort((tails, g.heads))
+        self._rev = rev
+        self._rev_tail = tails[rev]
+        self._rev_head = g.heads[rev].astype(np.int64)
+        self._rev_w = g.weights[rev]
+        # Work arrays, reset after each query.
+        self._g = [INF] * n
+        self._par = [-1] * n
+        self._hc = [0.0] * n
+        self._done = bytearray(n)
+        self.lm = choose_landmarks(self._fwd, self._bwd, n, landmarks, seed)
+        self._to_rows = [memoryview(r) for r in self.lm.to_lm]
+        self._from_rows = [memoryview(r) for r in self.lm.from_lm]
+        rng = np.random.default_rng(seed + 1)
+        self._sample = np.sort(rng.choice(n, size=min(n, SAMPLE), replace=False)) if n else np.empty(0, int)
+        self.stats = EngineStats(n=n, arcs=g.m, landmarks=self.lm.k, landmark_bytes=self.lm.nbytes,
+                                 graph_bytes=g.nbytes, landmark_seconds=self.lm.seconds)
+        self.stats.build_seconds = time.perf_counter() - t0
+
+    # -- the bound ------------------------------------------------------------------------------
+
+    def _active_landmarks(self, s: int, t: int, count: int | None = None) -> list[int]:
+        """The landmarks giving the largest bound at s towards t (internal ids)."""
+        k = self.lm.k
+        count = self.active if count is None else count
+        if k == 0 or count <= 0:
+            return []
+        if count >= k:
+            return list(range(k))
+        to, fr = self.lm.to_lm, self.lm.from_lm
+        score = np.fmax(to[:, s] - to[:, t], fr[:, t] - fr[:, s])
+        return np.argsort(-score, kind="stable")[:count].tolist()
+
+    def _bound_function(self, t: int, active: list[int], lower: LowerBound) -> Callable[[int], float]:
+        """h(v) for internal v, evaluated one node at a time (what A* uses)."""
+        terms = [(self._to_rows[i], self._to_rows[i][t], self._from_rows[i], self._from_rows[i][t])
+                 for i in active]
+        ext = self._ext
+        if isinstance(lower, np.ndarray):
+            lower = memoryview(np.ascontiguousarray(lower, dtype=np.float64))
+
+        if lower is None:
+            def h(v: int) -> float:
+                best = 0.0
+                for tl, a, fl, b in terms:
+                    x = tl[v] - a
+                    if x > best:
+                        best = x
+                    x = b - fl[v]
+                    if x > best:
+                        best = x
+                return best * SAFETY
+        else:
+            def h(v: int) -> float:
+                best = 0.0
+                x = lower[ext[v]]
+                if x > best:
+                    best = x
+                for tl, a, fl, b in terms:
+                    x = tl[v] - a
+                    if x > best:
+                        best = x
+                    x = b - fl[v]
+                    if x > best:
+                        best = x
+                return best * SAFETY
+        return h
+
+    def bound(self, target: int, lower_bound: LowerBound = None,
+              landmarks: Sequence[int] | None = None) -> np.ndarray:
+        """h(v) towards `target` for every node v (caller's ids), with the given landmark
+        indices (all by default) and the caller's lower bound if any. The same numbers A*
+        computes node by node; values >= HUGE mean v cannot reach target."""
+        t = self._int[target]
+        idx = range(self.lm.k) if landmarks is None else landmarks
+        best = np.zeros(self.n)
+        if lower_bound is not None:
+            best = np.fmax(best, np.asarray(lower_bound, dtype=np.float64)[self._old_of_new])
+        for i in idx:
+            to, fr = self.lm.to_lm[i], self.lm.from_lm[i]
+            best = np.fmax(best, to - to[t])
+            best = np.fmax(best, fr[t] - fr)
+        return (best * SAFETY)[self._new_of_old]
+
+    def lower_bounds_from(self, source: int, nodes: Iterable[int] | None = None) -> np.ndarray:
+        """The landmark lower bound of d(source, v) for the given nodes (caller's ids; all by
+        default)."""
+        s = self._int[source]
+        v = self._new_of_old if nodes is None else self._new_of_old[np.asarray(list(nodes), dtype=np.int64)]
+        return self._lb_internal(s, v)
+
+    def _lb_internal(self, s: int, v: np.ndarray) -> np.ndarray:
+        if self.lm.k == 0:
+            return np.zeros(len(v))
+        to, fr = self.lm.to_lm, self.lm.from_lm
+        a = (to[:, s][:, None] - to[:, v]).max(axis=0)
+        b = (fr[:, v] - fr[:, s][:, None]).max(axis=0)
+        return np.maximum(np.maximum(a, b), 0.0)
+
+    # -- point to point --------------------------------------------------------------------------
+
+    def astar(self, source: int, target: int, lower_bound: LowerBound = None) -> SearchResult:
+        """Least-weight route from source to target (caller's ids). `lower_bound`: an optional
+        consistent lower bound towards target, indexed by the caller's node ids (for example
+        `CompactNetwork.bound(target)`)."""
+        s, t = self._int[source], self._int[target]
+        res = self._astar(s, t, lower_bound)
+        self.stats.queries += 1
+        self.stats.settled += res.stats.settled
+        self.stats.pushed += res.stats.pushed
+        return res
+
+    def _astar(self, s: int, t: int, lower: LowerBound) -> SearchResult:
+        h = self._bound_function(t, self._active_landmarks(s, t), lower)
+        heads, wts = self._heads, self._wts
+        g, par, hc, done = self._g, self._par, self._hc, self._done
+        hs = h(s)
+        if not hs < HUGE:
+            return SearchResult(False, INF, (), (), SearchStats(0, 0))
+        g[s] = 0.0
+        hc[s] = hs
+        touched = [s]
+        heap = [(hs, 0, s)]
+        counter = 1
+        settled = 0
+        push, pop = heapq.heappush, heapq.heappop
+        try:
+            while heap:
+                _f, _c, u = pop(heap)
+                if done[u]:
+                    continue  # stale entry
+                done[u] = 1
+                settled += 1
+                if u == t:
+                    break
+                gu = g[u]
+                for v, w in zip(heads[u], wts[u]):
+                    gv = gu + w
+                    gold = g[v]
+                    if gv < gold:
+                        if done[v]:
+                            continue  # settled nodes are final (never reopened)
+                        if gold == INF:
+                            touched.append(v)
+                            hv = h(v)
+                            if not hv < HUGE:
+                                done[v] = 1  # v cannot reach t: never queue it
+                                continue
+                            hc[v] = hv
+                        else:
+                            hv = hc[v]
+                        g[v] = gv
+                        par[v] = u
+                        push(heap, (gv + hv, counter, v))
+                        counter += 1
+                    elif gv == gold and u < par[v] and not done[v]:
+                        par[v] = u  # equal weight: the smaller predecessor id wins
+            stats = SearchStats(settled, counter)
+            if done[t] and g[t] < INF:
+                return self._result(s, t, g[t], stats)
+            return SearchResult(False, INF, (), (), stats)
+        finally:
+            for v in touched:
+                g[v] = INF
+                done[v] = 0
+
+    def _result(self, s: int, t: int, weight: float, stats: SearchStats) -> SearchResult:
+        """Walk the parents back from t (internal ids) while they are still set."""
+        par, ext, heads, ip, eid = self._par, self._ext, self._heads, self._ip, self._eid
+        nodes = [ext[t]]
+        edges = []
+        v = t
+        while v != s:
+            u = par[v]
+            edges.append(eid[ip[u] + heads[u].index(v)])
+            nodes.append(ext[u])
+            v = u
+        nodes.reverse()
+        edges.reverse()
+        return SearchResult(True, weight, tuple(nodes), tuple(edges), stats)
+
+    # -- one to many -------------------------------------------------------------------------------
+
+    def one_to_many(self, source: int, targets: Sequence[int], method: str = "python-many",
+                    lower_bound: Callable[[int], LowerBound] | None = None) -> list[SearchResult]:
+        """Routes from source to each target (caller's ids), in the order given, by one
+        strategy: "astar" (one A* each), "python-many" (one Dijkstra stopped when every target is
+        settled) or "scipy-all" (compiled one-to-all and vectorised reconstruction). The routes
+        and weights are the same whichever is used. The statistics of a shared search are split
+        over its results (first results take the remainder), so that their sum is the search's."""
+        s = self._int[source]
+        tl = [self._int[t] for t in targets]
+        if method == "astar":
+            out = [self._astar(s, t, lower_bound(self._ext[t]) if lower_bound else None) for t in tl]
+        elif method == "python-many":
+            out = self._dijkstra_many(s, tl)
+        elif method == "scipy-all":
+            out = self._scipy_all(s, tl)
+        else:
+            raise ValueError(f"unknown method {method!r}; one of {', '.join(STRATEGIES)}")
+        self.stats.queries += len(out)
+        self.stats.settled += sum(r.stats.settled for r in out)
+        self.stats.pushed += sum(r.stats.pushed for r in out)
+        return out
+
+    @staticmethod
+    def _split(total: SearchStats, k: int) -> list[SearchStats]:
+        if k == 0:
+            return []
+        qs, rs = divmod(total.settled, k)
+        qp, rp = divmod(total.pushed, k)
+        return [SearchStats(qs + (i < rs), qp + (i < rp)) for i in range(k)]
+
+    def _dijkstra_many(self, s: int, targets: list[int]) -> list[SearchResult]:
+        heads, wts = self._heads, self._wts
+        g, par, done = self._g, self._par, self._done
+        remaining = set(targets)
+        g[s] = 0.0
+        touched = [s]
+        heap = [(0.0, 0, s)]
+        counter = 1
+        settled = 0
+        push, pop = heapq.heappush, heapq.heappop
+        try:
+            while heap and remaining:
+                _f, _c, u = pop(heap)
+                if done[u]:
+                    continue
+                done[u] = 1
+                settled += 1
+                remaining.discard(u)
+                if not remaining:
+                    break
+                gu = g[u]
+                for v, w in zip(heads[u], wts[u]):
+                    gv = gu + w
+                    gold = g[v]
+                    if gv < gold:
+                        if done[v]:
+                            continue
+                        if gold == INF:
+                            touched.append(v)
+                        g[v] = gv
+                        par[v] = u
+                        push(heap, (gv, counter, v))
+                        counter += 1
+                    elif gv == gold and u < par[v] and not done[v]:
+                        par[v] = u
+            parts = self._split(SearchStats(settled, counter), len(targets))
+            out = []
+            for t, st in zip(targets, parts):
+                if done[t] and g[t] < INF:
+                    out.append(self._result(s, t, g[t], st))
+                else:
+                    out.append(SearchResult(False, INF, (), (), st))
+            return out
+        finally:
+            for v in touched:
+                g[v] = INF
+                done[v] = 0
+
+    def _scipy_all(self, s: int, targets: list[int]) -> list[SearchResult]:
+        dist = _one_to_all(self._fwd, s)
+        reached = int(np.isfinite(dist).sum())
+        parts = self._split(SearchStats(reached, 0), len(targets))
+        if self.has_zero_weight:
+            parent = self._parents_from_scipy(s)
+        else:
+            parent = self._tight_parents(dist, s)
+        t_arr = np.asarray(targets, dtype=np.int64)
+        ok = np.isfinite(dist[t_arr]) if len(targets) else np.zeros(0, dtype=bool)
+        paths = self._walk_back(parent, s, t_arr[ok])
+        out = []
+        j = 0
+        ext = self._ext
+        for t, st, good in zip(targets, parts, ok.tolist()):
+            if not good:
+                out.append(SearchResult(False, INF, (), (), st))
+                continue
+            arcs = paths[j]
+            j += 1
+            nodes = tuple(ext[x] for x in self._arc_tail[arcs].tolist()) + (ext[t],)
+            edges = tuple(self.graph.edge_ids[arcs].tolist())
+            out.append(SearchResult(True, float(dist[t]), nodes, edges, st))
+        return out
+
+    def _tight_parents(self, dist: np.ndarray, s: int) -> np.ndarray:
+        """For each node the arc from its tight predecessor with the smallest id (-1 if none):
+        the parent A* and the Python Dijkstra choose (module docstring)."""
+        dt = dist[self._rev_tail]
+        tight = np.flatnonzero((dt + self._rev_w == dist[self._rev_head]) & (dt < INF))
+        hv = self._rev_head[tight]
+        first = np.ones(hv.shape[0], dtype=bool)
+        first[1:] = hv[1:] != hv[:-1]
+        parent = np.full(self.n, -1, dtype=np.int64)
+        parent[hv[first]] = self._rev[tight[first]]
+        parent[s] = -1
+        return parent
+
+    def _parents_from_scipy(self, s: int) -> np.ndarray:
+        """With zero-weight arcs: scipy's own predecessor tree (an optimal tree, possibly another
+        equal-weight route than the Python searches choose)."""
+        from scipy.sparse.csgraph import dijkstra
+
+        _d, pred = dijkstra(self._fwd, directed=True, indices=s, return_predecessors=True)
+        parent = np.full(self.n, -1, dtype=np.int64)
+        ok = np.flatnonzero(pred >= 0)
+        ip = self.graph.indptr
+        for v in ok.tolist():
+            u = int(pred[v])
+            row = self.graph.heads[ip[u]:ip[u + 1]]
+            parent[v] = ip[u] + int(np.searchsorted(row, v))
+        return parent
+
+    def _walk_back(self, parent: np.ndarray, s: int, targets: np.ndarray) -> list[np.ndarray]:
+        """The arcs of each route, source first, walking all targets back at once."""
+        if targets.shape[0] == 0:
+            return []
+        tail = self._arc_tail
+        cur = targets.copy()
+        steps = []
+        while True:
+            live = cur != s
+            if not live.any():
+                break
+            arc = np.where(live, parent[cur], -1)
+            if (arc[live] < 0).any():
+                raise RuntimeError("route reconstruction found a node without a parent")
+            steps.append(arc)
+            cur = np.where(live, tail[np.maximum(arc, 0)], s)
+            if len(steps) > self.n:
+                raise RuntimeError("route reconstruction did not end")
+        if not steps:
+            return [np.empty(0, dtype=np.int64) for _ in range(targets.shape[0])]
+        mat = np.stack(steps, axis=1)  # (targets, hops), -1 padded at the end
+        lengths = (mat >= 0).sum(axis=1)
+        return [mat[i, :lengths[i]][::-1] for i in range(mat.shape[0])]
+
+    # -- batching ------------------------------------------------------------------------------------
+
+    def plan(self, source: int, targets: Sequence[int]) -> GroupPlan:
+        """Estimated microseconds of each strategy for one origin group; the cheapest wins."""
+        s = self._int[source]
+        tl = sorted({self._int[t] for t in targets} - {s})
+        m = len(tl)
+        n = self.n
+        rho = RHO_ALT if self.lm.k >= 8 else RHO_NONE
+        if m == 0:
+            est = {"astar": C_QUERY * len(targets), "python-many": C_QUERY, "scipy-all": INF}
+        else:
+            if self.lm.k and self._sample.shape[0]:
+                ds = np.sort(self._lb_internal(s, self._sample))
+                dt = self._lb_internal(s, np.asarray(tl, dtype=np.int64))
+                frac = np.searchsorted(ds, dt, side="right") / ds.shape[0]
+                balls = np.maximum(frac * n, 1.0)
+                ball_max = float(balls.max())
+            else:
+                balls = np.full(m, float(n))
+                ball_max = float(n)
+            est = {
+                "astar": float(np.sum(C_QUERY + C_SETTLE * rho * balls)),
+                "python-many": C_QUERY + C_SETTLE * ball_max,
+                "scipy-all": C_SCIPY0 + C_SCIPY * (n + self.graph.m) + C_RECON * self.graph.m + C_PATH * m,
+            }
+        best = min(STRATEGIES, key=lambda k: (est[k], STRATEGIES.index(k)))
+        return GroupPlan(source, len(targets), est, best)
+
+    def route_many(self, pairs: Sequence[tuple[int, int]],
+                   lower_bound: Callable[[int], LowerBound] | None = None,
+                   strategy: str = "auto") -> list[SearchResult]:
+        """Routes for (origin, destination) pairs (caller's ids), in the order given. Pairs are
+        grouped by origin and each group is answered by the strategy `plan` estimates cheapest
+        (or the one forced by `strategy`). `lower_bound(target)` may give a consistent lower
+        bound per target for the A* queries (e.g. `CompactNetwork.bound`)."""
+        groups: dict[int, list[int]] = {}
+        for i, (o, _d) in enumerate(pairs):
+            groups.setdefault(o, []).append(i)
+        out: list[SearchResult | None] = [None] * len(pairs)
+        self.plans: list[GroupPlan] = []
+        for o, idx in groups.items():
+            dests = [pairs[i][1] for i in idx]
+            if strategy == "auto":
+                p = self.plan(o, dests)
+                self.plans.append(p)
+                chosen = p.strategy
+            else:
+                chosen = strategy
+            uniq = list(dict.fromkeys(dests))
+            res = dict(zip(uniq, self.one_to_many(o, uniq, chosen, lower_bound)))
+            self.stats.count(chosen, len(idx))
+            for i in idx:
+                out[i] = res[pairs[i][1]]
+        return out  # type: ignore[return-value]
