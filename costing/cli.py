@@ -196,8 +196,10 @@ class _Progress:
 
 
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
+    from .analysis import analyse
+    from .mapping import draw_map
     from .network import build_graph
-    from .route import route_all
+    from .route import Router, objective_for
     from .writer import RunInfo, run_time, write_costed
 
     if not os.path.exists(input_path):
@@ -217,13 +219,27 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     graph = build_graph(model)
     times["build network"] = time.perf_counter() - t0
     t0 = time.perf_counter()
-    results, stats, more = route_all(model, graph, args.objective, _Progress("costing"))
+    router = Router(model, graph)
+    progress = _Progress("routing")
+    results = []
+    for k, s in enumerate(model.shipments):
+        results.append(router.route(s, objective_for(model, s, args.objective)))
+        progress(k + 1, len(model.shipments))
     times["search and cost"] = time.perf_counter() - t0
-    problems += more
+    t0 = time.perf_counter()
+    analysis = analyse(model, router, results, _Progress("comparing"))
+    times["comparison and trade-offs"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    map_png = draw_map(model, analysis.lanes, f"{input_label or os.path.basename(input_path)}: "
+                       "lanes and routed tonnes")
+    times["map"] = time.perf_counter() - t0
+    stats = router.stats
+    stats.networks = len(router.networks)
+    problems += router.problems
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
     t0 = time.perf_counter()
-    _atomic_write(output, lambda p: write_costed(p, model, results, problems, info))
+    _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png))
     elapsed = time.perf_counter() - t0
     if not args.quiet:
         _print_problems(problems)

@@ -103,6 +103,12 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "yes: break hours are charged at the rate card's per_hour.", choices=YES_NO),
     SettingSpec("rest_hours_paid", "choice", "no",
                 "yes: daily rest hours are charged at the rate card's per_hour.", choices=YES_NO),
+    SettingSpec("compare_objectives", "choice", "yes",
+                "yes: the Comparison sheet shows each shipment's best route under every objective "
+                "(five searches per shipment; say no for very large runs).", choices=YES_NO),
+    SettingSpec("frontier_max_routes", "number", 6,
+                "Most cost-time trade-off routes listed per shipment on the Trade-offs sheet; "
+                "0 leaves the sheet out.", minimum=0, maximum=100),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}

@@ -102,6 +102,8 @@ class Settings:
     daily_rest_hours: float | None = None
     break_hours_paid: str = "yes"
     rest_hours_paid: str = "no"
+    compare_objectives: str = "yes"
+    frontier_max_routes: float = 6
 
 
 @dataclass(frozen=True)

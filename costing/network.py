@@ -269,6 +269,9 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile) -> CompactNe
         gc = great_circle_km(lats[i], lons[i], lats[j], lons[j]) if coords_known else 0.0
         for k in ks:
             w = lane_weight(model, profile, k, use, depots[j], places)
+            if w < 0:  # validation refuses such rates; a model built in code could still hold them
+                raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight ({w:g}) "
+                                 f"for {profile.cards[k][0]}: a fuel rebate larger than per_km?")
             eid = len(steps)
             steps.append(Step(k, use=use))
             adj[i * K + k].append((j * K + k, w, eid))

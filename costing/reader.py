@@ -339,7 +339,8 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
             hints.append((i, h, close[0]))
     if not columns and not hints:
         # Nothing in row 1 names a column: the header is lower down, or missing.
-        for r, row in enumerate(_rows(ws_values, 2, 30, min(len(header) + 5, MAX_COLUMNS)), start=2):
+        width = min(max(len(header), 30) + 5, MAX_COLUMNS)
+        for r, row in enumerate(_rows(ws_values, 2, 30, width), start=2):
             if _looks_like_header(row, wanted) >= 2:
                 problems.append(Problem(ERROR, title, f"A{r}", f"the column names of {spec.name} "
                                         f"are in row {r}, not row 1",
@@ -351,15 +352,15 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
                                 "missing", f"insert a row 1 with the column names: {names} and the "
                                 "optional ones (copy them from `costing template`)"))
         return None
-    hinted = set()
+    hinted: dict[str, int] = {}
     for i, h, name in hints:
-        if name in hinted:
-            continue
-        hinted.add(name)
-        problems.append(Problem(ERROR, title, f"{get_column_letter(i)}1",
-                                f"unknown column '{_short(h)}'; did you mean {name}?",
-                                f"rename the header to {name} (its values are not read until then)"))
-    ignored = [(i, h) for i, h in unknown if not any(i == j for j, _, _ in hints)]
+        if name not in hinted:
+            hinted[name] = i
+            problems.append(Problem(ERROR, title, f"{get_column_letter(i)}1",
+                                    f"unknown column '{_short(h)}'; did you mean {name}?",
+                                    f"rename the header to {name} (its values are not read until "
+                                    "then)"))
+    ignored = [(i, h) for i, h in unknown if i not in hinted.values()]
     for i, h in ignored[:MAX_LISTED]:
         problems.append(Problem(WARNING, title, f"{get_column_letter(i)}1",
                                 f"column '{_short(h)}' is not used by the tool and is ignored",

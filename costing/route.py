@@ -51,26 +51,21 @@ def objective_for(model: Model, shipment: Shipment, override: str | None) -> str
 def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None,
               progress: Callable[[int, int], None] | None = None
               ) -> tuple[list[CostedShipment], RunStats, list[Problem]]:
-    stats = RunStats()
-    problems: list[Problem] = []
-    networks: dict[Profile, CompactNetwork] = {}
-    vehicles = model.vehicles()
+    router = Router(model, graph)
     out: list[CostedShipment] = []
     total = len(model.shipments)
     for k, s in enumerate(model.shipments):
-        obj = objective_for(model, s, objective)
-        out.append(_route_one(model, graph, s, obj, vehicles, networks, stats, problems))
+        out.append(router.route(s, objective_for(model, s, objective)))
         if progress:
             progress(k + 1, total)
-    stats.networks = len(networks)
-    return out, stats, problems
+    router.stats.networks = len(router.networks)
+    return out, router.stats, router.problems
 
 
-def make_profile(model: Model, s: Shipment, objective: str, vehicles: list[str],
+def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard],
                  restricted: bool = True) -> Profile:
-    """The rate cards shipment `s` may use (those of `vehicles`), with the vehicles each needs,
-    and the lane steps its hazmat flag and weight forbid (lane by lane, card by card)."""
-    cards = [r for r in model.rates if r.vehicle in vehicles]
+    """The rate cards shipment `s` may use, with the vehicles each needs, and the lane steps
+    its hazmat flag and weight forbid (lane by lane, card by card)."""
     blocked: set[tuple[str, int]] = set()
     if restricted:
         for lane in model.lanes:
@@ -94,35 +89,120 @@ def loaded_weight(s: Shipment, card: RateCard) -> float:
     return s.weight_t / vehicles_needed(s.weight_t, card.payload_t) + card.tare_t
 
 
-def _search(model, graph, s: Shipment, profile: Profile, networks, stats: RunStats):
-    cn = networks.get(profile)
-    if cn is None:
-        t0 = time.perf_counter()
-        cn = networks[profile] = compact(graph, model, profile)
-        key = "compact networks (within search)"
-        stats.seconds[key] = stats.seconds.get(key, 0.0) + time.perf_counter() - t0
-        stats.bounds[_label(profile)] = cn.bound_note
-    places = minor_unit(model.settings.currency)
-    origin, dest = model.depot(s.origin), model.depot(s.destination)
-    sources = [(cn.node(s.origin, k), start_weight(model, profile, k, origin, places))
-               for k in range(cn.n_cards)]
-    exits = {cn.node(s.destination, k): exit_weight(model, profile, k, dest, places)
-             for k in range(cn.n_cards)}
-    res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
-    stats.searches += 1
-    stats.settled += res.stats.settled
-    stats.pushed += res.stats.pushed
-    return cn, res
+class Router:
+    """Routes shipments over one model, caching a compact network per profile."""
+
+    def __init__(self, model: Model, graph: nx.MultiDiGraph, stats: RunStats | None = None):
+        self.model = model
+        self.graph = graph
+        self.stats = stats or RunStats()
+        self.problems: list[Problem] = []
+        self.networks: dict[Profile, CompactNetwork] = {}
+        self.vehicles = model.vehicles()
+        self.places = minor_unit(model.settings.currency)
+        self._pairs: dict[Profile, list] = {}
+
+    def network(self, profile: Profile) -> CompactNetwork:
+        cn = self.networks.get(profile)
+        if cn is None:
+            t0 = time.perf_counter()
+            cn = self.networks[profile] = compact(self.graph, self.model, profile)
+            key = "compact networks (within search)"
+            self.stats.seconds[key] = self.stats.seconds.get(key, 0.0) + time.perf_counter() - t0
+            self.stats.bounds[_label(profile)] = cn.bound_note
+        return cn
+
+    def _ends(self, s: Shipment, profile: Profile, cn: CompactNetwork):
+        model = self.model
+        origin, dest = model.depot(s.origin), model.depot(s.destination)
+        sources = [(cn.node(s.origin, k), start_weight(model, profile, k, origin, self.places))
+                   for k in range(cn.n_cards)]
+        exits = {cn.node(s.destination, k): exit_weight(model, profile, k, dest, self.places)
+                 for k in range(cn.n_cards)}
+        return sources, exits
+
+    def search(self, s: Shipment, profile: Profile):
+        cn = self.network(profile)
+        sources, exits = self._ends(s, profile, cn)
+        res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
+        self.stats.searches += 1
+        self.stats.settled += res.stats.settled
+        self.stats.pushed += res.stats.pushed
+        return cn, res
+
+    def pool(self, s: Shipment) -> list[RateCard]:
+        """The rate cards a shipment may use: its named vehicle's, or every card."""
+        return [r for r in self.model.rates if not s.vehicle or r.vehicle == s.vehicle]
+
+    def candidates(self, s: Shipment, objective: str) -> list[list[RateCard]]:
+        """Sets of rate cards to search. A minimum charge is not additive lane by lane (a route
+        pays the largest min_charge of the cards it uses), so for the cost objective one search
+        is run per distinct min_charge t over the cards with min_charge <= t, and the best total
+        wins. That is exact: the best route r* with largest card minimum t* is a candidate of
+        the search at t*, whose result has subtotal <= r*'s and minimum <= t*, so its total
+        max(subtotal, minimum) is no more than r*'s. Other objectives ignore the minimum."""
+        pool = self.pool(s)
+        if objective != "cost" and objective != "blended":
+            return [pool]
+        levels = sorted({c.min_charge for c in pool})
+        return [[c for c in pool if c.min_charge <= t] for t in levels]
+
+    def route(self, s: Shipment, obj: str, notes: bool = True) -> CostedShipment:
+        return _route_one(self, s, obj, notes)
+
+    def alternatives(self, s: Shipment, objectives) -> dict[str, CostedShipment]:
+        """The best route of `s` under each objective (no problems are recorded)."""
+        saved = self.problems
+        self.problems = []
+        try:
+            return {obj: self.route(s, obj, notes=False) for obj in objectives}
+        finally:
+            self.problems = saved
+
+    def frontier(self, s: Shipment, max_routes: int) -> tuple[list[CostedShipment], bool]:
+        """Routes of `s` that no other route beats on both cost and time (drive + handling
+        hours), cheapest first, and whether the cap stopped the search early."""
+        from .pareto import pareto_frontier
+
+        if s.origin == s.destination:
+            return [], False
+        pc = make_profile(self.model, s, "cost", self.pool(s))
+        pt = replace(pc, objective="time")
+        cnc, cnt = self.network(pc), self.network(pt)
+        adj2 = self._pairs.get(pc)
+        if adj2 is None:  # both networks list the same edges in the same order
+            adj2 = self._pairs[pc] = [[(v, wc, wt, e) for (v, wc, e), (_v, wt, _e) in zip(ec, et)]
+                                      for ec, et in zip(cnc.adj, cnt.adj)]
+        n = len(adj2)
+        src, dst = n, n + 1
+        starts_c, exits_c = self._ends(s, pc, cnc)
+        starts_t, exits_t = self._ends(s, pt, cnt)
+        q = list(adj2)
+        q.append([(v, wc, wt, -1) for (v, wc), (_v, wt) in zip(starts_c, starts_t)])
+        q.append([])
+        for x, wc in exits_c.items():
+            q[x] = q[x] + [(dst, wc, exits_t[x], -1)]
+        d = cnc.index[s.destination]
+        hc, ht = cnc.bound(d), cnt.bound(d)
+        hc = None if hc is None else hc + [0.0, 0.0]
+        ht = None if ht is None else ht + [0.0, 0.0]
+        result = pareto_frontier(q, src, dst, hc, ht, max_routes=max_routes)
+        self.stats.searches += 1
+        out = []
+        for r in result.routes:
+            runs = _runs_from(self.model, cnc, r.nodes[1], [e for e in r.edges if e >= 0])
+            out.append(cost_route(self.model, s, "cost", runs))
+        return out, result.capped
 
 
-def _runs(model: Model, cn: CompactNetwork, res) -> list[tuple[RateCard, list]]:
-    """The search's path as vehicle runs: (rate card, consecutive lane steps)."""
+def _runs_from(model: Model, cn: CompactNetwork, first_node: int, edges) -> list[tuple[RateCard, list]]:
+    """A path of the compact network as vehicle runs: (rate card, consecutive lane steps)."""
     def card(k):
         v, m, _n = cn.profile.cards[k]
         return card_of(model, v, m)
 
-    runs: list[tuple[RateCard, list]] = [(card(res.nodes[0] % cn.n_cards), [])]
-    for e in res.edges:
+    runs: list[tuple[RateCard, list]] = [(card(first_node % cn.n_cards), [])]
+    for e in edges:
         step = cn.steps[e]
         if step.transfer is not None:
             runs.append((card(step.card), []))
@@ -131,26 +211,26 @@ def _runs(model: Model, cn: CompactNetwork, res) -> list[tuple[RateCard, list]]:
     return [r for r in runs if r[1]]
 
 
-def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: RunStats,
-               problems: list[Problem]) -> CostedShipment:
+def _runs(model: Model, cn: CompactNetwork, res) -> list[tuple[RateCard, list]]:
+    return _runs_from(model, cn, res.nodes[0], res.edges)
+
+
+def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -> CostedShipment:
+    model = router.model
     if s.origin == s.destination:
-        sheet, cell = model.cell("Shipments", "destination", s.row)
-        problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id} starts and ends at "
-                                f"{s.origin}; nothing to route", "correct origin or destination"))
+        if with_notes:
+            sheet, cell = model.cell("Shipments", "destination", s.row)
+            router.problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id} starts and "
+                                           f"ends at {s.origin}; nothing to route",
+                                           "correct origin or destination"))
         return unrouted(model, s, REJECTED, obj, f"origin and destination are both {s.origin}")
-    # Candidate sets of vehicles: the named one; or all together (any vehicle, changing at
-    # terminals and ports) and each alone, so a minimum charge, which the search cannot add
-    # lane by lane, still decides between vehicles.
-    if s.vehicle:
-        candidates = [[s.vehicle]]
-    else:
-        candidates = [vehicles] + ([[v] for v in vehicles] if len(vehicles) > 1 else [])
+    candidates = router.candidates(s, obj)
     best: CostedShipment | None = None
-    best_vs: list[str] = []
+    best_vs: list[RateCard] = []
     settled = pushed = 0
     for vs in candidates:
         profile = make_profile(model, s, obj, vs)
-        cn, res = _search(model, graph, s, profile, networks, stats)
+        cn, res = router.search(s, profile)
         settled += res.stats.settled
         pushed += res.stats.pushed
         if not res.found:
@@ -159,8 +239,10 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         if best is None or costed.objective_value < best.objective_value - 1e-9:
             best, best_vs = costed, vs
     if best is None:
-        msg = _why_no_route(model, graph, s, obj, candidates[0], networks, stats)
+        msg = _why_no_route(router, s, obj, candidates[-1]) if with_notes else "no route"
         return unrouted(model, s, NO_ROUTE, obj, msg, s.vehicle or "", settled, pushed)
+    if not with_notes:
+        return replace(best, settled=settled, pushed=pushed)
     notes = []
     if best.vehicles > 1:
         sheet, cell = model.cell("Shipments", "weight_t", s.row)
@@ -168,9 +250,9 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         note = (f"{s.weight_t:g} t is more than one {split.card.vehicle} carries "
                 f"({split.card.payload_t:g} t): split over {split.vehicles} vehicles")
         notes.append(note)
-        problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id}: {note}",
-                                "check the weight; otherwise nothing to do: each vehicle is costed"))
-    restricted = _restriction_note(model, graph, s, obj, best_vs, best, networks, stats)
+        router.problems.append(Problem(WARNING, sheet, cell, f"shipment {s.shipment_id}: {note}",
+                                       "check the weight; otherwise nothing to do: each vehicle is costed"))
+    restricted = _restriction_note(router, s, obj, best_vs, best)
     if restricted:
         notes.append(restricted)
     modes = list(dict.fromkeys(leg.use.lane.mode for leg in best.legs))
@@ -178,7 +260,7 @@ def _route_one(model, graph, s: Shipment, obj: str, vehicles, networks, stats: R
         notes.append("intermodal: " + " > ".join(_run_modes(best)))
     if any(leg.co2e_basis != "fuel" for leg in best.legs):
         notes.append("CO2e partly from default intensities (see Legs)")
-    if not s.vehicle and len(vehicles) > 1:
+    if not s.vehicle and len(router.vehicles) > 1:
         notes.append(f"vehicle chosen by {obj}")
     return replace(best, message="; ".join(notes), settled=settled, pushed=pushed)
 
@@ -211,14 +293,14 @@ def _blocked_reasons(model: Model, s: Shipment, cn: CompactNetwork, res, profile
     return list(dict.fromkeys(reasons))
 
 
-def _restriction_note(model, graph, s: Shipment, obj: str, vehicles, best: CostedShipment,
-                      networks, stats) -> str:
+def _restriction_note(router: Router, s: Shipment, obj: str, vehicles, best: CostedShipment) -> str:
     """When restrictions moved the route, say which and what they cost."""
+    model = router.model
     profile = make_profile(model, s, obj, vehicles)
     if not profile.blocked:
         return ""
     free = make_profile(model, s, obj, vehicles, restricted=False)
-    cn, res = _search(model, graph, s, free, networks, stats)
+    cn, res = router.search(s, free)
     if not res.found:
         return ""
     reasons = _blocked_reasons(model, s, cn, res, profile)
@@ -230,14 +312,14 @@ def _restriction_note(model, graph, s: Shipment, obj: str, vehicles, best: Coste
     return f"restrictions: {'; '.join(reasons)}; route changed, {delta:+.2f} {unit}"
 
 
-def _why_no_route(model, graph, s: Shipment, obj: str, vehicles, networks, stats) -> str:
+def _why_no_route(router: Router, s: Shipment, obj: str, vehicles) -> str:
     """Name the restriction that blocks the shipment, or the depots that are cut off."""
+    model = router.model
     profile = make_profile(model, s, obj, vehicles)
     if profile.blocked:
         free = make_profile(model, s, obj, vehicles, restricted=False)
-        cn, res = _search(model, graph, s, free, networks, stats)
+        cn, res = router.search(s, free)
         if res.found:
             return ("blocked by lane restrictions: " + "; ".join(_blocked_reasons(model, s, cn, res, profile))
                     + " (no other route avoids them)")
-    cn = networks.get(profile) or compact(graph, model, profile)
-    return explain_no_route(graph, cn, s.origin, s.destination)
+    return explain_no_route(router.graph, router.network(profile), s.origin, s.destination)

@@ -178,9 +178,10 @@ class _Sheet:
             return _MISSING
         if isinstance(v, float) and v.is_integer():
             v = int(v)
-        if isinstance(v, (_dt.datetime, _dt.date)):
+        if isinstance(v, (_dt.datetime, _dt.date, _dt.time)):
             self.problem(ERROR, col.name, rr.row,
-                         f"{col.name} holds a date ({v}); the cell was probably auto-formatted",
+                         f"{col.name} holds a date or time ({v}); the cell was probably "
+                         "auto-formatted",
                          "format the cell as Text and type the value again")
             return _MISSING
         s = str(v).strip()
@@ -489,6 +490,7 @@ def validate(raw: RawWorkbook) -> Model:
         problems.append(Problem(WARNING, raw.sheets["Shipments"].title, "A2", "no shipments to cost",
                                 "add shipments from row 2"))
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
+    problems += fuel_rebate_problems(settings, rates, layout)
     return Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
                  tuple(problems), layout)
 
@@ -521,3 +523,27 @@ def _check_swapped_coordinates(raw: RawWorkbook, problems: list[Problem]) -> Non
 
 def has_errors(problems) -> bool:
     return any(p.severity == ERROR for p in problems)
+
+
+def fuel_rebate_problems(settings: Settings, rates, layout: dict) -> list[Problem]:
+    """A fuel price below a card's fuel_included_at gives a rebate per km; one larger than
+    per_km would make driving pay, which no rate means (and the route search needs lane costs
+    of zero or more). Checked again after each scenario's changes."""
+    out = []
+    price = settings.fuel_price_per_litre
+    if price is None:
+        return out
+    title, letters = layout.get("Rates", ("Rates", {}))
+    for r in rates:
+        if r.fuel_included_at is None or r.fuel_l_per_100km is None:
+            continue
+        per_km = r.per_km + r.fuel_l_per_100km / 100 * (price - r.fuel_included_at)
+        if per_km < 0:
+            cell = f"{letters.get('fuel_included_at', '')}{r.row}" if r.row else ""
+            out.append(Problem(ERROR, title, cell,
+                               f"at a fuel price of {price:g} the fuel rebate of {r.vehicle} on {r.mode} "
+                               f"({r.fuel_l_per_100km / 100 * (r.fuel_included_at - price):.4g} per km) is "
+                               f"more than its per_km {r.per_km:g}: driving would earn money",
+                               "check fuel_included_at, fuel_l_per_100km and the fuel_price_per_litre "
+                               "setting"))
+    return out

@@ -225,10 +225,22 @@ class _Writer:
 
 
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
-                 info: RunInfo) -> None:
+                 info: RunInfo, analysis=None, map_png: bytes | None = None) -> None:
+    """Write the costed workbook. `analysis` (costing.analysis.Analysis) adds the Comparison,
+    Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet."""
     w = _Writer(path, model, info.created)
     summary = w.wb.add_worksheet("Summary")
     legs_ws = w.wb.add_worksheet("Legs")
+    sheets = {}
+    if analysis is not None:
+        if analysis.alternatives:
+            sheets["Comparison"] = w.wb.add_worksheet("Comparison")
+        if analysis.frontiers:
+            sheets["Trade-offs"] = w.wb.add_worksheet("Trade-offs")
+        sheets["Lane usage"] = w.wb.add_worksheet("Lane usage")
+        sheets["Charts"] = w.wb.add_worksheet("Charts")
+    if map_png:
+        sheets["Map"] = w.wb.add_worksheet("Map")
     problems_ws = w.wb.add_worksheet("Problems")
     run_ws = w.wb.add_worksheet("Run")
     n_legs = sum(len(r.legs) for r in results)
@@ -237,10 +249,231 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
                          "cost the shipments in smaller batches")
     ranges = _write_legs(w, legs_ws, results)
     last_row = _write_summary(w, summary, results, ranges)
+    frontier_rows: dict[str, tuple[int, int]] = {}
+    if "Comparison" in sheets:
+        _write_comparison(w, sheets["Comparison"], results, analysis)
+    if "Trade-offs" in sheets:
+        frontier_rows = _write_tradeoffs(w, sheets["Trade-offs"], results, analysis)
+    if "Lane usage" in sheets:
+        _write_lane_usage(w, sheets["Lane usage"], analysis, n_legs)
+        _write_charts(w, sheets["Charts"], results, last_row, frontier_rows)
+    if map_png:
+        _write_map(w, sheets["Map"], map_png)
     _write_problems(w, problems_ws, problems)
     _write_run(w, run_ws, model, results, problems, info, last_row, n_legs)
     summary.activate()
     w.wb.close()
+
+
+COMPARISON_COLUMNS = [
+    ("shipment_id", 12, "text"), ("objective", 10, "text"), ("chosen", 7, "text"), ("status", 9, "text"),
+    ("vehicle", 14, "text"), ("legs", 5, "int"), ("total_cost", 12, "money"), ("drive_hours", 10, "hours"),
+    ("elapsed_hours", 10, "hours"), ("distance_km", 11, "km"), ("co2e_kg", 10, "kg"),
+    ("cost_vs_chosen", 12, "money"), ("hours_vs_chosen", 12, "hours"), ("km_vs_chosen", 11, "km"),
+    ("co2e_vs_chosen", 12, "kg"), ("route", 48, "text"),
+]
+
+
+def _route_text(res: CostedShipment) -> str:
+    if not res.legs:
+        return ""
+    return " > ".join([res.legs[0].use.from_depot] + [leg.use.to_depot for leg in res.legs])
+
+
+def _write_comparison(w: _Writer, ws, results, analysis) -> None:
+    """One block of rows per shipment: its best route under each objective, with differences
+    from the chosen route as formulas."""
+    w.header(ws, COMPARISON_COLUMNS)
+    c = {name: i for i, (name, _w, _k) in enumerate(COMPARISON_COLUMNS)}
+    col = {name: xl_col_to_name(i) for name, i in c.items()}
+    f = w.f
+    r = 1
+    for res in results:
+        alts = analysis.alternatives.get(res.shipment.shipment_id)
+        if not alts:
+            continue
+        chosen_row = r + 1 + list(alts).index(res.objective)
+        for obj, alt in alts.items():
+            x = r + 1
+            ws.write_string(r, c["shipment_id"], _text(res.shipment.shipment_id))
+            ws.write_string(r, c["objective"], obj)
+            ws.write_string(r, c["chosen"], "yes" if obj == res.objective else "")
+            ws.write_string(r, c["status"], alt.status)
+            ws.write_string(r, c["vehicle"], _text(alt.vehicle))
+            if alt.status == ROUTED:
+                ws.write_number(r, c["legs"], len(alt.legs))
+                figures = {"total_cost": alt.total_cost, "drive_hours": alt.drive_hours,
+                           "elapsed_hours": alt.elapsed_hours, "distance_km": alt.distance_km,
+                           "co2e_kg": alt.co2e_kg}
+                for name, value in figures.items():
+                    ws.write_number(r, c[name], value, f[COMPARISON_COLUMNS[c[name]][2]])
+                base = alts[res.objective]
+                for name, src in (("cost_vs_chosen", "total_cost"), ("hours_vs_chosen", "elapsed_hours"),
+                                  ("km_vs_chosen", "distance_km"), ("co2e_vs_chosen", "co2e_kg")):
+                    expr = f"{col[src]}{x}-{col[src]}{chosen_row}"
+                    value = figures[src] - getattr(base, src)
+                    kind = COMPARISON_COLUMNS[c[name]][2]
+                    if kind == "money":
+                        expr, value = w.round_f(expr), round_money(value, w.places)
+                    ws.write_formula(r, c[name], "=" + expr, f[kind], value)
+                ws.write_string(r, c["route"], _text(_route_text(alt)))
+            r += 1
+    ws.autofilter(0, 0, max(r - 1, 1), len(COMPARISON_COLUMNS) - 1)
+
+
+TRADEOFF_COLUMNS = [
+    ("shipment_id", 12, "text"), ("option", 7, "int"), ("total_cost", 12, "money"),
+    ("hours", 9, "hours"), ("elapsed_hours", 10, "hours"), ("distance_km", 11, "km"),
+    ("co2e_kg", 10, "kg"), ("pay_more", 11, "money"), ("hours_sooner", 11, "hours"),
+    ("read_out", 46, "text"), ("vehicle", 14, "text"), ("route", 48, "text"), ("note", 30, "text"),
+]
+
+
+def _write_tradeoffs(w: _Writer, ws, results, analysis) -> dict[str, tuple[int, int]]:
+    """Every route of a shipment that no other beats on both cost and hours (drive + handling),
+    cheapest first, with what paying more buys."""
+    w.header(ws, TRADEOFF_COLUMNS)
+    ws.write_comment(0, TRADEOFF_COLUMNS.index(("hours", 9, "hours")),
+                     "drive_hours + handling_hours: the time the trade-off search compares.")
+    c = {name: i for i, (name, _w, _k) in enumerate(TRADEOFF_COLUMNS)}
+    col = {name: xl_col_to_name(i) for name, i in c.items()}
+    f = w.f
+    cur = w.model.settings.currency
+    rows: dict[str, tuple[int, int]] = {}
+    r = 1
+    for res in results:
+        routes, capped = analysis.frontiers.get(res.shipment.shipment_id, ([], False))
+        if not routes:
+            continue
+        first = r + 1
+        cheapest = routes[0]
+        for k, alt in enumerate(routes, start=1):
+            x = r + 1
+            hours = alt.drive_hours + alt.handling_hours
+            ws.write_string(r, c["shipment_id"], _text(res.shipment.shipment_id))
+            ws.write_number(r, c["option"], k)
+            ws.write_number(r, c["total_cost"], alt.total_cost, f["money"])
+            ws.write_number(r, c["hours"], hours, f["hours"])
+            ws.write_number(r, c["elapsed_hours"], alt.elapsed_hours, f["hours"])
+            ws.write_number(r, c["distance_km"], alt.distance_km, f["km"])
+            ws.write_number(r, c["co2e_kg"], alt.co2e_kg, f["kg"])
+            more = round_money(alt.total_cost - cheapest.total_cost, w.places)
+            sooner = cheapest.drive_hours + cheapest.handling_hours - hours
+            tc, hc = col["total_cost"], col["hours"]
+            ws.write_formula(r, c["pay_more"], "=" + w.round_f(f"{tc}{x}-{tc}{first}"), f["money"], more)
+            ws.write_formula(r, c["hours_sooner"], f"={hc}{first}-{hc}{x}", f["hours"], sooner)
+            text = "cheapest" if k == 1 else f"pay {more:,.2f} {cur} more, arrive {sooner:.2f} h sooner"
+            ws.write_string(r, c["read_out"], text)
+            ws.write_string(r, c["vehicle"], _text(alt.vehicle))
+            ws.write_string(r, c["route"], _text(_route_text(alt)))
+            if k == len(routes) and capped:
+                ws.write_string(r, c["note"], "more trade-offs exist: raise frontier_max_routes to see them")
+            r += 1
+        rows[res.shipment.shipment_id] = (first, r)
+    ws.autofilter(0, 0, max(r - 1, 1), len(TRADEOFF_COLUMNS) - 1)
+    return rows
+
+
+LANE_COLUMNS = [
+    ("lane_id", 9, "text"), ("from_depot", 11, "text"), ("to_depot", 11, "text"), ("mode", 9, "text"),
+    ("legs", 6, "int"), ("tonnes", 10, "km"), ("vehicle_trips", 10, "int"), ("vehicle_km", 11, "km"),
+    ("cost", 12, "money"), ("share_of_cost", 10, "plain"),
+]
+
+
+def _write_lane_usage(w: _Writer, ws, analysis, n_legs: int) -> None:
+    """Where the money goes: per lane, the legs, tonnes, vehicle trips and leg cost routed over
+    it, as SUMIFS over the Legs sheet (both directions of a lane together)."""
+    w.header(ws, LANE_COLUMNS)
+    L = {name: xl_col_to_name(i) for name, i in LEG.items()}
+    last = max(n_legs + 1, 2)
+
+    def legs_range(name: str) -> str:
+        return f"Legs!${L[name]}$2:${L[name]}${last}"
+
+    pct = w.wb.add_format({"num_format": "0.0%"})
+    total_cost = round_money(sum(u.cost for u in analysis.lanes), w.places)
+    n = len(analysis.lanes)
+    for r, u in enumerate(analysis.lanes, start=1):
+        x = r + 1
+        ws.write_string(r, 0, _text(u.lane_id))
+        ws.write_string(r, 1, _text(u.from_depot))
+        ws.write_string(r, 2, _text(u.to_depot))
+        ws.write_string(r, 3, u.mode)
+        key = f"$A{x}"
+        ws.write_formula(r, 4, f"=COUNTIF({legs_range('lane_id')},{key})", w.f["int"], u.legs)
+        ws.write_formula(r, 5, f"=SUMIFS({legs_range('weight_t')},{legs_range('lane_id')},{key})",
+                         w.f["km"], u.tonnes)
+        ws.write_formula(r, 6, f"=SUMIFS({legs_range('vehicles')},{legs_range('lane_id')},{key})",
+                         w.f["int"], u.vehicle_trips)
+        ws.write_formula(r, 7, f"=SUMPRODUCT(({legs_range('lane_id')}={key})*{legs_range('vehicles')}"
+                         f"*{legs_range('distance_km')})", w.f["km"], u.vehicle_km)
+        cost_expr = f"SUMIFS({legs_range('leg_cost')},{legs_range('lane_id')},{key})"
+        ws.write_formula(r, 8, "=" + w.round_f(cost_expr), w.f["money"], round_money(u.cost, w.places))
+        ws.write_formula(r, 9, f"=IF(SUM($I$2:$I${n + 1})=0,0,I{x}/SUM($I$2:$I${n + 1}))", pct,
+                         (round_money(u.cost, w.places) / total_cost) if total_cost else 0.0)
+    ws.autofilter(0, 0, max(n, 1), len(LANE_COLUMNS) - 1)
+    if n:
+        ws.conditional_format(1, 8, n, 8, {"type": "data_bar", "bar_color": "#9DC3E6"})
+
+
+def _write_charts(w: _Writer, ws, results, last_row: int, frontier_rows) -> None:
+    """Native charts: cost by component (from the Summary TOTAL row) and the cost-time
+    trade-offs of the costliest shipments (from the Trade-offs sheet)."""
+    _page(ws)
+    ws.set_column(0, 0, 2)
+    ws.write_string(0, 1, "Charts are drawn from the Summary and Trade-offs sheets; "
+                    "they follow those figures when rates change and the workbook recalculates.",
+                    w.f["bold"])
+    components = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
+                  "handling_cost", "trip_cost", "min_charge_uplift"]
+    total_row = last_row + 1  # 0-based TOTAL row of Summary
+    chart = w.wb.add_chart({"type": "column"})
+    for name in components:
+        ci = SUM[name]
+        chart.add_series({"name": name,
+                          "categories": ["Summary", 0, SUM["total_cost"], 0, SUM["total_cost"]],
+                          "values": ["Summary", total_row, ci, total_row, ci]})
+    chart.set_title({"name": "Cost by component, all shipments"})
+    chart.set_y_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
+    chart.set_x_axis({"visible": False})
+    chart.set_legend({"position": "right"})
+    chart.set_size({"width": 760, "height": 380})
+    ws.insert_chart(2, 1, chart)
+    costliest = sorted((r for r in results if r.shipment.shipment_id in frontier_rows),
+                       key=lambda r: -r.total_cost)
+    picked = [r for r in costliest if frontier_rows[r.shipment.shipment_id][1]
+              - frontier_rows[r.shipment.shipment_id][0] >= 1][:5]
+    if picked:
+        sc = w.wb.add_chart({"type": "scatter", "subtype": "straight_with_markers"})
+        hi = TRADEOFF_COLUMNS.index(("hours", 9, "hours"))
+        ci = TRADEOFF_COLUMNS.index(("total_cost", 12, "money"))
+        for r in picked:
+            a, b = frontier_rows[r.shipment.shipment_id]  # 1-based first row, 0-based last+1
+            sc.add_series({"name": r.shipment.shipment_id,
+                           "categories": ["Trade-offs", a - 1, hi, b - 1, hi],
+                           "values": ["Trade-offs", a - 1, ci, b - 1, ci],
+                           "marker": {"type": "circle", "size": 6}})
+        sc.set_title({"name": "Cost against hours: trade-offs of the costliest shipments"})
+        sc.set_x_axis({"name": "hours (drive + handling)"})
+        sc.set_y_axis({"name": f"total cost ({w.model.settings.currency})", "num_format": "#,##0"})
+        sc.set_size({"width": 760, "height": 420})
+        ws.insert_chart(23, 1, sc)
+
+
+def _page(ws) -> None:
+    ws.set_landscape()
+    ws.set_paper(9)
+    ws.fit_to_pages(1, 1)
+
+
+def _write_map(w: _Writer, ws, png: bytes) -> None:
+    import io
+
+    _page(ws)
+    ws.write_string(0, 0, "Lane network and routed tonnes (line width); drawn from depot coordinates, "
+                    "not to a base map.", w.f["bold"])
+    ws.insert_image(2, 0, "network-map.png", {"image_data": io.BytesIO(png), "x_scale": 0.9, "y_scale": 0.9})
 
 
 def _write_legs(w: _Writer, ws, results) -> dict[str, tuple[int, int]]:
@@ -360,6 +593,28 @@ def _write_problems(w: _Writer, ws, problems: list[Problem]) -> None:
     ws.autofilter(0, 0, max(len(problems), 1), len(cols) - 1)
 
 
+def _bound_rows(bounds: dict[str, str]) -> list[tuple[str, str]]:
+    """The A* bounds used, one line per objective: how many networks, the range of r_min, and
+    any network searched without a bound."""
+    import re
+
+    per: dict[str, list[str]] = {}
+    for label, note in bounds.items():
+        per.setdefault(label.split(":")[0], []).append(note)
+    rows = []
+    for obj, notes in per.items():
+        ratios = [float(m.group(1)) for n in notes if (m := re.search(r"x ([0-9.eE+-]+) ", n))]
+        none = [n for n in notes if n.startswith("none")]
+        text = f"{len(notes)} compact network(s); lower bound = straight-line km x the least weight per " \
+               "straight-line km of the usable lanes"
+        if ratios:
+            text += f" ({min(ratios):.6g} to {max(ratios):.6g} per km)"
+        if none:
+            text += f"; {len(none)} without a bound: {none[0]}"
+        rows.append((f"A* bound ({obj})", text))
+    return rows
+
+
 def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, last: int,
                n_legs: int) -> None:
     ws.set_column(0, 0, 34)
@@ -421,8 +676,7 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
         ("nodes pushed", st.pushed),
         ("compact networks built", st.networks),
     ]
-    for label, note in st.bounds.items():
-        rows.append((f"bound: {label}", note))
+    rows += _bound_rows(st.bounds)
     for stage, secs in st.seconds.items():
         rows.append((f"seconds: {stage}", round(secs, 3)))
     for k, v in info.extra.items():

@@ -32,7 +32,7 @@ def _cents(x):
 def check_costed_workbook(path):
     """Every total equals the sum of its legs to the cent; returns (summary rows, legs rows)."""
     wb = openpyxl.load_workbook(path, data_only=True)
-    assert wb.sheetnames[:4] == ["Summary", "Legs", "Problems", "Run"]
+    assert wb.sheetnames[:2] == ["Summary", "Legs"] and wb.sheetnames[-2:] == ["Problems", "Run"]
     legs = [r for r in wb["Legs"].iter_rows(min_row=2, values_only=True) if r[0] is not None]
     summary = [r for r in wb["Summary"].iter_rows(min_row=2, values_only=True) if r[0] is not None]
     total_row = summary[-1]
@@ -112,7 +112,8 @@ def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_pa
     code, _, err = cli("run", inp, "-o", str(out))
     assert code == 0, err
     # our formulas use only these functions, sheet and cell references, numbers and operators
-    token = re.compile(r'ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
+    token = re.compile(r'SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!'
+                       r'|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
                        r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"')
     with zipfile.ZipFile(out) as z:
         for name in z.namelist():
@@ -191,3 +192,14 @@ def test_reproducible_bytes(cli, make_input, tmp_path, monkeypatch):
             if ra[0] and str(ra[0]).startswith("seconds:"):
                 continue
             assert ra == rb
+
+
+def test_fuel_rebate_larger_than_per_km_is_refused(cli, make_input, tmp_path):
+    data = base_data()
+    data["Settings"].append({"setting": "fuel_price_per_litre", "value": 1.00})
+    data["Rates"][0].update({"per_km": 0.10, "fuel_l_per_100km": 40, "fuel_included_at": 2.00})
+    out = tmp_path / "o.xlsx"
+    code, _, err = cli("run", make_input(data), "-o", str(out))
+    # 40 l/100 km x (1.00 - 2.00) = -0.40 per km against per_km 0.10 (hand-worked)
+    assert code == 1 and "Rates!J2" in err and "driving would earn money" in err
+    assert not out.exists()

@@ -1,0 +1,73 @@
+"""What finance compares beside the chosen routes: each shipment's best route under every
+objective, its cost-time trade-offs, and where the money goes lane by lane. Runs after the
+search and cost stages, on their results; writes nothing."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+from .contract import OBJECTIVES
+from .cost import ROUTED, CostedShipment
+from .model import Model
+from .route import Router
+
+
+@dataclass
+class LaneUse:
+    lane_id: str
+    from_depot: str
+    to_depot: str
+    mode: str
+    legs: int = 0
+    tonnes: float = 0.0
+    vehicle_trips: int = 0
+    vehicle_km: float = 0.0
+    cost: float = 0.0
+
+
+@dataclass
+class Analysis:
+    # shipment id -> objective -> best route under it (only when compare_objectives is yes)
+    alternatives: dict[str, dict[str, CostedShipment]] = field(default_factory=dict)
+    # shipment id -> (frontier routes cheapest first, capped?)
+    frontiers: dict[str, tuple[list[CostedShipment], bool]] = field(default_factory=dict)
+    lanes: list[LaneUse] = field(default_factory=list)
+
+
+def lane_usage(results: list[CostedShipment]) -> list[LaneUse]:
+    """Tonnes, legs, vehicle trips and cost per lane (both directions together), costliest first."""
+    out: dict[str, LaneUse] = {}
+    for r in results:
+        for leg in r.legs:
+            lane = leg.use.lane
+            u = out.get(lane.lane_id)
+            if u is None:
+                u = out[lane.lane_id] = LaneUse(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode)
+            u.legs += 1
+            u.tonnes += leg.weight_t
+            u.vehicle_trips += leg.vehicles
+            u.vehicle_km += leg.vehicles * leg.use.km
+            u.cost += leg.leg_cost
+    return sorted(out.values(), key=lambda u: (-u.cost, u.lane_id))
+
+
+def analyse(model: Model, router: Router, results: list[CostedShipment],
+            progress: Callable[[int, int], None] | None = None) -> Analysis:
+    a = Analysis(lanes=lane_usage(results))
+    compare = model.settings.compare_objectives == "yes"
+    max_routes = int(model.settings.frontier_max_routes)
+    total = len(results)
+    for k, r in enumerate(results):
+        s = r.shipment
+        if r.status == ROUTED:
+            if compare:
+                others = [o for o in OBJECTIVES if o != r.objective]
+                alts = router.alternatives(s, others)
+                alts[r.objective] = r
+                a.alternatives[s.shipment_id] = {o: alts[o] for o in OBJECTIVES}
+            if max_routes > 0:
+                a.frontiers[s.shipment_id] = router.frontier(s, max_routes)
+        if progress:
+            progress(k + 1, total)
+    return a

@@ -1,0 +1,732 @@
+"""Compare two costed workbooks (the OUTPUT of `costing run`): what changed per shipment and
+in total, written to a new workbook with the deltas as live formulas.
+
+read_costed reads one costed workbook back through its cached values, matching Summary
+columns by header name; compare pairs the shipments by shipment_id and classifies each
+change; write_comparison writes sheets Changes and Overview. Knows openpyxl (through the
+reader's hardened opening) and xlsxwriter; knows nothing of the search."""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+import warnings
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import xlsxwriter
+from xlsxwriter.utility import xl_col_to_name
+
+from . import __version__
+from .contract import normalise_header
+from .money import minor_unit, round_money
+from .reader import (
+    _READ_ERRORS,
+    InputError,
+    _check_container,
+    _detail,
+    _is_formula,
+    _open,
+    _rows,
+    sha256_of,
+)
+
+MAX_ROWS = 1_048_576
+MAX_CELL_TEXT = 32_767
+
+ADDED, REMOVED = "added", "removed"
+STATUS_CHANGED, ROUTE_CHANGED, COST_CHANGED, UNCHANGED = (
+    "status_changed", "route_changed", "cost_changed", "unchanged")
+KINDS = (ADDED, REMOVED, STATUS_CHANGED, ROUTE_CHANGED, COST_CHANGED, UNCHANGED)
+KIND_NOTES = {
+    ADDED: "in the new run only",
+    REMOVED: "in the old run only",
+    STATUS_CHANGED: "status differs (e.g. routed in one run, no_route in the other)",
+    ROUTE_CHANGED: "same status; the depots passed, the vehicle, the origin or the destination differ",
+    COST_CHANGED: "same status and route; total_cost differs by at least half a minor unit (0.005 "
+                  "for 2-decimal currencies)",
+    UNCHANGED: "same status, route and total_cost (hours or CO2e may still differ: see `changed`)",
+}
+
+REQUIRED_SUMMARY = ("shipment_id", "status", "total_cost")
+RUN_KEYS = {"currency": "setting: currency", "input_name": "input file",
+            "input_sha256": "input SHA-256", "run_at": "run at (UTC)", "tool": "tool"}
+_COSTED_FIX = ("give the costed workbook written by `costing run INPUT -o OUTPUT` (sheets Summary, "
+               "Legs, Problems, Run)")
+_NO_CACHE_FIX = ("the workbook was saved by a program that keeps formulas but not their results; open "
+                 "it in a spreadsheet application and save it again, or cost the input again with "
+                 "`costing run`")
+
+
+class CompareError(Exception):
+    """A workbook cannot be compared, or two runs cannot be compared with each other.
+
+    message: what is wrong, naming the file (and the cell where there is one);
+    fix: what to do about it; path: the workbook concerned, or None when the problem lies
+    between the two runs (e.g. different currencies)."""
+
+    def __init__(self, message: str, fix: str, path: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.fix = fix
+        self.path = path
+
+    def __str__(self) -> str:
+        return f"{self.message} ({self.fix})"
+
+
+@dataclass(frozen=True)
+class SummaryRow:
+    """One shipment row of a costed workbook's Summary sheet (cached values)."""
+
+    shipment_id: str
+    status: str
+    row: int  # 1-based spreadsheet row
+    origin: str | None = None
+    destination: str | None = None
+    objective: str | None = None
+    vehicle: str | None = None
+    legs: int | None = None
+    distance_km: float | None = None
+    drive_hours: float | None = None
+    elapsed_hours: float | None = None
+    total_cost: float | None = None
+    co2e_kg: float | None = None
+    route: str | None = None
+
+
+@dataclass
+class CostedRun:
+    """What a costed workbook says: its shipments, TOTAL row and run details."""
+
+    path: str
+    file_name: str
+    sha256: str  # of the costed workbook itself
+    currency: str
+    places: int  # money decimals of the currency (ISO 4217 minor unit)
+    shipments: dict[str, SummaryRow]  # by shipment_id, in sheet order
+    total: dict[str, float | None]  # TOTAL row: column name -> cached value (numeric columns)
+    columns: list[str]  # Summary headers as found, normalised
+    input_name: str | None = None
+    input_sha256: str | None = None
+    run_at: str | None = None
+    tool: str | None = None
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def total_cost(self) -> float | None:
+        return self.total.get("total_cost")
+
+    @property
+    def routed(self) -> int:
+        return sum(s.status == "routed" for s in self.shipments.values())
+
+
+@dataclass(frozen=True)
+class Change:
+    """One shipment, old run against new run. Missing side: None."""
+
+    shipment_id: str
+    kind: str  # one of KINDS
+    changed: tuple[str, ...]  # aspects that differ: status, route, vehicle, cost, hours, co2e, ...
+    old_status: str | None
+    new_status: str | None
+    old_cost: float | None
+    new_cost: float | None
+    delta: float  # new - old, a missing cost counted as 0; rounded to the currency's decimals
+    delta_ratio: float | None  # delta / old_cost when both costs exist and old_cost != 0
+    old_route: str | None
+    new_route: str | None
+    old_vehicle: str | None
+    new_vehicle: str | None
+    old_hours: float | None
+    new_hours: float | None
+    old_co2e: float | None
+    new_co2e: float | None
+    origin: str | None
+    destination: str | None
+
+    @property
+    def delta_pct(self) -> float | None:
+        return None if self.delta_ratio is None else self.delta_ratio * 100
+
+
+@dataclass
+class Comparison:
+    old: CostedRun
+    new: CostedRun
+    changes: list[Change]  # sorted: status changes, then largest |delta| first, then the rest
+    counts: dict[str, int]  # every kind of KINDS, in that order
+    old_total: float  # sum of the old run's shipment total_cost
+    new_total: float
+    total_delta: float
+    currency: str
+    places: int
+    hours_column: str  # elapsed_hours, or drive_hours when a run has no elapsed_hours
+    warnings: list[str] = field(default_factory=list)
+
+    def change(self, shipment_id: str) -> Change:
+        for c in self.changes:
+            if c.shipment_id == shipment_id:
+                return c
+        raise KeyError(shipment_id)
+
+
+# ---------------------------------------------------------------------------------------------
+# reading
+
+
+def _from_input_error(e: InputError, path: str) -> CompareError:
+    p = e.problems[0] if e.problems else None
+    message = p.message if p else str(e)
+    fix = p.fix if p else _COSTED_FIX
+    fix = fix.replace("give the .xlsx input workbook (start from `costing template`)", _COSTED_FIX)
+    return CompareError(message, fix, path)
+
+
+def _is_blank(v: object) -> bool:
+    return v is None or (isinstance(v, str) and v.strip() == "")
+
+
+def _as_text(v: object) -> str | None:
+    if _is_blank(v):
+        return None
+    if isinstance(v, float) and v.is_integer():
+        return str(int(v))
+    return str(v)
+
+
+def _as_number(v: object) -> float | None:
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return None
+    x = float(v)
+    return x if math.isfinite(x) else None
+
+
+def _find_sheet(titles: list[str], wanted: str) -> str | None:
+    for t in titles:
+        if normalise_header(t) == normalise_header(wanted):
+            return t
+    return None
+
+
+def _cell(col: int, row: int) -> str:
+    return f"{xl_col_to_name(col)}{row}"
+
+
+def read_costed(path: str | os.PathLike) -> CostedRun:
+    """Read a costed workbook (read-only, cached values). Raises CompareError when the file
+    is not a costed workbook or cannot be trusted (a formula without its cached result)."""
+    path = os.fspath(path)
+    name = os.path.basename(path)
+    try:
+        _check_container(path)
+        wb = _open(path, data_only=True)
+    except InputError as e:
+        raise _from_input_error(e, path) from None
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            titles = list(wb.sheetnames)
+            summary_title = _find_sheet(titles, "Summary")
+            run_title = _find_sheet(titles, "Run")
+            missing = [s for s, t in (("Summary", summary_title), ("Run", run_title)) if t is None]
+            if missing:
+                looks_like_input = _find_sheet(titles, "Shipments") and _find_sheet(titles, "Lanes")
+                what = ("it looks like an input workbook; cost it first with `costing run "
+                        f"{name} -o OUTPUT.xlsx` and compare the outputs" if looks_like_input
+                        else _COSTED_FIX)
+                shown = ", ".join(titles[:12]) + (", ..." if len(titles) > 12 else "")
+                raise CompareError(f"{name} is not a costed workbook: it has no "
+                                   f"{' or '.join(missing)} sheet (its sheets: {shown})", what, path)
+            run = _read_run(wb[run_title])
+            header, rows = _read_summary_rows(wb[summary_title])
+    except _READ_ERRORS as e:
+        detail, fix = _detail(e)
+        raise CompareError(f"{name} could not be read as a workbook: {detail}", fix, path) from None
+    finally:
+        wb.close()
+
+    currency = _as_text(run.get(RUN_KEYS["currency"]))
+    if currency is None:
+        raise CompareError(f"{name}: the Run sheet has no '{RUN_KEYS['currency']}' row, so the "
+                           "currency of its costs is unknown", _COSTED_FIX, path)
+    currency = currency.strip().upper()
+    columns = [normalise_header(h) for h in header]
+    index: dict[str, int] = {}
+    for i, h in enumerate(columns):
+        if h and h not in index:
+            index[h] = i
+    absent = [c for c in REQUIRED_SUMMARY if c not in index]
+    if absent:
+        raise CompareError(f"{name}: the Summary sheet has no {', '.join(absent)} column"
+                           f"{'s' if len(absent) > 1 else ''} in row 1", _COSTED_FIX, path)
+    places = minor_unit(currency)
+    run_info = CostedRun(path=path, file_name=name, sha256=sha256_of(path), currency=currency,
+                         places=places, shipments={}, total={}, columns=columns,
+                         input_name=_as_text(run.get(RUN_KEYS["input_name"])),
+                         input_sha256=_as_text(run.get(RUN_KEYS["input_sha256"])),
+                         run_at=_as_text(run.get(RUN_KEYS["run_at"])),
+                         tool=_as_text(run.get(RUN_KEYS["tool"])))
+    _fill(run_info, summary_title, index, rows)
+    return run_info
+
+
+def _read_run(ws) -> dict[str, object]:
+    items: dict[str, object] = {}
+    for row in _rows(ws, 1, None, 2):
+        if not row or _is_blank(row[0]):
+            continue
+        key = str(row[0]).strip()
+        if key not in items:
+            items[key] = row[1] if len(row) > 1 else None
+    return items
+
+
+def _read_summary_rows(ws) -> tuple[tuple, list[tuple[int, tuple]]]:
+    it = _rows(ws, 1, None, None)
+    header = tuple(next(it, None) or ())
+    width = len(header)
+    while width and _is_blank(header[width - 1]):
+        width -= 1
+    header = header[:width]
+    rows = []
+    for r, row in enumerate(it, start=2):
+        row = tuple(row[:width]) + (None,) * (width - len(row))
+        if all(_is_blank(v) for v in row):
+            continue
+        rows.append((r, row))
+    return header, rows
+
+
+def _fill(run: CostedRun, sheet: str, index: dict[str, int], rows: list[tuple[int, tuple]]) -> None:
+    """Turn Summary rows into SummaryRow records and the TOTAL row; every refusal names the cell."""
+    name = run.file_name
+    c_id, c_status, c_cost = index["shipment_id"], index["status"], index["total_cost"]
+    missing_cache: list[tuple[int, int, str]] = []  # (row, col, what) of numbers that must be there
+
+    def get(row: tuple, col: str) -> object:
+        i = index.get(col)
+        return None if i is None else row[i]
+
+    total_row: tuple[int, tuple] | None = None
+    for r, row in rows:
+        sid = _as_text(row[c_id])
+        status = _as_text(row[c_status])
+        if sid == "TOTAL" and status is None:
+            total_row = (r, row)
+            continue
+        if sid is None:
+            raise CompareError(f"{name}: {sheet}!{_cell(c_id, r)} has no shipment_id but row {r} is "
+                               "not blank", _COSTED_FIX, run.path)
+        if status is None:
+            raise CompareError(f"{name}: {sheet}!{_cell(c_status, r)} status of shipment {sid} is "
+                               "blank", _COSTED_FIX, run.path)
+        if sid in run.shipments:
+            first = run.shipments[sid].row
+            raise CompareError(f"{name}: shipment_id {sid} appears twice in {sheet} (rows {first} and "
+                               f"{r}); shipments are matched by shipment_id", _COSTED_FIX, run.path)
+        cost_raw = row[c_cost]
+        cost = _as_number(cost_raw)
+        if cost is None and (status == "routed" or not _is_blank(cost_raw)):
+            missing_cache.append((r, c_cost, f"total_cost of shipment {sid}"))
+        legs = _as_number(get(row, "legs"))
+        run.shipments[sid] = SummaryRow(
+            shipment_id=sid, status=status, row=r,
+            origin=_as_text(get(row, "origin")), destination=_as_text(get(row, "destination")),
+            objective=_as_text(get(row, "objective")), vehicle=_as_text(get(row, "vehicle")),
+            legs=None if legs is None else int(legs),
+            distance_km=_as_number(get(row, "distance_km")),
+            drive_hours=_as_number(get(row, "drive_hours")),
+            elapsed_hours=_as_number(get(row, "elapsed_hours")),
+            total_cost=None if cost is None else round_money(cost, run.places),
+            co2e_kg=_as_number(get(row, "co2e_kg")), route=_as_text(get(row, "route")))
+    if total_row is None:
+        raise CompareError(f"{name}: the {sheet} sheet has no TOTAL row (shipment_id TOTAL, blank "
+                           "status) below the shipments", _COSTED_FIX, run.path)
+    tr, trow = total_row
+    for col, i in index.items():
+        if col not in ("shipment_id", "status"):
+            run.total[col] = _as_number(trow[i])
+    if run.total.get("total_cost") is None:
+        missing_cache.append((tr, c_cost, "total_cost of the TOTAL row"))
+    if missing_cache:
+        _refuse_missing(run, sheet, missing_cache)
+    run.total["total_cost"] = round_money(run.total["total_cost"], run.places)
+    row_sum = round_money(sum(s.total_cost or 0.0 for s in run.shipments.values()), run.places)
+    if abs(row_sum - run.total["total_cost"]) >= _half_unit(run.places):
+        run.warnings.append(f"{name}: the TOTAL row's total_cost ({run.total['total_cost']:,.{run.places}f})"
+                            f" differs from the sum of the shipment rows ({row_sum:,.{run.places}f}); "
+                            "the comparison uses the shipment rows")
+
+
+def _refuse_missing(run: CostedRun, sheet: str, cells: list[tuple[int, int, str]]) -> None:
+    """A needed number is absent: say whether the cell holds a formula whose result was not
+    saved (look at the formulas once, only now) or holds something else."""
+    r, c, what = cells[0]
+    more = f" (and {len(cells) - 1} more cell{'s' if len(cells) > 2 else ''})" if len(cells) > 1 else ""
+    where = f"{run.file_name}: {sheet}!{_cell(c, r)} ({what})"
+    raw: object = None
+    try:
+        fwb = _open(run.path, data_only=False)
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                row = next(_rows(fwb[sheet], r, r, c + 1), ())
+                raw = row[c] if len(row) > c else None
+        finally:
+            fwb.close()
+    except (InputError, *_READ_ERRORS):
+        raw = None
+    if _is_formula(raw):
+        raise CompareError(f"{where} holds a formula with no saved result{more}", _NO_CACHE_FIX, run.path)
+    if isinstance(raw, str) and raw.startswith("#"):
+        raise CompareError(f"{where} holds the error {raw[:20]}{more}",
+                           "cost the input again with `costing run`", run.path)
+    shown = "is blank" if _is_blank(raw) else f"holds {str(raw)[:40]!r}, not a number"
+    raise CompareError(f"{where} {shown}{more}", "cost the input again with `costing run`; do not edit "
+                       "the costed workbook before comparing", run.path)
+
+
+# ---------------------------------------------------------------------------------------------
+# comparing
+
+
+def _half_unit(places: int) -> float:
+    return 0.5 * 10.0 ** -places
+
+
+def _same_number(a: float | None, b: float | None) -> bool:
+    if a is None or b is None:
+        return a is None and b is None
+    return math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-6)
+
+
+def compare(old: CostedRun, new: CostedRun) -> Comparison:
+    """Pair the shipments of two runs by shipment_id and classify each change. Raises
+    CompareError when the runs are in different currencies (their costs cannot be subtracted)."""
+    if old.currency != new.currency:
+        raise CompareError(f"the runs are in different currencies: {old.file_name} in {old.currency}, "
+                           f"{new.file_name} in {new.currency}; cost differences would be meaningless",
+                           "cost both inputs in the same currency (Settings: currency) and compare again")
+    places = old.places
+    half = _half_unit(places)
+    notes = [*old.warnings, *new.warnings]
+    if "elapsed_hours" in old.columns and "elapsed_hours" in new.columns:
+        hours_column = "elapsed_hours"
+    elif "drive_hours" in old.columns and "drive_hours" in new.columns:
+        hours_column = "drive_hours"
+        notes.append("a run has no elapsed_hours column; hours are compared on drive_hours")
+    else:
+        hours_column = "elapsed_hours"
+        notes.append("the runs do not both have an elapsed_hours or drive_hours column; hours are not "
+                     "compared")
+    if old.input_sha256 and old.input_sha256 == new.input_sha256:
+        notes.append("both runs costed the same input file (same input SHA-256); differences come from "
+                     "the command line (--objective) or the tool version")
+    if old.tool and new.tool and old.tool != new.tool:
+        notes.append(f"the runs were made by different versions: {old.tool} and {new.tool}")
+
+    ids = list(old.shipments) + [sid for sid in new.shipments if sid not in old.shipments]
+    order = {sid: i for i, sid in enumerate(ids)}
+    changes = [_change(sid, old.shipments.get(sid), new.shipments.get(sid), hours_column, places, half)
+               for sid in ids]
+
+    def sort_key(c: Change):
+        group = 0 if c.kind == STATUS_CHANGED else (1 if abs(c.delta) >= half else 2)
+        return (group, -abs(c.delta) if group < 2 else 0, order[c.shipment_id])
+
+    changes.sort(key=sort_key)
+    counts = {k: 0 for k in KINDS}
+    for c in changes:
+        counts[c.kind] += 1
+    old_total = round_money(sum(s.total_cost or 0.0 for s in old.shipments.values()), places)
+    new_total = round_money(sum(s.total_cost or 0.0 for s in new.shipments.values()), places)
+    return Comparison(old=old, new=new, changes=changes, counts=counts, old_total=old_total,
+                      new_total=new_total, total_delta=round_money(new_total - old_total, places),
+                      currency=old.currency, places=places, hours_column=hours_column, warnings=notes)
+
+
+def _change(sid: str, o: SummaryRow | None, n: SummaryRow | None, hours_column: str, places: int,
+            half: float) -> Change:
+    old_cost = o.total_cost if o else None
+    new_cost = n.total_cost if n else None
+    delta = round_money((new_cost or 0.0) - (old_cost or 0.0), places)
+    if abs(delta) < half:
+        delta = 0.0
+    ratio = delta / old_cost if old_cost is not None and new_cost is not None and old_cost != 0 else None
+    old_hours = getattr(o, hours_column) if o else None
+    new_hours = getattr(n, hours_column) if n else None
+    changed: list[str] = []
+    if o is None:
+        kind = ADDED
+    elif n is None:
+        kind = REMOVED
+    else:
+        for aspect in ("status", "origin", "destination", "route", "vehicle", "objective"):
+            if getattr(o, aspect) != getattr(n, aspect):
+                changed.append(aspect)
+        if abs(delta) >= half or (old_cost is None) != (new_cost is None):
+            changed.append("cost")
+        if not _same_number(old_hours, new_hours):
+            changed.append("hours")
+        if not _same_number(o.co2e_kg, n.co2e_kg):
+            changed.append("co2e")
+        if "status" in changed:
+            kind = STATUS_CHANGED
+            # route, vehicle, hours and CO2e follow from the status; list only what adds to it
+            changed = [a for a in changed if a in ("status", "origin", "destination", "cost")]
+        elif any(a in changed for a in ("origin", "destination", "route", "vehicle")):
+            kind = ROUTE_CHANGED
+        elif "cost" in changed:
+            kind = COST_CHANGED
+        else:
+            kind = UNCHANGED
+    either = n or o
+    return Change(
+        shipment_id=sid, kind=kind, changed=tuple(changed),
+        old_status=o.status if o else None, new_status=n.status if n else None,
+        old_cost=old_cost, new_cost=new_cost, delta=delta, delta_ratio=ratio,
+        old_route=o.route if o else None, new_route=n.route if n else None,
+        old_vehicle=o.vehicle if o else None, new_vehicle=n.vehicle if n else None,
+        old_hours=old_hours, new_hours=new_hours,
+        old_co2e=o.co2e_kg if o else None, new_co2e=n.co2e_kg if n else None,
+        origin=either.origin if either else None, destination=either.destination if either else None)
+
+
+# ---------------------------------------------------------------------------------------------
+# writing
+
+
+def _text(value: object) -> str:
+    s = "" if value is None else str(value)
+    if len(s) > MAX_CELL_TEXT:
+        s = s[: MAX_CELL_TEXT - 40] + " ... [truncated at the cell limit]"
+    return s
+
+
+def _changes_columns(hours: str) -> list[tuple[str, int, str, Callable[[Change], object]]]:
+    """(header, least width, kind, value) of the Changes sheet; kind: text | money | pct | hours |
+    kg | formula kinds (delta_money, delta_pct, delta_hours, delta_kg), filled in by the writer."""
+    return [
+        ("shipment_id", 12, "text", lambda c: c.shipment_id),
+        ("change", 14, "text", lambda c: c.kind),
+        ("changed", 16, "text", lambda c: ", ".join(c.changed)),
+        ("old_status", 10, "text", lambda c: c.old_status),
+        ("new_status", 10, "text", lambda c: c.new_status),
+        ("old_total_cost", 13, "money", lambda c: c.old_cost),
+        ("new_total_cost", 13, "money", lambda c: c.new_cost),
+        ("cost_delta", 13, "delta_money", lambda c: c.delta),
+        ("cost_delta_pct", 10, "delta_pct", lambda c: c.delta_ratio),
+        (f"old_{hours}", 10, "hours", lambda c: c.old_hours),
+        (f"new_{hours}", 10, "hours", lambda c: c.new_hours),
+        (f"{hours}_delta", 10, "delta_hours", lambda c: None if c.old_hours is None or c.new_hours is None
+         else c.new_hours - c.old_hours),
+        ("old_co2e_kg", 10, "kg", lambda c: c.old_co2e),
+        ("new_co2e_kg", 10, "kg", lambda c: c.new_co2e),
+        ("co2e_kg_delta", 10, "delta_kg", lambda c: None if c.old_co2e is None or c.new_co2e is None
+         else c.new_co2e - c.old_co2e),
+        ("old_vehicle", 12, "text", lambda c: c.old_vehicle),
+        ("new_vehicle", 12, "text", lambda c: c.new_vehicle),
+        ("old_route", 24, "text", lambda c: c.old_route),
+        ("new_route", 24, "text", lambda c: c.new_route),
+        ("origin", 10, "text", lambda c: c.origin),
+        ("destination", 11, "text", lambda c: c.destination),
+    ]
+
+
+def _money_format(currency: str, places: int) -> str:
+    zeros = "." + "0" * places if places else ""
+    # the code goes into a number format: only a plain ISO-style code is shown
+    suffix = f'" {currency}"' if re.fullmatch(r"[A-Z]{3}", currency) else ""
+    return f"#,##0{zeros}{suffix}"
+
+
+def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
+    """Write sheets Changes and Overview. Deltas and totals are live formulas with their values
+    cached; every string from the compared workbooks is written as text."""
+    from .writer import run_time
+
+    cmp = comparison
+    n = len(cmp.changes)
+    if n + 1 > MAX_ROWS:
+        raise CompareError(f"{n:,} shipments do not fit in one sheet ({MAX_ROWS:,} rows)",
+                           "compare smaller runs")
+    wb = xlsxwriter.Workbook(os.fspath(path), {"strings_to_formulas": False, "strings_to_urls": False,
+                                               "strings_to_numbers": False})
+    wb.set_properties({"title": "Comparison of two costed runs", "created": run_time(),
+                       "comments": f"Written by costing {__version__}"})
+    money = _money_format(cmp.currency, cmp.places)
+    f = {
+        "head": wb.add_format({"bold": True, "bg_color": "#1F4E78", "font_color": "#FFFFFF",
+                               "text_wrap": True, "valign": "top", "border": 1}),
+        "money": wb.add_format({"num_format": money}),
+        "delta_money": wb.add_format({"num_format": f"+{money};-{money};{money}"}),
+        "pct": wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"}),
+        "hours": wb.add_format({"num_format": "0.00"}),
+        "kg": wb.add_format({"num_format": "#,##0.0"}),
+        "int": wb.add_format({"num_format": "0"}),
+        "bold": wb.add_format({"bold": True}),
+        "wrap": wb.add_format({"text_wrap": True, "valign": "top"}),
+        "up": wb.add_format({"font_color": "#9C0006"}),
+        "down": wb.add_format({"font_color": "#006100"}),
+        "status": wb.add_format({"bg_color": "#FFE699"}),
+    }
+    f["delta_pct"] = f["pct"]
+    f["delta_hours"] = f["hours"]
+    f["delta_kg"] = f["kg"]
+    changes_ws = wb.add_worksheet("Changes")
+    overview_ws = wb.add_worksheet("Overview")
+    cols = _write_changes(changes_ws, cmp, f)
+    _write_overview(overview_ws, cmp, f, cols)
+    changes_ws.activate()
+    wb.close()
+
+
+def _write_changes(ws, cmp: Comparison, f) -> dict[str, str]:
+    spec = _changes_columns(cmp.hours_column)
+    letters = {name: xl_col_to_name(i) for i, (name, *_r) in enumerate(spec)}
+    widths = [max(w, len(name) + 2) for name, w, _k, _v in spec]
+    p = cmp.places
+    for r, c in enumerate(cmp.changes, start=1):
+        x = r + 1
+        for col, (_name, _w, kind, value_of) in enumerate(spec):
+            value = value_of(c)
+            if kind == "text":
+                if value is not None and value != "":
+                    s = _text(value)
+                    ws.write_string(r, col, s)
+                    widths[col] = max(widths[col], min(len(s) + 2, 60))
+            elif kind == "delta_money":
+                old, new = letters["old_total_cost"], letters["new_total_cost"]
+                ws.write_formula(r, col, f"=ROUND({new}{x}-{old}{x},{p})", f[kind], value)
+            elif kind == "delta_pct":
+                if value is not None:
+                    ws.write_formula(r, col, f"={letters['cost_delta']}{x}/{letters['old_total_cost']}{x}",
+                                     f[kind], value)
+            elif kind in ("delta_hours", "delta_kg"):
+                if value is not None:  # new - old: the two columns just before this one
+                    old, new = xl_col_to_name(col - 2), xl_col_to_name(col - 1)
+                    ws.write_formula(r, col, f"={new}{x}-{old}{x}", f[kind], value)
+            elif value is not None:
+                ws.write_number(r, col, value, f[kind])
+            if kind in ("money", "delta_money") and value is not None:
+                widths[col] = max(widths[col], min(len(f"{value:+,.{p}f}") + 6, 30))
+    for col, (name, _w, kind, _v) in enumerate(spec):
+        ws.write_string(0, col, name, f["head"])
+        ws.set_column(col, col, widths[col], f.get(kind) if kind != "text" else None)
+    notes = {"change": "; ".join(f"{k}: {v}" for k, v in KIND_NOTES.items()),
+             "cost_delta": "new_total_cost - old_total_cost; a missing cost counts as 0, so the deltas "
+                           "add up to the change of the total.",
+             "cost_delta_pct": "cost_delta / old_total_cost, where both runs have a cost.",
+             "changed": "What differs between the runs for this shipment."}
+    for name, text in notes.items():
+        ws.write_comment(0, list(letters).index(name), text, {"x_scale": 2.5, "y_scale": 1.5})
+    last = max(len(cmp.changes), 1)
+    ws.freeze_panes(1, 1)
+    ws.set_row(0, 30)
+    ws.autofilter(0, 0, last, len(spec) - 1)
+    d = list(letters).index("cost_delta")
+    ws.conditional_format(1, d, last, d, {"type": "cell", "criteria": ">", "value": 0, "format": f["up"]})
+    ws.conditional_format(1, d, last, d, {"type": "cell", "criteria": "<", "value": 0, "format": f["down"]})
+    k = list(letters).index("change")
+    ws.conditional_format(1, k, last, k, {"type": "cell", "criteria": "==", "value": f'"{STATUS_CHANGED}"',
+                                          "format": f["status"]})
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)
+    ws.repeat_rows(0)
+    return letters
+
+
+def _write_overview(ws, cmp: Comparison, f, letters: dict[str, str]) -> None:
+    old, new, p = cmp.old, cmp.new, cmp.places
+    last = max(len(cmp.changes), 1) + 1  # last data row of Changes, 1-based
+    widths = [34, 20, 20, 14]
+
+    def col_range(name: str) -> str:
+        c = letters[name]
+        return f"Changes!${c}$2:${c}${last}"
+
+    for c, h in enumerate(("item", "old run", "new run", "change")):
+        ws.write_string(0, c, h, f["head"])
+    r = 0
+
+    def text_row(label: str, a: object, b: object) -> None:
+        nonlocal r
+        r += 1
+        ws.write_string(r, 0, label, f["bold"])
+        for c, v in ((1, a), (2, b)):
+            s = _text("(not recorded)" if v is None else v)
+            ws.write_string(r, c, s)
+            widths[c] = max(widths[c], min(len(s) + 2, 70))
+
+    text_row("costed workbook", old.file_name, new.file_name)
+    text_row("costed workbook SHA-256", old.sha256, new.sha256)
+    text_row("input file", old.input_name, new.input_name)
+    text_row("input SHA-256", old.input_sha256, new.input_sha256)
+    text_row("run at (UTC)", old.run_at, new.run_at)
+    text_row("tool", old.tool, new.tool)
+    text_row("currency", old.currency, new.currency)
+    for label, a, b in (("shipments", len(old.shipments), len(new.shipments)),
+                        ("routed", old.routed, new.routed)):
+        r += 1
+        ws.write_string(r, 0, label, f["bold"])
+        ws.write_number(r, 1, a, f["int"])
+        ws.write_number(r, 2, b, f["int"])
+        ws.write_formula(r, 3, f"=C{r + 1}-B{r + 1}", f["int"], b - a)
+    r += 1
+    ws.write_string(r, 0, "total_cost", f["bold"])
+    ws.write_formula(r, 1, f"=ROUND(SUM({col_range('old_total_cost')}),{p})", f["money"], cmp.old_total)
+    ws.write_formula(r, 2, f"=ROUND(SUM({col_range('new_total_cost')}),{p})", f["money"], cmp.new_total)
+    ws.write_formula(r, 3, f"=ROUND(C{r + 1}-B{r + 1},{p})", f["delta_money"], cmp.total_delta)
+    total_row = r + 1
+    r += 1
+    ws.write_string(r, 0, "sum of cost_delta (equals the change)")
+    delta_sum = round_money(sum(c.delta for c in cmp.changes), p)
+    ws.write_formula(r, 3, f"=ROUND(SUM({col_range('cost_delta')}),{p})", f["delta_money"], delta_sum)
+    r += 1
+    ws.write_string(r, 0, "difference (must be 0)")
+    ws.write_formula(r, 3, f"=ROUND(D{r}-D{total_row},{p})", f["delta_money"],
+                     round_money(delta_sum - cmp.total_delta, p))
+    olds = [c.old_co2e for c in cmp.changes if c.old_co2e is not None]
+    news = [c.new_co2e for c in cmp.changes if c.new_co2e is not None]
+    r += 1
+    ws.write_string(r, 0, "co2e_kg", f["bold"])
+    ws.write_formula(r, 1, f"=SUM({col_range('old_co2e_kg')})", f["kg"], sum(olds))
+    ws.write_formula(r, 2, f"=SUM({col_range('new_co2e_kg')})", f["kg"], sum(news))
+    ws.write_formula(r, 3, f"=C{r + 1}-B{r + 1}", f["kg"], sum(news) - sum(olds))
+
+    r += 2
+    ws.write_string(r, 0, "change", f["head"])
+    ws.write_string(r, 1, "shipments", f["head"])
+    ws.write_string(r, 2, "meaning", f["head"])
+    first = r + 2
+    kind_col = f"Changes!${letters['change']}$2:${letters['change']}${last}"
+    for kind in KINDS:
+        r += 1
+        ws.write_string(r, 0, kind, f["bold"])
+        ws.write_formula(r, 1, f'=COUNTIF({kind_col},"{kind}")', f["int"], cmp.counts[kind])
+        ws.write_string(r, 2, KIND_NOTES[kind])
+    r += 1
+    ws.write_string(r, 0, "shipments compared", f["bold"])
+    ws.write_formula(r, 1, f"=SUM(B{first}:B{r})", f["int"], sum(cmp.counts.values()))
+
+    notes = [
+        f"Shipments are matched by shipment_id. Money is compared to the {cmp.currency} minor unit "
+        f"({p} decimals): differences under half of it count as none.",
+        "cost_delta counts a missing cost (removed, added, or not routed) as 0, so the cost_delta "
+        "column adds up to the change of the total.",
+        f"Hours compared: {cmp.hours_column}.",
+        *cmp.warnings,
+    ]
+    r += 1
+    for i, note in enumerate(notes):
+        r += 1
+        ws.write_string(r, 0, "note" if i < 3 else "warning", f["bold"])
+        ws.write_string(r, 1, _text(note))
+    for c, w in enumerate(widths):
+        ws.set_column(c, c, w)
+    ws.freeze_panes(1, 1)
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)

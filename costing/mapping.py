@@ -1,0 +1,75 @@
+"""A map picture of the lane network: depots from their coordinates, lanes as lines, routed
+tonnes by line width. Drawn with matplotlib (no base map, no network access); returns PNG bytes
+for the writer to embed."""
+
+from __future__ import annotations
+
+import io
+import math
+import warnings
+
+from .analysis import LaneUse
+from .model import Model
+
+MODE_COLOURS = {"road": "#4472C4", "rail": "#C55A11", "sea": "#2E75B6", "inland_water": "#00B0F0",
+                "air": "#7030A0"}
+KIND_MARKERS = {"hub": ("s", 60), "terminal": ("D", 45), "port": ("^", 55), "customer": ("o", 18),
+                "depot": ("o", 30)}
+
+
+def draw_map(model: Model, lanes: list[LaneUse], title: str) -> bytes | None:
+    """PNG bytes of the network map, or None when no two depots have coordinates."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    from matplotlib.lines import Line2D
+
+    pos = {d.depot_id: (d.longitude, d.latitude) for d in model.depots
+           if d.latitude is not None and d.longitude is not None}
+    if len(pos) < 2:
+        return None
+    used = {u.lane_id: u for u in lanes}
+    top = max((u.tonnes for u in lanes), default=0.0) or 1.0
+    mid_lat = sum(y for _x, y in pos.values()) / len(pos)
+    fig, ax = plt.subplots(figsize=(10, 8), dpi=100)
+    for lane in model.lanes:
+        if lane.from_depot not in pos or lane.to_depot not in pos:
+            continue
+        (x1, y1), (x2, y2) = pos[lane.from_depot], pos[lane.to_depot]
+        colour = MODE_COLOURS.get(lane.mode, "#808080")
+        if not lane.open:
+            ax.plot([x1, x2], [y1, y2], color="#A0A0A0", lw=0.8, ls=":", zorder=1)
+            continue
+        ax.plot([x1, x2], [y1, y2], color=colour, lw=0.6, alpha=0.35, zorder=1,
+                ls="--" if lane.mode != "road" else "-")
+        u = used.get(lane.lane_id)
+        if u is not None:
+            ax.plot([x1, x2], [y1, y2], color=colour, lw=1.0 + 9.0 * u.tonnes / top, alpha=0.75,
+                    solid_capstyle="round", zorder=2)
+    for d in model.depots:
+        if d.depot_id not in pos:
+            continue
+        marker, size = KIND_MARKERS.get(d.kind, ("o", 25))
+        x, y = pos[d.depot_id]
+        ax.scatter([x], [y], s=size, marker=marker, color="#222222", zorder=3)
+        ax.annotate(d.depot_id, (x, y), xytext=(3, 3), textcoords="offset points", fontsize=7, zorder=4)
+    ax.set_aspect(1 / max(0.2, math.cos(math.radians(mid_lat))))
+    ax.set_xlabel("longitude (degrees)")
+    ax.set_ylabel("latitude (degrees)")
+    ax.set_title(title, fontsize=11)
+    handles = [Line2D([], [], color=c, lw=3, label=m) for m, c in MODE_COLOURS.items()
+               if any(ln.mode == m for ln in model.lanes)]
+    handles.append(Line2D([], [], color="#A0A0A0", lw=1, ls=":", label="closed"))
+    handles += [Line2D([], [], marker=mk, ls="", color="#222222", label=k)
+                for k, (mk, _s) in KIND_MARKERS.items() if any(d.kind == k for d in model.depots)]
+    ax.legend(handles=handles, loc="best", fontsize=8, title=f"line width: routed tonnes (max {top:,.0f} t)",
+              title_fontsize=8)
+    ax.grid(True, lw=0.3, alpha=0.5)
+    buf = io.BytesIO()
+    with warnings.catch_warnings():  # names in scripts the plot font lacks draw as boxes
+        warnings.filterwarnings("ignore", message="Glyph .* missing")
+        fig.tight_layout()
+        fig.savefig(buf, format="png", metadata={"Software": None})
+    plt.close(fig)
+    return buf.getvalue()
