@@ -71,3 +71,34 @@ def analyse(model: Model, router: Router, results: list[CostedShipment],
         if progress:
             progress(k + 1, total)
     return a
+
+
+@dataclass
+class ScenarioRun:
+    scenario: object  # costing.scenarios.Scenario
+    results: list[CostedShipment]
+    stats: object  # route.RunStats
+
+
+def run_scenarios(model: Model, objective: str | None, base: list[CostedShipment],
+                  progress: Callable[[int, int], None] | None = None) -> list[ScenarioRun]:
+    """Cost every shipment again under each scenario's changed copy of the inputs."""
+    from .network import build_graph
+    from .route import objective_for
+    from .scenarios import apply_scenario
+
+    runs = []
+    total = len(model.scenarios) * len(model.shipments)
+    done = 0
+    for sc in model.scenarios:
+        changed = apply_scenario(model, sc)
+        router = Router(changed, build_graph(changed))
+        results = []
+        for s in changed.shipments:
+            results.append(router.route(s, objective_for(changed, s, objective)))
+            done += 1
+            if progress:
+                progress(done, total)
+        router.stats.networks = len(router.networks)
+        runs.append(ScenarioRun(sc, results, router.stats))
+    return runs

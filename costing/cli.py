@@ -64,6 +64,16 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("--input-copy", metavar="PATH", default=None,
                    help="also save the example input workbook to PATH, to look at or edit")
     _common(d)
+
+    m = sub.add_parser("compare", help="compare two costed workbooks (e.g. last week and this week)",
+                       description="Match shipments by shipment_id across two costed workbooks written "
+                       "by `costing run` and write DIFF: cost, route and status changes, shipments added "
+                       "and removed, and the change in the total.")
+    m.add_argument("old", metavar="OLD", help="earlier costed workbook")
+    m.add_argument("new", metavar="NEW", help="later costed workbook")
+    m.add_argument("-o", "--output", metavar="DIFF", required=True, help="comparison workbook to write")
+    m.add_argument("--overwrite", action="store_true", help="replace DIFF if it exists")
+    m.add_argument("--quiet", action="store_true", help="print only errors")
     return p
 
 
@@ -85,6 +95,8 @@ def main(argv: list[str] | None = None) -> int:
             return _run(args.input, args.output, args)
         if args.command == "demo":
             return _demo(args)
+        if args.command == "compare":
+            return _compare(args)
     except UsageError as e:
         print(f"costing: error: {e}", file=sys.stderr)
         return EXIT_USAGE
@@ -196,7 +208,7 @@ class _Progress:
 
 
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
-    from .analysis import analyse
+    from .analysis import analyse, run_scenarios
     from .mapping import draw_map
     from .network import build_graph
     from .route import Router, objective_for
@@ -230,6 +242,10 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     analysis = analyse(model, router, results, _Progress("comparing"))
     times["comparison and trade-offs"] = time.perf_counter() - t0
     t0 = time.perf_counter()
+    scenario_runs = run_scenarios(model, args.objective, results, _Progress("scenarios"))
+    if scenario_runs:
+        times["scenarios"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
     map_png = draw_map(model, analysis.lanes, f"{input_label or os.path.basename(input_path)}: "
                        "lanes and routed tonnes")
     times["map"] = time.perf_counter() - t0
@@ -239,7 +255,8 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
     t0 = time.perf_counter()
-    _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png))
+    _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
+                                                    scenario_runs))
     elapsed = time.perf_counter() - t0
     if not args.quiet:
         _print_problems(problems)
@@ -248,6 +265,30 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         total = sum(r.total_cost for r in results if r.status == "routed")
         print(f"{routed} of {len(results)} shipments routed; total {total:,.2f} "
               f"{model.settings.currency}; wrote {output} ({elapsed:.2f} s to write)")
+    return EXIT_OK
+
+
+def _compare(args) -> int:
+    from .compare import CompareError, compare, read_costed, write_comparison
+
+    for path in (args.old, args.new):
+        if not os.path.exists(path):
+            raise UsageError(f"file not found: {path}")
+    _check_output_path(args.output, args.old, args.overwrite)
+    if os.path.exists(args.output) and os.path.samefile(args.output, args.new):
+        raise UsageError("DIFF is the NEW workbook; choose another name")
+    try:
+        cmp = compare(read_costed(args.old), read_costed(args.new))
+    except CompareError as e:
+        print(f"costing: error: {e.message} ({e.fix})", file=sys.stderr)
+        return EXIT_INPUT
+    _atomic_write(args.output, lambda p: write_comparison(p, cmp))
+    if not args.quiet:
+        for warning in cmp.warnings:
+            print(f"warning: {warning}", file=sys.stderr)
+        counts = ", ".join(f"{n} {k}" for k, n in cmp.counts.items() if n)
+        print(f"{counts}; total {cmp.old_total:,.2f} -> {cmp.new_total:,.2f} {cmp.currency} "
+              f"({cmp.total_delta:+,.2f}); wrote {args.output}")
     return EXIT_OK
 
 

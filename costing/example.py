@@ -247,6 +247,18 @@ _SHIPMENTS = [
 ]
 
 
+_SCENARIO_COLUMNS = ("scenario", "sheet", "key", "column", "change")
+# Two what-ifs for finance: diesel up 12 % (through the fuel surcharge), and the Blerick rail
+# terminal's lines closed for works (which routes change, and what it costs).
+_SCENARIOS = [
+    ("fuel_up_12", "Settings", "fuel_price_per_litre", "value", "+12%"),
+    ("blerick_rail_closed", "Lanes", "L067", "open", "=no"),
+    ("blerick_rail_closed", "Lanes", "L068", "open", "=no"),
+    ("blerick_rail_closed", "Lanes", "L071", "open", "=no"),
+    ("blerick_rail_closed", "Lanes", "L073", "open", "=no"),
+]
+
+
 def _rows(columns: tuple[str, ...], table: list[tuple]) -> list[dict]:
     return [dict(zip(columns, row, strict=True)) for row in table]
 
@@ -259,6 +271,7 @@ def example_data() -> dict[str, list[dict]]:
         "Lanes": _rows(_LANE_COLUMNS, _LANES),
         "Rates": _rows(_RATE_COLUMNS, _RATES),
         "Shipments": _rows(_SHIPMENT_COLUMNS, _SHIPMENTS),
+        "Scenarios": _rows(_SCENARIO_COLUMNS, _SCENARIOS),
     }
 
 

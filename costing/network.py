@@ -233,7 +233,9 @@ class CompactNetwork:
         if h is None:
             gc = great_circle_km_many(self.lats, self.lons, float(self.lats[target_depot]),
                                       float(self.lons[target_depot]))
-            per_depot = gc * (self.r_min * BOUND_SAFETY)
+            # a depot with no coordinates here touches no usable lane (else there would be no
+            # bound at all), so it is unreachable: 0 keeps every entry a number
+            per_depot = np.nan_to_num(gc * (self.r_min * BOUND_SAFETY), nan=0.0)
             h = np.repeat(per_depot, self.n_cards).tolist()
             if len(self._bounds) > 256:
                 self._bounds.clear()

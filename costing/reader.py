@@ -89,6 +89,14 @@ def _refuse(message: str, fix: str) -> InputError:
     return InputError([Problem(ERROR, "", "", message, fix)])
 
 
+def _decodes(data: bytes) -> bool:
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError as e:  # a character cut at the end of the sample is fine
+        return e.start >= len(data) - 3
+    return True
+
+
 def _check_container(path: str) -> None:
     """Refuse what is not an .xlsx workbook before openpyxl sees it, with a message a
     coordinator can act on."""
@@ -101,7 +109,8 @@ def _check_container(path: str) -> None:
         raise _refuse(f"{os.path.basename(path)} is empty (0 bytes)",
                       "save the workbook again from the spreadsheet application as .xlsx")
     with open(path, "rb") as f:
-        head = f.read(8)
+        start = f.read(4096)
+    head = start[:8]
     ext = os.path.splitext(path)[1].lower()
     if head.startswith(b"\xd0\xcf\x11\xe0"):
         kind = ("a password-protected (encrypted) workbook" if ext in (".xlsx", ".xlsm")
@@ -110,7 +119,10 @@ def _check_container(path: str) -> None:
                if "password" in kind else "open it and save it as Excel Workbook (.xlsx)")
         raise _refuse(f"{os.path.basename(path)} is {kind}, not an .xlsx workbook", fix)
     if not head.startswith(b"PK"):
-        what = "a text/CSV file" if ext in (".csv", ".txt") else "not an .xlsx workbook"
+        text = b"\0" not in start and _decodes(start)
+        what = ("a text/CSV file" if ext in (".csv", ".txt") else
+                f"a text file (CSV?) named {ext or 'without an extension'}, not an .xlsx workbook"
+                if text else "not an .xlsx workbook")
         raise _refuse(f"{os.path.basename(path)} is {what}",
                       "open it in a spreadsheet application and save it as Excel Workbook (.xlsx), "
                       "or start from `costing template`")
@@ -166,11 +178,32 @@ def _detail(e: BaseException) -> tuple[str, str]:
     if isinstance(e, SyntaxError):  # xml.etree.ElementTree.ParseError
         return f"a part holds malformed XML ({text})", _DAMAGED_FIX
     if isinstance(e, ValueError):  # e.g. a number cell holding NaN: int('NaN') fails
-        return f"a cell holds a value a spreadsheet cannot hold ({text})", _DAMAGED_FIX
+        return f"it holds a value that cannot be read ({text})", _DAMAGED_FIX
     return (f"{type(e).__name__}: {text}" if text else type(e).__name__), _REREAD_FIX
 
 
-def _open(path: str, data_only: bool):
+class _Book:
+    """A read-only workbook and the file it streams from (openpyxl does not close a file
+    object it was given)."""
+
+    def __init__(self, wb, f):
+        self.wb, self.f = wb, f
+
+    @property
+    def sheetnames(self) -> list[str]:
+        return self.wb.sheetnames
+
+    def __getitem__(self, title: str):
+        return self.wb[title]
+
+    def close(self) -> None:
+        try:
+            self.wb.close()
+        finally:
+            self.f.close()
+
+
+def _open(path: str, data_only: bool) -> _Book:
     import openpyxl
 
     try:
@@ -180,8 +213,8 @@ def _open(path: str, data_only: bool):
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")  # openpyxl notes unsupported extensions
-                return openpyxl.load_workbook(f, read_only=True, data_only=data_only,
-                                              keep_links=False)
+                return _Book(openpyxl.load_workbook(f, read_only=True, data_only=data_only,
+                                                    keep_links=False), f)
         except BaseException:
             f.close()
             raise
@@ -241,7 +274,7 @@ def read_workbook(path: str) -> RawWorkbook:
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            titles = list(values_wb.sheetnames)
+            titles = list(values_wb.wb.sheetnames)
             known = {normalise_header(s.name) for s in SHEETS}
             for spec in SHEETS:
                 found = _match_sheets(titles, spec.name)
@@ -262,7 +295,7 @@ def read_workbook(path: str) -> RawWorkbook:
                         "delete or rename all but one of them"))
                     continue
                 title = current = found[0]
-                ws = values_wb[title]
+                ws = values_wb.wb[title]
                 if not hasattr(ws, "iter_rows"):
                     problems.append(Problem(ERROR, title, "", f"sheet {title} is a chart sheet, "
                                             "not a table", f"put the {spec.name} table on a "
@@ -273,7 +306,7 @@ def read_workbook(path: str) -> RawWorkbook:
                 if has_formulas:
                     if formula_wb is None:
                         formula_wb = _open(path, data_only=False)
-                    ws_f = formula_wb[title]
+                    ws_f = formula_wb.wb[title]
                 sheet = _read_sheet(spec, title, ws, ws_f, merges, problems)
                 if sheet is not None:
                     sheets[spec.name] = sheet

@@ -7,6 +7,7 @@ import datetime as _dt
 import difflib
 import math
 import re
+from dataclasses import replace
 
 from .contract import SETTINGS, SETTINGS_BY_NAME, SHEETS_BY_NAME, Column, normalise_header
 from .geo import great_circle_km
@@ -87,27 +88,28 @@ class _Sheet:
             return self._choice(rr, col, v)
         return self._text(rr, col, v)
 
-    def _number(self, rr, col, v):
+    def _number(self, rr, col, v, label: str | None = None):
+        name = label or col.name  # Settings: the setting's name; its cell is in column value
         unit = f" in {col.unit}" if col.unit else ""
         if isinstance(v, bool):
-            self.problem(ERROR, col.name, rr.row, f"{col.name} holds TRUE/FALSE, not a number",
-                         f"type the {col.name} as a number{unit}")
+            self.problem(ERROR, col.name, rr.row, f"{name} holds TRUE/FALSE, not a number",
+                         f"type the {name} as a number{unit}")
             return _MISSING
         if isinstance(v, _dt.timedelta):
             hours = v.total_seconds() / 3600
             self.problem(ERROR, col.name, rr.row,
-                         f"{col.name} holds a duration ({v}), not a number",
-                         f"format the cell as Number and type the {col.name}{unit}"
+                         f"{name} holds a duration ({v}), not a number",
+                         f"format the cell as Number and type the {name}{unit}"
                          + (f", here {hours:g}" if col.unit == "hours" else ""))
             return _MISSING
         if isinstance(v, (_dt.datetime, _dt.date, _dt.time)):
             self.problem(ERROR, col.name, rr.row,
-                         f"{col.name} holds a date or time ({v}), not a number",
-                         f"format the cell as Number and type the {col.name}{unit}")
+                         f"{name} holds a date or time ({v}), not a number",
+                         f"format the cell as Number and type the {name}{unit}")
             return _MISSING
         if isinstance(v, str):
             if v.upper() in SPREADSHEET_ERRORS:
-                self.problem(ERROR, col.name, rr.row, f"{col.name} holds the error value {v} (a "
+                self.problem(ERROR, col.name, rr.row, f"{name} holds the error value {v} (a "
                              "formula that failed)", "correct the formula, or type the value itself")
                 return _MISSING
             degrees = _degrees_in_text(v) if col.unit == "degrees" else None
@@ -117,34 +119,36 @@ class _Sheet:
             elif guess is not None:
                 hint = f"type {guess:g} as a number"
             else:
-                hint = f"type the {col.name} as a number{unit}"
+                hint = f"type the {name} as a number{unit}"
             self.problem(ERROR, col.name, rr.row,
-                         f"{col.name} holds the text '{_short(v)}', not a number",
+                         f"{name} holds the text '{_short(v)}', not a number",
                          hint + " (no units, no thousands separators)")
             return _MISSING
         if not isinstance(v, (int, float)):
-            self.problem(ERROR, col.name, rr.row, f"{col.name} holds '{_short(v)}', not a number",
-                         f"type the {col.name} as a number{unit}")
+            self.problem(ERROR, col.name, rr.row, f"{name} holds '{_short(v)}', not a number",
+                         f"type the {name} as a number{unit}")
             return _MISSING
         try:
             x = float(v)
-        except OverflowError:
-            x = math.inf
+        except OverflowError:  # an integer of hundreds of digits
+            self.problem(ERROR, col.name, rr.row, f"{name} is far too large ({len(str(v))} digits)",
+                         f"type the {name} as a number{unit}")
+            return _MISSING
         if not math.isfinite(x):
-            self.problem(ERROR, col.name, rr.row, f"{col.name} is not a finite number",
-                         f"type the {col.name} as a number{unit}")
+            self.problem(ERROR, col.name, rr.row, f"{name} is not a finite number",
+                         f"type the {name} as a number{unit}")
             return _MISSING
         if col.minimum is not None and x < col.minimum:
             what = "negative" if col.minimum == 0 else f"below {col.minimum:g}"
-            self.problem(ERROR, col.name, rr.row, f"{col.name} is {what} ({x:g})",
+            self.problem(ERROR, col.name, rr.row, f"{name} is {what} ({x:g})",
                          f"enter a value of at least {col.minimum:g}{unit}")
             return _MISSING
         if col.maximum is not None and x > col.maximum:
-            self.problem(ERROR, col.name, rr.row, f"{col.name} {x:g} is above {col.maximum:g}",
-                         f"check the value; {col.name} takes at most {col.maximum:g}{unit}")
+            self.problem(ERROR, col.name, rr.row, f"{name} {x:g} is above {col.maximum:g}",
+                         f"check the value; {name} takes at most {col.maximum:g}{unit}")
             return _MISSING
         if col.maximum is None and abs(x) > MAX_PLAUSIBLE_NUMBER:
-            self.problem(ERROR, col.name, rr.row, f"{col.name} {x:g} is implausibly large",
+            self.problem(ERROR, col.name, rr.row, f"{name} {x:g} is implausibly large",
                          f"check the value; the tool takes at most {MAX_PLAUSIBLE_NUMBER:g}{unit}")
             return _MISSING
         return x
@@ -291,7 +295,7 @@ def _settings(raw: RawSheet | None, problems: list[Problem]) -> Settings:
             continue
         if spec.kind == "number":
             col = Column(name, "number", minimum=spec.minimum, maximum=spec.maximum)
-            x = sh._number(rr, _as_value_col(col), v)
+            x = sh._number(rr, _as_value_col(col), v, label=name)
             if x is not _MISSING:
                 values[name] = x
         elif spec.kind == "choice":
@@ -491,8 +495,18 @@ def validate(raw: RawWorkbook) -> Model:
                                 "add shipments from row 2"))
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     problems += fuel_rebate_problems(settings, rates, layout)
-    return Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
-                 tuple(problems), layout)
+    model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
+                  tuple(problems), layout)
+    from .scenarios import parse_scenarios  # scenarios builds on this module
+
+    scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
+    for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
+        from .scenarios import apply_scenario
+
+        changed = apply_scenario(model, sc)
+        for p in fuel_rebate_problems(changed.settings, changed.rates, layout):
+            more.append(replace(p, message=f"in scenario {sc.name}: {p.message}"))
+    return replace(model, problems=tuple(problems) + tuple(more), scenarios=tuple(scenarios))
 
 
 def _swapped_depot(a: Depot, b: Depot, km: float) -> Depot | None:

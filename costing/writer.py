@@ -225,13 +225,16 @@ class _Writer:
 
 
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
-                 info: RunInfo, analysis=None, map_png: bytes | None = None) -> None:
+                 info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=()) -> None:
     """Write the costed workbook. `analysis` (costing.analysis.Analysis) adds the Comparison,
-    Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet."""
+    Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
+    (costing.analysis.ScenarioRun) a Scenarios sheet."""
     w = _Writer(path, model, info.created)
     summary = w.wb.add_worksheet("Summary")
-    legs_ws = w.wb.add_worksheet("Legs")
     sheets = {}
+    if scenario_runs:
+        sheets["Scenarios"] = w.wb.add_worksheet("Scenario comparison")
+    legs_ws = w.wb.add_worksheet("Legs")
     if analysis is not None:
         if analysis.alternatives:
             sheets["Comparison"] = w.wb.add_worksheet("Comparison")
@@ -250,13 +253,16 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     ranges = _write_legs(w, legs_ws, results)
     last_row = _write_summary(w, summary, results, ranges)
     frontier_rows: dict[str, tuple[int, int]] = {}
+    scenario_rows = None
+    if scenario_runs:
+        scenario_rows = _write_scenarios(w, sheets["Scenarios"], results, scenario_runs, last_row)
     if "Comparison" in sheets:
         _write_comparison(w, sheets["Comparison"], results, analysis)
     if "Trade-offs" in sheets:
         frontier_rows = _write_tradeoffs(w, sheets["Trade-offs"], results, analysis)
     if "Lane usage" in sheets:
         _write_lane_usage(w, sheets["Lane usage"], analysis, n_legs)
-        _write_charts(w, sheets["Charts"], results, last_row, frontier_rows)
+        _write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows)
     if map_png:
         _write_map(w, sheets["Map"], map_png)
     _write_problems(w, problems_ws, problems)
@@ -417,7 +423,112 @@ def _write_lane_usage(w: _Writer, ws, analysis, n_legs: int) -> None:
         ws.conditional_format(1, 8, n, 8, {"type": "data_bar", "bar_color": "#9DC3E6"})
 
 
-def _write_charts(w: _Writer, ws, results, last_row: int, frontier_rows) -> None:
+SCENARIO_COMPONENTS = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
+                       "handling_cost", "trip_cost", "min_charge_uplift"]
+
+
+def _write_scenarios(w: _Writer, ws, base: list[CostedShipment], runs, last_row: int) -> tuple[int, int]:
+    """Totals per scenario and cost component, then per-shipment totals and deltas and which
+    shipments changed route. The base row refers to the Summary TOTAL row; scenario figures are
+    the tool's costing of each scenario's changed inputs (their legs are not in this workbook)."""
+    _page(ws)
+    f = w.f
+    cur = w.model.settings.currency
+    ws.write_string(0, 0, "Scenario totals by cost component. The base row is the Summary TOTAL row; "
+                    "each scenario row is the same shipments costed with that scenario's changes.", f["bold"])
+    head = ["scenario", "changes", "routed"] + SCENARIO_COMPONENTS + ["total_cost", "delta_vs_base",
+                                                                     "delta_pct", "co2e_kg", "rerouted"]
+    for c, h in enumerate(head):
+        ws.write_string(2, c, h, f["head"])
+    ws.set_column(0, 0, 16)
+    ws.set_column(1, 1, 50)
+    ws.set_column(2, len(head) - 1, 12)
+    col = {h: i for i, h in enumerate(head)}
+    letter = {h: xl_col_to_name(i) for h, i in col.items()}
+    pct = w.wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"})
+    t = last_row + 2  # Summary TOTAL row, 1-based
+
+    def figures(results):
+        routed = [r for r in results if r.status == ROUTED]
+        out = {name: round_money(sum(_component(r, name) for r in routed), w.places)
+               for name in SCENARIO_COMPONENTS + ["total_cost"]}
+        out["co2e_kg"] = sum(r.co2e_kg for r in routed)
+        out["routed"] = len(routed)
+        return out
+
+    base_fig = figures(base)
+    base_routes = {r.shipment.shipment_id: _route_text(r) for r in base}
+    rows = [("base", "(the input as given)", base, base_fig)]
+    for run in runs:
+        rows.append((run.scenario.name, "; ".join(ch.describe() for ch in run.scenario.changes),
+                     run.results, figures(run.results)))
+    first = 3
+    for i, (name, changes, results, fig) in enumerate(rows):
+        r = first + i
+        x = r + 1
+        ws.write_string(r, col["scenario"], _text(name))
+        ws.write_string(r, col["changes"], _text(changes))
+        ws.write_number(r, col["routed"], fig["routed"])
+        for comp in SCENARIO_COMPONENTS + ["total_cost", "co2e_kg"]:
+            fmt = f["kg"] if comp == "co2e_kg" else f["money"]
+            if i == 0:
+                ws.write_formula(r, col[comp], f"=Summary!{xl_col_to_name(SUM[comp])}{t}", fmt, fig[comp])
+            else:
+                ws.write_number(r, col[comp], fig[comp], fmt)
+        b = first + 1
+        tot, dv = letter["total_cost"], letter["delta_vs_base"]
+        delta = round_money(fig["total_cost"] - base_fig["total_cost"], w.places)
+        ws.write_formula(r, col["delta_vs_base"], "=" + w.round_f(f"{tot}{x}-{tot}{b}"), f["money"], delta)
+        ws.write_formula(r, col["delta_pct"], f"=IF({tot}{b}=0,0,{dv}{x}/{tot}{b})", pct,
+                         delta / base_fig["total_cost"] if base_fig["total_cost"] else 0.0)
+        rerouted = sum(1 for res in results if _route_text(res) != base_routes.get(res.shipment.shipment_id))
+        ws.write_number(r, col["rerouted"], rerouted)
+    last_total = first + len(rows) - 1
+    # per shipment
+    r0 = last_total + 3
+    ws.write_string(r0 - 1, 0, f"Per shipment: total_cost ({cur}) under each scenario, the change from "
+                    "base, and whether the route changed.", f["bold"])
+    heads = ["shipment_id", "base_total"]
+    for run in runs:
+        heads += [f"{run.scenario.name}: total", f"{run.scenario.name}: delta", f"{run.scenario.name}: route"]
+    for c, h in enumerate(heads):
+        ws.write_string(r0, c, _text(h)[:255], f["head"])
+    by_id = [{res.shipment.shipment_id: res for res in run.results} for run in runs]
+    summary_row = {res.shipment.shipment_id: i + 2 for i, res in enumerate(base)}
+    tc = xl_col_to_name(SUM["total_cost"])
+    for i, res in enumerate(base):
+        r = r0 + 1 + i
+        x = r + 1
+        sid = res.shipment.shipment_id
+        ws.write_string(r, 0, _text(sid))
+        if res.status == ROUTED:
+            ws.write_formula(r, 1, f"=Summary!{tc}{summary_row[sid]}", f["money"], res.total_cost)
+        else:
+            ws.write_string(r, 1, res.status)
+        for k, run_ids in enumerate(by_id):
+            alt = run_ids.get(sid)
+            c = 2 + 3 * k
+            if alt is None or alt.status != ROUTED:
+                ws.write_string(r, c, alt.status if alt else "")
+                continue
+            ws.write_number(r, c, alt.total_cost, f["money"])
+            if res.status == ROUTED:
+                ws.write_formula(r, c + 1, "=" + w.round_f(f"{xl_col_to_name(c)}{x}-B{x}"), f["money"],
+                                 round_money(alt.total_cost - res.total_cost, w.places))
+            ws.write_string(r, c + 2, "changed" if _route_text(alt) != base_routes[sid] else "same")
+    ws.freeze_panes(3, 1)
+    return first, last_total
+
+
+def _component(res: CostedShipment, name: str) -> float:
+    if name == "min_charge_uplift":
+        return res.min_charge_uplift
+    if name == "total_cost":
+        return res.total_cost
+    return _shipment_value(res, name)
+
+
+def _write_charts(w: _Writer, ws, results, last_row: int, frontier_rows, scenario_rows=None) -> None:
     """Native charts: cost by component (from the Summary TOTAL row) and the cost-time
     trade-offs of the costliest shipments (from the Trade-offs sheet)."""
     _page(ws)
@@ -459,6 +570,27 @@ def _write_charts(w: _Writer, ws, results, last_row: int, frontier_rows) -> None
         sc.set_y_axis({"name": f"total cost ({w.model.settings.currency})", "num_format": "#,##0"})
         sc.set_size({"width": 760, "height": 420})
         ws.insert_chart(23, 1, sc)
+    if scenario_rows:
+        a, b = scenario_rows  # 0-based rows of the scenario totals on "Scenario comparison"
+        name = "Scenario comparison"
+        bar = w.wb.add_chart({"type": "bar"})
+        total_col = 3 + len(SCENARIO_COMPONENTS)
+        bar.add_series({"name": "total_cost", "categories": [name, a, 0, b, 0],
+                        "values": [name, a, total_col, b, total_col],
+                        "data_labels": {"value": True, "num_format": "#,##0"}})
+        bar.set_title({"name": "Total cost per scenario"})
+        bar.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
+        bar.set_legend({"none": True})
+        bar.set_size({"width": 760, "height": 320})
+        ws.insert_chart(45, 1, bar)
+        stack = w.wb.add_chart({"type": "column", "subtype": "stacked"})
+        for k, comp in enumerate(SCENARIO_COMPONENTS):
+            stack.add_series({"name": comp, "categories": [name, a, 0, b, 0],
+                              "values": [name, a, 3 + k, b, 3 + k]})
+        stack.set_title({"name": "Cost by component per scenario"})
+        stack.set_y_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
+        stack.set_size({"width": 760, "height": 400})
+        ws.insert_chart(62, 1, stack)
 
 
 def _page(ws) -> None:

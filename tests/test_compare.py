@@ -344,7 +344,7 @@ def test_blank_cost_of_a_routed_shipment_is_refused(runs, tmp_path):
 def test_not_a_workbook_and_missing_file_are_refused(tmp_path):
     text = tmp_path / "notes.xlsx"
     text.write_text("shipment_id,total_cost\nS1,10\n")
-    with pytest.raises(CompareError, match="notes.xlsx is not an .xlsx workbook"):
+    with pytest.raises(CompareError, match="notes.xlsx is .*not an .xlsx workbook"):
         read_costed(text)
     with pytest.raises(CompareError, match="file not found"):
         read_costed(tmp_path / "nowhere.xlsx")
@@ -373,3 +373,20 @@ def test_currency_mismatch_is_refused(runs, make_input, cli, tmp_path):
     assert "different currencies" in e.value.message
     assert "EUR" in e.value.message and "USD" in e.value.message
     assert "currency" in e.value.fix and e.value.path is None
+
+
+def test_compare_command(cli, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "a.xlsx")[0] == 0
+    assert cli("demo", "-o", "b.xlsx")[0] == 0
+    code, out, err = cli("compare", "a.xlsx", "b.xlsx", "-o", "diff.xlsx")
+    assert code == 0, err
+    assert "unchanged" in out and "(+0.00)" in out
+    wb = openpyxl.load_workbook("diff.xlsx")
+    assert "Changes" in wb.sheetnames and "Overview" in wb.sheetnames
+    code, _, err = cli("compare", "a.xlsx", "b.xlsx", "-o", "diff.xlsx")
+    assert code == 2 and "--overwrite" in err
+    code, _, err = cli("compare", "a.xlsx", "missing.xlsx", "-o", "d2.xlsx")
+    assert code == 2
+    code, _, err = cli("compare", "a.xlsx", "b.xlsx", "-o", "a.xlsx", "--overwrite")
+    assert code == 2

@@ -473,7 +473,10 @@ def test_scenarios_read_from_a_workbook(make_input):
     ]
     raw = read_workbook(make_input(data))
     model = validate(raw)
-    assert not errors(model.problems)
+    # validation parses the Scenarios sheet itself: the typo is an error there, and the good
+    # scenario is kept on the model
+    assert [p.where for p in errors(model.problems)] == ["Scenarios!D6"]
+    assert [s.name for s in model.scenarios] == ["fuel_up"]
     scenarios, problems = parse_scenarios(raw.sheets["Scenarios"], model)
     assert [s.name for s in scenarios] == ["fuel_up"]
     assert [p.where for p in problems] == ["Scenarios!D6"]
