@@ -436,13 +436,13 @@ def _write_scenarios(w: _Writer, ws, base: list[CostedShipment], runs, last_row:
     cur = w.model.settings.currency
     ws.write_string(0, 0, "Scenario totals by cost component. The base row is the Summary TOTAL row; "
                     "each scenario row is the same shipments costed with that scenario's changes.", f["bold"])
-    head = ["scenario", "changes", "routed"] + SCENARIO_COMPONENTS + ["total_cost", "delta_vs_base",
-                                                                     "delta_pct", "co2e_kg", "rerouted"]
+    head = (["scenario", "routed"] + SCENARIO_COMPONENTS
+            + ["total_cost", "delta_vs_base", "delta_pct", "co2e_kg", "rerouted", "changes"])
     for c, h in enumerate(head):
         ws.write_string(2, c, h, f["head"])
-    ws.set_column(0, 0, 16)
-    ws.set_column(1, 1, 50)
-    ws.set_column(2, len(head) - 1, 12)
+    ws.set_column(0, 0, 18)
+    ws.set_column(1, len(head) - 2, 13)
+    ws.set_column(len(head) - 1, len(head) - 1, 70)
     col = {h: i for i, h in enumerate(head)}
     letter = {h: xl_col_to_name(i) for h, i in col.items()}
     pct = w.wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"})
@@ -574,19 +574,19 @@ def _write_charts(w: _Writer, ws, results, last_row: int, frontier_rows, scenari
         a, b = scenario_rows  # 0-based rows of the scenario totals on "Scenario comparison"
         name = "Scenario comparison"
         bar = w.wb.add_chart({"type": "bar"})
-        total_col = 3 + len(SCENARIO_COMPONENTS)
+        total_col = 2 + len(SCENARIO_COMPONENTS)  # columns: scenario, routed, components, total
         bar.add_series({"name": "total_cost", "categories": [name, a, 0, b, 0],
                         "values": [name, a, total_col, b, total_col],
                         "data_labels": {"value": True, "num_format": "#,##0"}})
         bar.set_title({"name": "Total cost per scenario"})
-        bar.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
+        bar.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0", "min": 0})
         bar.set_legend({"none": True})
         bar.set_size({"width": 760, "height": 320})
         ws.insert_chart(45, 1, bar)
         stack = w.wb.add_chart({"type": "column", "subtype": "stacked"})
         for k, comp in enumerate(SCENARIO_COMPONENTS):
             stack.add_series({"name": comp, "categories": [name, a, 0, b, 0],
-                              "values": [name, a, 3 + k, b, 3 + k]})
+                              "values": [name, a, 2 + k, b, 2 + k]})
         stack.set_title({"name": "Cost by component per scenario"})
         stack.set_y_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
         stack.set_size({"width": 760, "height": 400})
