@@ -101,8 +101,12 @@ def main(argv: list[str] | None = None) -> int:
         print(f"costing: error: {e}", file=sys.stderr)
         return EXIT_USAGE
     except KeyboardInterrupt:
-        print("costing: interrupted; no output written", file=sys.stderr)
+        print("costing: interrupted; no output written, earlier output left as it was", file=sys.stderr)
         return 130
+    except OSError as e:  # disk full, permission denied, ... while writing
+        print(f"costing: error: could not write the output: {e.strerror or e}; nothing written, earlier "
+              "output left as it was (check the folder's free space and permissions)", file=sys.stderr)
+        return EXIT_INPUT
     return EXIT_USAGE
 
 
@@ -212,7 +216,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     from .mapping import draw_map
     from .network import build_graph
     from .route import Router, objective_for
-    from .writer import RunInfo, run_time, write_costed
+    from .writer import OutputLimitError, RunInfo, run_time, write_costed
 
     if not os.path.exists(input_path):
         raise UsageError(f"input file not found: {input_path}")
@@ -255,8 +259,12 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
     t0 = time.perf_counter()
-    _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
-                                                    scenario_runs))
+    try:
+        _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
+                                                        scenario_runs))
+    except OutputLimitError as e:
+        print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
+        return EXIT_INPUT
     elapsed = time.perf_counter() - t0
     if not args.quiet:
         _print_problems(problems)

@@ -229,12 +229,15 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     """Write the costed workbook. `analysis` (costing.analysis.Analysis) adds the Comparison,
     Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
     (costing.analysis.ScenarioRun) a Scenarios sheet."""
+    if len(results) + 2 > MAX_ROWS:
+        raise OutputLimitError(f"{len(results):,} shipments do not fit on one Summary sheet "
+                               f"({MAX_ROWS:,} rows)", "cost the shipments in batches of under a million")
     w = _Writer(path, model, info.created)
     summary = w.wb.add_worksheet("Summary")
     sheets = {}
     if scenario_runs:
         sheets["Scenarios"] = w.wb.add_worksheet("Scenario comparison")
-    legs_ws = w.wb.add_worksheet("Legs")
+    legs_sheets = [(name, w.wb.add_worksheet(name)) for name in _legs_sheet_names(results)]
     if analysis is not None:
         if analysis.alternatives:
             sheets["Comparison"] = w.wb.add_worksheet("Comparison")
@@ -247,10 +250,11 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     problems_ws = w.wb.add_worksheet("Problems")
     run_ws = w.wb.add_worksheet("Run")
     n_legs = sum(len(r.legs) for r in results)
-    if n_legs + 1 > MAX_ROWS or len(results) + 2 > MAX_ROWS:
-        raise ValueError(f"{n_legs} legs do not fit in one sheet ({MAX_ROWS:,} rows); "
-                         "cost the shipments in smaller batches")
-    ranges = _write_legs(w, legs_ws, results)
+    ranges, w.legs_last = _write_legs(w, legs_sheets, results)
+    if len(legs_sheets) > 1:
+        info.extra["Legs sheets"] = (f"{', '.join(n for n, _ws in legs_sheets)}: one sheet holds at most "
+                                     f"{LEGS_SHEET_ROWS:,} legs (the spreadsheet row limit); a shipment's "
+                                     "legs are never split across sheets")
     last_row = _write_summary(w, summary, results, ranges)
     frontier_rows: dict[str, tuple[int, int]] = {}
     scenario_rows = None
@@ -261,7 +265,7 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if "Trade-offs" in sheets:
         frontier_rows = _write_tradeoffs(w, sheets["Trade-offs"], results, analysis)
     if "Lane usage" in sheets:
-        _write_lane_usage(w, sheets["Lane usage"], analysis, n_legs)
+        _write_lane_usage(w, sheets["Lane usage"], analysis)
         _write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows)
     if map_png:
         _write_map(w, sheets["Map"], map_png)
@@ -387,15 +391,20 @@ LANE_COLUMNS = [
 ]
 
 
-def _write_lane_usage(w: _Writer, ws, analysis, n_legs: int) -> None:
+def _write_lane_usage(w: _Writer, ws, analysis) -> None:
     """Where the money goes: per lane, the legs, tonnes, vehicle trips and leg cost routed over
     it, as SUMIFS over the Legs sheet (both directions of a lane together)."""
     w.header(ws, LANE_COLUMNS)
     L = {name: xl_col_to_name(i) for name, i in LEG.items()}
-    last = max(n_legs + 1, 2)
 
-    def legs_range(name: str) -> str:
-        return f"Legs!${L[name]}$2:${L[name]}${last}"
+    def over_sheets(template: str) -> str:
+        """template with {r(col)} placeholders, summed over every Legs sheet."""
+        parts = []
+        for sheet, last in w.legs_last.items():
+            def rng(col, sheet=sheet, last=last):
+                return f"{_sheet_ref(sheet)}!${L[col]}$2:${L[col]}${max(last, 2)}"
+            parts.append(template.format(**{col: rng(col) for col in LEG}))
+        return "+".join(parts)
 
     pct = w.wb.add_format({"num_format": "0.0%"})
     total_cost = round_money(sum(u.cost for u in analysis.lanes), w.places)
@@ -407,14 +416,14 @@ def _write_lane_usage(w: _Writer, ws, analysis, n_legs: int) -> None:
         ws.write_string(r, 2, _text(u.to_depot))
         ws.write_string(r, 3, u.mode)
         key = f"$A{x}"
-        ws.write_formula(r, 4, f"=COUNTIF({legs_range('lane_id')},{key})", w.f["int"], u.legs)
-        ws.write_formula(r, 5, f"=SUMIFS({legs_range('weight_t')},{legs_range('lane_id')},{key})",
-                         w.f["km"], u.tonnes)
-        ws.write_formula(r, 6, f"=SUMIFS({legs_range('vehicles')},{legs_range('lane_id')},{key})",
-                         w.f["int"], u.vehicle_trips)
-        ws.write_formula(r, 7, f"=SUMPRODUCT(({legs_range('lane_id')}={key})*{legs_range('vehicles')}"
-                         f"*{legs_range('distance_km')})", w.f["km"], u.vehicle_km)
-        cost_expr = f"SUMIFS({legs_range('leg_cost')},{legs_range('lane_id')},{key})"
+        ws.write_formula(r, 4, "=" + over_sheets("COUNTIF({lane_id}," + key + ")"), w.f["int"], u.legs)
+        ws.write_formula(r, 5, "=" + over_sheets("SUMIFS({weight_t},{lane_id}," + key + ")"), w.f["km"],
+                         u.tonnes)
+        ws.write_formula(r, 6, "=" + over_sheets("SUMIFS({vehicles},{lane_id}," + key + ")"), w.f["int"],
+                         u.vehicle_trips)
+        km_expr = over_sheets("SUMPRODUCT(({lane_id}=" + key + ")*{vehicles}*{distance_km})")
+        ws.write_formula(r, 7, "=" + km_expr, w.f["km"], u.vehicle_km)
+        cost_expr = over_sheets("SUMIFS({leg_cost},{lane_id}," + key + ")")
         ws.write_formula(r, 8, "=" + w.round_f(cost_expr), w.f["money"], round_money(u.cost, w.places))
         ws.write_formula(r, 9, f"=IF(SUM($I$2:$I${n + 1})=0,0,I{x}/SUM($I$2:$I${n + 1}))", pct,
                          (round_money(u.cost, w.places) / total_cost) if total_cost else 0.0)
@@ -608,17 +617,59 @@ def _write_map(w: _Writer, ws, png: bytes) -> None:
     ws.insert_image(2, 0, "network-map.png", {"image_data": io.BytesIO(png), "x_scale": 0.9, "y_scale": 0.9})
 
 
-def _write_legs(w: _Writer, ws, results) -> dict[str, tuple[int, int]]:
-    w.header(ws, LEG_COLUMNS)
+# data rows per Legs sheet; more legs continue on "Legs 2", "Legs 3", ...
+LEGS_SHEET_ROWS = MAX_ROWS - 1
+
+
+class OutputLimitError(Exception):
+    """The output would pass a spreadsheet limit; carries what to do."""
+
+    def __init__(self, message: str, fix: str):
+        super().__init__(f"{message} ({fix})")
+        self.message, self.fix = message, fix
+
+
+def _legs_sheet_names(results) -> list[str]:
+    names, used = ["Legs"], 0
+    for res in results:
+        n = len(res.legs)
+        if n > LEGS_SHEET_ROWS:
+            raise OutputLimitError(f"shipment {res.shipment.shipment_id} has {n:,} legs, more than a sheet "
+                                   "holds", "check the lanes of this shipment")
+        if used + n > LEGS_SHEET_ROWS:
+            names.append(f"Legs {len(names) + 1}")
+            used = 0
+        used += n
+    return names
+
+
+def _sheet_ref(name: str) -> str:
+    return f"'{name}'" if " " in name else name
+
+
+def _write_legs(w: _Writer, legs_sheets, results) -> tuple[dict[str, tuple[str, int, int]], dict[str, int]]:
+    """Legs rows, continuing on further sheets at the row limit. Returns shipment id ->
+    (sheet, first row, last row) (1-based) and sheet -> its last data row."""
     letters = {name: xl_col_to_name(i) for name, i in LEG.items()}
-    ranges: dict[str, tuple[int, int]] = {}
+    ranges: dict[str, tuple[str, int, int]] = {}
+    last: dict[str, int] = {}
+    k = 0
+    name, ws = legs_sheets[0]
+    w.header(ws, LEG_COLUMNS)
     r = 1
     for res in results:
         if not res.legs:
             continue
+        if r - 1 + len(res.legs) > LEGS_SHEET_ROWS:
+            ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
+            last[name] = r
+            k += 1
+            name, ws = legs_sheets[k]
+            w.header(ws, LEG_COLUMNS)
+            r = 1
         first = r
         for leg in res.legs:
-            refs = {name: f"{col}{r + 1}" for name, col in letters.items()}
+            refs = {col_name: f"{col}{r + 1}" for col_name, col in letters.items()}
             refs["d"] = str(w.places)
             for c, (_name, _width, kind, value_of, formula) in enumerate(LEG_SPEC):
                 value = value_of(res, leg)
@@ -629,9 +680,10 @@ def _write_legs(w: _Writer, ws, results) -> dict[str, tuple[int, int]]:
                 elif value is not None:
                     ws.write_number(r, c, value)
             r += 1
-        ranges[res.shipment.shipment_id] = (first + 1, r)  # 1-based inclusive rows
+        ranges[res.shipment.shipment_id] = (name, first + 1, r)  # 1-based inclusive rows
     ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
-    return ranges
+    last[name] = r
+    return ranges, last
 
 
 def _shipment_value(res: CostedShipment, col: str) -> float:
@@ -664,13 +716,14 @@ def _write_summary(w: _Writer, ws, results, ranges) -> int:
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
             continue
-        a, b = ranges[s.shipment_id]
+        sheet, a, b = ranges[s.shipment_id]
+        sh = _sheet_ref(sheet)
         ws.write_number(r, c["vehicles"], res.vehicles)
-        ws.write_formula(r, c["legs"], f"=COUNT(Legs!{L['seq']}{a}:{L['seq']}{b})", f["int"],
+        ws.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
         for col, legs_cols in SUMMED.items():
             kind = SUMMARY_COLUMNS[c[col]][2]
-            expr = "+".join(f"SUM(Legs!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
+            expr = "+".join(f"SUM({sh}!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
             if kind == "money":
                 expr = w.round_f(expr)
             ws.write_formula(r, c[col], "=" + expr, f[kind], _shipment_value(res, col))
@@ -809,8 +862,12 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
         ("compact networks built", st.networks),
     ]
     rows += _bound_rows(st.bounds)
-    for stage, secs in st.seconds.items():
-        rows.append((f"seconds: {stage}", round(secs, 3)))
+    if os.environ.get("SOURCE_DATE_EPOCH"):
+        rows.append(("seconds", "not recorded: SOURCE_DATE_EPOCH is set, so the output is reproducible "
+                                "byte for byte"))
+    else:
+        for stage, secs in st.seconds.items():
+            rows.append((f"seconds: {stage}", round(secs, 3)))
     for k, v in info.extra.items():
         rows.append((k, v))
     ws.write_string(0, 0, "item", f["head"])
@@ -831,10 +888,10 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     total = round_money(sum(x.total_cost for x in routed), w.places)
     r += 2
     ws.write_string(r, 0, "reconciliation", f["bold"])
-    lr = n_legs + 1
     recon = [
-        ("sum of Legs leg_cost", w.round_f(f"SUM(Legs!{L['leg_cost']}2:{L['leg_cost']}{max(lr, 2)})"),
-         leg_total),
+        ("sum of Legs leg_cost", w.round_f("+".join(
+            f"SUM({_sheet_ref(sheet)}!{L['leg_cost']}2:{L['leg_cost']}{max(last, 2)})"
+            for sheet, last in w.legs_last.items())), leg_total),
         ("plus sum of min_charge_uplift",
          w.round_f(f"SUM(Summary!{S['min_charge_uplift']}2:{S['min_charge_uplift']}{last + 1})"), uplift),
         ("equals Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),

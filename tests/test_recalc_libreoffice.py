@@ -43,3 +43,23 @@ def test_libreoffice_recalculation_matches_cached_values(cli, tmp_path, monkeypa
     col = [name for name, _w, _k in SUMMARY_COLUMNS].index("total_cost")
     assert round(summary_total[col] * 100) == round(ours_total[col] * 100)
     print(f"LibreOffice recalculated {checked} formulas; all equal to the cached values")
+
+
+def test_libreoffice_recalculation_with_legs_on_several_sheets(cli, tmp_path, monkeypatch):
+    # the cross-sheet formulas (Summary, Lane usage, reconciliation) over Legs, Legs 2, ...
+    import costing.writer as writer
+
+    monkeypatch.setattr(writer, "LEGS_SHEET_ROWS", 40)
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "split.xlsx")[0] == 0
+    (tmp_path / "recalc").mkdir()
+    recalculated = convert(str(tmp_path / "split.xlsx"), str(tmp_path / "recalc"))
+    formulas = openpyxl.load_workbook(tmp_path / "split.xlsx")
+    cached = openpyxl.load_workbook(tmp_path / "split.xlsx", data_only=True)
+    fresh = openpyxl.load_workbook(recalculated, data_only=True)
+    assert "Legs 2" in formulas.sheetnames
+    bad = [(ws.title, c.coordinate) for ws in formulas for row in ws.iter_rows() for c in row
+           if c.data_type == "f" and not (isinstance(fresh[ws.title][c.coordinate].value, (int, float))
+                                          and abs(fresh[ws.title][c.coordinate].value
+                                                  - cached[ws.title][c.coordinate].value) <= 0.005)]
+    assert not bad, bad[:10]
