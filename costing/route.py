@@ -258,6 +258,9 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
     modes = list(dict.fromkeys(leg.use.lane.mode for leg in best.legs))
     if len(modes) > 1:
         notes.append("intermodal: " + " > ".join(_run_modes(best)))
+    if best.break_hours or best.rest_hours:
+        notes.append(f"driving rules: {best.break_hours:g} h of breaks and {best.rest_hours:g} h of rest "
+                     "added to the chosen route (route chosen on driving hours)")
     if any(leg.co2e_basis != "fuel" for leg in best.legs):
         notes.append("CO2e partly from default intensities (see Legs)")
     if not s.vehicle and len(router.vehicles) > 1:

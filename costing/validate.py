@@ -398,8 +398,14 @@ def validate(raw: RawWorkbook) -> Model:
             if (fuel is None) != (factor is None):
                 sh.problem(WARNING, "fuel_l_per_100km" if fuel is None else "co2e_kg_per_litre",
                            rr.row, "only one of fuel_l_per_100km and co2e_kg_per_litre is given; "
-                           "emissions for this card are reported as 0",
+                           "emissions for this card use the mode's default intensity instead",
                            "fill in both, or neither")
+            elif fuel == 0 or factor == 0:
+                sh.problem(WARNING, "fuel_l_per_100km" if fuel == 0 else "co2e_kg_per_litre", rr.row,
+                           f"{rec['vehicle']} on {rec['mode']} is entered as emitting nothing (0), so its "
+                           "CO2e is reported as 0 and the emissions objective treats it as free",
+                           "for an electric vehicle enter its energy's emission factor; otherwise "
+                           "enter the fuel figures, or leave both blank to use the default intensity")
             if ok:
                 rates.append(RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
                                       rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,

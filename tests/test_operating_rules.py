@@ -241,3 +241,12 @@ def test_fuel_surcharge_hand_calculation():
     model = Model(Settings(fuel_price_per_litre=1.30), depots, lanes, (card,), ship)
     res, _ = run(model)
     assert res["S"].legs[0].fuel_surcharge == -19.20  # 128 l x -0.15
+
+
+def test_zero_emission_data_is_a_warning_not_a_silent_zero(cli, make_input):
+    from tests.conftest import base_data
+
+    data = base_data()
+    data["Rates"][0]["co2e_kg_per_litre"] = 0
+    code, out, _ = cli("check", make_input(data))
+    assert code == 0 and "Rates!H2" in out and "emitting nothing" in out
