@@ -3,7 +3,10 @@ ROUND function does."""
 
 from __future__ import annotations
 
+import math
 from decimal import ROUND_HALF_UP, Decimal
+
+_SCALES = [1.0, 10.0, 100.0, 1000.0, 10000.0]
 
 # Minor-unit exponents of ISO 4217 codes that are not 2 (from the ISO 4217 list; from
 # memory, checked against the tests' hand examples). Every other code uses 2.
@@ -33,7 +36,20 @@ def minor_unit(code: str) -> int:
 
 def round_money(value: float, places: int) -> float:
     """Round half away from zero to `places` decimals. The float is first read at 15
-    significant digits (what a spreadsheet shows and rounds), so 2.675 rounds to 2.68."""
+    significant digits (what a spreadsheet shows and rounds), so 2.675 rounds to 2.68.
+
+    Fast path: when the scaled value is clearly not near a half, the answer does not depend on
+    those last digits, and integer / 10**places is the correctly rounded float of the decimal
+    result, the same float the decimal path returns. Near a half, the decimal path decides."""
+    scale = _SCALES[places] if 0 <= places < len(_SCALES) else 10.0 ** places
+    t = abs(value) * scale
+    if t < 1e15:
+        whole = math.floor(t)
+        frac = t - whole
+        # reading at 15 significant digits moves t by at most t x 5e-15: stay clear of that
+        if abs(frac - 0.5) > 1e-6 + t * 1e-14:
+            n = whole + 1 if frac > 0.5 else whole
+            return math.copysign(n / scale, value) if n else 0.0
     d = Decimal(f"{value:.15g}")
     q = Decimal(1).scaleb(-places)
     return float(d.quantize(q, rounding=ROUND_HALF_UP))

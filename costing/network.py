@@ -243,42 +243,77 @@ class CompactNetwork:
         return h
 
 
-def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile) -> CompactNetwork:
+def _edge_table(graph: nx.MultiDiGraph):
+    """Depots, coordinates and every lane step of the graph with its straight-line km (None where
+    a coordinate is missing), computed once per graph."""
+    table = graph.graph.get("_edge_table")
+    if table is None:
+        depot_ids = list(graph.nodes)
+        index = {d: i for i, d in enumerate(depot_ids)}
+        depots = [graph.nodes[d]["depot"] for d in depot_ids]
+        lats = np.array([np.nan if d.latitude is None else d.latitude for d in depots], dtype=float)
+        lons = np.array([np.nan if d.longitude is None else d.longitude for d in depots], dtype=float)
+        rows = []
+        for a, b, data in graph.edges(data=True):
+            i, j = index[a], index[b]
+            known = not (math.isnan(lats[i]) or math.isnan(lats[j]) or math.isnan(lons[i])
+                         or math.isnan(lons[j]))
+            gc = great_circle_km(lats[i], lons[i], lats[j], lons[j]) if known else None
+            rows.append((i, j, data["use"], gc))
+        table = graph.graph["_edge_table"] = (depot_ids, index, depots, lats, lons, rows)
+    return table
+
+
+def _layer(model: Model, graph: nx.MultiDiGraph, profile: Profile, k: int, places: int,
+           cache: dict | None) -> list[float | None]:
+    """The weight of every lane step of the graph on card k (None where the card cannot use it).
+    Shipments that need the same number of vehicles on a card share it, so it is cached."""
+    vehicle, mode, n = profile.cards[k]
+    blocked = frozenset(lane for lane, kk in profile.blocked if kk == k)
+    key = (vehicle, mode, n, profile.objective, profile.weight_t, blocked)
+    if cache is not None and key in cache:
+        return cache[key]
+    _ids, _index, depots, _lats, _lons, rows = _edge_table(graph)
+    weights: list[float | None] = [None] * len(rows)
+    for e, (_i, j, use, _gc) in enumerate(rows):
+        if use.lane.mode != mode or use.lane.lane_id in blocked:
+            continue
+        w = lane_weight(model, profile, k, use, depots[j], places)
+        if w < 0:  # validation refuses such rates; a model built in code could still hold them
+            raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight ({w:g}) "
+                             f"for {vehicle}: a fuel rebate larger than per_km?")
+        weights[e] = w
+    if cache is not None:
+        cache[key] = weights
+    return weights
+
+
+def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile,
+            layers: dict | None = None) -> CompactNetwork:
+    """The (depot, card) state network of one profile. `layers` caches per-card lane weights
+    across profiles. Edges are listed lane step by lane step in graph order, then by card, so two
+    profiles that differ only in objective list the same edges in the same order."""
     places = minor_unit(model.settings.currency)
-    depot_ids = list(graph.nodes)
-    index = {d: i for i, d in enumerate(depot_ids)}
-    depots = [graph.nodes[d]["depot"] for d in depot_ids]
-    lats = np.array([np.nan if d.latitude is None else d.latitude for d in depots], dtype=float)
-    lons = np.array([np.nan if d.longitude is None else d.longitude for d in depots], dtype=float)
+    depot_ids, index, depots, lats, lons, rows = _edge_table(graph)
     K = len(profile.cards)
     adj: list[list[tuple[int, float, int]]] = [[] for _ in range(len(depot_ids) * K)]
     steps: list[Step] = []
-    by_mode: dict[str, list[int]] = {}
-    for k, (_v, mode, _n) in enumerate(profile.cards):
-        by_mode.setdefault(mode, []).append(k)
+    weights = [_layer(model, graph, profile, k, places, layers) for k in range(K)]
     r_min = math.inf
     missing_coords: str | None = None
-    for a, b, data in graph.edges(data=True):
-        use: LaneUse = data["use"]
-        ks = [k for k in by_mode.get(use.lane.mode, ()) if (use.lane.lane_id, k) not in profile.blocked]
-        if not ks:
-            continue
-        i, j = index[a], index[b]
-        coords_known = not (math.isnan(lats[i]) or math.isnan(lats[j]) or math.isnan(lons[i])
-                            or math.isnan(lons[j]))
-        if not coords_known:
-            missing_coords = missing_coords or (a if math.isnan(lats[i]) or math.isnan(lons[i]) else b)
-        gc = great_circle_km(lats[i], lons[i], lats[j], lons[j]) if coords_known else 0.0
-        for k in ks:
-            w = lane_weight(model, profile, k, use, depots[j], places)
-            if w < 0:  # validation refuses such rates; a model built in code could still hold them
-                raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight ({w:g}) "
-                                 f"for {profile.cards[k][0]}: a fuel rebate larger than per_km?")
+    for e, (i, j, use, gc) in enumerate(rows):
+        for k in range(K):
+            w = weights[k][e]
+            if w is None:
+                continue
+            if gc is None:
+                a, b = depot_ids[i], depot_ids[j]
+                missing_coords = missing_coords or (a if math.isnan(lats[i]) or math.isnan(lons[i]) else b)
+            elif gc > 0:
+                r_min = min(r_min, w / gc)
             eid = len(steps)
             steps.append(Step(k, use=use))
             adj[i * K + k].append((j * K + k, w, eid))
-            if gc > 0:
-                r_min = min(r_min, w / gc)
     # transfers between cards of different modes at terminals and ports
     for i, d in enumerate(depots):
         if d.kind not in TRANSFER_KINDS or K < 2:

@@ -101,12 +101,13 @@ class Router:
         self.vehicles = model.vehicles()
         self.places = minor_unit(model.settings.currency)
         self._pairs: dict[Profile, list] = {}
+        self._layers: dict = {}  # per-card lane weights shared by profiles
 
     def network(self, profile: Profile) -> CompactNetwork:
         cn = self.networks.get(profile)
         if cn is None:
             t0 = time.perf_counter()
-            cn = self.networks[profile] = compact(self.graph, self.model, profile)
+            cn = self.networks[profile] = compact(self.graph, self.model, profile, self._layers)
             key = "compact networks (within search)"
             self.stats.seconds[key] = self.stats.seconds.get(key, 0.0) + time.perf_counter() - t0
             self.stats.bounds[_label(profile)] = cn.bound_note

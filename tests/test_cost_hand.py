@@ -130,3 +130,23 @@ def test_yen_rounds_to_whole_units(make_input):
     # the 165 km route via B; its first lane L1: 80 x 151.37 = 12109.6 -> 12110 yen
     assert leg.use.lane.lane_id == "L1"
     assert leg.km_cost == 12110
+
+
+def test_fast_rounding_path_equals_the_decimal_rule():
+    # Reference: Python's decimal module, ROUND_HALF_UP (half away from zero) on the value read
+    # at 15 significant digits - the rule stated in costing/money.py.
+    from decimal import ROUND_HALF_UP, Decimal
+
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    @settings(max_examples=3000, deadline=None)
+    @given(st.one_of(st.floats(-1e9, 1e9, allow_nan=False),
+                     st.integers(-10**7, 10**7).map(lambda i: i / 1000),
+                     st.integers(-10**6, 10**6).map(lambda i: i / 200)),
+           st.sampled_from([0, 2, 3]))
+    def check(value, places):
+        ref = float(Decimal(f"{value:.15g}").quantize(Decimal(1).scaleb(-places), rounding=ROUND_HALF_UP))
+        assert round_money(value, places) == ref
+
+    check()
