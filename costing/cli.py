@@ -222,7 +222,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         raise UsageError(f"input file not found: {input_path}")
     _check_output_path(output, input_path, args.overwrite)
     times: dict[str, float] = {}
-    t0 = time.perf_counter()
+    started = t0 = time.perf_counter()
     model, problems, digest = _load(input_path)
     times["read and validate"] = time.perf_counter() - t0
     errors = [p for p in problems if p.severity == ERROR]
@@ -265,14 +265,16 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     except OutputLimitError as e:
         print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
         return EXIT_INPUT
-    elapsed = time.perf_counter() - t0
     if not args.quiet:
         _print_problems(problems)
         sys.stderr.flush()
         routed = sum(r.status == "routed" for r in results)
         total = sum(r.total_cost for r in results if r.status == "routed")
-        print(f"{routed} of {len(results)} shipments routed; total {total:,.2f} "
-              f"{model.settings.currency}; wrote {output} ({elapsed:.2f} s to write)")
+        unrouted = len(results) - routed
+        extra = f" ({unrouted} not routed: see the note on the Summary sheet)" if unrouted else ""
+        scen = f"; {len(scenario_runs)} scenario(s) on the Scenario comparison sheet" if scenario_runs else ""
+        print(f"{routed} of {len(results)} shipments routed{extra}; total {total:,.2f} "
+              f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s")
     return EXIT_OK
 
 
