@@ -342,6 +342,18 @@ def _ids(sheet: _Sheet, rows, key: str, what: str):
     return out
 
 
+def _known_depots(sh: _Sheet, rr: RawRow, rec: dict, columns, depot_ix) -> bool:
+    """Every depot the row names is on the Depots sheet; a problem for each that is not."""
+    ok = True
+    for end in columns:
+        d = rec[end]
+        if d is not None and d not in depot_ix:
+            sh.problem(ERROR, end, rr.row, f"{end} '{_short(d)}' is not a depot_id on the Depots sheet",
+                       _suggest(d, depot_ix) + "use a depot_id from Depots, or add the depot there")
+            ok = False
+    return ok
+
+
 def _suggest(value: str, known) -> str:
     close = difflib.get_close_matches(value, list(known), n=1, cutoff=0.6)
     return f"did you mean {close[0]}? " if close else ""
@@ -419,13 +431,7 @@ def validate(raw: RawWorkbook) -> Model:
     if "Lanes" in raw.sheets:
         sh = _Sheet(raw.sheets["Lanes"], problems)
         for rr, rec, ok in _ids(sh, list(_records(sh)), "lane_id", "lane"):
-            for end in ("from_depot", "to_depot"):
-                d = rec[end]
-                if d is not None and d not in depot_ix:
-                    sh.problem(ERROR, end, rr.row, f"{end} '{_short(d)}' is not a depot_id on "
-                               "the Depots sheet", _suggest(d, depot_ix) +
-                               "use a depot_id from Depots, or add the depot there")
-                    ok = False
+            ok = _known_depots(sh, rr, rec, ("from_depot", "to_depot"), depot_ix) and ok
             if rec["from_depot"] is not None and rec["from_depot"] == rec["to_depot"]:
                 sh.problem(ERROR, "to_depot", rr.row, f"lane goes from {rec['from_depot']} to "
                            "itself", "correct from_depot or to_depot, or delete the row")
@@ -472,13 +478,7 @@ def validate(raw: RawWorkbook) -> Model:
     if "Shipments" in raw.sheets:
         sh = _Sheet(raw.sheets["Shipments"], problems)
         for rr, rec, ok in _ids(sh, list(_records(sh)), "shipment_id", "shipment"):
-            for end in ("origin", "destination"):
-                d = rec[end]
-                if d is not None and d not in depot_ix:
-                    sh.problem(ERROR, end, rr.row, f"{end} '{_short(d)}' is not a depot_id on "
-                               "the Depots sheet", _suggest(d, depot_ix) +
-                               "use a depot_id from Depots, or add the depot there")
-                    ok = False
+            ok = _known_depots(sh, rr, rec, ("origin", "destination"), depot_ix) and ok
             v = rec["vehicle"]
             if v is not None and v not in vehicles:
                 sh.problem(ERROR, "vehicle", rr.row, f"vehicle '{_short(v)}' has no rate card on "

@@ -39,3 +39,27 @@ def convert(path: str, outdir: str, fmt: str = "xlsx", timeout: int = 180) -> st
     if not os.path.exists(out):
         raise RuntimeError(f"LibreOffice did not write {out}")
     return out
+
+
+def recalc_mismatches(path: str, workdir: str, tolerance: float = 0.005):
+    """Recalculate `path` in LibreOffice and compare every formula cell's recalculated value with
+    the value cached in the file. Returns (formulas checked, [(sheet, cell, formula, ours,
+    theirs), ...] for those that differ by more than `tolerance`)."""
+    import openpyxl
+
+    recalculated = convert(path, workdir)
+    formulas = openpyxl.load_workbook(path)
+    cached = openpyxl.load_workbook(path, data_only=True)
+    fresh = openpyxl.load_workbook(recalculated, data_only=True)
+    checked, mismatches = 0, []
+    for ws in formulas:
+        for row in ws.iter_rows():
+            for cell in row:
+                if cell.data_type != "f":
+                    continue
+                ours = cached[ws.title][cell.coordinate].value
+                theirs = fresh[ws.title][cell.coordinate].value
+                checked += 1
+                if not isinstance(theirs, (int, float)) or abs(ours - theirs) > tolerance:
+                    mismatches.append((ws.title, cell.coordinate, cell.value, ours, theirs))
+    return checked, mismatches
