@@ -93,6 +93,7 @@ def run_scenarios(model: Model, objective: str | None, base: list[CostedShipment
     for sc in model.scenarios:
         changed = apply_scenario(model, sc)
         router = Router(changed, build_graph(changed))
+        router.prepare(changed.shipments, objective)
         results = []
         for s in changed.shipments:
             results.append(router.route(s, objective_for(changed, s, objective)))

@@ -236,6 +236,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     times["build network"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     router = Router(model, graph)
+    router.prepare(model.shipments, args.objective)
     progress = _Progress("routing")
     results = []
     for k, s in enumerate(model.shipments):

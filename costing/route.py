@@ -34,6 +34,8 @@ class RunStats:
     pushed: int = 0
     networks: int = 0
     bounds: dict[str, str] = field(default_factory=dict)  # profile label -> bound used
+    batches: int = 0  # one-to-many searches, each serving a group of shipments
+    batched: int = 0  # shipment searches answered by them
     seconds: dict[str, float] = field(default_factory=dict)  # stage -> wall seconds
 
 
@@ -52,6 +54,7 @@ def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None
               progress: Callable[[int, int], None] | None = None
               ) -> tuple[list[CostedShipment], RunStats, list[Problem]]:
     router = Router(model, graph)
+    router.prepare(model.shipments, objective)
     out: list[CostedShipment] = []
     total = len(model.shipments)
     for k, s in enumerate(model.shipments):
@@ -89,6 +92,10 @@ def loaded_weight(s: Shipment, card: RateCard) -> float:
     return s.weight_t / vehicles_needed(s.weight_t, card.payload_t) + card.tare_t
 
 
+# a group of this many shipments with one origin and profile is searched one-to-many
+BATCH_MIN = 3
+
+
 class Router:
     """Routes shipments over one model, caching a compact network per profile."""
 
@@ -102,6 +109,7 @@ class Router:
         self.places = minor_unit(model.settings.currency)
         self._pairs: dict[Profile, list] = {}
         self._layers: dict = {}  # per-card lane weights shared by profiles
+        self._batched: dict = {}  # (profile, origin, destination) -> (network, search result)
 
     def network(self, profile: Profile) -> CompactNetwork:
         cn = self.networks.get(profile)
@@ -122,7 +130,39 @@ class Router:
                  for k in range(cn.n_cards)}
         return sources, exits
 
+    def prepare(self, shipments, objective: str | None) -> None:
+        """Batch the searches of shipments that share an origin and a profile: one one-to-many
+        search per group of BATCH_MIN or more, stopped when all its destinations are settled,
+        instead of one A* each. The answers are the least weights A* finds (search.one_to_many);
+        `search` then returns them. Smaller groups keep per-shipment A*."""
+        from .search import one_to_many
+
+        groups: dict[tuple[Profile, str], list[Shipment]] = {}
+        for s in shipments:
+            if s.origin == s.destination:
+                continue
+            obj = objective_for(self.model, s, objective)
+            for cards in self.candidates(s, obj):
+                groups.setdefault((make_profile(self.model, s, obj, cards), s.origin), []).append(s)
+        for (profile, origin), members in groups.items():
+            dests = list(dict.fromkeys(m.destination for m in members))
+            if len(members) < BATCH_MIN:
+                continue
+            cn = self.network(profile)
+            sources, _exits = self._ends(members[0], profile, cn)
+            targets = [self._ends(Shipment("", origin, d, 0.0), profile, cn)[1] for d in dests]
+            results = one_to_many(cn.adj, sources, targets)
+            self.stats.batches += 1
+            self.stats.batched += len(members)
+            self.stats.settled += results[0].stats.settled if results else 0
+            self.stats.pushed += results[0].stats.pushed if results else 0
+            for d, res in zip(dests, results):
+                self._batched[(profile, origin, d)] = (cn, res)
+
     def search(self, s: Shipment, profile: Profile):
+        hit = self._batched.get((profile, s.origin, s.destination))
+        if hit is not None:
+            return hit
         cn = self.network(profile)
         sources, exits = self._ends(s, profile, cn)
         res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))

@@ -140,3 +140,70 @@ def dijkstra_all(adj: Adjacency, source: int) -> list[float]:
                 g[v] = gv
                 heapq.heappush(heap, (gv, v))
     return g
+
+
+def one_to_many(adj: Adjacency, source: Sequence[tuple[int, float]],
+                targets: Sequence[Mapping[int, float]]) -> list[SearchResult]:
+    """One uniform-cost search from `source` (node, starting weight pairs) that serves several
+    targets, each a mapping of exit node -> exit weight as in `astar`. It stops as soon as every
+    exit node of every target is settled, so each target's least weight is min over its exits of
+    g(exit) + exit weight, exactly what `astar` returns for it alone (the settled g values are
+    final, by the argument at the top of this module with h = 0). Statistics are shared: each
+    result carries the whole search's counts."""
+    n = len(adj)
+    g = [float("inf")] * n
+    parent_node = [-1] * n
+    parent_edge = [-1] * n
+    done = [False] * n
+    heap: list[tuple[float, int, int]] = []
+    counter = 0
+    for s, g0 in source:
+        if g0 < g[s]:
+            g[s] = g0
+            counter += 1
+            heap.append((g0, counter, s))
+    heapq.heapify(heap)
+    pushed = len(heap)
+    waiting = set()
+    for t in targets:
+        waiting.update(t)
+    settled = 0
+    push, pop = heapq.heappush, heapq.heappop
+    while heap and waiting:
+        gu, _c, u = pop(heap)
+        if done[u]:
+            continue
+        done[u] = True
+        settled += 1
+        waiting.discard(u)
+        for v, w, e in adj[u]:
+            if done[v]:
+                continue
+            gv = gu + w
+            if gv < g[v]:
+                g[v] = gv
+                parent_node[v] = u
+                parent_edge[v] = e
+                counter += 1
+                push(heap, (gv, counter, v))
+                pushed += 1
+    stats = SearchStats(settled, pushed)
+    out = []
+    for t in targets:
+        best, best_node = float("inf"), -1
+        for x, exit_w in t.items():  # first exit in mapping order wins ties, as in astar's queue
+            if g[x] + exit_w < best:
+                best, best_node = g[x] + exit_w, x
+        if best_node < 0:
+            out.append(SearchResult(False, float("inf"), (), (), stats))
+            continue
+        nodes, edges = [best_node], []
+        v = best_node
+        while parent_node[v] != -1:
+            edges.append(parent_edge[v])
+            v = parent_node[v]
+            nodes.append(v)
+        nodes.reverse()
+        edges.reverse()
+        out.append(SearchResult(True, best, tuple(nodes), tuple(edges), stats))
+    return out

@@ -860,6 +860,9 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
         ("nodes settled", st.settled),
         ("nodes pushed", st.pushed),
         ("compact networks built", st.networks),
+        ("batched searches", f"{st.batches} one-to-many searches answered {st.batched} shipment searches "
+                             "(shipments sharing an origin and a profile, 3 or more to a group; smaller "
+                             "groups use A* per shipment)"),
     ]
     rows += _bound_rows(st.bounds)
     if os.environ.get("SOURCE_DATE_EPOCH"):

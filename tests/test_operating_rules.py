@@ -250,3 +250,30 @@ def test_zero_emission_data_is_a_warning_not_a_silent_zero(cli, make_input):
     data["Rates"][0]["co2e_kg_per_litre"] = 0
     code, out, _ = cli("check", make_input(data))
     assert code == 0 and "Rates!H2" in out and "emitting nothing" in out
+
+
+@pytest.mark.parametrize("seed", range(25))
+def test_batched_searches_give_the_same_results(seed, monkeypatch):
+    # one one-to-many search per origin group against one A* per shipment: same least weights
+    # (both are exact; among routes of exactly equal weight either may be returned)
+    import costing.route as route
+
+    model = _random_intermodal(seed)
+    rng = random.Random(seed)
+    origin = model.shipments[0].origin
+    extra = tuple(Shipment(f"X{i}", origin, d.depot_id, rng.choice([3.0, 20.0]), objective=obj)
+                  for i, (d, obj) in enumerate((d, rng.choice(["cost", "time", "distance"]))
+                                               for d in model.depots) if d.depot_id != origin)
+    from dataclasses import replace
+
+    model = replace(model, shipments=model.shipments + extra)
+    monkeypatch.setattr(route, "BATCH_MIN", 10**9)
+    one_by_one, stats_a, _ = route_all(model, build_graph(model))
+    monkeypatch.setattr(route, "BATCH_MIN", 2)
+    batched, stats_b, _ = route_all(model, build_graph(model))
+    assert stats_a.batches == 0 and stats_b.batches > 0
+    for a, b in zip(one_by_one, batched):
+        assert a.status == b.status
+        if a.status == "routed":
+            assert b.objective_value == pytest.approx(a.objective_value, abs=1e-9)
+            assert b.total_cost == pytest.approx(a.total_cost, abs=1e-9) or a.objective != "cost"
