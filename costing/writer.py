@@ -172,9 +172,12 @@ def _text(value: object) -> str:
 
 
 class _Writer:
-    def __init__(self, path: str, model: Model, created: _dt.datetime):
+    def __init__(self, path: str, model: Model, created: _dt.datetime, streaming: bool = False):
+        # streaming: rows go to disk as written (xlsxwriter's constant_memory), for large outputs;
+        # every sheet here is written top to bottom once, which that mode requires
         self.wb = xlsxwriter.Workbook(path, {"strings_to_formulas": False, "strings_to_urls": False,
-                                             "strings_to_numbers": False, "nan_inf_to_errors": True})
+                                             "strings_to_numbers": False, "nan_inf_to_errors": True,
+                                             "constant_memory": streaming})
         self.wb.set_properties({"title": "Costed routes", "created": created,
                                 "comments": f"Written by costing {__version__}"})
         self.model = model
@@ -232,7 +235,8 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if len(results) + 2 > MAX_ROWS:
         raise OutputLimitError(f"{len(results):,} shipments do not fit on one Summary sheet "
                                f"({MAX_ROWS:,} rows)", "cost the shipments in batches of under a million")
-    w = _Writer(path, model, info.created)
+    n_legs = sum(len(r.legs) for r in results)
+    w = _Writer(path, model, info.created, streaming=n_legs >= STREAMING_LEGS)
     summary = w.wb.add_worksheet("Summary")
     sheets = {}
     if scenario_runs:
@@ -249,7 +253,6 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         sheets["Map"] = w.wb.add_worksheet("Map")
     problems_ws = w.wb.add_worksheet("Problems")
     run_ws = w.wb.add_worksheet("Run")
-    n_legs = sum(len(r.legs) for r in results)
     ranges, w.legs_last = _write_legs(w, legs_sheets, results)
     if len(legs_sheets) > 1:
         info.extra["Legs sheets"] = (f"{', '.join(n for n, _ws in legs_sheets)}: one sheet holds at most "
@@ -619,6 +622,8 @@ def _write_map(w: _Writer, ws, png: bytes) -> None:
 
 # data rows per Legs sheet; more legs continue on "Legs 2", "Legs 3", ...
 LEGS_SHEET_ROWS = MAX_ROWS - 1
+# from this many legs on, rows are streamed to disk instead of held in memory
+STREAMING_LEGS = 100_000
 
 
 class OutputLimitError(Exception):

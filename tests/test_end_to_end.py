@@ -236,3 +236,24 @@ def test_fuel_rebate_larger_than_per_km_is_refused(cli, make_input, tmp_path):
     # 40 l/100 km x (1.00 - 2.00) = -0.40 per km against per_km 0.10 (hand-worked)
     assert code == 1 and "Rates!J2" in err and "driving would earn money" in err
     assert not out.exists()
+
+
+def test_streamed_output_holds_the_same_cells(cli, tmp_path, monkeypatch):
+    # large outputs are streamed (xlsxwriter constant_memory), which silently drops a write to an
+    # earlier row: the streamed workbook must hold exactly the cells of the normal one
+    import costing.writer as writer
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "normal.xlsx")[0] == 0
+    monkeypatch.setattr(writer, "STREAMING_LEGS", 0)
+    assert cli("demo", "-o", "streamed.xlsx")[0] == 0
+    a = openpyxl.load_workbook("normal.xlsx")
+    b = openpyxl.load_workbook("streamed.xlsx")
+    assert a.sheetnames == b.sheetnames
+    def cells(ws):
+        return {c.coordinate: c.value for row in ws.iter_rows() for c in row if c.value is not None}
+
+    for ws in a:
+        assert cells(ws) == cells(b[ws.title]), ws.title
+    check_costed_workbook("streamed.xlsx")
