@@ -33,27 +33,43 @@ def draw_map(model: Model, lanes: list[LaneUse], title: str) -> bytes | None:
     top = max((u.tonnes for u in lanes), default=0.0) or 1.0
     mid_lat = sum(y for _x, y in pos.values()) / len(pos)
     fig, ax = plt.subplots(figsize=(10, 8), dpi=100)
+    from matplotlib.collections import LineCollection
+
+    # one collection per style: fast for networks of thousands of lanes
+    closed, plain, routed = [], {}, {}
     for lane in model.lanes:
         if lane.from_depot not in pos or lane.to_depot not in pos:
             continue
-        (x1, y1), (x2, y2) = pos[lane.from_depot], pos[lane.to_depot]
-        colour = MODE_COLOURS.get(lane.mode, "#808080")
+        seg = [pos[lane.from_depot], pos[lane.to_depot]]
         if not lane.open:
-            ax.plot([x1, x2], [y1, y2], color="#A0A0A0", lw=0.8, ls=":", zorder=1)
+            closed.append(seg)
             continue
-        ax.plot([x1, x2], [y1, y2], color=colour, lw=0.6, alpha=0.35, zorder=1,
-                ls="--" if lane.mode != "road" else "-")
+        plain.setdefault(lane.mode, []).append(seg)
         u = used.get(lane.lane_id)
         if u is not None:
-            ax.plot([x1, x2], [y1, y2], color=colour, lw=1.0 + 9.0 * u.tonnes / top, alpha=0.75,
-                    solid_capstyle="round", zorder=2)
-    for d in model.depots:
-        if d.depot_id not in pos:
-            continue
-        marker, size = KIND_MARKERS.get(d.kind, ("o", 25))
-        x, y = pos[d.depot_id]
-        ax.scatter([x], [y], s=size, marker=marker, color="#222222", zorder=3)
-        ax.annotate(d.depot_id, (x, y), xytext=(3, 3), textcoords="offset points", fontsize=7, zorder=4)
+            routed.setdefault(lane.mode, ([], []))
+            routed[lane.mode][0].append(seg)
+            routed[lane.mode][1].append(1.0 + 9.0 * u.tonnes / top)
+    if closed:
+        ax.add_collection(LineCollection(closed, colors="#A0A0A0", linewidths=0.8, linestyles=":", zorder=1))
+    for mode, segs in plain.items():
+        ax.add_collection(LineCollection(segs, colors=MODE_COLOURS.get(mode, "#808080"), linewidths=0.6,
+                                         alpha=0.35, linestyles="-" if mode == "road" else "--", zorder=1))
+    for mode, (segs, widths) in routed.items():
+        ax.add_collection(LineCollection(segs, colors=MODE_COLOURS.get(mode, "#808080"), linewidths=widths,
+                                         alpha=0.75, capstyle="round", zorder=2))
+    labelled = len(pos) <= 80
+    for kind, (marker, size) in KIND_MARKERS.items():
+        xs = [pos[d.depot_id] for d in model.depots if d.depot_id in pos and d.kind == kind]
+        if xs:
+            ax.scatter([x for x, _y in xs], [y for _x, y in xs], s=size if labelled else size / 3,
+                       marker=marker, color="#222222", zorder=3)
+    if labelled:
+        for d in model.depots:
+            if d.depot_id in pos:
+                ax.annotate(d.depot_id, pos[d.depot_id], xytext=(3, 3), textcoords="offset points",
+                            fontsize=7, zorder=4)
+    ax.autoscale()
     ax.set_aspect(1 / max(0.2, math.cos(math.radians(mid_lat))))
     ax.set_xlabel("longitude (degrees)")
     ax.set_ylabel("latitude (degrees)")
