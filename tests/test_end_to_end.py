@@ -257,3 +257,21 @@ def test_streamed_output_holds_the_same_cells(cli, tmp_path, monkeypatch):
     for ws in a:
         assert cells(ws) == cells(b[ws.title]), ws.title
     check_costed_workbook("streamed.xlsx")
+
+
+def test_fast_formula_path_matches_xlsxwriter(cli, tmp_path, monkeypatch):
+    # reference: xlsxwriter's own formula preparation, on every formula the demo writes
+    import xlsxwriter
+
+    from costing.writer import _fast_formulas
+
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "d.xlsx")[0] == 0
+    ws = xlsxwriter.Workbook(str(tmp_path / "scratch.xlsx")).add_worksheet()
+    reference = ws._prepare_formula
+    _fast_formulas(ws)
+    formulas = [c.value for sheet in openpyxl.load_workbook("d.xlsx") for row in sheet.iter_rows()
+                for c in row if c.data_type == "f"]
+    assert len(formulas) > 1000
+    assert all(ws._prepare_formula(f) == reference(f) for f in formulas)
+    assert ws._prepare_formula("=XLOOKUP(A1,B:B,C:C)") == reference("=XLOOKUP(A1,B:B,C:C)")
