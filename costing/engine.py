@@ -4,6 +4,13 @@ every shipment, a landmark lower bound, and batching of shipments that share an 
 Nothing here knows about depots or rates: node ids 0..n-1, arcs with non-negative weights and
 edge ids, exactly as `costing.search`. Results are `costing.search.SearchResult`.
 
+Use (for example from costing/route.py, one engine per CompactNetwork, built once):
+
+    engine = SearchEngine(CSRGraph.from_adjacency(cn.adj), landmarks=24)
+    res = engine.astar(o, d, lower_bound=cn.bound(d))             # one shipment
+    results = engine.route_many([(o1, d1), (o2, d2), ...], lower_bound=cn.bound)   # many
+    engine.stats                                                   # EngineStats
+
 The network (`CSRGraph`)
 ------------------------
 Arcs sorted by (tail, head) in compressed sparse row form: `indptr`, `heads`, `weights`,
@@ -64,9 +71,10 @@ found; both are optimal.)
 
 Landmark choice (farthest first). Start from a seeded random node s0; the first landmark is the
 node farthest from s0 (out-distance); then repeatedly the node whose least "round trip"
-d(L, v) + d(v, L) over the landmarks chosen so far is largest (ties: smallest id). Nodes some
-landmark cannot reach or be reached from count as infinitely far, so every strongly connected
-piece of the network gets a landmark before any piece gets a second.
+d(L, v) + d(v, L) over the landmarks chosen so far is largest (ties: smallest id). A way that
+does not exist counts 0 (a node reachable one way only counts by that way); a node a landmark can
+neither reach nor be reached from is infinitely far from it, so every weakly connected piece of
+the network gets a landmark before any piece gets a second.
 
 Batching (`route_many`)
 -----------------------
@@ -75,12 +83,12 @@ tested): one A* per destination; one Dijkstra from the origin stopped when every
 the group is settled ("python-many"); or one compiled one-to-all search (scipy) plus a vectorised
 reconstruction of the routes ("scipy-all"). The choice is by estimated time, in microseconds:
 
-    astar       = sum over the group's destinations t of  C_QUERY + C_SETTLE * RHO * ball(d'(s, t))
-    python-many = C_QUERY + C_SETTLE * ball(max_t d'(s, t))
+    astar       = sum over the group's destinations t of  C_QUERY + C_SETTLE_ASTAR * RHO * ball(d'(s, t))
+    python-many = C_QUERY + C_SETTLE_DIJKSTRA * ball(max_t d'(s, t))
     scipy-all   = C_SCIPY0 + C_SCIPY * (n + arcs) + C_RECON * arcs + C_PATH * destinations
 
 where d'(s, v) is the landmark lower bound of d(s, v) (all landmarks), ball(r) is n times the
-share of a fixed seeded sample of up to 1024 nodes with d'(s, v) <= r (the nodes a Dijkstra
+share of a fixed seeded sample of up to 256 nodes with d'(s, v) <= r (the nodes a Dijkstra
 from s settles before reaching distance r), and RHO is the share of that ball an ALT A* settles
 (0.05 with 8 or more landmarks, as measured on the benchmark's road-like networks; 0.5 without).
 The constants were measured on the development machine (see benchmarks/README.md); they only
@@ -108,14 +116,15 @@ INF = float("inf")
 
 # Estimated cost of the strategies, microseconds (measured: see module docstring).
 C_QUERY = 40.0  # fixed cost of one A* query (landmark choice, queue, route)
-C_SETTLE = 4.5  # per node settled by the Python searches
+C_SETTLE_ASTAR = 6.0  # per node settled by A* (with its bound evaluations)
+C_SETTLE_DIJKSTRA = 3.5  # per node settled by the Python one-to-many Dijkstra
 C_SCIPY0 = 150.0  # fixed cost of one compiled one-to-all call
 C_SCIPY = 0.05  # per node plus arc of a compiled one-to-all
 C_RECON = 0.02  # per arc of the vectorised route reconstruction
 C_PATH = 8.0  # per destination of the vectorised route reconstruction
 RHO_ALT = 0.05
 RHO_NONE = 0.5
-SAMPLE = 1024
+SAMPLE = 256
 
 STRATEGIES = ("astar", "python-many", "scipy-all")
 
@@ -133,7 +142,7 @@ class CSRGraph:
     indptr: np.ndarray  # (n + 1,) int64
     heads: np.ndarray  # (m,) int32 (int64 above 2**31 nodes)
     weights: np.ndarray  # (m,) float64, >= 0
-    edge_ids: np.ndarray  # (m,) int64, the caller's edge id of each arc
+    edge_ids: np.ndarray  # (m,) the caller's edge id of each arc (int32 when they fit, else int64)
 
     @property
     def m(self) -> int:
@@ -175,6 +184,8 @@ class CSRGraph:
         indptr = np.zeros(n + 1, dtype=np.int64)
         np.cumsum(np.bincount(tail, minlength=n), out=indptr[1:])
         idx = np.int32 if n < 2**31 else np.int64
+        if edge_id.size and -(2**31) <= edge_id.min() and edge_id.max() < 2**31:
+            edge_id = edge_id.astype(np.int32)
         return cls(int(n), indptr, head.astype(idx), weight, edge_id)
 
     @classmethod
@@ -198,8 +209,14 @@ class CSRGraph:
     def permuted(self, new_of_old: np.ndarray) -> CSRGraph:
         """The same network with node v renamed new_of_old[v]."""
         p = np.asarray(new_of_old, dtype=np.int64)
-        return CSRGraph.from_arrays(self.n, p[self.tails], p[self.heads.astype(np.int64)],
-                                    self.weights, self.edge_ids)
+        tail = p[self.tails]
+        head = p[self.heads]
+        order = np.lexsort((head, tail))  # no parallel arcs to merge: a plain re-sort
+        indptr = np.zeros(self.n + 1, dtype=np.int64)
+        np.cumsum(np.bincount(tail, minlength=self.n), out=indptr[1:])
+        del tail
+        return CSRGraph(self.n, indptr, head[order].astype(self.heads.dtype), self.weights[order],
+                        self.edge_ids[order])
 
     def to_scipy(self):
         """A scipy.sparse CSR matrix over the same arrays (explicit zeros are arcs to scipy)."""
@@ -252,10 +269,13 @@ def choose_landmarks(fwd, bwd, n: int, k: int, seed: int = 0) -> Landmarks:
         for i in range(k):
             fr = _one_to_all(fwd, cur)
             to = _one_to_all(bwd, cur)
-            fr[~np.isfinite(fr)] = BIG
-            to[~np.isfinite(to)] = BIG
+            fr_ok, to_ok = np.isfinite(fr), np.isfinite(to)
+            trip = np.where(fr_ok, fr, 0.0) + np.where(to_ok, to, 0.0)
+            trip[~fr_ok & ~to_ok] = BIG
+            fr[~fr_ok] = BIG
+            to[~to_ok] = BIG
             nodes[i], from_lm[i], to_lm[i] = cur, fr, to
-            np.minimum(far, np.minimum(fr + to, BIG), out=far)
+            np.minimum(far, trip, out=far)
             far[nodes[: i + 1]] = -1.0
             cur = int(np.argmax(far))
     return Landmarks(nodes, to_lm, from_lm, time.perf_counter() - t0)
@@ -307,7 +327,7 @@ class SearchEngine:
     estimate's node sample.
     """
 
-    def __init__(self, graph: CSRGraph, landmarks: int = 16, active: int = 6, reorder: bool = True,
+    def __init__(self, graph: CSRGraph, landmarks: int = 24, active: int = 6, reorder: bool = True,
                  seed: int = 0):
         t0 = time.perf_counter()
         n = graph.n
@@ -327,29 +347,36 @@ class SearchEngine:
         self.graph = g  # internal numbering
         self._old_of_new = order
         self._new_of_old = new_of_old
-        self._ext = order.tolist()  # internal -> caller id
-        self._int = new_of_old.tolist()  # caller id -> internal
-        self._fwd = g.to_scipy()
-        self._bwd = g.transpose().to_scipy()
+        self._ext = order.tolist()  # internal -> caller id (routes share these int objects)
+        self._int = memoryview(new_of_old)  # caller id -> internal
         self.has_zero_weight = bool(g.m and float(g.weights.min()) == 0.0)
-        # Python rows for the inner loop: heads share one int object per node.
-        ids = list(range(n))
-        heads = [ids[v] for v in g.heads.tolist()]
-        w = g.weights.tolist()
-        ip = g.indptr.tolist()
-        self._ip = ip
-        self._heads = [tuple(heads[ip[u]:ip[u + 1]]) for u in range(n)]
-        self._wts = [tuple(w[ip[u]:ip[u + 1]]) for u in range(n)]
-        del heads, w
-        self._eid = memoryview(np.ascontiguousarray(g.edge_ids, dtype=np.int64))
-        # Reverse order of the arcs (by head, then tail) for the route reconstruction.
-        tails = g.tails.astype(np.int64)
-        self._arc_tail = tails
+        idx = g.heads.dtype
+        # The reverse order of the arcs (by head, then tail) is the transpose's CSR order: it
+        # serves the landmark searches towards a node and the route reconstruction.
+        tails = np.append(g.tails, idx.type(0))  # tail of each arc, + a pseudo arc (routes)
+        self._arc_tail_ext = tails
+        tails = tails[:-1]
         rev = np.lexsort((tails, g.heads))
-        self._rev = rev
+        self._rev = rev.astype(np.int32 if g.m < 2**31 else np.int64)
         self._rev_tail = tails[rev]
-        self._rev_head = g.heads[rev].astype(np.int64)
         self._rev_w = g.weights[rev]
+        del rev
+        self._indeg = np.bincount(g.heads, minlength=n)
+        self._rev_head = np.repeat(np.arange(n, dtype=idx), self._indeg)
+        rev_indptr = np.zeros(n + 1, dtype=np.int64)
+        np.cumsum(self._indeg, out=rev_indptr[1:])
+        import scipy.sparse as sp
+
+        self._fwd = g.to_scipy()
+        self._bwd = sp.csr_matrix((self._rev_w, self._rev_tail, rev_indptr), shape=(n, n))
+        # Python rows (tuples of heads and of weights) for the inner loops, made the first time
+        # a search settles the node: memory only for the part of the network searched.
+        self._heads: list[tuple[int, ...] | None] = [None] * n
+        self._wts: list[tuple[float, ...] | None] = [None] * n
+        self._heads_mv = memoryview(g.heads)
+        self._wts_mv = memoryview(g.weights)
+        self._ip = memoryview(g.indptr)
+        self._eid = memoryview(np.ascontiguousarray(g.edge_ids))
         # Work arrays, reset after each query.
         self._g = [INF] * n
         self._par = [-1] * n
@@ -362,6 +389,7 @@ class SearchEngine:
         self._sample = np.sort(rng.choice(n, size=min(n, SAMPLE), replace=False)) if n else np.empty(0, int)
         self.stats = EngineStats(n=n, arcs=g.m, landmarks=self.lm.k, landmark_bytes=self.lm.nbytes,
                                  graph_bytes=g.nbytes, landmark_seconds=self.lm.seconds)
+        self.plans: list[GroupPlan] = []  # the last route_many's choices
         self.stats.build_seconds = time.perf_counter() - t0
 
     # -- the bound ------------------------------------------------------------------------------
@@ -481,7 +509,10 @@ class SearchEngine:
                 if u == t:
                     break
                 gu = g[u]
-                for v, w in zip(heads[u], wts[u]):
+                hu = heads[u]
+                if hu is None:
+                    hu = self._load_row(u)
+                for v, w in zip(hu, wts[u]):
                     gv = gu + w
                     gold = g[v]
                     if gv < gold:
@@ -511,6 +542,12 @@ class SearchEngine:
                 g[v] = INF
                 done[v] = 0
 
+    def _load_row(self, u: int) -> tuple[int, ...]:
+        a, b = self._ip[u], self._ip[u + 1]
+        hu = self._heads[u] = tuple(self._heads_mv[a:b])
+        self._wts[u] = tuple(self._wts_mv[a:b])
+        return hu
+
     def _result(self, s: int, t: int, weight: float, stats: SearchStats) -> SearchResult:
         """Walk the parents back from t (internal ids) while they are still set."""
         par, ext, heads, ip, eid = self._par, self._ext, self._heads, self._ip, self._eid
@@ -519,7 +556,10 @@ class SearchEngine:
         v = t
         while v != s:
             u = par[v]
-            edges.append(eid[ip[u] + heads[u].index(v)])
+            hu = heads[u]
+            if hu is None:
+                hu = self._load_row(u)
+            edges.append(eid[ip[u] + hu.index(v)])
             nodes.append(ext[u])
             v = u
         nodes.reverse()
@@ -556,7 +596,15 @@ class SearchEngine:
             return []
         qs, rs = divmod(total.settled, k)
         qp, rp = divmod(total.pushed, k)
-        return [SearchStats(qs + (i < rs), qp + (i < rp)) for i in range(k)]
+        made: dict[tuple[bool, bool], SearchStats] = {}  # at most four distinct (immutable) values
+        out = []
+        for i in range(k):
+            key = (i < rs, i < rp)
+            st = made.get(key)
+            if st is None:
+                st = made[key] = SearchStats(qs + key[0], qp + key[1])
+            out.append(st)
+        return out
 
     def _dijkstra_many(self, s: int, targets: list[int]) -> list[SearchResult]:
         heads, wts = self._heads, self._wts
@@ -579,7 +627,10 @@ class SearchEngine:
                 if not remaining:
                     break
                 gu = g[u]
-                for v, w in zip(heads[u], wts[u]):
+                hu = heads[u]
+                if hu is None:
+                    hu = self._load_row(u)
+                for v, w in zip(hu, wts[u]):
                     gv = gu + w
                     gold = g[v]
                     if gv < gold:
@@ -610,35 +661,38 @@ class SearchEngine:
         dist = _one_to_all(self._fwd, s)
         reached = int(np.isfinite(dist).sum())
         parts = self._split(SearchStats(reached, 0), len(targets))
-        if self.has_zero_weight:
-            parent = self._parents_from_scipy(s)
-        else:
-            parent = self._tight_parents(dist, s)
+        parent = self._parents_from_scipy(s) if self.has_zero_weight else self._tight_parents(dist, s)
         t_arr = np.asarray(targets, dtype=np.int64)
         ok = np.isfinite(dist[t_arr]) if len(targets) else np.zeros(0, dtype=bool)
-        paths = self._walk_back(parent, s, t_arr[ok])
+        good = t_arr[ok]
+        node_flat, edge_flat, lengths = self._routes(parent, s, good)
+        # Routes lie one after another in the flat lists (a route of k arcs has k + 1 nodes).
+        weights = dist[good].tolist()
         out = []
-        j = 0
-        ext = self._ext
-        for t, st, good in zip(targets, parts, ok.tolist()):
-            if not good:
+        j = a = 0
+        for st, reached_t in zip(parts, ok.tolist()):
+            if not reached_t:
                 out.append(SearchResult(False, INF, (), (), st))
                 continue
-            arcs = paths[j]
+            k = lengths[j]
+            out.append(SearchResult(True, weights[j], tuple(node_flat[a + j:a + j + k + 1]),
+                                    tuple(edge_flat[a:a + k]), st))
+            a += k
             j += 1
-            nodes = tuple(ext[x] for x in self._arc_tail[arcs].tolist()) + (ext[t],)
-            edges = tuple(self.graph.edge_ids[arcs].tolist())
-            out.append(SearchResult(True, float(dist[t]), nodes, edges, st))
         return out
 
     def _tight_parents(self, dist: np.ndarray, s: int) -> np.ndarray:
         """For each node the arc from its tight predecessor with the smallest id (-1 if none):
-        the parent A* and the Python Dijkstra choose (module docstring)."""
+        the parent A* and the Python Dijkstra choose (module docstring). One vectorised pass over
+        the arcs in (head, tail) order; unreachable nodes get a meaningless parent, never used."""
         dt = dist[self._rev_tail]
-        tight = np.flatnonzero((dt + self._rev_w == dist[self._rev_head]) & (dt < INF))
+        dt += self._rev_w
+        tight = np.flatnonzero(dt == np.repeat(dist, self._indeg))
         hv = self._rev_head[tight]
-        first = np.ones(hv.shape[0], dtype=bool)
-        first[1:] = hv[1:] != hv[:-1]
+        first = np.empty(hv.shape[0], dtype=bool)
+        if hv.shape[0]:
+            first[0] = True
+            np.not_equal(hv[1:], hv[:-1], out=first[1:])
         parent = np.full(self.n, -1, dtype=np.int64)
         parent[hv[first]] = self._rev[tight[first]]
         parent[s] = -1
@@ -651,37 +705,54 @@ class SearchEngine:
 
         _d, pred = dijkstra(self._fwd, directed=True, indices=s, return_predecessors=True)
         parent = np.full(self.n, -1, dtype=np.int64)
-        ok = np.flatnonzero(pred >= 0)
-        ip = self.graph.indptr
-        for v in ok.tolist():
-            u = int(pred[v])
-            row = self.graph.heads[ip[u]:ip[u + 1]]
-            parent[v] = ip[u] + int(np.searchsorted(row, v))
+        v = np.flatnonzero(pred >= 0)
+        u = pred[v].astype(np.int64)
+        keys = self._arc_tail_ext[:-1].astype(np.int64) * self.n + self.graph.heads  # CSR order
+        parent[v] = np.searchsorted(keys, u * self.n + v)
         return parent
 
-    def _walk_back(self, parent: np.ndarray, s: int, targets: np.ndarray) -> list[np.ndarray]:
-        """The arcs of each route, source first, walking all targets back at once."""
-        if targets.shape[0] == 0:
-            return []
-        tail = self._arc_tail
-        cur = targets.copy()
+    def _routes(self, parent: np.ndarray, s: int, targets: np.ndarray) -> tuple[list, list, list[int]]:
+        """Every target's route from the parent arcs, walking all targets back to s together.
+        Returns the caller's node ids of all routes one after another (each source first,
+        target last), their edge ids likewise, and the number of arcs of each route."""
+        m = targets.shape[0]
+        arrived = self.graph.m  # a pseudo arc: the parent of s, with tail s, so s stays put
+        tail = self._arc_tail_ext
+        tail[arrived] = s
+        parent[s] = arrived
+        if m == 0:
+            return [], [], []
+        cur = targets
         steps = []
         while True:
-            live = cur != s
-            if not live.any():
+            for _ in range(8):  # test for the end every 8 steps only
+                arc = parent[cur]
+                steps.append(arc)
+                cur = tail[arc]
+            if (arc == arrived).all():
                 break
-            arc = np.where(live, parent[cur], -1)
-            if (arc[live] < 0).any():
-                raise RuntimeError("route reconstruction found a node without a parent")
-            steps.append(arc)
-            cur = np.where(live, tail[np.maximum(arc, 0)], s)
-            if len(steps) > self.n:
+            if len(steps) > self.n + 8:
                 raise RuntimeError("route reconstruction did not end")
-        if not steps:
-            return [np.empty(0, dtype=np.int64) for _ in range(targets.shape[0])]
-        mat = np.stack(steps, axis=1)  # (targets, hops), -1 padded at the end
-        lengths = (mat >= 0).sum(axis=1)
-        return [mat[i, :lengths[i]][::-1] for i in range(mat.shape[0])]
+        mat = np.stack(steps)  # (steps, targets): arcs from the target end, then `arrived`
+        if (mat < 0).any():
+            raise RuntimeError("route reconstruction found a node without a parent")
+        real = mat != arrived
+        lengths = real.sum(axis=0)
+        # Reverse each column's real arcs so that routes run source first: the real arcs are a
+        # prefix of each column, so row k of route j goes to position lengths[j] - 1 - k.
+        starts = np.zeros(m, dtype=np.int64)
+        np.cumsum(lengths[:-1], out=starts[1:])
+        k_idx, j_idx = np.nonzero(real)
+        ordered = np.empty(k_idx.shape[0], dtype=np.int64)
+        ordered[starts[j_idx] + lengths[j_idx] - 1 - k_idx] = mat[k_idx, j_idx]
+        # Nodes: route j takes positions starts[j] + j .. starts[j] + j + lengths[j].
+        total = ordered.shape[0]
+        route_of = np.repeat(np.arange(m), lengths)
+        nodes = np.empty(total + m, dtype=np.int64)
+        nodes[np.arange(total) + route_of] = tail[ordered]
+        nodes[starts + lengths + np.arange(m)] = targets
+        node_flat = self._old_of_new[nodes].tolist()
+        return node_flat, self.graph.edge_ids[ordered].tolist(), lengths.tolist()
 
     # -- batching ------------------------------------------------------------------------------------
 
@@ -705,8 +776,8 @@ class SearchEngine:
                 balls = np.full(m, float(n))
                 ball_max = float(n)
             est = {
-                "astar": float(np.sum(C_QUERY + C_SETTLE * rho * balls)),
-                "python-many": C_QUERY + C_SETTLE * ball_max,
+                "astar": float(np.sum(C_QUERY + C_SETTLE_ASTAR * rho * balls)),
+                "python-many": C_QUERY + C_SETTLE_DIJKSTRA * ball_max,
                 "scipy-all": C_SCIPY0 + C_SCIPY * (n + self.graph.m) + C_RECON * self.graph.m + C_PATH * m,
             }
         best = min(STRATEGIES, key=lambda k: (est[k], STRATEGIES.index(k)))
@@ -723,7 +794,7 @@ class SearchEngine:
         for i, (o, _d) in enumerate(pairs):
             groups.setdefault(o, []).append(i)
         out: list[SearchResult | None] = [None] * len(pairs)
-        self.plans: list[GroupPlan] = []
+        self.plans = []
         for o, idx in groups.items():
             dests = [pairs[i][1] for i in idx]
             if strategy == "auto":

@@ -1,0 +1,36 @@
+"""The search benchmark's smoke mode: a ~2,000-node road-like network, both W2 workloads and the
+point-to-point queries, every available engine. Checks only that it runs and that every engine
+gives the same cost for every shipment it answered; it asserts no timing (figures are printed
+by `python -m benchmarks.bench_search`, see benchmarks/README.md).
+
+Source of truth for the costs: the reference libraries themselves (scipy.sparse.csgraph.dijkstra,
+networkx dijkstra and astar_path, rustworkx when installed), compared with our engine's.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+
+from benchmarks import bench_search
+
+
+def test_smoke_mode_runs_and_all_engines_agree(capsys):
+    reports = bench_search.main(["--smoke"])
+    out = capsys.readouterr().out
+    assert len(reports) == 1
+    rep = reports[0]
+    assert rep.nodes == 2000
+    engines = {r.engine for r in rep.runs}
+    expected = {"ours", "scipy", "scipy (costs only)", "networkx-dijkstra", "networkx-astar"}
+    if importlib.util.find_spec("rustworkx") is not None:
+        expected.add("rustworkx")
+    else:
+        assert "rustworkx" in rep.skipped
+    assert expected <= engines
+    for r in rep.runs:
+        assert r.answered > 0, r
+        assert r.mismatches == 0, r
+    assert rep.all_agree
+    # A* never settles more than Dijkstra stopped at the target (same queries)
+    assert rep.p2p["astar_settled"] <= rep.p2p["dijkstra_settled"]
+    assert "| engine |" in out and "all costs agree" in out
