@@ -34,3 +34,12 @@ def test_smoke_mode_runs_and_all_engines_agree(capsys):
     # A* never settles more than Dijkstra stopped at the target (same queries)
     assert rep.p2p["astar_settled"] <= rep.p2p["dijkstra_settled"]
     assert "| engine |" in out and "all costs agree" in out
+
+
+def test_workbook_benchmark_smoke(capsys):
+    # W1 end to end through workbooks on a small network: it runs and prints its ratio line
+    from benchmarks.bench_workbook import main
+
+    main(["--smoke"])
+    out = capsys.readouterr().out
+    assert "costing run end to end" in out and "ratio" in out
