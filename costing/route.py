@@ -106,6 +106,10 @@ def loaded_weight(s: Shipment, card: RateCard) -> float:
 
 # a group of this many shipments with one origin and profile is searched one-to-many
 BATCH_MIN = 3
+# from this many depots on, a one-card profile is searched by the array engine (landmark bound,
+# compiled one-to-all searches) instead of the pure-Python search
+ENGINE_MIN_DEPOTS = 20_000
+ENGINE_LANDMARKS = 16
 
 
 class Router:
@@ -122,6 +126,7 @@ class Router:
         self._pairs: dict[Profile, list] = {}
         self._layers: dict = {}  # per-card lane weights shared by profiles
         self._batched: dict = {}  # (profile, origin, destination) -> (network, search result)
+        self._engines: dict = {}  # profile -> costing.engine.SearchEngine
 
     def network(self, profile: Profile) -> CompactNetwork:
         cn = self.networks.get(profile)
@@ -163,7 +168,13 @@ class Router:
             cn = self.network(profile)
             sources, _exits = self._ends(members[0], profile, cn)
             targets = [self._ends(Shipment("", origin, d, 0.0), profile, cn)[1] for d in dests]
-            results = one_to_many(cn.adj, sources, targets)
+            engine = self._engine(profile, cn)
+            if engine is not None:
+                raw = engine.route_many([(sources[0][0], next(iter(t))) for t in targets],
+                                        lower_bound=cn.bound)
+                results = [_with_ends(r, sources[0][1], next(iter(t.values()))) for r, t in zip(raw, targets)]
+            else:
+                results = one_to_many(cn.adj, sources, targets)
             self.stats.batches += 1
             self.stats.batched += len(members)
             self.stats.settled += results[0].stats.settled if results else 0
@@ -177,7 +188,13 @@ class Router:
             return hit
         cn = self.network(profile)
         sources, exits = self._ends(s, profile, cn)
-        res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
+        engine = self._engine(profile, cn)
+        if engine is not None:
+            d = cn.node(s.destination, 0)
+            res = _with_ends(engine.astar(sources[0][0], d, lower_bound=cn.bound(cn.index[s.destination])),
+                             sources[0][1], exits[d])
+        else:
+            res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
         self.stats.searches += 1
         self.stats.settled += res.stats.settled
         self.stats.pushed += res.stats.pushed
@@ -186,6 +203,22 @@ class Router:
     def pool(self, s: Shipment) -> list[RateCard]:
         """The rate cards a shipment may use: its named vehicle's, or every card."""
         return [r for r in self.model.rates if not s.vehicle or r.vehicle == s.vehicle]
+
+    def _engine(self, profile: Profile, cn: CompactNetwork):
+        """The array engine for a large one-card network (built once per profile), else None."""
+        if cn.n_cards != 1 or len(cn.depot_ids) < ENGINE_MIN_DEPOTS:
+            return None
+        engine = self._engines.get(profile)
+        if engine is None:
+            from .engine import CSRGraph, SearchEngine
+
+            t0 = time.perf_counter()
+            engine = self._engines[profile] = SearchEngine(CSRGraph.from_adjacency(cn.adj),
+                                                           landmarks=ENGINE_LANDMARKS)
+            key = "landmarks (within search)"
+            self.stats.seconds[key] = self.stats.seconds.get(key, 0.0) + time.perf_counter() - t0
+            self.stats.bounds[_label(profile)] += f"; with {ENGINE_LANDMARKS} landmarks (array engine)"
+        return engine
 
     def candidates(self, s: Shipment, objective: str) -> list[list[RateCard]]:
         """Sets of rate cards to search. A minimum charge is not additive lane by lane (a route
@@ -246,6 +279,13 @@ class Router:
             runs = _runs_from(self.model, cnc, r.nodes[1], [e for e in r.edges if e >= 0])
             out.append(cost_route(self.model, s, "cost", runs))
         return out, result.capped
+
+
+def _with_ends(res, start: float, exit_weight: float):
+    """A one-card route from the engine, with the route's start and exit weights added."""
+    if not res.found:
+        return res
+    return replace(res, weight=res.weight + start + exit_weight)
 
 
 def _runs_from(model: Model, cn: CompactNetwork, first_node: int, edges) -> list[tuple[RateCard, list]]:

@@ -171,3 +171,26 @@ def test_lane_usage_and_pictures_present(cli, tmp_path, monkeypatch):
     trade = list(wb["Trade-offs"].iter_rows(min_row=2, values_only=True))
     firsts = [r for r in trade if r[1] == 1]
     assert all(r[9] == "cheapest" for r in firsts)
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_array_engine_gives_the_same_routes_as_the_plain_search(seed, monkeypatch):
+    # large one-card networks go to costing/engine.py (landmarks, compiled one-to-all); forced on
+    # here for small ones, every shipment's cost must equal the plain search's
+    from dataclasses import replace
+
+    import costing.route as route
+    from costing.route import route_all
+
+    model = _grid_model(seed)
+    ids = [d.depot_id for d in model.depots]
+    ships = tuple(Shipment(f"S{a}{b}", a, b, 12.0) for a in ids[:2] for b in ids if a != b)
+    model = replace(model, shipments=ships)
+    plain, _, _ = route_all(model, build_graph(model))
+    monkeypatch.setattr(route, "ENGINE_MIN_DEPOTS", 0)
+    fast, stats, _ = route_all(model, build_graph(model))
+    assert any("landmarks" in note for note in stats.bounds.values())
+    for a, b in zip(plain, fast):
+        assert a.status == b.status
+        if a.status == "routed":
+            assert b.total_cost == pytest.approx(a.total_cost, abs=1e-9)
