@@ -109,16 +109,19 @@ def astar(adj: Adjacency, source: int | Sequence[tuple[int, float]],
     stats = SearchStats(settled, pushed)
     if not done[virtual]:
         return SearchResult(False, float("inf"), (), (), stats)
-    v = parent_node[virtual]
-    nodes = [v]
-    edges = []
+    nodes, edges = _walk_back(parent_node, parent_edge, parent_node[virtual])
+    return SearchResult(True, g[virtual], nodes, edges, stats)
+
+
+def _walk_back(parent_node: list[int], parent_edge: list[int], end: int) -> tuple[tuple, tuple]:
+    """The route to `end` as (nodes, edges), from the parents the search recorded."""
+    nodes, edges = [end], []
+    v = end
     while parent_node[v] != -1:
         edges.append(parent_edge[v])
         v = parent_node[v]
         nodes.append(v)
-    nodes.reverse()
-    edges.reverse()
-    return SearchResult(True, g[virtual], tuple(nodes), tuple(edges), stats)
+    return tuple(reversed(nodes)), tuple(reversed(edges))
 
 
 def dijkstra_all(adj: Adjacency, source: int) -> list[float]:
@@ -197,13 +200,6 @@ def one_to_many(adj: Adjacency, source: Sequence[tuple[int, float]],
         if best_node < 0:
             out.append(SearchResult(False, float("inf"), (), (), stats))
             continue
-        nodes, edges = [best_node], []
-        v = best_node
-        while parent_node[v] != -1:
-            edges.append(parent_edge[v])
-            v = parent_node[v]
-            nodes.append(v)
-        nodes.reverse()
-        edges.reverse()
-        out.append(SearchResult(True, best, tuple(nodes), tuple(edges), stats))
+        nodes, edges = _walk_back(parent_node, parent_edge, best_node)
+        out.append(SearchResult(True, best, nodes, edges, stats))
     return out

@@ -1,5 +1,5 @@
 """costing.geo against the WGS84 geodesic of geographiclib (reference library, C. F. F. Karney's
-algorithms) and against the check values of /work/shared/references.md section 1.
+algorithms) and against the check values of shared/references.md section 1.
 
 Tolerances (references.md 1.3 [V-LIB]): a haversine on the mean-radius sphere differs from the
 WGS84 geodesic by at most +0.5614 % (north-south at the equator) and -0.4467 % (near the poles),

@@ -1,6 +1,6 @@
 """costing.search.astar on the Romania road map worked example of Russell & Norvig,
 "Artificial Intelligence: A Modern Approach", 3rd ed.: Fig 3.2 (map) and Fig 3.22 (straight-line
-distances to Bucharest). Values as recorded in /work/shared/references.md section 2:
+distances to Bucharest). Values as recorded in shared/references.md section 2:
 
 * edge list (23 undirected roads, 20 cities, total 2483 km): [V-DOC] aimacode/aima-python
   `aima/search.py` `romania_map` (references.md 2.2);
