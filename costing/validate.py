@@ -366,20 +366,20 @@ def validate(raw: RawWorkbook) -> Model:
     depots: list[Depot] = []
     if "Depots" in raw.sheets:
         sh = _Sheet(raw.sheets["Depots"], problems)
-        for rr, rec, ok in _ids(sh, list(_records(sh)), "depot_id", "depot"):
+        for rr, rec, _ok in _ids(sh, list(_records(sh)), "depot_id", "depot"):
             lat, lon = rec["latitude"], rec["longitude"]
             if lat is not None and lon is not None and (lat, lon) == (0.0, 0.0):
                 sh.problem(WARNING, "latitude", rr.row, "coordinates are 0, 0 (in the Gulf of "
                            "Guinea)", "check latitude and longitude")
             if rec["depot_id"] is None:
                 continue
-            if not ok and (rec["latitude"] is None or rec["longitude"] is None):
+            if lat is None or lon is None:  # half a position is no position
                 lat = lon = None
+            # a depot with a bad cell is still listed (the run stops on the error anyway), so
+            # lanes and shipments naming it do not report it missing as well
             depots.append(Depot(rec["depot_id"], rec["name"] or "", lat, lon,
                                 rec["kind"] or "depot", rec["handling_cost"] or 0.0,
                                 rec["handling_hours"] or 0.0, rr.row))
-            if not ok:
-                continue
     depot_ix = {d.depot_id: d for d in depots}
     _check_swapped_coordinates(raw, problems)
 

@@ -202,6 +202,7 @@ class _Writer:
         self.wb.set_properties({"title": "Costed routes", "created": created,
                                 "comments": f"Written by costing {__version__}"})
         self.model = model
+        self.legs_last: dict[str, int] = {}  # Legs sheet name -> its last data row (1-based)
         cur = model.settings.currency
         from .money import minor_unit
 
