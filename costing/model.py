@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 
 ERROR = "error"
 WARNING = "warning"
@@ -127,9 +128,16 @@ class Model:
     def depot(self, depot_id: str) -> Depot:
         return self.depot_index[depot_id]
 
-    @property
+    @cached_property
     def depot_index(self) -> dict[str, Depot]:
+        """depot id -> depot, built once per Model (looked up for every shipment and leg)."""
         return {d.depot_id: d for d in self.depots}
+
+    @cached_property
+    def restricted_lanes(self) -> tuple[Lane, ...]:
+        """Lanes with a hazmat ban or a weight limit: usually few, so each shipment's profile
+        looks at these only, not at every lane."""
+        return tuple(ln for ln in self.lanes if not ln.hazmat_allowed or ln.max_weight_t is not None)
 
     def vehicles(self) -> list[str]:
         seen: dict[str, None] = {}

@@ -71,7 +71,7 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
     its hazmat flag and weight forbid (lane by lane, card by card)."""
     blocked: set[tuple[str, int]] = set()
     if restricted:
-        for lane in _restricted_lanes(model):
+        for lane in model.restricted_lanes:
             for k, card in enumerate(cards):
                 if lane.mode != card.mode:
                     continue
@@ -85,18 +85,6 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
     return Profile(objective,
                    tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
                    frozenset(blocked), s.weight_t if needs_tonnes else 0.0)
-
-
-_RESTRICTED: list = [None, ()]  # (the lanes tuple it was computed for, its restricted lanes)
-
-
-def _restricted_lanes(model: Model) -> tuple:
-    """Lanes with a hazmat ban or a weight limit: usually few, so each shipment's profile looks
-    at those only, not at every lane."""
-    if _RESTRICTED[0] is not model.lanes:
-        _RESTRICTED[:] = [model.lanes, tuple(ln for ln in model.lanes
-                                             if not ln.hazmat_allowed or ln.max_weight_t is not None)]
-    return _RESTRICTED[1]
 
 
 def loaded_weight(s: Shipment, card: RateCard) -> float:
