@@ -831,8 +831,10 @@ def _bound_rows(bounds: dict[str, str]) -> list[tuple[str, str]]:
 
 def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, last: int,
                n_legs: int) -> None:
-    ws.set_column(0, 0, 34)
-    ws.set_column(1, 1, 90)
+    _page(ws)
+    ws.fit_to_pages(1, 0)  # one page wide, as many long as it takes
+    ws.set_column(0, 0, 36)
+    ws.set_column(1, 1, 90, w.f["wrap"])
     f = w.f
     rows: list[tuple[str, object]] = [
         ("tool", f"costing {__version__}"),
@@ -848,10 +850,11 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     if info.objective_override:
         rows.append(("objective (command line)", info.objective_override))
     s = model.settings
-    for name in ("currency", "objective", "detour_factor", "default_speed_kmh",
-                 "value_of_time_per_hour", "driving_rules", "fuel_price_per_litre"):
+    from .contract import SETTINGS
+
+    for name in (spec.name for spec in SETTINGS):  # every setting, as used (defaults filled in)
         v = getattr(s, name)
-        rows.append((f"setting: {name}", "" if v is None else v))
+        rows.append((f"setting: {name}", "(blank: default)" if v is None else v))
     counts: dict[str, int] = {}
     for x in results:
         counts[x.status] = counts.get(x.status, 0) + 1
@@ -908,7 +911,10 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     for r, (k, v) in enumerate(rows, start=1):
         ws.write_string(r, 0, k, f["bold"])
         if isinstance(v, bool) or not isinstance(v, (int, float)):
-            ws.write_string(r, 1, _text(v), f["wrap"] if k == "caution" else None)
+            text = _text(v)
+            ws.write_string(r, 1, text, f["wrap"])
+            if len(text) > 95:  # wrapped text needs a taller row in print
+                ws.set_row(r, 15 * min(20, -(-len(text) // 95)))
         else:
             ws.write_number(r, 1, v)
     # reconciliation: the totals tie out
