@@ -1,4 +1,4 @@
-"""Search benchmark: our engine (costing.engine) against reference libraries, same run, same
+"""Search benchmark: our engine (costing.network.engine) against reference libraries, same run, same
 queries, on seeded road-like networks (benchmarks/road_network.py).
 
     python -m benchmarks.bench_search --nodes 100000            # W2 on the 100k network
@@ -46,7 +46,7 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from benchmarks.road_network import RoadNetwork, generate, workload_many_per_origin, workload_mixed
-from costing.engine import CSRGraph, SearchEngine
+from costing.network.engine import CSRGraph, SearchEngine
 
 REL_TOL = 1e-9  # costs must agree to this relative difference (all engines sum in route order)
 

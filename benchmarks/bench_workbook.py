@@ -23,7 +23,7 @@ import tempfile
 import time
 
 from costing.geo import great_circle_km
-from costing.template import write_template
+from costing.workbook.template import write_template
 
 
 def make_input(path: str, depots: int, lanes: int, shipments: int, origins: int, seed: int = 7) -> None:
@@ -121,7 +121,7 @@ def main(argv=None) -> None:
     if args.smoke:
         args.depots, args.lanes, args.shipments, args.origins = 200, 800, 500, 10
     from costing.cli import main as costing_main
-    from costing.writer import LEG_COLUMNS, SUMMARY_COLUMNS
+    from costing.sheets.writer import LEG_COLUMNS, SUMMARY_COLUMNS
 
     with tempfile.TemporaryDirectory() as tmp:
         inp = os.path.join(tmp, "w1-input.xlsx")

@@ -11,9 +11,9 @@ import sys
 import tempfile
 import time
 
-from . import __version__
-from .contract import OBJECTIVES
-from .model import ERROR, WARNING, Problem
+from costing import __version__
+from costing.contract.inputs import OBJECTIVES
+from costing.model import ERROR, WARNING, Problem
 
 EXIT_OK, EXIT_INPUT, EXIT_USAGE = 0, 1, 2
 
@@ -111,7 +111,7 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def _template(args) -> int:
-    from .template import write_template
+    from costing.workbook.template import write_template
 
     _check_output_path(args.path, None, args.overwrite)
     _atomic_write(args.path, write_template)
@@ -121,8 +121,8 @@ def _template(args) -> int:
 
 def _load(path: str):
     """read + validate; returns (model or None, problems)."""
-    from .reader import InputError, read_workbook
-    from .validate import validate
+    from costing.check.validate import validate
+    from costing.workbook.reader import InputError, read_workbook
 
     try:
         raw = read_workbook(path)
@@ -212,11 +212,11 @@ class _Progress:
 
 
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
-    from .analysis import analyse, run_scenarios
-    from .mapping import draw_map
-    from .network import build_graph
-    from .route import Router, objective_for
-    from .writer import OutputLimitError, RunInfo, run_time, write_costed
+    from costing.network.build import build_graph
+    from costing.plan.analysis import analyse, run_scenarios
+    from costing.plan.route import Router, objective_for
+    from costing.sheets.map import draw_map
+    from costing.sheets.writer import OutputLimitError, RunInfo, run_time, write_costed
 
     if not os.path.exists(input_path):
         raise UsageError(f"input file not found: {input_path}")
@@ -280,7 +280,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
 
 
 def _compare(args) -> int:
-    from .compare import CompareError, compare, read_costed, write_comparison
+    from costing.compare.diff import CompareError, compare, read_costed, write_comparison
 
     for path in (args.old, args.new):
         if not os.path.exists(path):
@@ -304,7 +304,7 @@ def _compare(args) -> int:
 
 
 def _demo(args) -> int:
-    from .example import write_example
+    from costing.example import write_example
 
     output = args.output
     if output is None:

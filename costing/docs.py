@@ -3,7 +3,7 @@
 
 from __future__ import annotations
 
-from .contract import SETTINGS, SHEETS
+from costing.contract.inputs import SETTINGS, SHEETS
 
 
 def column_reference() -> str:

@@ -9,7 +9,7 @@ no-route reporting have something to show.
 
 from __future__ import annotations
 
-from . import template
+from costing.workbook import template
 
 # Every name and number below is invented for this demo. Coordinates are WGS84 decimal degrees.
 # Road lane km = straight line x a detour factor of 1.15 to 1.42; hours = km / 62 to 77 km/h.

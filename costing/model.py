@@ -117,7 +117,7 @@ class Model:
     problems: tuple[Problem, ...] = field(default_factory=tuple)
     # where things are in the input: sheet -> (title in the file, column -> letter)
     layout: dict[str, tuple[str, dict[str, str]]] = field(default_factory=dict)
-    scenarios: tuple = ()  # costing.scenarios.Scenario, each costed beside the base case
+    scenarios: tuple = ()  # costing.check.scenarios.Scenario, each costed beside the base case
 
     def cell(self, sheet: str, column: str, row: int) -> tuple[str, str]:
         """(sheet title, cell address) of a value in the input, for problem reports."""

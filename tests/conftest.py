@@ -8,7 +8,7 @@ import copy
 import pytest
 
 from costing.cli import main
-from costing.template import write_template
+from costing.workbook.template import write_template
 
 BASE = {
     "Settings": [

@@ -1,6 +1,6 @@
 """Comparing two costed workbooks. The two runs come from the command line on invented inputs
 (a rate rises, a lane closes, shipments come and go, one loses its route); the expected figures
-are read back from the two Summary sheets with openpyxl here, independent of costing.compare."""
+are read back from the two Summary sheets with openpyxl here, independent of costing.compare.diff."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ import pytest
 from openpyxl.utils import get_column_letter
 
 from costing.cli import main
-from costing.compare import (
+from costing.compare.diff import (
     ADDED,
     COST_CHANGED,
     KINDS,
@@ -25,8 +25,8 @@ from costing.compare import (
     read_costed,
     write_comparison,
 )
-from costing.template import write_template
-from costing.writer import SUMMARY_COLUMNS
+from costing.sheets.writer import SUMMARY_COLUMNS
+from costing.workbook.template import write_template
 from tests.conftest import base_data
 from tests.spreadsheet_app import recalc_mismatches, soffice
 

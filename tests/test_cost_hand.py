@@ -9,11 +9,11 @@ from __future__ import annotations
 
 import pytest
 
+from costing.check.validate import validate
 from costing.money import minor_unit, round_money
-from costing.network import build_graph
-from costing.reader import read_workbook
-from costing.route import route_all
-from costing.validate import validate
+from costing.network.build import build_graph
+from costing.plan.route import route_all
+from costing.workbook.reader import read_workbook
 
 
 def _run(path, objective=None):

@@ -12,7 +12,7 @@ import zipfile
 import openpyxl
 import pytest
 
-from costing.writer import LEG_COLUMNS, SUMMARY_COLUMNS
+from costing.sheets.writer import LEG_COLUMNS, SUMMARY_COLUMNS
 from tests.conftest import base_data
 
 LEG = {name: i for i, (name, _w, _k) in enumerate(LEG_COLUMNS)}
@@ -196,7 +196,7 @@ def test_reproducible_bytes(cli, make_input, tmp_path, monkeypatch):
 def test_legs_continue_on_further_sheets(cli, tmp_path, monkeypatch):
     # the spreadsheet row limit (1,048,576 rows: Microsoft "Excel specifications and limits", per
     # shared/references.md 6) is simulated with a 16-row limit so the test stays small
-    import costing.writer as writer
+    import costing.sheets.writer as writer
 
     monkeypatch.setattr(writer, "LEGS_SHEET_ROWS", 16)
     monkeypatch.chdir(tmp_path)
@@ -211,7 +211,7 @@ def test_legs_continue_on_further_sheets(cli, tmp_path, monkeypatch):
 
 
 def test_failed_write_leaves_earlier_output_intact(cli, make_input, tmp_path, monkeypatch):
-    import costing.writer as writer
+    import costing.sheets.writer as writer
 
     out = tmp_path / "o.xlsx"
     out.write_bytes(b"last week's output")
@@ -241,7 +241,7 @@ def test_fuel_rebate_larger_than_per_km_is_refused(cli, make_input, tmp_path):
 def test_streamed_output_holds_the_same_cells(cli, tmp_path, monkeypatch):
     # large outputs are streamed (xlsxwriter constant_memory), which silently drops a write to an
     # earlier row: the streamed workbook must hold exactly the cells of the normal one
-    import costing.writer as writer
+    import costing.sheets.writer as writer
 
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
     monkeypatch.chdir(tmp_path)
@@ -263,7 +263,7 @@ def test_fast_formula_path_matches_xlsxwriter(cli, tmp_path, monkeypatch):
     # reference: xlsxwriter's own formula preparation, on every formula the demo writes
     import xlsxwriter
 
-    from costing.writer import _fast_formulas
+    from costing.sheets.writer import _fast_formulas
 
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "d.xlsx")[0] == 0

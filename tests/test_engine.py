@@ -1,4 +1,4 @@
-"""The search engine (costing.engine) on seeded random networks against independent references.
+"""The search engine (costing.network.engine) on seeded random networks against independent references.
 
 Sources of truth:
 - networkx 3.6 (reference library): single_source_dijkstra_path_length on the reversed graph gives
@@ -7,7 +7,7 @@ Sources of truth:
   code with the engine (which uses scipy for its landmark tables).
 - The definitions of admissible (h(v) <= d(v, t)) and consistent (h(u) <= w(u, v) + h(v) on every
   arc, h(t) = 0) as stated in costing/search.py, checked at every node and arc.
-- costing.search.astar (the product's reviewed search) for the adjacency-list input.
+- costing.network.search.astar (the product's reviewed search) for the adjacency-list input.
 Networks are invented test inputs only; no expected value is invented.
 """
 
@@ -20,8 +20,8 @@ import networkx as nx
 import numpy as np
 import pytest
 
-from costing.engine import HUGE, CSRGraph, SearchEngine
-from costing.search import SearchResult, astar
+from costing.network.engine import HUGE, CSRGraph, SearchEngine
+from costing.network.search import SearchResult, astar
 
 N_ASTAR_NETWORKS = 60  # >= 50 random networks for the A* cost check
 
@@ -190,8 +190,8 @@ def test_source_equals_target_like_costing_search():
 
 
 def test_from_adjacency_matches_costing_search():
-    """Adjacency lists as costing.network builds them (parallel lanes, a loop): same weights as
-    costing.search.astar, and the same lane among equally light parallel lanes (the first)."""
+    """Adjacency lists as costing.network.build builds them (parallel lanes, a loop): same weights as
+    costing.network.search.astar, and the same lane among equally light parallel lanes (the first)."""
     for seed in range(10):
         n, arcs, _xy = random_network(500 + seed, integer=True)
         adj = [[] for _ in range(n)]

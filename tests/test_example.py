@@ -5,11 +5,11 @@ from __future__ import annotations
 
 import openpyxl
 
+from costing.check.validate import validate
 from costing.example import example_data, write_example
-from costing.network import build_graph
-from costing.reader import read_workbook
-from costing.route import route_all
-from costing.validate import validate
+from costing.network.build import build_graph
+from costing.plan.route import route_all
+from costing.workbook.reader import read_workbook
 
 COMMITTED = "examples/hollowmere-week.xlsx"
 

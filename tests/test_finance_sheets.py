@@ -13,8 +13,8 @@ import openpyxl
 import pytest
 
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network import build_graph
-from costing.route import Router
+from costing.network.build import build_graph
+from costing.plan.route import Router
 from tests.conftest import base_data
 
 
@@ -179,8 +179,8 @@ def test_array_engine_gives_the_same_routes_as_the_plain_search(seed, monkeypatc
     # here for small ones, every shipment's cost must equal the plain search's
     from dataclasses import replace
 
-    import costing.route as route
-    from costing.route import route_all
+    import costing.plan.route as route
+    from costing.plan.route import route_all
 
     model = _grid_model(seed)
     ids = [d.depot_id for d in model.depots]

@@ -20,7 +20,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from costing.cli import main
-from costing.contract import SHEETS
+from costing.contract.inputs import SHEETS
 from tests.conftest import base_data
 
 EXAMPLES = int(os.environ.get("COSTING_FUZZ_EXAMPLES", "30"))
@@ -148,7 +148,7 @@ _GOOD: dict[str, bytes] = {}
 def _good_parts() -> dict[str, bytes]:
     """The parts of a small valid input, written once by the template writer."""
     if not _GOOD:
-        from costing.template import write_template
+        from costing.workbook.template import write_template
 
         with tempfile.TemporaryDirectory() as folder:
             path = os.path.join(folder, "in.xlsx")

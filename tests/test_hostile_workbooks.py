@@ -15,7 +15,7 @@ import zlib
 import openpyxl
 import pytest
 
-from costing import reader
+from costing.workbook import reader
 from tests.test_bad_workbooks import assert_clean_refusal, run_cli, sheet_part
 
 MB = 1 << 20

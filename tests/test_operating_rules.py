@@ -15,8 +15,8 @@ import pytest
 
 from costing.geo import great_circle_km
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network import build_graph
-from costing.route import route_all
+from costing.network.build import build_graph
+from costing.plan.route import route_all
 
 
 def run(model):
@@ -256,7 +256,7 @@ def test_zero_emission_data_is_a_warning_not_a_silent_zero(cli, make_input):
 def test_batched_searches_give_the_same_results(seed, monkeypatch):
     # one one-to-many search per origin group against one A* per shipment: same least weights
     # (both are exact; among routes of exactly equal weight either may be returned)
-    import costing.route as route
+    import costing.plan.route as route
 
     model = _random_intermodal(seed)
     rng = random.Random(seed)

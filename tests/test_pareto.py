@@ -21,7 +21,7 @@ from itertools import product
 import networkx as nx
 import pytest
 
-from costing.pareto import ParetoResult, pareto_frontier
+from costing.network.pareto import ParetoResult, pareto_frontier
 
 N_RANDOM = 160  # seeded random graphs (the brief asks for at least 150)
 REL = 1e-9

@@ -7,7 +7,7 @@ from __future__ import annotations
 import openpyxl
 import pytest
 
-from costing.writer import SUMMARY_COLUMNS
+from costing.sheets.writer import SUMMARY_COLUMNS
 from tests.spreadsheet_app import recalc_mismatches, soffice
 
 pytestmark = pytest.mark.skipif(soffice() is None,
@@ -35,7 +35,7 @@ def test_libreoffice_recalculation_matches_cached_values(cli, tmp_path, monkeypa
 
 def test_libreoffice_recalculation_with_legs_on_several_sheets(cli, tmp_path, monkeypatch):
     # the cross-sheet formulas (Summary, Lane usage, reconciliation) over Legs, Legs 2, ...
-    import costing.writer as writer
+    import costing.sheets.writer as writer
 
     monkeypatch.setattr(writer, "LEGS_SHEET_ROWS", 40)
     monkeypatch.chdir(tmp_path)

@@ -1,4 +1,4 @@
-"""costing.search.astar on the Romania road map worked example of Russell & Norvig,
+"""costing.network.search.astar on the Romania road map worked example of Russell & Norvig,
 "Artificial Intelligence: A Modern Approach", 3rd ed.: Fig 3.2 (map) and Fig 3.22 (straight-line
 distances to Bucharest). Values as recorded in shared/references.md section 2:
 
@@ -20,7 +20,7 @@ import heapq
 import networkx as nx
 import pytest
 
-from costing.search import astar
+from costing.network.search import astar
 
 # references.md 2.2 [V-DOC] aimacode/aima-python romania_map ("Drobeta" as in the 3rd edition)
 ROADS = [

@@ -12,9 +12,9 @@ from __future__ import annotations
 import pytest
 
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network import build_graph
-from costing.route import route_all
-from costing.rules import RULE_SETS, rules_for, stops_for_run
+from costing.network.build import build_graph
+from costing.plan.route import route_all
+from costing.price.rules import RULE_SETS, rules_for, stops_for_run
 
 EU = RULE_SETS["eu_561_2006"]
 US = RULE_SETS["us_49cfr395"]

@@ -9,10 +9,7 @@ import dataclasses
 
 import pytest
 
-from costing.contract import SETTINGS, SHEETS_BY_NAME
-from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.reader import RawRow, RawSheet, read_workbook
-from costing.scenarios import (
+from costing.check.scenarios import (
     ID_COLUMNS,
     Change,
     Scenario,
@@ -20,7 +17,10 @@ from costing.scenarios import (
     apply_scenario,
     parse_scenarios,
 )
-from costing.validate import validate
+from costing.check.validate import validate
+from costing.contract.inputs import SETTINGS, SHEETS_BY_NAME
+from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, RateCard, Settings, Shipment
+from costing.workbook.reader import RawRow, RawSheet, read_workbook
 from tests.conftest import base_data
 
 NAMES = ("scenario", "sheet", "key", "column", "change")  # columns A to E

@@ -4,7 +4,7 @@ Source of truth: networkx.dijkstra_path_length / networkx.single_source_dijkstra
 (reference library, networkx 3.6.1) on a graph this file builds itself from the Model, over
 states (depot, rate card), with weights computed here from the documented formulas
 (costing/cost.py, costing/network.py and costing/pricing.py docstrings, design.md), never with
-costing.network's own weight functions:
+costing.network.build's own weight functions:
 
     lane step on card c (lane mode = card mode; open; one-way lanes only forwards):
       cost      = ROUND(n x km x per_km) + ROUND(n x hours x per_hour) + ROUND(n x toll)
@@ -38,8 +38,8 @@ import networkx as nx
 import pytest
 
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network import OBJECTIVE_UNITS, build_graph, compact
-from costing.search import astar
+from costing.network.build import OBJECTIVE_UNITS, build_graph, compact
+from costing.network.search import astar
 
 VEHICLE = "truck"
 N_RANDOM = 120  # seeded random networks
@@ -65,7 +65,7 @@ SPEEDS = (65.0, 70.0, 75.0)
 
 
 def product_network(model: Model, objective: str, weight_t: float):
-    from costing.route import make_profile
+    from costing.plan.route import make_profile
 
     ids = [d.depot_id for d in model.depots]
     cards = [r for r in model.rates if r.vehicle == VEHICLE]
@@ -465,7 +465,7 @@ def test_step_weights_match_documented_formulas(seed):
 @pytest.mark.parametrize("seed", range(0, N_RANDOM, 3))
 def test_start_and_end_weights_match_documented_formulas(seed):
     from costing.money import minor_unit
-    from costing.network import exit_weight, start_weight
+    from costing.network.build import exit_weight, start_weight
 
     model, _w = random_case(seed)
     for objective in OBJECTIVES:
@@ -630,7 +630,7 @@ def test_zero_weight_lane_falls_back_to_uniform_cost():
 
 # ---------------------------------------------------------------------------------------------
 # route-level charges, checked through route_all against every candidate route priced by
-# costing.cost.cost_route (hand-worked figures in the comments)
+# costing.price.cost.cost_route (hand-worked figures in the comments)
 
 
 def _two_mode_case(per_trip_rail: float, min_charge_rail: float) -> Model:
@@ -645,8 +645,8 @@ def _two_mode_case(per_trip_rail: float, min_charge_rail: float) -> Model:
 
 
 def _totals(model: Model) -> tuple[float, dict[str, float]]:
-    from costing.cost import cost_route
-    from costing.route import route_all
+    from costing.plan.route import route_all
+    from costing.price.cost import cost_route
 
     graph = build_graph(model)
     ship = model.shipments[0]
@@ -675,8 +675,8 @@ def test_fuel_rebate_cannot_make_a_lane_weight_negative():
     """search.py needs non-negative weights: validation refuses a rebate larger than per_km
     (tests/test_bad_workbooks.py), and a model built in code that holds one is refused by the
     network builder instead of being searched wrongly."""
-    from costing.cost import cost_route
-    from costing.route import route_all
+    from costing.plan.route import route_all
+    from costing.price.cost import cost_route
 
     # per km: 0.10 + 40 l/100 km x (1.00 - 2.00) = 0.10 - 0.40 = -0.30 (figures invented, each
     # allowed by the contract: all >= 0)
@@ -695,7 +695,7 @@ def test_fuel_rebate_cannot_make_a_lane_weight_negative():
     assert (sub_direct, sub_via_c) == (17.0, -11.0)  # hand-worked above
     with pytest.raises(ValueError, match="negative cost weight"):
         route_all(model, graph)
-    from costing.validate import fuel_rebate_problems
+    from costing.check.validate import fuel_rebate_problems
 
     problems = fuel_rebate_problems(model.settings, model.rates, {})
     assert len(problems) == 1 and "driving would earn money" in problems[0].message

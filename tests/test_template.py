@@ -5,7 +5,7 @@ from __future__ import annotations
 import openpyxl
 import pytest
 
-from costing.contract import SHEETS
+from costing.contract.inputs import SHEETS
 
 COMMITTED = "templates/costing-input-template.xlsx"
 
@@ -64,7 +64,7 @@ def test_template_refuses_to_overwrite(cli, tmp_path):
 @pytest.mark.parametrize("header, key", [("Distance km", "distance_km"), (" DISTANCE_KM ", "distance_km"),
                                           ("distance-km", "distance_km"), ("Lane ID", "lane_id")])
 def test_forgiving_headers(header, key):
-    from costing.contract import normalise_header
+    from costing.contract.inputs import normalise_header
 
     assert normalise_header(header) == key
 

@@ -69,11 +69,11 @@ import re
 from dataclasses import dataclass
 from decimal import Decimal
 
-from .contract import MODES, SETTINGS_BY_NAME, SHEETS_BY_NAME, normalise_header
-from .model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
-from .money import is_known_currency
-from .reader import RawSheet
-from .validate import MAX_PLAUSIBLE_NUMBER, MIN_PAYLOAD_T, SPREADSHEET_ERRORS
+from costing.check.validate import MAX_PLAUSIBLE_NUMBER, MIN_PAYLOAD_T, SPREADSHEET_ERRORS
+from costing.contract.inputs import MODES, SETTINGS_BY_NAME, SHEETS_BY_NAME, normalise_header
+from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
+from costing.money import is_known_currency
+from costing.workbook.reader import RawSheet
 
 SHEET = "Scenarios"
 TARGET_SHEETS = ("Settings", "Depots", "Lanes", "Rates", "Shipments")

@@ -19,10 +19,10 @@ from dataclasses import dataclass, field
 import networkx as nx
 import numpy as np
 
-from .geo import great_circle_km, great_circle_km_many
-from .model import Depot, Lane, Model, RateCard
-from .money import minor_unit
-from .pricing import charge, co2e_kg, lane_charges
+from costing.geo import great_circle_km, great_circle_km_many
+from costing.model import Depot, Lane, Model, RateCard
+from costing.money import minor_unit
+from costing.price.rates import charge, co2e_kg, lane_charges
 
 # Keeps floating-point error in gc * r_min from pushing the bound a hair above the truth.
 BOUND_SAFETY = 1.0 - 1e-9
@@ -339,7 +339,7 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile,
 
 def explain_no_route(graph: nx.MultiDiGraph, cn: CompactNetwork, origin: str, destination: str) -> str:
     """Why no usable path exists: which depots are cut off, and by what."""
-    from .search import dijkstra_all
+    from costing.network.search import dijkstra_all
 
     K = cn.n_cards
     n_states = len(cn.adj)

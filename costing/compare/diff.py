@@ -18,10 +18,10 @@ from dataclasses import dataclass, field
 import xlsxwriter
 from xlsxwriter.utility import xl_col_to_name
 
-from . import __version__
-from .contract import normalise_header
-from .money import minor_unit, round_money
-from .reader import (
+from costing import __version__
+from costing.contract.inputs import normalise_header
+from costing.money import minor_unit, round_money
+from costing.workbook.reader import (
     _READ_ERRORS,
     InputError,
     _check_container,
@@ -546,7 +546,7 @@ def _money_format(currency: str, places: int) -> str:
 def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
     """Write sheets Changes and Overview. Deltas and totals are live formulas with their values
     cached; every string from the compared workbooks is written as text."""
-    from .writer import run_time
+    from costing.sheets.writer import run_time
 
     cmp = comparison
     n = len(cmp.changes)

@@ -9,11 +9,11 @@ import math
 import re
 from dataclasses import replace
 
-from .contract import SETTINGS, SETTINGS_BY_NAME, SHEETS_BY_NAME, Column, normalise_header
-from .geo import great_circle_km
-from .model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
-from .money import is_known_currency
-from .reader import RawRow, RawSheet, RawWorkbook
+from costing.contract.inputs import SETTINGS, SETTINGS_BY_NAME, SHEETS_BY_NAME, Column, normalise_header
+from costing.geo import great_circle_km
+from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
+from costing.money import is_known_currency
+from costing.workbook.reader import RawRow, RawSheet, RawWorkbook
 
 # A stated lane length this much below the straight line between its depots is flagged.
 # 1 % covers the sphere-versus-ellipsoid difference (at most 0.57 %) and rounding of km.
@@ -503,11 +503,11 @@ def validate(raw: RawWorkbook) -> Model:
     problems += fuel_rebate_problems(settings, rates, layout)
     model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
                   tuple(problems), layout)
-    from .scenarios import parse_scenarios  # scenarios builds on this module
+    from costing.check.scenarios import parse_scenarios  # scenarios builds on this module
 
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
-        from .scenarios import apply_scenario
+        from costing.check.scenarios import apply_scenario
 
         changed = apply_scenario(model, sc)
         for p in fuel_rebate_problems(changed.settings, changed.rates, layout):

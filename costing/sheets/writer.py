@@ -12,10 +12,10 @@ from dataclasses import dataclass, field
 import xlsxwriter
 from xlsxwriter.utility import xl_col_to_name
 
-from . import __version__
-from .cost import ROUTED, CostedShipment
-from .model import ERROR, INFO, WARNING, Model, Problem
-from .money import round_money
+from costing import __version__
+from costing.model import ERROR, INFO, WARNING, Model, Problem
+from costing.money import round_money
+from costing.price.cost import ROUTED, CostedShipment
 
 MAX_ROWS = 1_048_576
 MAX_CELL_TEXT = 32_767
@@ -204,7 +204,7 @@ class _Writer:
         self.model = model
         self.legs_last: dict[str, int] = {}  # Legs sheet name -> its last data row (1-based)
         cur = model.settings.currency
-        from .money import minor_unit
+        from costing.money import minor_unit
 
         self.places = minor_unit(cur)
         zeros = "." + "0" * self.places if self.places else ""
@@ -251,9 +251,9 @@ class _Writer:
 
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
                  info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=()) -> None:
-    """Write the costed workbook. `analysis` (costing.analysis.Analysis) adds the Comparison,
+    """Write the costed workbook. `analysis` (costing.plan.analysis.Analysis) adds the Comparison,
     Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
-    (costing.analysis.ScenarioRun) a Scenarios sheet."""
+    (costing.plan.analysis.ScenarioRun) a Scenarios sheet."""
     if len(results) + 2 > MAX_ROWS:
         raise OutputLimitError(f"{len(results):,} shipments do not fit on one Summary sheet "
                                f"({MAX_ROWS:,} rows)", "cost the shipments in batches of under a million")
@@ -850,7 +850,7 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     if info.objective_override:
         rows.append(("objective (command line)", info.objective_override))
     s = model.settings
-    from .contract import SETTINGS
+    from costing.contract.inputs import SETTINGS
 
     for name in (spec.name for spec in SETTINGS):  # every setting, as used (defaults filled in)
         v = getattr(s, name)
@@ -867,8 +867,8 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
         ("problems: errors / warnings / info",
          "{} / {} / {}".format(*(sum(p.severity == k for p in problems) for k in (ERROR, WARNING, INFO)))),
     ]
-    from .pricing import DEFAULT_INTENSITY
-    from .rules import rules_for
+    from costing.price.rates import DEFAULT_INTENSITY
+    from costing.price.rules import rules_for
 
     rules = rules_for(s)
     if rules:

@@ -10,10 +10,9 @@ from dataclasses import dataclass, field, replace
 
 import networkx as nx
 
-from .cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
-from .model import WARNING, Model, Problem, RateCard, Shipment
-from .money import minor_unit
-from .network import (
+from costing.model import WARNING, Model, Problem, RateCard, Shipment
+from costing.money import minor_unit
+from costing.network.build import (
     OBJECTIVE_UNITS,
     CompactNetwork,
     Profile,
@@ -24,7 +23,8 @@ from .network import (
     start_weight,
     vehicles_needed,
 )
-from .search import astar
+from costing.network.search import astar
+from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
 
 
 @dataclass
@@ -114,7 +114,7 @@ class Router:
         self._pairs: dict[Profile, list] = {}
         self._layers: dict = {}  # per-card lane weights shared by profiles
         self._batched: dict = {}  # (profile, origin, destination) -> (network, search result)
-        self._engines: dict = {}  # profile -> costing.engine.SearchEngine
+        self._engines: dict = {}  # profile -> costing.network.engine.SearchEngine
 
     def network(self, profile: Profile) -> CompactNetwork:
         cn = self.networks.get(profile)
@@ -140,7 +140,7 @@ class Router:
         search per group of BATCH_MIN or more, stopped when all its destinations are settled,
         instead of one A* each. The answers are the least weights A* finds (search.one_to_many);
         `search` then returns them. Smaller groups keep per-shipment A*."""
-        from .search import one_to_many
+        from costing.network.search import one_to_many
 
         groups: dict[tuple[Profile, str], list[Shipment]] = {}
         for s in shipments:
@@ -202,7 +202,7 @@ class Router:
             return None
         engine = self._engines.get(profile)
         if engine is None:
-            from .engine import CSRGraph, SearchEngine
+            from costing.network.engine import CSRGraph, SearchEngine
 
             t0 = time.perf_counter()
             engine = self._engines[profile] = SearchEngine(CSRGraph.from_adjacency(cn.adj),
@@ -240,7 +240,7 @@ class Router:
     def frontier(self, s: Shipment, max_routes: int) -> tuple[list[CostedShipment], bool]:
         """Routes of `s` that no other route beats on both cost and time (drive + handling
         hours), cheapest first, and whether the cap stopped the search early."""
-        from .pareto import pareto_frontier
+        from costing.network.pareto import pareto_frontier
 
         if s.origin == s.destination:
             return [], False

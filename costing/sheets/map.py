@@ -8,8 +8,8 @@ import io
 import math
 import warnings
 
-from .analysis import LaneUse
-from .model import Model
+from costing.model import Model
+from costing.plan.analysis import LaneUse
 
 MODE_COLOURS = {"road": "#4472C4", "rail": "#C55A11", "sea": "#2E75B6", "inland_water": "#00B0F0",
                 "air": "#7030A0"}

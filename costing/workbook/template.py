@@ -8,7 +8,7 @@ import datetime as _dt
 import xlsxwriter
 from xlsxwriter.utility import xl_col_to_name
 
-from .contract import SETTINGS, SHEETS, SheetSpec
+from costing.contract.inputs import SETTINGS, SHEETS, SheetSpec
 
 # Validations reach this far down; a coordinator with more rows extends them in the app.
 TEMPLATE_ROWS = 5000

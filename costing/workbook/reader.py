@@ -14,8 +14,8 @@ from dataclasses import dataclass, field
 
 from openpyxl.utils import get_column_letter, range_boundaries
 
-from .contract import SHEETS, normalise_header
-from .model import ERROR, WARNING, Problem
+from costing.contract.inputs import SHEETS, normalise_header
+from costing.model import ERROR, WARNING, Problem
 
 # A workbook whose parts unpack to more than this is refused before parsing (zip bombs).
 # Only the sizes in the zip directory are read; Python's zipfile never unpacks a part beyond

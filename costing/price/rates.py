@@ -9,8 +9,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .model import RateCard, Settings
-from .money import round_money
+from costing.model import RateCard, Settings
+from costing.money import round_money
 
 # Default emission intensities, g CO2e per tonne-km, used for a rate card with no fuel figures.
 # Each carries its published source; none is from memory. Planning estimates only.

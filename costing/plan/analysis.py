@@ -7,10 +7,10 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-from .contract import OBJECTIVES
-from .cost import ROUTED, CostedShipment
-from .model import Model
-from .route import Router
+from costing.contract.inputs import OBJECTIVES
+from costing.model import Model
+from costing.plan.route import Router
+from costing.price.cost import ROUTED, CostedShipment
 
 
 @dataclass
@@ -75,7 +75,7 @@ def analyse(model: Model, router: Router, results: list[CostedShipment],
 
 @dataclass
 class ScenarioRun:
-    scenario: object  # costing.scenarios.Scenario
+    scenario: object  # costing.check.scenarios.Scenario
     results: list[CostedShipment]
     stats: object  # route.RunStats
 
@@ -83,9 +83,9 @@ class ScenarioRun:
 def run_scenarios(model: Model, objective: str | None, base: list[CostedShipment],
                   progress: Callable[[int, int], None] | None = None) -> list[ScenarioRun]:
     """Cost every shipment again under each scenario's changed copy of the inputs."""
-    from .network import build_graph
-    from .route import objective_for
-    from .scenarios import apply_scenario
+    from costing.check.scenarios import apply_scenario
+    from costing.network.build import build_graph
+    from costing.plan.route import objective_for
 
     runs = []
     total = len(model.scenarios) * len(model.shipments)

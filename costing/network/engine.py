@@ -2,7 +2,7 @@
 every shipment, a landmark lower bound, and batching of shipments that share an origin.
 
 Nothing here knows about depots or rates: node ids 0..n-1, arcs with non-negative weights and
-edge ids, exactly as `costing.search`. Results are `costing.search.SearchResult`.
+edge ids, exactly as `costing.network.search`. Results are `costing.network.search.SearchResult`.
 
 Use (for example from costing/route.py, one engine per CompactNetwork, built once):
 
@@ -15,7 +15,7 @@ The network (`CSRGraph`)
 ------------------------
 Arcs sorted by (tail, head) in compressed sparse row form: `indptr`, `heads`, `weights`,
 `edge_ids`. Parallel arcs are merged into the lightest one (equal weights: the smaller edge id,
-which is also the one `costing.search.astar` keeps, as it relaxes arcs in list order and only
+which is also the one `costing.network.search.astar` keeps, as it relaxes arcs in list order and only
 replaces on a strict improvement); self-loops are dropped (never part of a least-weight route).
 `SearchEngine` renumbers the nodes internally (reverse Cuthill-McKee, so that neighbours sit near
 each other in memory) and maps every answer back to the caller's ids.
@@ -37,11 +37,11 @@ Hence d(u, L) - d(t, L) <= w + (d(v, L) - d(t, L)) and d(L, t) - d(L, u) <= w + 
 each term drops by at most w along an arc, so h_L(u) <= w + h_L(v). At v = t both terms are 0.
 
 The engine uses h(v) = SAFETY * max(0, h_L(v) for L in the active landmarks, b(v)) where b is an
-optional lower bound supplied by the caller (the straight-line bound of `costing.network`, itself
+optional lower bound supplied by the caller (the straight-line bound of `costing.network.build`, itself
 consistent with b(t) = 0). A maximum of consistent functions is consistent
 (max_i h_i(u) <= max_i (w + h_i(v)) = w + max_i h_i(v)), and so is SAFETY * h for 0 < SAFETY <= 1
 (SAFETY * h(u) <= SAFETY * (w + h(v)) <= w + SAFETY * h(v) as w >= 0); h(t) = 0. So A* with h
-settles each node once and the target with its least weight, as proved in `costing.search`.
+settles each node once and the target with its least weight, as proved in `costing.network.search`.
 Any subset of landmarks gives a bound with the same properties, which is why each query may use
 only its `active` best landmarks (those with the largest bound at the source).
 
@@ -60,14 +60,14 @@ tight predecessor is settled before v, and every g is the exact (bit for bit) le
 weights added along the route from the source, the same number a compiled Dijkstra computes
 (tests/test_engine.py checks the equality, and the bound at every node and arc, exactly).
 
-Ties and determinism. Queue ties on f are broken by push order, as in `costing.search`. Among
+Ties and determinism. Queue ties on f are broken by push order, as in `costing.network.search`. Among
 routes of exactly equal weight, the parent of a node is its tight predecessor with the smallest
 internal id (an arc of equal g from a smaller id replaces the parent). Because all tight
 predecessors are settled before the node, this choice does not depend on the order of the search:
 A*, a one-to-many Dijkstra and the reconstruction after scipy's one-to-all give the same route,
 not only the same weight. (Zero-weight arcs break the "settled before" argument; with them the
 weights are still identical but an equal-weight route may differ between strategies. On exact
-ties the route can also differ from `costing.search.astar`, which keeps the first predecessor
+ties the route can also differ from `costing.network.search.astar`, which keeps the first predecessor
 found; both are optimal.)
 
 Landmark choice (farthest first). Start from a seeded random node s0; the first landmark is the
@@ -113,7 +113,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .search import SearchResult, SearchStats
+from costing.network.search import SearchResult, SearchStats
 
 BIG = 1e300  # stored in place of a distance that does not exist
 HUGE = 1e299  # a bound at least this large means "cannot reach the target"
@@ -196,7 +196,7 @@ class CSRGraph:
 
     @classmethod
     def from_adjacency(cls, adj: Sequence[Sequence[tuple[int, float, int]]]) -> CSRGraph:
-        """From `adj[u] = [(v, weight, edge_id), ...]`, as `costing.network.CompactNetwork.adj`."""
+        """From `adj[u] = [(v, weight, edge_id), ...]`, as `costing.network.build.CompactNetwork.adj`."""
         n = len(adj)
         deg = [len(row) for row in adj]
         tail = np.repeat(np.arange(n, dtype=np.int64), deg)

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .model import Settings
+from costing.model import Settings
 
 
 @dataclass(frozen=True)

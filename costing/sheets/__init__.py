@@ -1,0 +1,1 @@
+"""sheets stage."""
