@@ -13,13 +13,10 @@ import time
 
 from costing import __version__
 from costing.contract.inputs import OBJECTIVES
+from costing.errors import UsageError
 from costing.model import ERROR, WARNING, Problem
 
 EXIT_OK, EXIT_INPUT, EXIT_USAGE = 0, 1, 2
-
-
-class UsageError(Exception):
-    pass
 
 
 class _Parser(argparse.ArgumentParser):

@@ -148,3 +148,21 @@ class Model:
     def cards_for(self, vehicle: str) -> dict[str, RateCard]:
         """mode -> rate card of one vehicle."""
         return {r.mode: r for r in self.rates if r.vehicle == vehicle}
+
+
+@dataclass(frozen=True)
+class LaneUse:
+    """One direction of one open lane, with its resolved figures."""
+
+    lane: Lane
+    from_depot: str
+    to_depot: str
+    reverse: bool
+    km: float
+    km_estimated: bool
+    hours: float
+    hours_estimated: bool
+
+    @property
+    def key(self) -> str:
+        return f"{self.lane.lane_id}{'<' if self.reverse else '>'}"

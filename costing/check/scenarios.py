@@ -69,11 +69,19 @@ import re
 from dataclasses import dataclass
 from decimal import Decimal
 
-from costing.check.validate import MAX_PLAUSIBLE_NUMBER, MIN_PAYLOAD_T, SPREADSHEET_ERRORS
-from costing.contract.inputs import MODES, SETTINGS_BY_NAME, SHEETS_BY_NAME, normalise_header
+from costing.contract.inputs import (
+    MAX_PLAUSIBLE_NUMBER,
+    MIN_PAYLOAD_T,
+    MODES,
+    SETTINGS_BY_NAME,
+    SHEETS_BY_NAME,
+    SPREADSHEET_ERRORS,
+    normalise_header,
+)
+from costing.contract.rows import RawSheet
+from costing.errors import ScenarioError
 from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
 from costing.money import is_known_currency
-from costing.workbook.reader import RawSheet
 
 SHEET = "Scenarios"
 TARGET_SHEETS = ("Settings", "Depots", "Lanes", "Rates", "Shipments")
@@ -100,14 +108,6 @@ _YES = ("yes", "y", "true", "1")
 _NO = ("no", "n", "false", "0")
 _BLANK = object()  # "=" alone
 _KEEP = object()  # a row the change leaves as it is (reported)
-
-
-class ScenarioError(Exception):
-    """apply_scenario met a change it cannot make; carries the problems that say why."""
-
-    def __init__(self, problems: list[Problem]):
-        super().__init__("; ".join(str(p) for p in problems))
-        self.problems = problems
 
 
 @dataclass(frozen=True)

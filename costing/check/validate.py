@@ -9,11 +9,21 @@ import math
 import re
 from dataclasses import replace
 
-from costing.contract.inputs import SETTINGS, SETTINGS_BY_NAME, SHEETS_BY_NAME, Column, normalise_header
+from costing.check.scenarios import apply_scenario, parse_scenarios
+from costing.contract.inputs import (
+    MAX_PLAUSIBLE_NUMBER,
+    MIN_PAYLOAD_T,
+    SETTINGS,
+    SETTINGS_BY_NAME,
+    SHEETS_BY_NAME,
+    SPREADSHEET_ERRORS,
+    Column,
+    normalise_header,
+)
+from costing.contract.rows import RawRow, RawSheet, RawWorkbook
 from costing.geo import great_circle_km
 from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
 from costing.money import is_known_currency
-from costing.workbook.reader import RawRow, RawSheet, RawWorkbook
 
 # A stated lane length this much below the straight line between its depots is flagged.
 # 1 % covers the sphere-versus-ellipsoid difference (at most 0.57 %) and rounding of km.
@@ -21,19 +31,8 @@ STRAIGHT_LINE_TOLERANCE = 0.99
 # Implied average speeds above these (km/h) are flagged as likely typos in hours or km.
 MAX_PLAUSIBLE_SPEED = {"road": 130, "rail": 200, "sea": 60, "inland_water": 40, "air": 1000}
 
-# Numbers the contract leaves unbounded above (money, payloads, weight limits) are refused
-# beyond this: no freight figure is that large in any currency, and it keeps every cost the
-# tool computes finite and within the 28 digits of decimal rounding.
-MAX_PLAUSIBLE_NUMBER = 1e9
-# A payload below this (10 kg) is almost always a figure typed in kg instead of tonnes; it
-# would also split a shipment over millions of vehicles.
-MIN_PAYLOAD_T = 0.01
 # Characters in a cell: Microsoft "Excel specifications and limits".
 MAX_CELL_CHARS = 32_767
-# Error values a spreadsheet stores in place of a failed formula's result.
-SPREADSHEET_ERRORS = ("#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A",
-                      "#GETTING_DATA", "#SPILL!", "#CALC!", "#FIELD!", "#BLOCKED!", "#BUSY!",
-                      "#CONNECT!", "#UNKNOWN!")
 
 _MISSING = object()
 
@@ -503,12 +502,8 @@ def validate(raw: RawWorkbook) -> Model:
     problems += fuel_rebate_problems(settings, rates, layout)
     model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
                   tuple(problems), layout)
-    from costing.check.scenarios import parse_scenarios  # scenarios builds on this module
-
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
-        from costing.check.scenarios import apply_scenario
-
         changed = apply_scenario(model, sc)
         for p in fuel_rebate_problems(changed.settings, changed.rates, layout):
             more.append(replace(p, message=f"in scenario {sc.name}: {p.message}"))

@@ -20,6 +20,7 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
 from costing.contract.inputs import normalise_header
+from costing.errors import CompareError
 from costing.money import minor_unit, round_money
 from costing.workbook.reader import (
     _READ_ERRORS,
@@ -57,23 +58,6 @@ _COSTED_FIX = ("give the costed workbook written by `costing run INPUT -o OUTPUT
 _NO_CACHE_FIX = ("the workbook was saved by a program that keeps formulas but not their results; open "
                  "it in a spreadsheet application and save it again, or cost the input again with "
                  "`costing run`")
-
-
-class CompareError(Exception):
-    """A workbook cannot be compared, or two runs cannot be compared with each other.
-
-    message: what is wrong, naming the file (and the cell where there is one);
-    fix: what to do about it; path: the workbook concerned, or None when the problem lies
-    between the two runs (e.g. different currencies)."""
-
-    def __init__(self, message: str, fix: str, path: str | None = None):
-        super().__init__(message)
-        self.message = message
-        self.fix = fix
-        self.path = path
-
-    def __str__(self) -> str:
-        return f"{self.message} ({self.fix})"
 
 
 @dataclass(frozen=True)

@@ -267,3 +267,17 @@ def normalise_header(text: object) -> str:
         elif out and out[-1] != "_":
             out.append("_")
     return "".join(out).strip("_")
+
+
+# Shared by the check stage's cell checks and scenario parsing.
+# Numbers the contract leaves unbounded above (money, payloads, weight limits) are refused
+# beyond this: no freight figure is that large in any currency, and it keeps every cost the
+# tool computes finite and within the 28 digits of decimal rounding.
+MAX_PLAUSIBLE_NUMBER = 1e9
+# A payload below this (10 kg) is almost always a figure typed in kg instead of tonnes; it
+# would also split a shipment over millions of vehicles.
+MIN_PAYLOAD_T = 0.01
+# Error values a spreadsheet stores in place of a failed formula's result.
+SPREADSHEET_ERRORS = ("#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A",
+                      "#GETTING_DATA", "#SPILL!", "#CALC!", "#FIELD!", "#BLOCKED!", "#BUSY!",
+                      "#CONNECT!", "#UNKNOWN!")

@@ -20,7 +20,7 @@ import networkx as nx
 import numpy as np
 
 from costing.geo import great_circle_km, great_circle_km_many
-from costing.model import Depot, Lane, Model, RateCard
+from costing.model import Depot, Lane, LaneUse, Model, RateCard
 from costing.money import minor_unit
 from costing.price.rates import charge, co2e_kg, lane_charges
 
@@ -28,24 +28,6 @@ from costing.price.rates import charge, co2e_kg, lane_charges
 BOUND_SAFETY = 1.0 - 1e-9
 OBJECTIVE_UNITS = {"cost": "currency", "time": "hours", "distance": "km", "emissions": "kg CO2e",
                    "blended": "currency incl. value of time"}
-
-
-@dataclass(frozen=True)
-class LaneUse:
-    """One direction of one open lane, with its resolved figures."""
-
-    lane: Lane
-    from_depot: str
-    to_depot: str
-    reverse: bool
-    km: float
-    km_estimated: bool
-    hours: float
-    hours_estimated: bool
-
-    @property
-    def key(self) -> str:
-        return f"{self.lane.lane_id}{'<' if self.reverse else '>'}"
 
 
 def resolve_lane(lane: Lane, depots: dict[str, Depot], detour: float, speed: float) -> tuple:
@@ -97,12 +79,6 @@ class Profile:
     @property
     def vehicles(self) -> tuple[str, ...]:
         return tuple(dict.fromkeys(v for v, _m, _n in self.cards))
-
-
-def vehicles_needed(weight_t: float, payload_t: float) -> int:
-    """ceil(weight / payload), at least one vehicle. A tiny tolerance keeps 49.0 t on 24.5 t
-    payloads at 2 vehicles despite float division."""
-    return max(1, math.ceil(weight_t / payload_t - 1e-9))
 
 
 TRANSFER_KINDS = ("terminal", "port")

@@ -14,7 +14,7 @@ from costing.price.cost import ROUTED, CostedShipment
 
 
 @dataclass
-class LaneUse:
+class LaneTotals:
     lane_id: str
     from_depot: str
     to_depot: str
@@ -32,18 +32,18 @@ class Analysis:
     alternatives: dict[str, dict[str, CostedShipment]] = field(default_factory=dict)
     # shipment id -> (frontier routes cheapest first, capped?)
     frontiers: dict[str, tuple[list[CostedShipment], bool]] = field(default_factory=dict)
-    lanes: list[LaneUse] = field(default_factory=list)
+    lanes: list[LaneTotals] = field(default_factory=list)
 
 
-def lane_usage(results: list[CostedShipment]) -> list[LaneUse]:
+def lane_usage(results: list[CostedShipment]) -> list[LaneTotals]:
     """Tonnes, legs, vehicle trips and cost per lane (both directions together), costliest first."""
-    out: dict[str, LaneUse] = {}
+    out: dict[str, LaneTotals] = {}
     for r in results:
         for leg in r.legs:
             lane = leg.use.lane
             u = out.get(lane.lane_id)
             if u is None:
-                u = out[lane.lane_id] = LaneUse(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode)
+                u = out[lane.lane_id] = LaneTotals(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode)
             u.legs += 1
             u.tonnes += leg.weight_t
             u.vehicle_trips += leg.vehicles

@@ -21,10 +21,10 @@ from costing.network.build import (
     exit_weight,
     explain_no_route,
     start_weight,
-    vehicles_needed,
 )
 from costing.network.search import astar
 from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
+from costing.price.rates import vehicles_needed
 
 
 @dataclass

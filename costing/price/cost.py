@@ -22,10 +22,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from costing.model import Depot, Model, RateCard, Shipment
+from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
-from costing.network.build import LaneUse, vehicles_needed
-from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges
+from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges, vehicles_needed
 from costing.price.rules import rules_for, stops_for_run
 
 ROUTED, NO_ROUTE, REJECTED = "routed", "no_route", "rejected"

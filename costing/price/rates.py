@@ -7,6 +7,7 @@ zero, computed in the same order as the spreadsheet formula the writer emits.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from costing.model import RateCard, Settings
@@ -74,3 +75,9 @@ def co2e_kg(km: float, card: RateCard, n: int, weight_t: float) -> tuple[float, 
         return n * km * card.fuel_l_per_100km / 100 * card.co2e_kg_per_litre, "fuel", None
     intensity = DEFAULT_INTENSITY[card.mode][0]
     return weight_t * km * intensity / 1000, "default intensity", intensity
+
+
+def vehicles_needed(weight_t: float, payload_t: float) -> int:
+    """ceil(weight / payload), at least one vehicle. A tiny tolerance keeps 49.0 t on 24.5 t
+    payloads at 2 vehicles despite float division."""
+    return max(1, math.ceil(weight_t / payload_t - 1e-9))

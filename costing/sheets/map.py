@@ -9,7 +9,7 @@ import math
 import warnings
 
 from costing.model import Model
-from costing.plan.analysis import LaneUse
+from costing.plan.analysis import LaneTotals
 
 MODE_COLOURS = {"road": "#4472C4", "rail": "#C55A11", "sea": "#2E75B6", "inland_water": "#00B0F0",
                 "air": "#7030A0"}
@@ -17,7 +17,7 @@ KIND_MARKERS = {"hub": ("s", 60), "terminal": ("D", 45), "port": ("^", 55), "cus
                 "depot": ("o", 30)}
 
 
-def draw_map(model: Model, lanes: list[LaneUse], title: str) -> bytes | None:
+def draw_map(model: Model, lanes: list[LaneTotals], title: str) -> bytes | None:
     """PNG bytes of the network map, or None when no two depots have coordinates."""
     import matplotlib
 

@@ -13,6 +13,7 @@ import xlsxwriter
 from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
+from costing.errors import OutputLimitError
 from costing.model import ERROR, INFO, WARNING, Model, Problem
 from costing.money import round_money
 from costing.price.cost import ROUTED, CostedShipment
@@ -648,14 +649,6 @@ def _write_map(w: _Writer, ws, png: bytes) -> None:
 LEGS_SHEET_ROWS = MAX_ROWS - 1
 # from this many legs on, rows are streamed to disk instead of held in memory
 STREAMING_LEGS = 100_000
-
-
-class OutputLimitError(Exception):
-    """The output would pass a spreadsheet limit; carries what to do."""
-
-    def __init__(self, message: str, fix: str):
-        super().__init__(f"{message} ({fix})")
-        self.message, self.fix = message, fix
 
 
 def _legs_sheet_names(results) -> list[str]:

@@ -10,11 +10,12 @@ import re
 import warnings
 import zipfile
 import zlib
-from dataclasses import dataclass, field
 
 from openpyxl.utils import get_column_letter, range_boundaries
 
 from costing.contract.inputs import SHEETS, normalise_header
+from costing.contract.rows import RawRow, RawSheet, RawWorkbook
+from costing.errors import InputError
 from costing.model import ERROR, WARNING, Problem
 
 # A workbook whose parts unpack to more than this is refused before parsing (zip bombs).
@@ -37,44 +38,6 @@ MAX_LISTED = 20
 _READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, OverflowError,
                 SyntaxError, EOFError, OSError, RuntimeError, NotImplementedError,
                 zipfile.BadZipFile, zlib.error)
-
-
-class InputError(Exception):
-    """The workbook cannot be read at all; carries the problems that say why."""
-
-    def __init__(self, problems: list[Problem]):
-        super().__init__("; ".join(str(p) for p in problems))
-        self.problems = problems
-
-
-@dataclass
-class RawRow:
-    row: int  # 1-based spreadsheet row
-    values: dict[str, object]  # column name -> cached cell value
-    formulas: set[str] = field(default_factory=set)  # columns holding a formula with no cached value
-
-
-@dataclass
-class RawSheet:
-    name: str  # contract name
-    title: str  # title in the file
-    columns: dict[str, int]  # contract column name -> 1-based column index
-    rows: list[RawRow]
-
-    def letters(self) -> dict[str, str]:
-        return {c: get_column_letter(i) for c, i in self.columns.items()}
-
-    def cell(self, column: str, row: int) -> str:
-        idx = self.columns.get(column)
-        return f"{get_column_letter(idx)}{row}" if idx else f"row {row}"
-
-
-@dataclass
-class RawWorkbook:
-    path: str
-    sha256: str
-    sheets: dict[str, RawSheet]
-    problems: list[Problem]
 
 
 def sha256_of(path: str) -> str:
