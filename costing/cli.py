@@ -117,16 +117,10 @@ def _template(args) -> int:
 
 
 def _load(path: str):
-    """read + validate; returns (model or None, problems)."""
-    from costing.check.validate import validate
-    from costing.workbook.reader import InputError, read_workbook
+    """read + check; returns (model or None, problems, sha256)."""
+    from costing.pipeline import load
 
-    try:
-        raw = read_workbook(path)
-    except InputError as e:
-        return None, list(e.problems), None
-    model = validate(raw)
-    return model, list(model.problems), raw.sha256
+    return load(path)
 
 
 def _print_problems(problems: list[Problem], quiet: bool = False) -> None:
@@ -209,9 +203,7 @@ class _Progress:
 
 
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
-    from costing.network.build import build_graph
-    from costing.plan.analysis import analyse, run_scenarios
-    from costing.plan.route import Router, objective_for
+    from costing import pipeline
     from costing.sheets.map import draw_map
     from costing.sheets.writer import OutputLimitError, RunInfo, run_time, write_costed
 
@@ -228,32 +220,15 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT
-    t0 = time.perf_counter()
-    graph = build_graph(model)
-    times["build network"] = time.perf_counter() - t0
-    t0 = time.perf_counter()
-    router = Router(model, graph)
-    router.prepare(model.shipments, args.objective)
-    progress = _Progress("routing")
-    results = []
-    for k, s in enumerate(model.shipments):
-        results.append(router.route(s, objective_for(model, s, args.objective)))
-        progress(k + 1, len(model.shipments))
-    times["search and cost"] = time.perf_counter() - t0
-    t0 = time.perf_counter()
-    analysis = analyse(model, router, results, _Progress("comparing"))
-    times["comparison and trade-offs"] = time.perf_counter() - t0
-    t0 = time.perf_counter()
-    scenario_runs = run_scenarios(model, args.objective, results, _Progress("scenarios"))
-    if scenario_runs:
-        times["scenarios"] = time.perf_counter() - t0
+    costed = pipeline.run(model, pipeline.Options(objective=args.objective, progress=_Progress))
+    results, scenario_runs, analysis = costed.results, costed.scenarios, costed.analysis
+    problems = costed.problems
     t0 = time.perf_counter()
     map_png = draw_map(model, analysis.lanes, f"{input_label or os.path.basename(input_path)}: "
                        "lanes and routed tonnes")
+    times.update(costed.seconds)
     times["map"] = time.perf_counter() - t0
-    stats = router.stats
-    stats.networks = len(router.networks)
-    problems += router.problems
+    stats = costed.stats
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
     t0 = time.perf_counter()

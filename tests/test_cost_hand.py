@@ -8,17 +8,17 @@ workbook contract), not produced by the code under test.
 from __future__ import annotations
 
 import pytest
+from pipeline_helpers import route_all
 
 from costing.check.validate import validate
 from costing.money import minor_unit, round_money
 from costing.network.build import build_graph
-from costing.plan.route import route_all
 from costing.workbook.reader import read_workbook
 
 
 def _run(path, objective=None):
     model = validate(read_workbook(path))
-    results, _stats, problems = route_all(model, build_graph(model), objective)
+    results, _stats, problems = route_all(model, objective)
     return {r.shipment.shipment_id: r for r in results}, problems
 
 

@@ -4,11 +4,10 @@
 from __future__ import annotations
 
 import openpyxl
+from pipeline_helpers import route_all
 
 from costing.check.validate import validate
 from costing.example import example_data, write_example
-from costing.network.build import build_graph
-from costing.plan.route import route_all
 from costing.workbook.reader import read_workbook
 
 COMMITTED = "examples/hollowmere-week.xlsx"
@@ -34,7 +33,7 @@ def test_example_size_and_story():
     assert not [p for p in model.problems if p.severity == "error"]
     typo = [p for p in model.problems if "straight line" in p.message]
     assert len(typo) == 1 and typo[0].sheet == "Lanes"
-    results, _stats, _ = route_all(model, build_graph(model))
+    results, _stats, _ = route_all(model)
     status = [r.status for r in results]
     assert status.count("no_route") == 1
     assert status.count("routed") == len(results) - 1

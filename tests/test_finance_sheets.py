@@ -179,16 +179,17 @@ def test_array_engine_gives_the_same_routes_as_the_plain_search(seed, monkeypatc
     # here for small ones, every shipment's cost must equal the plain search's
     from dataclasses import replace
 
+    from pipeline_helpers import route_all
+
     import costing.plan.route as route
-    from costing.plan.route import route_all
 
     model = _grid_model(seed)
     ids = [d.depot_id for d in model.depots]
     ships = tuple(Shipment(f"S{a}{b}", a, b, 12.0) for a in ids[:2] for b in ids if a != b)
     model = replace(model, shipments=ships)
-    plain, _, _ = route_all(model, build_graph(model))
+    plain, _, _ = route_all(model)
     monkeypatch.setattr(route, "ENGINE_MIN_DEPOTS", 0)
-    fast, stats, _ = route_all(model, build_graph(model))
+    fast, stats, _ = route_all(model)
     assert any("landmarks" in note for note in stats.bounds.values())
     for a, b in zip(plain, fast):
         assert a.status == b.status

@@ -12,15 +12,14 @@ from decimal import ROUND_HALF_UP, Decimal
 
 import networkx as nx
 import pytest
+from pipeline_helpers import route_all
 
 from costing.geo import great_circle_km
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network.build import build_graph
-from costing.plan.route import route_all
 
 
 def run(model):
-    results, _stats, problems = route_all(model, build_graph(model))
+    results, _stats, problems = route_all(model)
     return {r.shipment.shipment_id: r for r in results}, problems
 
 
@@ -268,9 +267,9 @@ def test_batched_searches_give_the_same_results(seed, monkeypatch):
 
     model = replace(model, shipments=model.shipments + extra)
     monkeypatch.setattr(route, "BATCH_MIN", 10**9)
-    one_by_one, stats_a, _ = route_all(model, build_graph(model))
+    one_by_one, stats_a, _ = route_all(model)
     monkeypatch.setattr(route, "BATCH_MIN", 2)
-    batched, stats_b, _ = route_all(model, build_graph(model))
+    batched, stats_b, _ = route_all(model)
     assert stats_a.batches == 0 and stats_b.batches > 0
     for a, b in zip(one_by_one, batched):
         assert a.status == b.status

@@ -10,10 +10,9 @@ references.md 3.2). The elapsed times below are our arithmetic from those number
 from __future__ import annotations
 
 import pytest
+from pipeline_helpers import route_all
 
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network.build import build_graph
-from costing.plan.route import route_all
 from costing.price.rules import RULE_SETS, rules_for, stops_for_run
 
 EU = RULE_SETS["eu_561_2006"]
@@ -77,7 +76,7 @@ def _long_haul(rules: str, rest_paid: str = "no"):
     ships = (Shipment("S1", "A", "B", 10.0),)
     settings = Settings(driving_rules=rules, rest_hours_paid=rest_paid)
     model = Model(settings, depots, lanes, rates, ships)
-    return route_all(model, build_graph(model))[0][0]
+    return route_all(model)[0][0]
 
 
 def test_long_haul_costed_with_stops():

@@ -645,7 +645,8 @@ def _two_mode_case(per_trip_rail: float, min_charge_rail: float) -> Model:
 
 
 def _totals(model: Model) -> tuple[float, dict[str, float]]:
-    from costing.plan.route import route_all
+    from pipeline_helpers import route_all
+
     from costing.price.cost import cost_route
 
     graph = build_graph(model)
@@ -655,7 +656,7 @@ def _totals(model: Model) -> tuple[float, dict[str, float]]:
     for lane_id, mode in (("ROAD", "road"), ("RAIL", "rail")):
         use = graph.edges["A", "C", f"{lane_id}>"]["use"]
         totals[lane_id] = cost_route(model, ship, "cost", [(cards[mode], [use])]).total_cost
-    out, _stats, _problems = route_all(model, graph)
+    out, _stats, _problems = route_all(model)
     return out[0].total_cost, totals
 
 
@@ -675,7 +676,8 @@ def test_fuel_rebate_cannot_make_a_lane_weight_negative():
     """search.py needs non-negative weights: validation refuses a rebate larger than per_km
     (tests/test_bad_workbooks.py), and a model built in code that holds one is refused by the
     network builder instead of being searched wrongly."""
-    from costing.plan.route import route_all
+    from pipeline_helpers import route_all
+
     from costing.price.cost import cost_route
 
     # per km: 0.10 + 40 l/100 km x (1.00 - 2.00) = 0.10 - 0.40 = -0.30 (figures invented, each
@@ -694,7 +696,7 @@ def test_fuel_rebate_cannot_make_a_lane_weight_negative():
     sub_direct = cost_route(model, ship, "cost", [(card, direct)]).subtotal
     assert (sub_direct, sub_via_c) == (17.0, -11.0)  # hand-worked above
     with pytest.raises(ValueError, match="negative cost weight"):
-        route_all(model, graph)
+        route_all(model)
     from costing.check.validate import fuel_rebate_problems
 
     problems = fuel_rebate_problems(model.settings, model.rates, {})

@@ -78,28 +78,3 @@ class ScenarioRun:
     scenario: object  # costing.check.scenarios.Scenario
     results: list[CostedShipment]
     stats: object  # route.RunStats
-
-
-def run_scenarios(model: Model, objective: str | None, base: list[CostedShipment],
-                  progress: Callable[[int, int], None] | None = None) -> list[ScenarioRun]:
-    """Cost every shipment again under each scenario's changed copy of the inputs."""
-    from costing.check.scenarios import apply_scenario
-    from costing.network.build import build_graph
-    from costing.plan.route import objective_for
-
-    runs = []
-    total = len(model.scenarios) * len(model.shipments)
-    done = 0
-    for sc in model.scenarios:
-        changed = apply_scenario(model, sc)
-        router = Router(changed, build_graph(changed))
-        router.prepare(changed.shipments, objective)
-        results = []
-        for s in changed.shipments:
-            results.append(router.route(s, objective_for(changed, s, objective)))
-            done += 1
-            if progress:
-                progress(done, total)
-        router.stats.networks = len(router.networks)
-        runs.append(ScenarioRun(sc, results, router.stats))
-    return runs

@@ -5,7 +5,6 @@ hand the lanes found to the costing stage."""
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 
 import networkx as nx
@@ -48,21 +47,6 @@ def _label(p: Profile) -> str:
 def objective_for(model: Model, shipment: Shipment, override: str | None) -> str:
     """A shipment's own objective wins; then the command line; then Settings."""
     return shipment.objective or override or model.settings.objective
-
-
-def route_all(model: Model, graph: nx.MultiDiGraph, objective: str | None = None,
-              progress: Callable[[int, int], None] | None = None
-              ) -> tuple[list[CostedShipment], RunStats, list[Problem]]:
-    router = Router(model, graph)
-    router.prepare(model.shipments, objective)
-    out: list[CostedShipment] = []
-    total = len(model.shipments)
-    for k, s in enumerate(model.shipments):
-        out.append(router.route(s, objective_for(model, s, objective)))
-        if progress:
-            progress(k + 1, total)
-    router.stats.networks = len(router.networks)
-    return out, router.stats, router.problems
 
 
 def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard],

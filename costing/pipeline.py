@@ -1,0 +1,200 @@
+"""The pipeline: the one place where the stages are strung together.
+
+::
+
+    workbook -read-> rows -check-> Model -build-> Network -route-> Routes -plan-> Runs
+             -price-> Costed -write-> workbook
+
+``run(model, options) -> Costed`` takes a checked Model to its costed result. The command
+line, the scenarios (each scenario is ``run`` on a changed copy of the Model), the benchmarks
+and the tests all call it; nobody else calls the stages in sequence. ``load`` (read and check)
+and ``write`` (the costed workbook, written atomically by the caller) are the two ends, so the
+command line and any other front end open and write workbooks the same way.
+
+What ``run`` guarantees:
+
+- every shipment of the Model gets exactly one result, in the Model's order, routed or with
+  the reason it was not (``no_route``, ``rejected``);
+- a routed shipment's route is optimal under its objective (the search core's proof, in
+  ``costing.network.search``) and its total is the sum of its rounded legs (``costing.price``);
+- the Model is never changed (records are frozen); scenarios run on changed copies.
+
+The plan stage (vehicles shared by loads that leave together) sits between route and
+price: today every load has vehicles of its own, so the plan is the identity on the routes.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, field, replace
+
+from costing.model import Model, Problem
+from costing.plan.analysis import Analysis, ScenarioRun, analyse, lane_usage
+from costing.plan.route import Router, RunStats, objective_for
+from costing.price.cost import CostedShipment
+
+Progress = Callable[[int, int], None]
+
+
+def _no_progress(_done: int, _total: int) -> None:
+    return None
+
+
+@dataclass(frozen=True)
+class Options:
+    """How to run the pipeline.
+
+    Attributes
+    ----------
+    objective : str or None
+        Objective for shipments that name none (overrides Settings ``objective``); one of
+        ``costing.objectives.OBJECTIVES``.
+    analyses : bool
+        Run the comparison across objectives and the cost-time trade-offs (each only when
+        Settings asks for it). Off for scenario runs, which show totals and routes only.
+    scenarios : bool
+        Cost every scenario of the Model beside the base case.
+    progress : callable, optional
+        ``progress(stage) -> callback(done, total)``; stage is ``"routing"``,
+        ``"comparing"`` or ``"scenarios"``. None: silent.
+    """
+
+    objective: str | None = None
+    analyses: bool = True
+    scenarios: bool = True
+    progress: Callable[[str], Progress] | None = None
+
+    def bar(self, stage: str) -> Progress:
+        return self.progress(stage) if self.progress else _no_progress
+
+
+@dataclass
+class Costed:
+    """The pipeline's result: everything the output workbook is written from.
+
+    Attributes
+    ----------
+    model : Model
+        The inputs the run costed.
+    results : list of CostedShipment
+        One per shipment, in the Model's order.
+    problems : list of Problem
+        The Model's findings followed by those of routing (e.g. a shipment split over vehicles).
+    stats : RunStats
+        Search statistics; ``stats.seconds`` holds the search's own timings.
+    analysis : Analysis
+        Best route per objective, trade-offs and lane totals.
+    scenarios : list of ScenarioRun
+        One per scenario of the Model (empty when ``Options.scenarios`` is off).
+    seconds : dict of str to float
+        Wall seconds of each stage, in the order they ran.
+    """
+
+    model: Model
+    results: list[CostedShipment]
+    problems: list[Problem]
+    stats: RunStats
+    analysis: Analysis
+    scenarios: list[ScenarioRun] = field(default_factory=list)
+    seconds: dict[str, float] = field(default_factory=dict)  # stage -> wall seconds
+
+
+def run(model: Model, options: Options | None = None) -> Costed:
+    """Route, plan and price every shipment of a checked Model.
+
+    Parameters
+    ----------
+    model : Model
+        A Model without errors (``load`` returns one, or build it in code).
+    options : Options, optional
+        Defaults: the Settings objective, analyses and scenarios as Settings ask, no progress.
+
+    Returns
+    -------
+    Costed
+
+    Raises
+    ------
+    ValueError
+        A Model built in code holds a lane with a negative cost weight (validation refuses
+        such input workbooks).
+
+    Examples
+    --------
+    >>> from costing import pipeline
+    >>> costed = pipeline.run(model)                     # doctest: +SKIP
+    >>> sum(r.total_cost for r in costed.results)        # doctest: +SKIP
+    """
+    from costing.check.scenarios import apply_scenario
+    from costing.network.build import build_graph
+
+    options = options or Options()
+    times: dict[str, float] = {}
+    t0 = time.perf_counter()
+    graph = build_graph(model)
+    times["build network"] = time.perf_counter() - t0
+
+    t0 = time.perf_counter()
+    router = Router(model, graph)
+    router.prepare(model.shipments, options.objective)
+    bar = options.bar("routing")
+    results = []
+    total = len(model.shipments)
+    for k, s in enumerate(model.shipments):
+        results.append(router.route(s, objective_for(model, s, options.objective)))
+        bar(k + 1, total)
+    times["search and cost"] = time.perf_counter() - t0
+
+    # plan stage: every load has vehicles of its own (consolidation plugs in here)
+
+    t0 = time.perf_counter()
+    if options.analyses:
+        analysis = analyse(model, router, results, options.bar("comparing"))
+        times["comparison and trade-offs"] = time.perf_counter() - t0
+    else:
+        analysis = Analysis(lanes=lane_usage(results))
+
+    runs: list[ScenarioRun] = []
+    if options.scenarios and model.scenarios:
+        t0 = time.perf_counter()
+        bar = options.bar("scenarios")
+        sub = replace(options, analyses=False, scenarios=False, progress=None)
+        for k, sc in enumerate(model.scenarios):
+            changed = run(apply_scenario(model, sc), sub)
+            runs.append(ScenarioRun(sc, changed.results, changed.stats))
+            bar(k + 1, len(model.scenarios))
+        times["scenarios"] = time.perf_counter() - t0
+
+    router.stats.networks = len(router.networks)
+    return Costed(model, results, list(model.problems) + router.problems, router.stats, analysis, runs,
+                  times)
+
+
+def load(path: str) -> tuple[Model | None, list[Problem], str | None]:
+    """Read and check an input workbook.
+
+    Parameters
+    ----------
+    path : str
+        The input workbook (.xlsx); opened read-only, never changed.
+
+    Returns
+    -------
+    model : Model or None
+        None when the file cannot be read at all.
+    problems : list of Problem
+        Every finding, errors first where the file cannot be read.
+    sha256 : str or None
+        SHA-256 of the file's bytes, for the Run sheet.
+    """
+    from costing.check.validate import validate
+    from costing.errors import InputError
+    from costing.workbook.reader import read_workbook
+
+    try:
+        raw = read_workbook(path)
+    except InputError as e:
+        return None, list(e.problems), None
+    model = validate(raw)
+    return model, list(model.problems), raw.sha256
