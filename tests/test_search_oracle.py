@@ -38,13 +38,14 @@ import networkx as nx
 import pytest
 
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.network.build import OBJECTIVE_UNITS, build_graph, compact
+from costing.network.build import build_graph, compact
 from costing.network.search import astar
+from costing.objectives import BY_NAME
 
 VEHICLE = "truck"
 N_RANDOM = 120  # seeded random networks
 N_COORDLESS = 20  # seeded networks with one depot that has no coordinates
-OBJECTIVES = tuple(o for o in ("cost", "time", "distance", "emissions", "blended") if o in OBJECTIVE_UNITS)
+OBJECTIVES = tuple(o for o in ("cost", "time", "distance", "emissions", "blended") if o in BY_NAME)
 
 # Mean Earth radius R1 = (2a + b) / 3 of WGS84, km: references.md 1.1 [V-LIB computed].
 R1_KM = 6371.0088

@@ -8,9 +8,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from costing.objectives import OBJECTIVES  # the one objective table
+
 MODES = ("road", "rail", "sea", "inland_water", "air")
 DEPOT_KINDS = ("depot", "hub", "terminal", "customer", "port")
-OBJECTIVES = ("cost", "time", "distance", "emissions", "blended")
 YES_NO = ("yes", "no")
 DRIVING_RULES = ("none", "eu_561_2006", "us_49cfr395")
 

@@ -22,12 +22,11 @@ import numpy as np
 from costing.geo import great_circle_km, great_circle_km_many
 from costing.model import Depot, Lane, LaneUse, Model, RateCard
 from costing.money import minor_unit
+from costing.objectives import objective
 from costing.price.rates import charge, co2e_kg, lane_charges
 
 # Keeps floating-point error in gc * r_min from pushing the bound a hair above the truth.
 BOUND_SAFETY = 1.0 - 1e-9
-OBJECTIVE_UNITS = {"cost": "currency", "time": "hours", "distance": "km", "emissions": "kg CO2e",
-                   "blended": "currency incl. value of time"}
 
 
 def resolve_lane(lane: Lane, depots: dict[str, Depot], detour: float, speed: float) -> tuple:
@@ -106,26 +105,32 @@ def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
     return model.cards_for(vehicle)[mode]
 
 
-def _blend(model: Model, profile: Profile, fn, *args) -> float:
-    """blended = cost + value_of_time_per_hour x time, for any weight function."""
-    from dataclasses import replace
-
-    cost = fn(model, replace(profile, objective="cost"), *args)
-    hours = fn(model, replace(profile, objective="time"), *args)
-    return cost + model.settings.value_of_time_per_hour * hours
+def _weigh(model: Model, profile: Profile, quantity_weight) -> float:
+    """The profile's objective as the weighted sum of quantity weights (costing.objectives).
+    A one-term objective is its quantity's weight; blended is 1 x cost + value_of_time x hours,
+    summed in that order."""
+    obj = objective(profile.objective)
+    if obj.quantity is not None:
+        return quantity_weight(obj.quantity)
+    total = 0.0
+    for q, coefficient in obj.coefficients(model.settings):
+        total += coefficient * quantity_weight(q)
+    return total
 
 
 def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: int) -> float:
     """Weight of starting the route at `origin` on card k: handling there and the card's trip."""
-    if profile.objective == "blended":
-        return _blend(model, profile, start_weight, k, origin, places)
     vehicle, mode, n = profile.cards[k]
-    card = card_of(model, vehicle, mode)
-    if profile.objective == "cost":
-        return charge(n, origin.handling_cost, places) + charge(n, card.per_trip, places)
-    if profile.objective == "time":
-        return origin.handling_hours
-    return 0.0
+
+    def weight(q: str) -> float:
+        if q == "cost":
+            card = card_of(model, vehicle, mode)
+            return charge(n, origin.handling_cost, places) + charge(n, card.per_trip, places)
+        if q == "hours":
+            return origin.handling_hours
+        return 0.0
+
+    return _weigh(model, profile, weight)
 
 
 def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, places: int) -> float:
@@ -133,14 +138,16 @@ def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, plac
     handling is already in the weight of the lane that enters it)."""
     if destination.kind == "hub":
         return 0.0
-    if profile.objective == "blended":
-        return _blend(model, profile, exit_weight, k, destination, places)
     n = profile.cards[k][2]
-    if profile.objective == "cost":
-        return charge(n, destination.handling_cost, places)
-    if profile.objective == "time":
-        return destination.handling_hours
-    return 0.0
+
+    def weight(q: str) -> float:
+        if q == "cost":
+            return charge(n, destination.handling_cost, places)
+        if q == "hours":
+            return destination.handling_hours
+        return 0.0
+
+    return _weigh(model, profile, weight)
 
 
 def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places: int) -> float:
@@ -152,26 +159,27 @@ def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places
 def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: Depot,
                 places: int) -> float:
     """The weight of one lane step on card k. Cost uses the rounded leg amounts the output
-    shows (pricing.py), so a route's weight is exactly what its legs add up to."""
-    if profile.objective == "blended":
-        return _blend(model, profile, lane_weight, k, use, to_depot, places)
+    shows (price/rates.py), so a route's weight is exactly what its legs add up to."""
     vehicle, mode, n = profile.cards[k]
     card = card_of(model, vehicle, mode)
     hub = to_depot.kind == "hub"
-    obj = profile.objective
-    if obj == "cost":
-        w = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
-                         model.settings, places).total
-        if hub:
-            w += charge(n, to_depot.handling_cost, places)
-        return w
-    if obj == "time":
-        return use.hours + (to_depot.handling_hours if hub else 0.0)
-    if obj == "distance":
-        return use.km
-    if obj == "emissions":
-        return co2e_kg(use.km, card, n, profile.weight_t)[0]
-    raise ValueError(f"unknown objective {obj}")
+
+    def weight(q: str) -> float:
+        if q == "cost":
+            w = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
+                             model.settings, places).total
+            if hub:
+                w += charge(n, to_depot.handling_cost, places)
+            return w
+        if q == "hours":
+            return use.hours + (to_depot.handling_hours if hub else 0.0)
+        if q == "km":
+            return use.km
+        if q == "co2e":
+            return co2e_kg(use.km, card, n, profile.weight_t)[0]
+        raise ValueError(f"unknown quantity {q}")
+
+    return _weigh(model, profile, weight)
 
 
 @dataclass
@@ -308,7 +316,7 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile,
     elif r_min == 0:
         note = "none: a usable lane has zero weight, so uniform-cost search is used"
     else:
-        note = (f"straight line x {r_min:.6g} {OBJECTIVE_UNITS[profile.objective]} per km "
+        note = (f"straight line x {r_min:.6g} {_bound_unit(profile.objective)} per km "
                 "(least weight per straight-line km over the usable lanes)")
     return CompactNetwork(profile, depot_ids, index, adj, steps, r_min, lats, lons, note)
 
@@ -350,3 +358,12 @@ def explain_no_route(graph: nx.MultiDiGraph, cn: CompactNetwork, origin: str, de
     return (f"{destination} is cut off from {origin} for {what}: {origin} reaches "
             f"{len(reached - {o})} depot(s), none of which leads to {destination}; only {shown} "
             f"can reach {destination}")
+
+
+def _bound_unit(name: str) -> str:
+    """The unit the bound note prints: as before the objective table, "currency" for cost and
+    "currency incl. value of time" for blended."""
+    obj = objective(name)
+    if obj.in_money and obj.quantity is None:
+        return "currency incl. value of time"
+    return obj.unit

@@ -12,7 +12,6 @@ import networkx as nx
 from costing.model import WARNING, Model, Problem, RateCard, Shipment
 from costing.money import minor_unit
 from costing.network.build import (
-    OBJECTIVE_UNITS,
     CompactNetwork,
     Profile,
     card_of,
@@ -22,6 +21,7 @@ from costing.network.build import (
     start_weight,
 )
 from costing.network.search import astar
+from costing.objectives import objective
 from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
 from costing.price.rates import vehicles_needed
 
@@ -44,6 +44,11 @@ def _label(p: Profile) -> str:
     return f"{p.objective}: {cards}{extra}"
 
 
+def _uses(name: str, quantity: str) -> bool:
+    """Whether objective `name` weighs `quantity` (costing.objectives)."""
+    return any(q == quantity for q, _c in objective(name).terms)
+
+
 def objective_for(model: Model, shipment: Shipment, override: str | None) -> str:
     """A shipment's own objective wins; then the command line; then Settings."""
     return shipment.objective or override or model.settings.objective
@@ -64,7 +69,7 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
                 elif lane.max_weight_t is not None and \
                         loaded_weight(s, card) > lane.max_weight_t + 1e-9:
                     blocked.add((lane.lane_id, k))
-    needs_tonnes = objective == "emissions" and any(
+    needs_tonnes = _uses(objective, "co2e") and any(
         c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None for c in cards)
     return Profile(objective,
                    tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
@@ -204,7 +209,7 @@ class Router:
         the search at t*, whose result has subtotal <= r*'s and minimum <= t*, so its total
         max(subtotal, minimum) is no more than r*'s. Other objectives ignore the minimum."""
         pool = self.pool(s)
-        if objective != "cost" and objective != "blended":
+        if not _uses(objective, "cost"):
             return [pool]
         levels = sorted({c.min_charge for c in pool})
         return [[c for c in pool if c.min_charge <= t] for t in levels]
@@ -380,7 +385,7 @@ def _restriction_note(router: Router, s: Shipment, obj: str, vehicles, best: Cos
         return ""
     unrestricted = cost_route(model, s, obj, _runs(model, cn, res))
     delta = best.objective_value - unrestricted.objective_value
-    unit = model.settings.currency if obj in ("cost", "blended") else OBJECTIVE_UNITS[obj]
+    unit = objective(obj).unit_text(model.settings.currency)
     return f"restrictions: {'; '.join(reasons)}; route changed, {delta:+.2f} {unit}"
 
 

@@ -24,6 +24,7 @@ from dataclasses import dataclass
 
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
+from costing.objectives import objective
 from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges, vehicles_needed
 from costing.price.rules import rules_for, stops_for_run
 
@@ -129,12 +130,29 @@ class CostedShipment:
     def component(self, name: str) -> float:
         return round_money(sum(getattr(leg, name) for leg in self.legs), self.places)
 
+    def quantity(self, name: str) -> float:
+        """A route quantity of costing.objectives: cost (total, currency), hours (driving and
+        handling), km, co2e (kg CO2e)."""
+        if name == "cost":
+            return self.total_cost
+        if name == "hours":
+            return self.drive_hours + self.handling_hours
+        if name == "km":
+            return self.distance_km
+        if name == "co2e":
+            return self.co2e_kg
+        raise ValueError(f"unknown quantity {name}")
+
     @property
     def objective_value(self) -> float:
-        hours = self.drive_hours + self.handling_hours
-        return {"cost": self.total_cost, "time": hours, "distance": self.distance_km,
-                "emissions": self.co2e_kg,
-                "blended": self.total_cost + self.value_of_time * hours}[self.objective]
+        """The route's value under its objective (costing.objectives), in the objective's unit."""
+        obj = objective(self.objective)
+        if obj.quantity is not None:
+            return self.quantity(obj.quantity)
+        value = 0.0
+        for q, c in obj.terms:
+            value += (1.0 if c is None else self.value_of_time) * self.quantity(q)
+        return value
 
 
 def cost_route(model: Model, shipment: Shipment, objective: str,
