@@ -82,6 +82,8 @@ def _common(p):
 
 
 def main(argv: list[str] | None = None) -> int:
+    """The ``costing`` command. Returns the exit code: 0 done, 1 input errors (nothing
+    written), 2 usage error; 130 when interrupted."""
     args = _parser().parse_args(argv)
     try:
         if args.command == "template":

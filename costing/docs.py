@@ -7,6 +7,7 @@ from costing.contract.inputs import SETTINGS, SHEETS
 
 
 def column_reference() -> str:
+    """The README's column reference (Markdown), generated from the input contract."""
     lines: list[str] = []
     for spec in SHEETS:
         lines.append(f"**{spec.name}** ({'required' if spec.required else 'optional'} sheet): {spec.note}")

@@ -49,10 +49,12 @@ class CostingError(Exception):
 
     @property
     def message(self) -> str:
+        """The first problem's message."""
         return self.problems[0].message
 
     @property
     def fix(self) -> str:
+        """The first problem's fix."""
         return self.problems[0].fix
 
 

@@ -20,6 +20,7 @@ class Problem:
 
     @property
     def where(self) -> str:
+        """``Sheet!Cell`` of the problem (the sheet alone, or ``workbook`` when it is the file)."""
         if not self.sheet:
             return "workbook"
         sheet = f"'{self.sheet}'" if (" " in self.sheet or "-" in self.sheet) else self.sheet
@@ -126,6 +127,7 @@ class Model:
         return title, (f"{letter}{row}" if letter else f"row {row}")
 
     def depot(self, depot_id: str) -> Depot:
+        """The depot with id `depot_id` (KeyError if there is none)."""
         return self.depot_index[depot_id]
 
     @cached_property
@@ -140,6 +142,7 @@ class Model:
         return tuple(ln for ln in self.lanes if not ln.hazmat_allowed or ln.max_weight_t is not None)
 
     def vehicles(self) -> list[str]:
+        """Vehicle names of the rate cards, each once, in the order first seen."""
         seen: dict[str, None] = {}
         for r in self.rates:
             seen.setdefault(r.vehicle, None)
@@ -165,4 +168,5 @@ class LaneUse:
 
     @property
     def key(self) -> str:
+        """Edge key in the lane graph: the lane id and ``>`` (as typed) or ``<`` (reverse)."""
         return f"{self.lane.lane_id}{'<' if self.reverse else '>'}"

@@ -27,10 +27,14 @@ KNOWN_TWO_DECIMALS = {
 
 
 def is_known_currency(code: str) -> bool:
+    """Whether `code` is an ISO 4217 currency code the tool knows the minor unit of."""
     return code in _EXPONENTS or code in KNOWN_TWO_DECIMALS
 
 
 def minor_unit(code: str) -> int:
+    """Decimal places of ISO 4217 currency `code` (EUR 2, JPY 0, KWD 3); 2 for codes not listed.
+
+    This is the one place the tool looks up minor units; money is rounded to them."""
     return _EXPONENTS.get(code, 2)
 
 

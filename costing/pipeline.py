@@ -66,6 +66,7 @@ class Options:
     progress: Callable[[str], Progress] | None = None
 
     def bar(self, stage: str) -> Progress:
+        """The progress callback of `stage` (a no-op when there is no progress)."""
         return self.progress(stage) if self.progress else _no_progress
 
 

@@ -63,7 +63,6 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as _dt
-import difflib
 import math
 import re
 from dataclasses import dataclass
@@ -76,6 +75,8 @@ from costing.contract.inputs import (
     SETTINGS_BY_NAME,
     SHEETS_BY_NAME,
     SPREADSHEET_ERRORS,
+    closest,
+    did_you_mean,
     normalise_header,
 )
 from costing.contract.rows import RawSheet
@@ -180,11 +181,6 @@ def _text(v) -> str | None:
     return s or None
 
 
-def _did_you_mean(value: str, known, cutoff: float = 0.6) -> str:
-    close = difflib.get_close_matches(value, list(known), n=1, cutoff=cutoff)
-    return f"did you mean {close[0]}? " if close else ""
-
-
 def _names(items: list[str]) -> str:
     shown = ", ".join(items[:MAX_NAMED])
     return shown + (f" and {len(items) - MAX_NAMED} more" if len(items) > MAX_NAMED else "")
@@ -249,13 +245,13 @@ def _resolve_key(model: Model, sheet: str, key: str) -> tuple[str | None, str, s
                     return f"{vehicle}/{mode}", "", ""
                 if mode not in MODES:
                     return None, (f"key '{_short(key)}': '{_short(mode_text)}' is not a mode"), (
-                        _did_you_mean(mode, MODES, 0.5) + "modes: " + ", ".join(MODES))
+                        did_you_mean(mode, MODES, 0.5) + "modes: " + ", ".join(MODES))
                 return None, f"vehicle {vehicle} has no rate card for {mode}", (
                     f"its cards are for {', '.join(cards)}; add a {vehicle} {mode} row on the Rates "
                     f"sheet, or change the key")
-            guess = _did_you_mean(vehicle, vehicles)
+            guess = did_you_mean(vehicle, vehicles)
         else:
-            guess = _did_you_mean(key, vehicles)
+            guess = did_you_mean(key, vehicles)
         return None, f"key '{_short(key)}' is not a vehicle on the Rates sheet", (
             guess + "use a vehicle (all its cards) or vehicle/mode, e.g. "
             + (f"{vehicles[0]}/{model.rates[0].mode}" if vehicles else "artic_40t/road")
@@ -265,7 +261,7 @@ def _resolve_key(model: Model, sheet: str, key: str) -> tuple[str | None, str, s
     if key in ids:
         return key, "", ""
     same_case = [i for i in ids if i.lower() == key.lower()]
-    guess = f"did you mean {same_case[0]}? " if same_case else _did_you_mean(key, ids)
+    guess = f"did you mean {same_case[0]}? " if same_case else did_you_mean(key, ids)
     return None, f"key '{_short(key)}' names no row of {sheet}: it is not a {id_col} there", (
         guess + f"use a {id_col} from the {sheet} sheet, or leave key blank to change every row")
 
@@ -349,7 +345,7 @@ def _set_value(target: _Target, raw, model: Model) -> tuple[object, str, str]:
         if s in target.choices:
             return s, "", ""
         return None, f"={_short(text)} is not one of {', '.join(target.choices)} ({name})", (
-            _did_you_mean(s, target.choices, 0.5) + "type = and one of them, e.g. ="
+            did_you_mean(s, target.choices, 0.5) + "type = and one of them, e.g. ="
             + target.choices[0])
     if isinstance(raw, bool):
         return None, f"{name} takes text, not TRUE/FALSE", "format the change cell as Text and type =..."
@@ -364,13 +360,13 @@ def _set_value(target: _Target, raw, model: Model) -> tuple[object, str, str]:
         if text in ids:
             return text, "", ""
         return None, f"{name} '{_short(text)}' is not a depot_id on the Depots sheet", (
-            _did_you_mean(text, ids) + "use a depot_id from Depots")
+            did_you_mean(text, ids) + "use a depot_id from Depots")
     if target.kind == "vehicle":
         vehicles = model.vehicles()
         if text in vehicles:
             return text, "", ""
         return None, f"vehicle '{_short(text)}' has no rate card on the Rates sheet", (
-            _did_you_mean(text, vehicles) + "use a vehicle from Rates, or = alone to let the tool "
+            did_you_mean(text, vehicles) + "use a vehicle from Rates, or = alone to let the tool "
             "choose")
     return text, "", ""  # text
 
@@ -491,10 +487,9 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
                       "name one of " + ", ".join(TARGET_SHEETS))
             else:
                 known = {normalise_header(s): s for s in TARGET_SHEETS}
-                close = difflib.get_close_matches(normalise_header(sheet_v), list(known), n=1,
-                                                  cutoff=0.6)
+                close = closest(normalise_header(sheet_v), known)
                 p.add(ERROR, "sheet", f"sheet '{_short(sheet_v)}' is not an input sheet",
-                      (f"did you mean {known[close[0]]}? " if close else "")
+                      (f"did you mean {known[close]}? " if close else "")
                       + "use one of " + ", ".join(TARGET_SHEETS))
     if key_v is _REPORTED:
         sheet = None  # cannot tell which rows
@@ -514,7 +509,7 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
                 p.add(ERROR, "key", "key is blank: which setting?", "type the setting name in key, "
                       "e.g. fuel_price_per_litre")
             elif key_name not in SETTINGS_BY_NAME:
-                p.add(ERROR, "key", f"'{_short(key_v)}' is not a setting", _did_you_mean(
+                p.add(ERROR, "key", f"'{_short(key_v)}' is not a setting", did_you_mean(
                     key_name, SETTINGS_BY_NAME) + "settings: " + ", ".join(SETTINGS_BY_NAME))
             else:
                 key = key_name
@@ -527,7 +522,7 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
                 key = column
         else:
             p.add(ERROR, "column", f"column '{_short(column_v)}' cannot be changed on Settings",
-                  _did_you_mean(column, ["value", *SETTINGS_BY_NAME]) + "use value, with the "
+                  did_you_mean(column, ["value", *SETTINGS_BY_NAME]) + "use value, with the "
                   "setting name in key")
         if key is not None and key not in _SETTING_FIELDS:
             p.add(ERROR, "key" if key_v is not None else "column", f"setting {key} cannot be changed "
@@ -542,7 +537,7 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
         column = normalise_header(column_v)
         if column not in names:
             p.add(ERROR, "column", f"'{_short(column_v)}' is not a column of {sheet}",
-                  _did_you_mean(column, names) + "columns: " + ", ".join(
+                  did_you_mean(column, names) + "columns: " + ", ".join(
                       n for n in names if n not in ID_COLUMNS[sheet]))
             column = None
         elif column in ID_COLUMNS[sheet]:

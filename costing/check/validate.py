@@ -4,7 +4,6 @@ Knows the rules of the trade; knows nothing of openpyxl or xlsxwriter."""
 from __future__ import annotations
 
 import datetime as _dt
-import difflib
 import math
 import re
 from dataclasses import replace
@@ -18,6 +17,8 @@ from costing.contract.inputs import (
     SHEETS_BY_NAME,
     SPREADSHEET_ERRORS,
     Column,
+    closest,
+    did_you_mean,
     normalise_header,
 )
 from costing.contract.rows import RawRow, RawSheet, RawWorkbook
@@ -168,8 +169,7 @@ class _Sheet:
         s = normalise_header(v)
         if s in col.choices:
             return s
-        close = difflib.get_close_matches(s, col.choices, n=1, cutoff=0.5)
-        hint = f"did you mean {close[0]}? " if close else ""
+        hint = did_you_mean(s, col.choices, cutoff=0.5)
         self.problem(ERROR, col.name, rr.row, f"{col.name} '{_short(v)}' is not one of "
                      + ", ".join(col.choices), f"{hint}pick a value from the list")
         return _MISSING
@@ -275,9 +275,9 @@ def _settings(raw: RawSheet | None, problems: list[Problem]) -> Settings:
         name = normalise_header(name_v)
         spec = SETTINGS_BY_NAME.get(name)
         if spec is None:
-            close = difflib.get_close_matches(name, list(SETTINGS_BY_NAME), n=1, cutoff=0.6)
+            close = closest(name, SETTINGS_BY_NAME)
             sh.problem(WARNING, "setting", rr.row, f"unknown setting '{_short(name_v)}' is ignored",
-                       f"did you mean {close[0]}?" if close else
+                       f"did you mean {close}?" if close else
                        "known settings: " + ", ".join(SETTINGS_BY_NAME))
             continue
         if name in seen:
@@ -348,17 +348,24 @@ def _known_depots(sh: _Sheet, rr: RawRow, rec: dict, columns, depot_ix) -> bool:
         d = rec[end]
         if d is not None and d not in depot_ix:
             sh.problem(ERROR, end, rr.row, f"{end} '{_short(d)}' is not a depot_id on the Depots sheet",
-                       _suggest(d, depot_ix) + "use a depot_id from Depots, or add the depot there")
+                       did_you_mean(d, depot_ix) + "use a depot_id from Depots, or add the depot there")
             ok = False
     return ok
 
 
-def _suggest(value: str, known) -> str:
-    close = difflib.get_close_matches(value, list(known), n=1, cutoff=0.6)
-    return f"did you mean {close[0]}? " if close else ""
-
-
 def validate(raw: RawWorkbook) -> Model:
+    """Turn the rows of an input workbook into a Model.
+
+    Parameters
+    ----------
+    raw : RawWorkbook
+        What ``costing.workbook.reader.read_workbook`` returned.
+
+    Returns
+    -------
+    Model
+        Every record that could be converted, and ``problems``: every finding with its sheet,
+        cell and fix. The run may go on only when none is an ERROR (``has_errors``)."""
     problems: list[Problem] = list(raw.problems)
     settings = _settings(raw.sheets.get("Settings"), problems)
 
@@ -481,7 +488,7 @@ def validate(raw: RawWorkbook) -> Model:
             v = rec["vehicle"]
             if v is not None and v not in vehicles:
                 sh.problem(ERROR, "vehicle", rr.row, f"vehicle '{_short(v)}' has no rate card on "
-                           "the Rates sheet", _suggest(v, vehicles) +
+                           "the Rates sheet", did_you_mean(v, vehicles) +
                            "use a vehicle from Rates, or leave blank to let the tool choose")
                 ok = False
             if rec["weight_t"] == 0:
@@ -537,6 +544,7 @@ def _check_swapped_coordinates(raw: RawWorkbook, problems: list[Problem]) -> Non
 
 
 def has_errors(problems) -> bool:
+    """Whether any of `problems` is an ERROR (the run stops; nothing is written)."""
     return any(p.severity == ERROR for p in problems)
 
 

@@ -6,6 +6,7 @@ read this table, so a column is added here once and appears everywhere.
 
 from __future__ import annotations
 
+import difflib
 from dataclasses import dataclass, field
 
 from costing.objectives import OBJECTIVES  # the one objective table
@@ -35,6 +36,7 @@ class Column:
 
     @property
     def key(self) -> str:
+        """The column's contract name (what its header normalises to)."""
         return self.name
 
 
@@ -48,6 +50,7 @@ class SheetSpec:
     extra: dict = field(default_factory=dict)
 
     def column(self, name: str) -> Column:
+        """The column spec called `name` (KeyError if the sheet has none)."""
         for c in self.columns:
             if c.name == name:
                 return c
@@ -256,6 +259,28 @@ SHEETS: tuple[SheetSpec, ...] = (
 )
 
 SHEETS_BY_NAME = {s.name: s for s in SHEETS}
+
+
+def closest(value: str, known, cutoff: float = 0.6) -> str | None:
+    """The one known name most like `value`, for "did you mean ...?" hints; None if none is close.
+
+    Parameters
+    ----------
+    value : str
+        What the user typed (already normalised where the names are).
+    known : iterable of str
+        The names it may have meant.
+    cutoff : float
+        Least similarity, 0 to 1 (difflib's ratio); 0.6 unless a list of short codes needs less.
+    """
+    close = difflib.get_close_matches(value, list(known), n=1, cutoff=cutoff)
+    return close[0] if close else None
+
+
+def did_you_mean(value: str, known, cutoff: float = 0.6) -> str:
+    """``"did you mean X? "`` for the closest known name, or ``""``."""
+    close = closest(value, known, cutoff)
+    return f"did you mean {close}? " if close else ""
 
 
 def normalise_header(text: object) -> str:

@@ -46,9 +46,11 @@ class RawSheet:
     rows: list[RawRow]
 
     def letters(self) -> dict[str, str]:
+        """Contract column name -> the column letters it has in this file."""
         return {c: column_letter(i) for c, i in self.columns.items()}
 
     def cell(self, column: str, row: int) -> str:
+        """The address (``B7``) of `column` in spreadsheet row `row`; ``row 7`` when the column is absent."""
         idx = self.columns.get(column)
         return f"{column_letter(idx)}{row}" if idx else f"row {row}"
 

@@ -62,10 +62,12 @@ class Leg:
 
     @property
     def handling_cost(self) -> float:
+        """Handling at both ends of the leg, in the run's currency."""
         return self.start_handling_cost + self.end_handling_cost
 
     @property
     def elapsed_hours(self) -> float:
+        """Driving, breaks, rests and handling of the leg, in hours."""
         return self.use.hours + self.break_hours + self.rest_hours + self.handling_hours
 
 
@@ -85,49 +87,62 @@ class CostedShipment:
 
     @property
     def subtotal(self) -> float:
+        """Sum of the rounded leg costs, in the run's currency (rounded to its minor unit)."""
         return round_money(sum(leg.leg_cost for leg in self.legs), self.places)
 
     @property
     def min_charge_uplift(self) -> float:
+        """What the minimum charge adds above the subtotal (0 when the subtotal reaches it), currency."""
         return round_money(max(0.0, self.min_charge - self.subtotal), self.places) if self.legs else 0.0
 
     @property
     def total_cost(self) -> float:
+        """Subtotal plus the minimum-charge uplift, in the run's currency: what the shipment costs."""
         return round_money(self.subtotal + self.min_charge_uplift, self.places)
 
     @property
     def vehicles(self) -> int:
+        """Most vehicles on any leg (the load split over vehicles); 0 when not routed."""
         return max((leg.vehicles for leg in self.legs), default=0)
 
     @property
     def distance_km(self) -> float:
+        """Route length in km (the legs' stated or estimated km)."""
         return sum(leg.use.km for leg in self.legs)
 
     @property
     def drive_hours(self) -> float:
+        """Driving hours of the route (the legs' stated or estimated hours)."""
         return sum(leg.use.hours for leg in self.legs)
 
     @property
     def handling_hours(self) -> float:
+        """Handling hours at depots, hubs and transfers."""
         return sum(leg.handling_hours for leg in self.legs)
 
     @property
     def break_hours(self) -> float:
+        """Driving-time breaks added by the rule set, in hours."""
         return sum(leg.break_hours for leg in self.legs)
 
     @property
     def rest_hours(self) -> float:
+        """Daily rests added by the rule set, in hours."""
         return sum(leg.rest_hours for leg in self.legs)
 
     @property
     def elapsed_hours(self) -> float:
+        """Driving, handling, breaks and rests, in hours."""
         return sum(leg.elapsed_hours for leg in self.legs)
 
     @property
     def co2e_kg(self) -> float:
+        """Emissions of the route, kg CO2e (sum of the legs)."""
         return sum(leg.co2e_kg for leg in self.legs)
 
     def component(self, name: str) -> float:
+        """One cost component (a Leg field such as ``km_cost``) summed over the legs and rounded
+        to the currency's minor unit."""
         return round_money(sum(getattr(leg, name) for leg in self.legs), self.places)
 
     def quantity(self, name: str) -> float:
@@ -203,5 +218,7 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
 
 def unrouted(model: Model, shipment: Shipment, status: str, objective: str, message: str,
              vehicle: str = "", settled: int = 0, pushed: int = 0) -> CostedShipment:
+    """A result for a shipment that has no route: `status` (``no_route`` or ``rejected``) and
+    the message saying why; no legs, total 0."""
     return CostedShipment(shipment, status, objective, vehicle, (), 0.0, message, settled, pushed,
                           minor_unit(model.settings.currency))

@@ -52,11 +52,33 @@ class LaneCharges:
 
     @property
     def total(self) -> float:
+        """Sum of the lane's rounded cost components, in the run's currency."""
         return self.km_cost + self.hour_cost + self.toll_cost + self.fixed_cost + self.fuel_surcharge
 
 
 def lane_charges(km: float, hours: float, toll: float, fixed: float, card: RateCard, n: int,
                  settings: Settings, places: int) -> LaneCharges:
+    """The rounded cost components of `n` vehicles on one lane step with `card`.
+
+    Parameters
+    ----------
+    km, hours : float
+        The lane's km and driving hours.
+    toll, fixed : float
+        The lane's toll and fixed charge per vehicle (currency).
+    card : RateCard
+    n : int
+        Vehicles needed for the load.
+    settings : Settings
+        For the fuel price (fuel surcharge).
+    places : int
+        Minor unit of the run's currency.
+
+    Returns
+    -------
+    LaneCharges
+        km_cost, hour_cost, toll_cost, fixed_cost, fuel_surcharge, each rounded half away from
+        zero in the order of operations of its spreadsheet formula."""
     fuel = 0.0
     if fuel_surcharge_rate(card, settings) is not None:
         # spreadsheet order: n * km * l_per_100km / 100 * (price - included)

@@ -42,6 +42,8 @@ RULE_SETS = {
 
 
 def rules_for(settings: Settings) -> DrivingRules | None:
+    """The driving-time rule set that Settings select, with any hour overrides applied;
+    None when ``driving_rules`` is ``none``. Planning estimates, not legal advice."""
     base = RULE_SETS.get(settings.driving_rules)
     if base is None:
         return None

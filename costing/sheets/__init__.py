@@ -1,1 +1,2 @@
-"""sheets stage."""
+"""The costed output workbook (xlsxwriter): formulas with cached values, formats, charts and
+the map. Knows the output contract; never searches."""

@@ -3,7 +3,6 @@ nothing of graphs or costs. The file is opened read-only and never written."""
 
 from __future__ import annotations
 
-import difflib
 import hashlib
 import os
 import re
@@ -13,7 +12,7 @@ import zlib
 
 from openpyxl.utils import get_column_letter, range_boundaries
 
-from costing.contract.inputs import SHEETS, normalise_header
+from costing.contract.inputs import SHEETS, closest, normalise_header
 from costing.contract.rows import RawRow, RawSheet, RawWorkbook
 from costing.errors import InputError
 from costing.model import ERROR, WARNING, Problem
@@ -41,6 +40,7 @@ _READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, Ove
 
 
 def sha256_of(path: str) -> str:
+    """SHA-256 of the file's bytes (hex), read in 1 MiB chunks."""
     h = hashlib.sha256()
     with open(path, "rb") as f:
         for chunk in iter(lambda: f.read(1 << 20), b""):
@@ -222,6 +222,23 @@ def _match_sheets(titles: list[str], wanted: str) -> list[str]:
 
 
 def read_workbook(path: str) -> RawWorkbook:
+    """Open an input workbook safely and read every contract sheet's rows.
+
+    Parameters
+    ----------
+    path : str
+        An .xlsx file; opened read-only, never changed.
+
+    Returns
+    -------
+    RawWorkbook
+        Rows with their cell addresses and the problems found while reading.
+
+    Raises
+    ------
+    InputError
+        The file is not a readable workbook (csv, xls, ods, encrypted, damaged, hostile); its
+        problems say why and what to do."""
     _check_container(path)
     digest = sha256_of(path)
     problems: list[Problem] = []
@@ -245,9 +262,8 @@ def read_workbook(path: str) -> RawWorkbook:
                     if spec.required:
                         others = {normalise_header(t): t for t in titles
                                   if normalise_header(t) not in known}
-                        close = difflib.get_close_matches(normalise_header(spec.name), list(others),
-                                                          n=1, cutoff=0.6)
-                        hint = f"rename sheet '{others[close[0]]}' to {spec.name}" if close else \
+                        close = closest(normalise_header(spec.name), others)
+                        hint = f"rename sheet '{others[close]}' to {spec.name}" if close else \
                             f"add a sheet named {spec.name} (copy it from `costing template`)"
                         problems.append(Problem(ERROR, spec.name, "",
                                                 f"sheet {spec.name} is missing", hint))
@@ -330,9 +346,9 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
     hints: list[tuple[int, str, str]] = []
     for i, h in unknown:
         missing = [c for c in wanted if c not in columns]
-        close = difflib.get_close_matches(normalise_header(h), missing, n=1, cutoff=0.6)
+        close = closest(normalise_header(h), missing)
         if close:
-            hints.append((i, h, close[0]))
+            hints.append((i, h, close))
     if not columns and not hints:
         # Nothing in row 1 names a column: the header is lower down, or missing.
         width = min(max(len(header), 30) + 5, MAX_COLUMNS)

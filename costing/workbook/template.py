@@ -25,6 +25,7 @@ _NUMBER_FORMATS = {
 
 
 def header_note(spec: SheetSpec, col) -> str:
+    """The note shown on a header cell of the template: meaning, unit, allowed values, required."""
     parts = [col.note]
     if col.unit:
         parts.append(f"Unit: {col.unit}.")
