@@ -6,7 +6,9 @@ Exit codes: 0 done; 1 the input has errors (nothing written); 2 usage error.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
+import signal
 import sys
 import tempfile
 import time
@@ -103,6 +105,10 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("costing: interrupted; no output written, earlier output left as it was", file=sys.stderr)
         return 130
+    except Terminated as e:
+        print(f"costing: stopped by {e.name}; no output written, earlier output left as it was",
+              file=sys.stderr)
+        return 128 + e.signum
     except OSError as e:  # disk full, permission denied, ... while writing
         print(f"costing: error: could not write the output: {e.strerror or e}; nothing written, earlier "
               "output left as it was (check the folder's free space and permissions)", file=sys.stderr)
@@ -169,13 +175,65 @@ def _check_output_path(output: str, input_path: str | None, overwrite: bool) -> 
         raise UsageError(f"{output} exists; add --overwrite to replace it, or choose another name")
 
 
+class Terminated(BaseException):
+    """SIGTERM or SIGHUP arrived: unwinds like Ctrl-C, so the part file is removed."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+        self.name = signal.Signals(signum).name
+
+
+def _raise_terminated(signum, _frame):
+    raise Terminated(signum)
+
+
+@contextlib.contextmanager
+def _stop_signals_unwind():
+    """While the block runs, SIGTERM and SIGHUP raise Terminated (as Ctrl-C raises
+    KeyboardInterrupt), so `finally` and `except BaseException` clean-ups run. Outside the main
+    thread (where handlers cannot be set) nothing changes."""
+    wanted = [getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n)]
+    old = {}
+    try:
+        for sig in wanted:
+            old[sig] = signal.signal(sig, _raise_terminated)
+    except ValueError:  # not the main thread
+        pass
+    try:
+        yield
+    finally:
+        for sig, handler in old.items():
+            signal.signal(sig, handler)
+
+
+def _test_pause(tmp: str) -> None:
+    """Tests only: with COSTING_TEST_PAUSE_WRITE=FLAG set, announce the part file by writing its
+    path to FLAG, then wait up to 60 s, so a test can send a signal mid-write."""
+    flag = os.environ.get("COSTING_TEST_PAUSE_WRITE")
+    if not flag:
+        return
+    with open(flag, "w") as f:
+        f.write(tmp)
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline:
+        time.sleep(0.05)
+
+
 def _atomic_write(output: str, write) -> None:
     """Write to a temporary file beside OUTPUT and rename it into place only when complete,
-    so a failed or interrupted run leaves no partial file and any earlier OUTPUT intact."""
+    so a failed or interrupted (Ctrl-C, SIGTERM, SIGHUP) run leaves no partial file and any
+    earlier OUTPUT intact."""
     folder = os.path.dirname(os.path.abspath(output))
+    with _stop_signals_unwind():
+        _atomic_write_here(output, write, folder)
+
+
+def _atomic_write_here(output: str, write, folder: str) -> None:
     fd, tmp = tempfile.mkstemp(prefix=".costing-", suffix=".xlsx.part", dir=folder)
     os.close(fd)
     try:
+        _test_pause(tmp)
         write(tmp)
         umask = os.umask(0)
         os.umask(umask)
