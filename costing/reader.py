@@ -113,11 +113,7 @@ def _check_container(path: str) -> None:
     head = start[:8]
     ext = os.path.splitext(path)[1].lower()
     if head.startswith(b"\xd0\xcf\x11\xe0"):
-        kind = ("a password-protected (encrypted) workbook" if ext in (".xlsx", ".xlsm")
-                else "an old-style .xls workbook")
-        fix = ("remove the password (File > Info > Protect) and save as .xlsx"
-               if "password" in kind else "open it and save it as Excel Workbook (.xlsx)")
-        raise _refuse(f"{os.path.basename(path)} is {kind}, not an .xlsx workbook", fix)
+        raise _refuse(*_compound_file(path, ext))
     if not head.startswith(b"PK"):
         text = b"\0" not in start and _decodes(start)
         what = ("a text/CSV file" if ext in (".csv", ".txt") else
@@ -155,6 +151,30 @@ def _check_container(path: str) -> None:
     if "xl/workbook.xml" not in names:
         raise _refuse(f"{os.path.basename(path)} is a zip file but not an .xlsx workbook",
                       "give the .xlsx input workbook (start from `costing template`)")
+
+
+def _compound_file(path: str, ext: str) -> tuple[str, str]:
+    """(message, fix) for an OLE2 compound file, named by the streams in its directory: an
+    encrypted workbook holds `EncryptedPackage`, an old binary workbook `Workbook` (BIFF8) or
+    `Book` (BIFF5) ([MS-OFFCRYPTO] 2.3.4.4; [MS-XLS] 2.1.2)."""
+    from .ole2 import stream_names
+
+    name = os.path.basename(path)
+    streams = {n.lower() for n in stream_names(path) or ()}
+    save = "open it in the spreadsheet application and save it as Excel Workbook (.xlsx)"
+    if "encryptedpackage" in streams:
+        return (f"{name} is a password-protected (encrypted) workbook, not an .xlsx workbook it can "
+                "read", "remove the password (File > Info > Protect Workbook > Encrypt with "
+                "Password, clear it) and save as Excel Workbook (.xlsx)")
+    if streams & {"workbook", "book"}:
+        named = f", named {ext}" if ext not in (".xls", "") else ""
+        return f"{name} is an old-style binary .xls workbook{named}, not an .xlsx workbook", save
+    if streams:
+        return (f"{name} is an OLE2 compound file (e.g. an old Word or Outlook file) with no "
+                "workbook in it", "give the .xlsx input workbook (start from `costing template`)")
+    return (f"{name} is an OLE2 compound file (an old-style .xls workbook or a password-protected "
+            "one) whose directory cannot be read, not an .xlsx workbook",
+            "remove any password and " + save)
 
 
 _REREAD_FIX = "open it in a spreadsheet application, save it as .xlsx and try again"

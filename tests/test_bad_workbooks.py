@@ -116,6 +116,34 @@ def ole_header() -> bytes:
     return b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + bytes(504) + b"\x00" * 1024
 
 
+def ole_file(streams: list[str]) -> bytes:
+    """A minimal OLE2 compound file holding empty streams with these names, laid out as
+    [MS-CFB] (Compound File Binary File Format) sections 2.2 (header), 2.3 (FAT) and 2.6
+    (directory entries) describe: version 3, 512-byte sectors; sector 0 is the FAT, sector 1
+    the directory (root entry plus up to 3 streams). Written here, independently of the reader."""
+    import struct
+
+    assert len(streams) <= 3
+    free, end, fat_sect, nostream = 0xFFFFFFFF, 0xFFFFFFFE, 0xFFFFFFFD, 0xFFFFFFFF
+    header = struct.pack("<8s16sHHHHH6sIIIIIIIII", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1", bytes(16),
+                         0x3E, 3, 0xFFFE, 9, 6, bytes(6), 0, 1, 1, 0, 4096, end, 0, end, 0)
+    header += struct.pack("<109I", 0, *([free] * 108))
+    fat = struct.pack("<128I", fat_sect, end, *([free] * 126))
+
+    def entry(name: str, kind: int, child: int, right: int) -> bytes:
+        raw = (name + "\0").encode("utf-16-le")
+        return struct.pack("<64sHBBIII16sIQQIQ", raw, len(raw), kind, 1, nostream, right, child,
+                           bytes(16), 0, 0, 0, end, 0)
+
+    names = streams
+    entries = [entry("Root Entry", 5, 1 if names else nostream, nostream)]
+    for i, name in enumerate(names, start=1):
+        entries.append(entry(name, 2, nostream, i + 1 if i < len(names) else nostream))
+    directory = b"".join(entries).ljust(512, b"\0")
+    assert len(header) == 512 and len(fat) == 512
+    return header + fat + directory
+
+
 def zip_of(parts: dict[str, bytes]) -> bytes:
     import io
 
@@ -329,9 +357,22 @@ CASES: list[Case] = [
          ("text/CSV", "save it as Excel Workbook")),
     Case("csv_named_xlsx", lambda b: b.raw(b"lane_id;from_depot\nL1;A\n", "in.xlsx"), "workbook",
          ("a text file (CSV?) named .xlsx",)),
-    Case("xls_ole", lambda b: b.raw(ole_header(), "old.xls"), "workbook", ("old-style .xls",)),
-    Case("encrypted_xlsx", lambda b: b.raw(ole_header(), "locked.xlsx"), "workbook",
+    # [MS-XLS] 2.1.2: a BIFF8 workbook is the stream "Workbook" (BIFF5: "Book") of a compound file
+    Case("xls_ole", lambda b: b.raw(ole_file(["Workbook"]), "old.xls"), "workbook",
+         ("old-style binary .xls", "save it as Excel Workbook")),
+    Case("xls_renamed_xlsx", lambda b: b.raw(ole_file(["Workbook", "\x05SummaryInformation"]),
+                                             "renamed.xlsx"), "workbook",
+         ("old-style binary .xls workbook, named .xlsx", "save it as Excel Workbook (.xlsx)")),
+    Case("biff5_renamed_xlsx", lambda b: b.raw(ole_file(["Book"]), "old95.xlsx"), "workbook",
+         ("old-style binary .xls",)),
+    # [MS-OFFCRYPTO] 2.3.4.4: an encrypted package keeps EncryptionInfo and EncryptedPackage streams
+    Case("encrypted_xlsx", lambda b: b.raw(ole_file(["EncryptionInfo", "EncryptedPackage"]),
+                                           "locked.xlsx"), "workbook",
          ("password-protected", "remove the password")),
+    Case("ole_not_a_workbook", lambda b: b.raw(ole_file(["WordDocument"]), "memo.xlsx"), "workbook",
+         ("compound file", "no workbook")),
+    Case("ole_header_only", lambda b: b.raw(ole_header(), "odd.xlsx"), "workbook",
+         ("old-style .xls workbook or a password-protected one",)),
     Case("ods", _ods, "workbook", ("OpenDocument",)),
     Case("xlsb", _xlsb, "workbook", (".xlsb",)),
     Case("empty_file", lambda b: b.raw(b"", "empty.xlsx"), "workbook", ("empty (0 bytes)",)),
