@@ -39,6 +39,34 @@ _READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, Ove
                 zipfile.BadZipFile, zlib.error)
 
 
+def _tolerate_non_finite_numbers() -> None:
+    """openpyxl reads a number cell without '.' or 'E' as an int, so <v>NaN</v> or <v>INF</v>
+    (written by some tools; a spreadsheet application never saves them) fails the whole sheet
+    with "invalid literal for int()". Read them as float NaN or infinity instead, so validation
+    names the cell, as it does for 1E+400. Anything else that is not a number still fails."""
+    try:
+        from openpyxl.worksheet import _reader
+    except ImportError:  # pragma: no cover - another openpyxl layout: keep its behaviour
+        return
+    cast = getattr(_reader, "_cast_number", None)
+    if cast is None or getattr(cast, "tolerates_non_finite", False):
+        return
+
+    def cast_number(value):
+        try:
+            return cast(value)
+        except ValueError:
+            if value.strip().lstrip("+-").lower() in ("nan", "inf", "infinity"):
+                return float(value)
+            raise
+
+    cast_number.tolerates_non_finite = True
+    _reader._cast_number = cast_number
+
+
+_tolerate_non_finite_numbers()
+
+
 class InputError(Exception):
     """The workbook cannot be read at all; carries the problems that say why."""
 

@@ -453,13 +453,17 @@ CASES: list[Case] = [
     # back as blank. So a NaN typed through openpyxl arrives as a blank cell ...
     Case("nan_via_openpyxl", lambda b: b.edit(set_cell("Rates", "C2", float("nan"))), "Rates!C2",
          ("per_km is blank",)),
-    # ... while a file written by other means can put NaN or INF in the XML. openpyxl then fails
-    # on the whole sheet (it reads a number without '.' or 'E' as an int), so the message names
-    # the sheet, not the cell. 1E+400 does read, as infinity, and is reported at its cell.
+    # ... while a file written by other means can put NaN or INF in the XML (openpyxl alone would
+    # fail on the whole sheet: it reads a number without '.' or 'E' as an int). Each is named at
+    # its cell, as 1E+400 (read as infinity) is. Python's float() spellings of NaN and infinity.
     Case("nan_in_xml", _sentinel("Shipments", "shipment_id", "S1", "weight_t", 987654.25, "NaN"),
-         "Shipments", ("could not be read", "'NaN'")),
+         "Shipments!D2", ("not a finite number", "type the weight_t")),
     Case("inf_in_xml", _sentinel("Lanes", "lane_id", "L1", "distance_km", 987654.25, "INF"),
-         "Lanes", ("could not be read", "'INF'")),
+         "Lanes!E2", ("not a finite number",)),
+    Case("minus_inf_in_xml", _sentinel("Rates", "vehicle", "truck", "per_km", 987654.25, "-Infinity"),
+         "Rates!C2", ("not a finite number",)),
+    Case("nan_in_latitude", _sentinel("Depots", "depot_id", "B", "latitude", 987654.25, "nan"),
+         "Depots!C3", ("not a finite number",)),
     Case("overflow_in_xml", _sentinel("Rates", "vehicle", "truck", "per_hour", 987654.25, "1E+400"),
          "Rates!D2", ("not a finite number",)),
     Case("huge_integer_in_xml", _sentinel("Rates", "vehicle", "truck", "per_trip", 987654.25,
