@@ -6,6 +6,7 @@ from __future__ import annotations
 import difflib
 import hashlib
 import os
+import posixpath
 import re
 import warnings
 import zipfile
@@ -179,6 +180,55 @@ def _check_container(path: str) -> None:
     if "xl/workbook.xml" not in names:
         raise _refuse(f"{os.path.basename(path)} is a zip file but not an .xlsx workbook",
                       "give the .xlsx input workbook (start from `costing template`)")
+    _check_package(path, set(names))
+
+
+_STRICT_NS = b"purl.oclc.org/ooxml/"  # ISO/IEC 29500 Strict namespaces start so
+_PACKAGE_XML_LIMIT = 20_000_000  # workbook.xml and its relationships are read whole below this
+
+
+def _check_package(path: str, names: set[str]) -> None:
+    """Refuse a workbook saved as Strict Open XML (openpyxl finds none of its sheets and would
+    call them missing) and one whose workbook lists a worksheet part the zip does not hold
+    (openpyxl silently drops that sheet): both with what to do, not "sheet is missing"."""
+    from defusedxml import ElementTree
+
+    name = os.path.basename(path)
+    try:
+        with zipfile.ZipFile(path) as z:
+            with z.open("xl/workbook.xml") as f:
+                head = f.read(8192)
+            if _STRICT_NS in head:
+                raise _refuse(f"{name} is saved in the Strict Open XML form, which this tool does "
+                              "not read", "open it and save it as Excel Workbook (.xlsx), not "
+                              "Strict Open XML Spreadsheet")
+            rels_name = "xl/_rels/workbook.xml.rels"
+            if rels_name not in names or any(z.getinfo(n).file_size > _PACKAGE_XML_LIMIT
+                                             for n in ("xl/workbook.xml", rels_name)):
+                return  # left to openpyxl
+            book = ElementTree.fromstring(z.read("xl/workbook.xml"))
+            rels = ElementTree.fromstring(z.read(rels_name))
+    except InputError:
+        raise
+    except Exception:  # malformed or hostile XML: openpyxl's reading reports it
+        return
+    targets = {}
+    for rel in rels:
+        if rel.tag.endswith("Relationship") and rel.get("TargetMode") != "External":
+            target = rel.get("Target") or ""
+            target = target.lstrip("/") if target.startswith("/") else \
+                posixpath.normpath(posixpath.join("xl", target))
+            targets[rel.get("Id")] = target
+    rid = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}id"
+    for el in book.iter():
+        if not el.tag.endswith("}sheet"):
+            continue
+        title, part = el.get("name") or "?", targets.get(el.get(rid))
+        if part is None or part not in names:
+            what = f"its part {part[:80]}" if part else "its relationship"
+            raise InputError([Problem(ERROR, title, "", f"{name} is damaged: the workbook lists sheet "
+                                      f"'{_short(title)}' but {what} is missing from the file",
+                                      _DAMAGED_FIX)])
 
 
 def _compound_file(path: str, ext: str) -> tuple[str, str]:

@@ -235,6 +235,37 @@ def _drop_part(b: Build) -> str:
     return rewrite_parts(path, lambda n, d: None if n == part else d)
 
 
+def _drop_relationship(b: Build) -> str:
+    path = b.good()
+    part = sheet_part(path, "Rates")
+    target = part.removeprefix("xl/")
+
+    def change(name, data):
+        if name == "xl/_rels/workbook.xml.rels":
+            return re.sub(rf'<Relationship [^>]*Target="/?(?:xl/)?{re.escape(target)}"[^>]*/>'.encode(),
+                          b"", data)
+        return data
+    return rewrite_parts(path, change)
+
+
+# ISO/IEC 29500-1 Strict uses these namespaces in place of the transitional ones (ECMA-376 Part 1,
+# strict conformance class; from memory).
+STRICT_NAMESPACES = {
+    b"http://schemas.openxmlformats.org/spreadsheetml/2006/main":
+        b"http://purl.oclc.org/ooxml/spreadsheetml/main",
+    b"http://schemas.openxmlformats.org/officeDocument/2006/relationships":
+        b"http://purl.oclc.org/ooxml/officeDocument/relationships",
+}
+
+
+def _strict(b: Build) -> str:
+    def change(name, data):
+        for old, new in STRICT_NAMESPACES.items():
+            data = data.replace(old, new)
+        return data
+    return rewrite_parts(b.good(), change)
+
+
 def _bad_xml(b: Build) -> str:
     path = b.good()
     part = sheet_part(path, "Lanes")
@@ -381,8 +412,12 @@ CASES: list[Case] = [
     Case("random_bytes", _random_bytes, "workbook", ("not an .xlsx workbook",)),
     Case("zip_not_workbook", lambda b: b.raw(zip_of({"readme.txt": b"hello"}), "in.xlsx"),
          "workbook", ("zip file but not an .xlsx",)),
-    # openpyxl drops a sheet whose part is missing from the zip, so it reads as a missing sheet
-    Case("sheet_part_missing", _drop_part, "Lanes", ("sheet Lanes is missing",)),
+    # openpyxl drops a sheet whose part is missing from the zip; it is reported as damage
+    Case("sheet_part_missing", _drop_part, "Lanes", ("damaged", "lists sheet 'Lanes'", "missing",
+                                                       "save the workbook again")),
+    Case("sheet_relationship_missing", _drop_relationship, "Rates",
+         ("damaged", "lists sheet 'Rates'", "relationship")),
+    Case("strict_open_xml", _strict, "workbook", ("Strict Open XML", "save it as Excel Workbook")),
     Case("sheet_xml_cut_short", _bad_xml, "Lanes", ("could not be read",)),
     Case("folder_as_input", _folder, "workbook", ("folder",)),
     Case("missing_file", _missing_file, "", ("not found",), code=2),
