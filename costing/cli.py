@@ -8,10 +8,12 @@ from __future__ import annotations
 import argparse
 import contextlib
 import os
+import re
 import signal
 import sys
 import tempfile
 import time
+from collections import Counter
 
 from . import __version__
 from .contract import OBJECTIVES
@@ -138,10 +140,47 @@ def _load(path: str):
     return model, list(model.problems), raw.sha256
 
 
-def _print_problems(problems: list[Problem], quiet: bool = False) -> None:
-    for p in problems:
-        if p.severity == ERROR or (not quiet and p.severity == WARNING):
-            print(f"{p.severity}: {p}", file=sys.stderr)
+# More than FLOOD problems of one kind are summarised on stderr: the first SHOWN in full, then
+# one line with the count and the next cells.
+FLOOD, SHOWN = 10, 3
+_VARYING = re.compile(r"'[^']*'|\S*\d\S*")
+
+
+def _kind(p: Problem) -> tuple[str, str, str, str]:
+    """Problems of one kind share severity, sheet and wording once quoted values and anything
+    with a digit (ids, figures, cells) are blanked out."""
+    return p.severity, p.sheet, _VARYING.sub("#", p.message), _VARYING.sub("#", p.fix)
+
+
+def _problem_lines(problems: list[Problem], full_list: str) -> list[str]:
+    """stderr lines for `problems`: each one, except that a kind with more than FLOOD members
+    shows its first SHOWN and then one line with how many more and where (`full_list` says
+    where every one is listed)."""
+    kinds = [_kind(p) for p in problems]
+    counts = Counter(kinds)
+    members: dict[tuple, list[str]] = {}
+    for p, k in zip(problems, kinds):
+        if counts[k] > FLOOD and len(members.setdefault(k, [])) < 2 * SHOWN:
+            members[k].append(p.where)
+    cells = {k: where[SHOWN:] for k, where in members.items()}
+    seen: Counter = Counter()
+    lines = []
+    for p, k in zip(problems, kinds):
+        seen[k] += 1
+        if counts[k] <= FLOOD or seen[k] <= SHOWN:
+            lines.append(f"{p.severity}: {p}")
+        elif seen[k] == SHOWN + 1:
+            more = counts[k] - SHOWN
+            rest = f" and {more - len(cells[k]):,} more" if more > len(cells[k]) else ""
+            lines.append(f"{p.severity}: {more:,} more {p.severity}s like the one above ("
+                         f"{counts[k]:,} in all), at {', '.join(cells[k])}{rest}; {full_list}")
+    return lines
+
+
+def _print_problems(problems: list[Problem], quiet: bool = False, full_list: str = "") -> None:
+    shown = [p for p in problems if p.severity == ERROR or (not quiet and p.severity == WARNING)]
+    for line in _problem_lines(shown, full_list or "full list on the Problems sheet"):
+        print(line, file=sys.stderr)
 
 
 def _check(args) -> int:
@@ -213,8 +252,9 @@ def _test_pause(tmp: str) -> None:
     flag = os.environ.get("COSTING_TEST_PAUSE_WRITE")
     if not flag:
         return
-    with open(flag, "w") as f:
+    with open(flag + ".tmp", "w") as f:
         f.write(tmp)
+    os.replace(flag + ".tmp", flag)  # the flag appears complete
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline:
         time.sleep(0.05)
@@ -285,7 +325,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     times["read and validate"] = time.perf_counter() - t0
     errors = [p for p in problems if p.severity == ERROR]
     if model is None or errors:
-        _print_problems(problems, quiet=True)
+        _print_problems(problems, quiet=True, full_list=f"full list: `costing check {input_path}`")
         print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT

@@ -510,6 +510,8 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
     if not columns:
         return RawSheet(spec.name, title, columns, rows)
     width = max(columns.values())
+    id_columns = {c.name for c in spec.columns if c.kind in ("id", "depot", "vehicle")
+                  or (spec.name == "Rates" and c.name == "vehicle")}
     rows_v = _rows(ws_values, 2, None, width)
     rows_f = _rows(ws_formulas, 2, None, width) if ws_formulas is not None else None
     r = 1
@@ -532,9 +534,10 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
             v = vals[idx - 1] if idx - 1 < len(vals) else None
             f = forms[idx - 1] if forms is not None and idx - 1 < len(forms) else None
             if isinstance(v, str):
-                v = v.strip()
-                if v == "":
-                    v = None
+                stripped = v.strip()
+                if stripped and stripped != v and name in id_columns:
+                    _spaces_problem(problems, title, f"{get_column_letter(idx)}{r}", name, v, stripped)
+                v = stripped or None
             if v is None and _is_formula(f):
                 formula_cols.add(name)
                 empty = False
@@ -544,6 +547,14 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
         if not empty:
             rows.append(RawRow(r, record, formula_cols))
     return RawSheet(spec.name, title, columns, rows)
+
+
+def _spaces_problem(problems, title, cell, name, raw, stripped) -> None:
+    """An id or reference with spaces around it ('d01 ') is read without them; said, because a
+    lookup in the spreadsheet itself would not match it."""
+    problems.append(Problem(WARNING, title, cell, f"{name} '{_short(raw)}' has spaces before or after "
+                            f"it; read as '{_short(stripped)}'", "delete the spaces (a lookup in the "
+                            "spreadsheet would not find it as it is)"))
 
 
 def _is_formula(f: object) -> bool:

@@ -531,6 +531,12 @@ CASES: list[Case] = [
          "Shipments!A4", ("duplicate shipment",)),
     Case("duplicate_rate_card", lambda b: b.data(_append("Rates", dict(base_data()["Rates"][0]))),
          "Rates!A3", ("duplicate rate card for truck on road",)),
+    # ids are told apart by case here but not by spreadsheet lookups (MATCH, VLOOKUP: "not case
+    # sensitive", Microsoft's function reference; from memory): a likely typo, naming both cells
+    Case("depot_ids_differ_in_case", lambda b: b.data(_append("Depots", {
+        "depot_id": "b ", "name": "Bravo again", "latitude": 52.5, "longitude": 5.5})),
+         "Depots!A6", ("depot 'b' differs from depot 'B' (A3) only in upper/lower case",
+                       "use one spelling")),
     Case("unknown_depot_in_lane", lambda b: b.data(_set("Lanes", "lane_id", "L1", "to_depot", "BB")),
          "Lanes!C2", ("'BB' is not a depot_id", "did you mean B")),
     Case("unknown_origin", lambda b: b.data(_set("Shipments", "shipment_id", "S2", "origin", "Z9")),
