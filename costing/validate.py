@@ -409,6 +409,7 @@ def validate(raw: RawWorkbook) -> Model:
     if "Rates" in raw.sheets:
         sh = _Sheet(raw.sheets["Rates"], problems)
         seen: dict[tuple, int] = {}
+        vehicle_spellings: dict[str, tuple[str, int]] = {}
         for rr, rec, ok in _records(sh):
             if rec["vehicle"] is None or rec["mode"] is None:
                 continue
@@ -419,6 +420,7 @@ def validate(raw: RawWorkbook) -> Model:
                            "keep one row per vehicle and mode")
                 continue
             seen[key] = rr.row
+            _case_twin(sh, rr, "vehicle", "vehicle", rec["vehicle"], vehicle_spellings)
             if rec["payload_t"] is not None and rec["payload_t"] <= 0:
                 sh.problem(ERROR, "payload_t", rr.row, "payload_t is 0",
                            "enter the payload of one vehicle in tonnes (more than 0)")

@@ -83,3 +83,13 @@ def test_shipment_ids_differing_in_case_are_a_warning(cli, make_input, tmp_path)
     assert code == 0, stdout
     assert ("warning: Shipments!A5: shipment 's1' differs from shipment 'S1' (A2) only in upper/lower "
             "case") in stdout
+
+
+def test_vehicles_differing_in_case_are_a_warning(cli, make_input, tmp_path):
+    d = base_data()
+    d["Rates"].append({"vehicle": "Truck", "mode": "rail", "per_km": 0.8, "per_hour": 20,
+                       "payload_t": 60})
+    code, stdout, _e = cli("check", make_input(d))
+    assert code == 0, stdout
+    assert ("warning: Rates!A3: vehicle 'Truck' differs from vehicle 'truck' (A2) only in upper/lower "
+            "case") in stdout
