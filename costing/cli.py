@@ -6,10 +6,14 @@ Exit codes: 0 done; 1 the input has errors (nothing written); 2 usage error.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
+import re
+import signal
 import sys
 import tempfile
 import time
+from collections import Counter
 
 from costing import __version__
 from costing.contract.inputs import OBJECTIVES
@@ -102,6 +106,10 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("costing: interrupted; no output written, earlier output left as it was", file=sys.stderr)
         return 130
+    except Terminated as e:
+        print(f"costing: stopped by {e.name}; no output written, earlier output left as it was",
+              file=sys.stderr)
+        return 128 + e.signum
     except OSError as e:  # disk full, permission denied, ... while writing
         print(f"costing: error: could not write the output: {e.strerror or e}; nothing written, earlier "
               "output left as it was (check the folder's free space and permissions)", file=sys.stderr)
@@ -125,10 +133,47 @@ def _load(path: str):
     return load(path)
 
 
-def _print_problems(problems: list[Problem], quiet: bool = False) -> None:
-    for p in problems:
-        if p.severity == ERROR or (not quiet and p.severity == WARNING):
-            print(f"{p.severity}: {p}", file=sys.stderr)
+# More than FLOOD problems of one kind are summarised on stderr: the first SHOWN in full, then
+# one line with the count and the next cells.
+FLOOD, SHOWN = 10, 3
+_VARYING = re.compile(r"'[^']*'|\S*\d\S*")
+
+
+def _kind(p: Problem) -> tuple[str, str, str, str]:
+    """Problems of one kind share severity, sheet and wording once quoted values and anything
+    with a digit (ids, figures, cells) are blanked out."""
+    return p.severity, p.sheet, _VARYING.sub("#", p.message), _VARYING.sub("#", p.fix)
+
+
+def _problem_lines(problems: list[Problem], full_list: str) -> list[str]:
+    """stderr lines for `problems`: each one, except that a kind with more than FLOOD members
+    shows its first SHOWN and then one line with how many more and where (`full_list` says
+    where every one is listed)."""
+    kinds = [_kind(p) for p in problems]
+    counts = Counter(kinds)
+    members: dict[tuple, list[str]] = {}
+    for p, k in zip(problems, kinds):
+        if counts[k] > FLOOD and len(members.setdefault(k, [])) < 2 * SHOWN:
+            members[k].append(p.where)
+    cells = {k: where[SHOWN:] for k, where in members.items()}
+    seen: Counter = Counter()
+    lines = []
+    for p, k in zip(problems, kinds):
+        seen[k] += 1
+        if counts[k] <= FLOOD or seen[k] <= SHOWN:
+            lines.append(f"{p.severity}: {p}")
+        elif seen[k] == SHOWN + 1:
+            more = counts[k] - SHOWN
+            rest = f" and {more - len(cells[k]):,} more" if more > len(cells[k]) else ""
+            lines.append(f"{p.severity}: {more:,} more {p.severity}s like the one above ("
+                         f"{counts[k]:,} in all), at {', '.join(cells[k])}{rest}; {full_list}")
+    return lines
+
+
+def _print_problems(problems: list[Problem], quiet: bool = False, full_list: str = "") -> None:
+    shown = [p for p in problems if p.severity == ERROR or (not quiet and p.severity == WARNING)]
+    for line in _problem_lines(shown, full_list or "full list on the Problems sheet"):
+        print(line, file=sys.stderr)
 
 
 def _check(args) -> int:
@@ -162,13 +207,66 @@ def _check_output_path(output: str, input_path: str | None, overwrite: bool) -> 
         raise UsageError(f"{output} exists; add --overwrite to replace it, or choose another name")
 
 
+class Terminated(BaseException):
+    """SIGTERM or SIGHUP arrived: unwinds like Ctrl-C, so the part file is removed."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+        self.name = signal.Signals(signum).name
+
+
+def _raise_terminated(signum, _frame):
+    raise Terminated(signum)
+
+
+@contextlib.contextmanager
+def _stop_signals_unwind():
+    """While the block runs, SIGTERM and SIGHUP raise Terminated (as Ctrl-C raises
+    KeyboardInterrupt), so `finally` and `except BaseException` clean-ups run. Outside the main
+    thread (where handlers cannot be set) nothing changes."""
+    wanted = [getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n)]
+    old = {}
+    try:
+        for sig in wanted:
+            old[sig] = signal.signal(sig, _raise_terminated)
+    except ValueError:  # not the main thread
+        pass
+    try:
+        yield
+    finally:
+        for sig, handler in old.items():
+            signal.signal(sig, handler)
+
+
+def _test_pause(tmp: str) -> None:
+    """Tests only: with COSTING_TEST_PAUSE_WRITE=FLAG set, announce the part file by writing its
+    path to FLAG, then wait up to 60 s, so a test can send a signal mid-write."""
+    flag = os.environ.get("COSTING_TEST_PAUSE_WRITE")
+    if not flag:
+        return
+    with open(flag + ".tmp", "w") as f:
+        f.write(tmp)
+    os.replace(flag + ".tmp", flag)  # the flag appears complete
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline:
+        time.sleep(0.05)
+
+
 def _atomic_write(output: str, write) -> None:
     """Write to a temporary file beside OUTPUT and rename it into place only when complete,
-    so a failed or interrupted run leaves no partial file and any earlier OUTPUT intact."""
+    so a failed or interrupted (Ctrl-C, SIGTERM, SIGHUP) run leaves no partial file and any
+    earlier OUTPUT intact."""
     folder = os.path.dirname(os.path.abspath(output))
+    with _stop_signals_unwind():
+        _atomic_write_here(output, write, folder)
+
+
+def _atomic_write_here(output: str, write, folder: str) -> None:
     fd, tmp = tempfile.mkstemp(prefix=".costing-", suffix=".xlsx.part", dir=folder)
     os.close(fd)
     try:
+        _test_pause(tmp)
         write(tmp)
         umask = os.umask(0)
         os.umask(umask)
@@ -218,7 +316,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     times["read and validate"] = time.perf_counter() - t0
     errors = [p for p in problems if p.severity == ERROR]
     if model is None or errors:
-        _print_problems(problems, quiet=True)
+        _print_problems(problems, quiet=True, full_list=f"full list: `costing check {input_path}`")
         print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT

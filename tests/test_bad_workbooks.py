@@ -116,6 +116,34 @@ def ole_header() -> bytes:
     return b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + bytes(504) + b"\x00" * 1024
 
 
+def ole_file(streams: list[str]) -> bytes:
+    """A minimal OLE2 compound file holding empty streams with these names, laid out as
+    [MS-CFB] (Compound File Binary File Format) sections 2.2 (header), 2.3 (FAT) and 2.6
+    (directory entries) describe: version 3, 512-byte sectors; sector 0 is the FAT, sector 1
+    the directory (root entry plus up to 3 streams). Written here, independently of the reader."""
+    import struct
+
+    assert len(streams) <= 3
+    free, end, fat_sect, nostream = 0xFFFFFFFF, 0xFFFFFFFE, 0xFFFFFFFD, 0xFFFFFFFF
+    header = struct.pack("<8s16sHHHHH6sIIIIIIIII", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1", bytes(16),
+                         0x3E, 3, 0xFFFE, 9, 6, bytes(6), 0, 1, 1, 0, 4096, end, 0, end, 0)
+    header += struct.pack("<109I", 0, *([free] * 108))
+    fat = struct.pack("<128I", fat_sect, end, *([free] * 126))
+
+    def entry(name: str, kind: int, child: int, right: int) -> bytes:
+        raw = (name + "\0").encode("utf-16-le")
+        return struct.pack("<64sHBBIII16sIQQIQ", raw, len(raw), kind, 1, nostream, right, child,
+                           bytes(16), 0, 0, 0, end, 0)
+
+    names = streams
+    entries = [entry("Root Entry", 5, 1 if names else nostream, nostream)]
+    for i, name in enumerate(names, start=1):
+        entries.append(entry(name, 2, nostream, i + 1 if i < len(names) else nostream))
+    directory = b"".join(entries).ljust(512, b"\0")
+    assert len(header) == 512 and len(fat) == 512
+    return header + fat + directory
+
+
 def zip_of(parts: dict[str, bytes]) -> bytes:
     import io
 
@@ -205,6 +233,37 @@ def _drop_part(b: Build) -> str:
     path = b.good()
     part = sheet_part(path, "Lanes")
     return rewrite_parts(path, lambda n, d: None if n == part else d)
+
+
+def _drop_relationship(b: Build) -> str:
+    path = b.good()
+    part = sheet_part(path, "Rates")
+    target = part.removeprefix("xl/")
+
+    def change(name, data):
+        if name == "xl/_rels/workbook.xml.rels":
+            return re.sub(rf'<Relationship [^>]*Target="/?(?:xl/)?{re.escape(target)}"[^>]*/>'.encode(),
+                          b"", data)
+        return data
+    return rewrite_parts(path, change)
+
+
+# ISO/IEC 29500-1 Strict uses these namespaces in place of the transitional ones (ECMA-376 Part 1,
+# strict conformance class; from memory).
+STRICT_NAMESPACES = {
+    b"http://schemas.openxmlformats.org/spreadsheetml/2006/main":
+        b"http://purl.oclc.org/ooxml/spreadsheetml/main",
+    b"http://schemas.openxmlformats.org/officeDocument/2006/relationships":
+        b"http://purl.oclc.org/ooxml/officeDocument/relationships",
+}
+
+
+def _strict(b: Build) -> str:
+    def change(name, data):
+        for old, new in STRICT_NAMESPACES.items():
+            data = data.replace(old, new)
+        return data
+    return rewrite_parts(b.good(), change)
 
 
 def _bad_xml(b: Build) -> str:
@@ -329,9 +388,22 @@ CASES: list[Case] = [
          ("text/CSV", "save it as Excel Workbook")),
     Case("csv_named_xlsx", lambda b: b.raw(b"lane_id;from_depot\nL1;A\n", "in.xlsx"), "workbook",
          ("a text file (CSV?) named .xlsx",)),
-    Case("xls_ole", lambda b: b.raw(ole_header(), "old.xls"), "workbook", ("old-style .xls",)),
-    Case("encrypted_xlsx", lambda b: b.raw(ole_header(), "locked.xlsx"), "workbook",
+    # [MS-XLS] 2.1.2: a BIFF8 workbook is the stream "Workbook" (BIFF5: "Book") of a compound file
+    Case("xls_ole", lambda b: b.raw(ole_file(["Workbook"]), "old.xls"), "workbook",
+         ("old-style binary .xls", "save it as Excel Workbook")),
+    Case("xls_renamed_xlsx", lambda b: b.raw(ole_file(["Workbook", "\x05SummaryInformation"]),
+                                             "renamed.xlsx"), "workbook",
+         ("old-style binary .xls workbook, named .xlsx", "save it as Excel Workbook (.xlsx)")),
+    Case("biff5_renamed_xlsx", lambda b: b.raw(ole_file(["Book"]), "old95.xlsx"), "workbook",
+         ("old-style binary .xls",)),
+    # [MS-OFFCRYPTO] 2.3.4.4: an encrypted package keeps EncryptionInfo and EncryptedPackage streams
+    Case("encrypted_xlsx", lambda b: b.raw(ole_file(["EncryptionInfo", "EncryptedPackage"]),
+                                           "locked.xlsx"), "workbook",
          ("password-protected", "remove the password")),
+    Case("ole_not_a_workbook", lambda b: b.raw(ole_file(["WordDocument"]), "memo.xlsx"), "workbook",
+         ("compound file", "no workbook")),
+    Case("ole_header_only", lambda b: b.raw(ole_header(), "odd.xlsx"), "workbook",
+         ("old-style .xls workbook or a password-protected one",)),
     Case("ods", _ods, "workbook", ("OpenDocument",)),
     Case("xlsb", _xlsb, "workbook", (".xlsb",)),
     Case("empty_file", lambda b: b.raw(b"", "empty.xlsx"), "workbook", ("empty (0 bytes)",)),
@@ -340,8 +412,12 @@ CASES: list[Case] = [
     Case("random_bytes", _random_bytes, "workbook", ("not an .xlsx workbook",)),
     Case("zip_not_workbook", lambda b: b.raw(zip_of({"readme.txt": b"hello"}), "in.xlsx"),
          "workbook", ("zip file but not an .xlsx",)),
-    # openpyxl drops a sheet whose part is missing from the zip, so it reads as a missing sheet
-    Case("sheet_part_missing", _drop_part, "Lanes", ("sheet Lanes is missing",)),
+    # openpyxl drops a sheet whose part is missing from the zip; it is reported as damage
+    Case("sheet_part_missing", _drop_part, "Lanes", ("damaged", "lists sheet 'Lanes'", "missing",
+                                                       "save the workbook again")),
+    Case("sheet_relationship_missing", _drop_relationship, "Rates",
+         ("damaged", "lists sheet 'Rates'", "relationship")),
+    Case("strict_open_xml", _strict, "workbook", ("Strict Open XML", "save it as Excel Workbook")),
     Case("sheet_xml_cut_short", _bad_xml, "Lanes", ("could not be read",)),
     Case("folder_as_input", _folder, "workbook", ("folder",)),
     Case("missing_file", _missing_file, "", ("not found",), code=2),
@@ -412,13 +488,17 @@ CASES: list[Case] = [
     # back as blank. So a NaN typed through openpyxl arrives as a blank cell ...
     Case("nan_via_openpyxl", lambda b: b.edit(set_cell("Rates", "C2", float("nan"))), "Rates!C2",
          ("per_km is blank",)),
-    # ... while a file written by other means can put NaN or INF in the XML. openpyxl then fails
-    # on the whole sheet (it reads a number without '.' or 'E' as an int), so the message names
-    # the sheet, not the cell. 1E+400 does read, as infinity, and is reported at its cell.
+    # ... while a file written by other means can put NaN or INF in the XML (openpyxl alone would
+    # fail on the whole sheet: it reads a number without '.' or 'E' as an int). Each is named at
+    # its cell, as 1E+400 (read as infinity) is. Python's float() spellings of NaN and infinity.
     Case("nan_in_xml", _sentinel("Shipments", "shipment_id", "S1", "weight_t", 987654.25, "NaN"),
-         "Shipments", ("could not be read", "'NaN'")),
+         "Shipments!D2", ("not a finite number", "type the weight_t")),
     Case("inf_in_xml", _sentinel("Lanes", "lane_id", "L1", "distance_km", 987654.25, "INF"),
-         "Lanes", ("could not be read", "'INF'")),
+         "Lanes!E2", ("not a finite number",)),
+    Case("minus_inf_in_xml", _sentinel("Rates", "vehicle", "truck", "per_km", 987654.25, "-Infinity"),
+         "Rates!C2", ("not a finite number",)),
+    Case("nan_in_latitude", _sentinel("Depots", "depot_id", "B", "latitude", 987654.25, "nan"),
+         "Depots!C3", ("not a finite number",)),
     Case("overflow_in_xml", _sentinel("Rates", "vehicle", "truck", "per_hour", 987654.25, "1E+400"),
          "Rates!D2", ("not a finite number",)),
     Case("huge_integer_in_xml", _sentinel("Rates", "vehicle", "truck", "per_trip", 987654.25,
@@ -451,6 +531,12 @@ CASES: list[Case] = [
          "Shipments!A4", ("duplicate shipment",)),
     Case("duplicate_rate_card", lambda b: b.data(_append("Rates", dict(base_data()["Rates"][0]))),
          "Rates!A3", ("duplicate rate card for truck on road",)),
+    # ids are told apart by case here but not by spreadsheet lookups (MATCH, VLOOKUP: "not case
+    # sensitive", Microsoft's function reference; from memory): a likely typo, naming both cells
+    Case("depot_ids_differ_in_case", lambda b: b.data(_append("Depots", {
+        "depot_id": "b ", "name": "Bravo again", "latitude": 52.5, "longitude": 5.5})),
+         "Depots!A6", ("depot 'b' differs from depot 'B' (A3) only in upper/lower case",
+                       "use one spelling")),
     Case("unknown_depot_in_lane", lambda b: b.data(_set("Lanes", "lane_id", "L1", "to_depot", "BB")),
          "Lanes!C2", ("'BB' is not a depot_id", "did you mean B")),
     Case("unknown_origin", lambda b: b.data(_set("Shipments", "shipment_id", "S2", "origin", "Z9")),

@@ -327,6 +327,7 @@ def _as_value_col(col: Column) -> Column:
 
 def _ids(sheet: _Sheet, rows, key: str, what: str):
     seen: dict[str, int] = {}
+    folded: dict[str, tuple[str, int]] = {}
     out = []
     for rr, rec, ok in rows:
         k = rec.get(key)
@@ -337,8 +338,29 @@ def _ids(sheet: _Sheet, rows, key: str, what: str):
                 ok = False
             else:
                 seen[k] = rr.row
+                ok = _case_twin(sheet, rr, key, what, k, folded) and ok
         out.append((rr, rec, ok))
     return out
+
+
+def _case_twin(sheet: _Sheet, rr: RawRow, key: str, what: str, k: object,
+               folded: dict[str, tuple[str, int]]) -> bool:
+    """An id that equals an earlier one but for upper/lower case ('D01', 'd01') is most likely a
+    typo; spreadsheet lookups (MATCH, VLOOKUP, SUMIF) do not tell the two apart. Depots are an
+    error (lanes and shipments naming either would silently go to different places); lanes and
+    shipments a warning (each row is still costed on its own). Returns False on an error."""
+    if not isinstance(k, str):
+        return True
+    first = folded.setdefault(k.casefold(), (k, rr.row))
+    if first[0] == k:
+        return True
+    severity = ERROR if what == "depot" else WARNING
+    sheet.problem(severity, key, rr.row, f"{what} '{_short(k)}' differs from {what} '{_short(first[0])}' "
+                  f"({sheet.raw.cell(key, first[1])}) only in upper/lower case: likely a typo; they are "
+                  f"two different {what}s here",
+                  f"use one spelling if they are the same {what}; otherwise give them ids that differ "
+                  "in more than case")
+    return severity != ERROR
 
 
 def _known_depots(sh: _Sheet, rr: RawRow, rec: dict, columns, depot_ix) -> bool:
@@ -393,6 +415,7 @@ def validate(raw: RawWorkbook) -> Model:
     if "Rates" in raw.sheets:
         sh = _Sheet(raw.sheets["Rates"], problems)
         seen: dict[tuple, int] = {}
+        vehicle_spellings: dict[str, tuple[str, int]] = {}
         for rr, rec, ok in _records(sh):
             if rec["vehicle"] is None or rec["mode"] is None:
                 continue
@@ -403,6 +426,7 @@ def validate(raw: RawWorkbook) -> Model:
                            "keep one row per vehicle and mode")
                 continue
             seen[key] = rr.row
+            _case_twin(sh, rr, "vehicle", "vehicle", rec["vehicle"], vehicle_spellings)
             if rec["payload_t"] is not None and rec["payload_t"] <= 0:
                 sh.problem(ERROR, "payload_t", rr.row, "payload_t is 0",
                            "enter the payload of one vehicle in tonnes (more than 0)")

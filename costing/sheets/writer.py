@@ -43,6 +43,19 @@ def run_time() -> _dt.datetime:
     return _dt.datetime.now(_dt.timezone.utc).replace(tzinfo=None, microsecond=0)
 
 
+def reproducibility_note() -> str:
+    """What differs between two runs of the same input, for whoever compares files byte for byte."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch and epoch.strip().isdigit():
+        return (f"yes: SOURCE_DATE_EPOCH={epoch.strip()} was set, so 'run at (UTC)' and the file's "
+                "creation time are that moment and no stage times are recorded; the same input, "
+                "settings and version give the same bytes")
+    return ("no: two runs of the same input differ in 'run at (UTC)' and the file's creation time "
+            "(now) and in the 'seconds: ...' rows (stage times measured on this run); every other "
+            "cell is the same. For byte-identical output set SOURCE_DATE_EPOCH to a fixed time in "
+            "seconds since 1970-01-01 UTC, e.g. SOURCE_DATE_EPOCH=1767225600 costing run ...")
+
+
 # Output columns: (header, width, kind, value of a leg or shipment, formula or None).
 # kind: text | int | km | hours | money | rate | kg | plain. A formula names other columns of
 # the same row in braces ({vehicles}) and the money decimals as {d}; the writer caches the
@@ -896,6 +909,7 @@ def _write_run(w: _Writer, ws, model: Model, results, problems, info: RunInfo, l
     else:
         for stage, secs in st.seconds.items():
             rows.append((f"seconds: {stage}", round(secs, 3)))
+    rows.append(("reproducible?", reproducibility_note()))
     for k, v in info.extra.items():
         rows.append((k, v))
     ws.write_string(0, 0, "item", f["head"])

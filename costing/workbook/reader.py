@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import posixpath
 import re
 import warnings
 import zipfile
@@ -37,6 +38,34 @@ MAX_LISTED = 20
 _READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, OverflowError,
                 SyntaxError, EOFError, OSError, RuntimeError, NotImplementedError,
                 zipfile.BadZipFile, zlib.error)
+
+
+def _tolerate_non_finite_numbers() -> None:
+    """openpyxl reads a number cell without '.' or 'E' as an int, so <v>NaN</v> or <v>INF</v>
+    (written by some tools; a spreadsheet application never saves them) fails the whole sheet
+    with "invalid literal for int()". Read them as float NaN or infinity instead, so validation
+    names the cell, as it does for 1E+400. Anything else that is not a number still fails."""
+    try:
+        from openpyxl.worksheet import _reader
+    except ImportError:  # pragma: no cover - another openpyxl layout: keep its behaviour
+        return
+    cast = getattr(_reader, "_cast_number", None)
+    if cast is None or getattr(cast, "tolerates_non_finite", False):
+        return
+
+    def cast_number(value):
+        try:
+            return cast(value)
+        except ValueError:
+            if value.strip().lstrip("+-").lower() in ("nan", "inf", "infinity"):
+                return float(value)
+            raise
+
+    cast_number.tolerates_non_finite = True
+    _reader._cast_number = cast_number
+
+
+_tolerate_non_finite_numbers()
 
 
 def sha256_of(path: str) -> str:
@@ -76,11 +105,7 @@ def _check_container(path: str) -> None:
     head = start[:8]
     ext = os.path.splitext(path)[1].lower()
     if head.startswith(b"\xd0\xcf\x11\xe0"):
-        kind = ("a password-protected (encrypted) workbook" if ext in (".xlsx", ".xlsm")
-                else "an old-style .xls workbook")
-        fix = ("remove the password (File > Info > Protect) and save as .xlsx"
-               if "password" in kind else "open it and save it as Excel Workbook (.xlsx)")
-        raise _refuse(f"{os.path.basename(path)} is {kind}, not an .xlsx workbook", fix)
+        raise _refuse(*_compound_file(path, ext))
     if not head.startswith(b"PK"):
         text = b"\0" not in start and _decodes(start)
         what = ("a text/CSV file" if ext in (".csv", ".txt") else
@@ -118,6 +143,79 @@ def _check_container(path: str) -> None:
     if "xl/workbook.xml" not in names:
         raise _refuse(f"{os.path.basename(path)} is a zip file but not an .xlsx workbook",
                       "give the .xlsx input workbook (start from `costing template`)")
+    _check_package(path, set(names))
+
+
+_STRICT_NS = b"purl.oclc.org/ooxml/"  # ISO/IEC 29500 Strict namespaces start so
+_PACKAGE_XML_LIMIT = 20_000_000  # workbook.xml and its relationships are read whole below this
+
+
+def _check_package(path: str, names: set[str]) -> None:
+    """Refuse a workbook saved as Strict Open XML (openpyxl finds none of its sheets and would
+    call them missing) and one whose workbook lists a worksheet part the zip does not hold
+    (openpyxl silently drops that sheet): both with what to do, not "sheet is missing"."""
+    from defusedxml import ElementTree
+
+    name = os.path.basename(path)
+    try:
+        with zipfile.ZipFile(path) as z:
+            with z.open("xl/workbook.xml") as f:
+                head = f.read(8192)
+            if _STRICT_NS in head:
+                raise _refuse(f"{name} is saved in the Strict Open XML form, which this tool does "
+                              "not read", "open it and save it as Excel Workbook (.xlsx), not "
+                              "Strict Open XML Spreadsheet")
+            rels_name = "xl/_rels/workbook.xml.rels"
+            if rels_name not in names or any(z.getinfo(n).file_size > _PACKAGE_XML_LIMIT
+                                             for n in ("xl/workbook.xml", rels_name)):
+                return  # left to openpyxl
+            book = ElementTree.fromstring(z.read("xl/workbook.xml"))
+            rels = ElementTree.fromstring(z.read(rels_name))
+    except InputError:
+        raise
+    except Exception:  # malformed or hostile XML: openpyxl's reading reports it
+        return
+    targets = {}
+    for rel in rels:
+        if rel.tag.endswith("Relationship") and rel.get("TargetMode") != "External":
+            target = rel.get("Target") or ""
+            target = target.lstrip("/") if target.startswith("/") else \
+                posixpath.normpath(posixpath.join("xl", target))
+            targets[rel.get("Id")] = target
+    rid = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}id"
+    for el in book.iter():
+        if not el.tag.endswith("}sheet"):
+            continue
+        title, part = el.get("name") or "?", targets.get(el.get(rid))
+        if part is None or part not in names:
+            what = f"its part {part[:80]}" if part else "its relationship"
+            raise InputError([Problem(ERROR, title, "", f"{name} is damaged: the workbook lists sheet "
+                                      f"'{_short(title)}' but {what} is missing from the file",
+                                      _DAMAGED_FIX)])
+
+
+def _compound_file(path: str, ext: str) -> tuple[str, str]:
+    """(message, fix) for an OLE2 compound file, named by the streams in its directory: an
+    encrypted workbook holds `EncryptedPackage`, an old binary workbook `Workbook` (BIFF8) or
+    `Book` (BIFF5) ([MS-OFFCRYPTO] 2.3.4.4; [MS-XLS] 2.1.2)."""
+    from .ole2 import stream_names
+
+    name = os.path.basename(path)
+    streams = {n.lower() for n in stream_names(path) or ()}
+    save = "open it in the spreadsheet application and save it as Excel Workbook (.xlsx)"
+    if "encryptedpackage" in streams:
+        return (f"{name} is a password-protected (encrypted) workbook, not an .xlsx workbook it can "
+                "read", "remove the password (File > Info > Protect Workbook > Encrypt with "
+                "Password, clear it) and save as Excel Workbook (.xlsx)")
+    if streams & {"workbook", "book"}:
+        named = f", named {ext}" if ext not in (".xls", "") else ""
+        return f"{name} is an old-style binary .xls workbook{named}, not an .xlsx workbook", save
+    if streams:
+        return (f"{name} is an OLE2 compound file (e.g. an old Word or Outlook file) with no "
+                "workbook in it", "give the .xlsx input workbook (start from `costing template`)")
+    return (f"{name} is an OLE2 compound file (an old-style .xls workbook or a password-protected "
+            "one) whose directory cannot be read, not an .xlsx workbook",
+            "remove any password and " + save)
 
 
 _REREAD_FIX = "open it in a spreadsheet application, save it as .xlsx and try again"
@@ -391,6 +489,8 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
     if not columns:
         return RawSheet(spec.name, title, columns, rows)
     width = max(columns.values())
+    id_columns = {c.name for c in spec.columns if c.kind in ("id", "depot", "vehicle")
+                  or (spec.name == "Rates" and c.name == "vehicle")}
     rows_v = _rows(ws_values, 2, None, width)
     rows_f = _rows(ws_formulas, 2, None, width) if ws_formulas is not None else None
     r = 1
@@ -413,9 +513,10 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
             v = vals[idx - 1] if idx - 1 < len(vals) else None
             f = forms[idx - 1] if forms is not None and idx - 1 < len(forms) else None
             if isinstance(v, str):
-                v = v.strip()
-                if v == "":
-                    v = None
+                stripped = v.strip()
+                if stripped and stripped != v and name in id_columns:
+                    _spaces_problem(problems, title, f"{get_column_letter(idx)}{r}", name, v, stripped)
+                v = stripped or None
             if v is None and _is_formula(f):
                 formula_cols.add(name)
                 empty = False
@@ -425,6 +526,14 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
         if not empty:
             rows.append(RawRow(r, record, formula_cols))
     return RawSheet(spec.name, title, columns, rows)
+
+
+def _spaces_problem(problems, title, cell, name, raw, stripped) -> None:
+    """An id or reference with spaces around it ('d01 ') is read without them; said, because a
+    lookup in the spreadsheet itself would not match it."""
+    problems.append(Problem(WARNING, title, cell, f"{name} '{_short(raw)}' has spaces before or after "
+                            f"it; read as '{_short(stripped)}'", "delete the spaces (a lookup in the "
+                            "spreadsheet would not find it as it is)"))
 
 
 def _is_formula(f: object) -> bool:
