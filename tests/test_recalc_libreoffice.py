@@ -8,11 +8,10 @@ import openpyxl
 import pytest
 
 from costing.writer import SUMMARY_COLUMNS
-from tests.spreadsheet_app import recalc_mismatches, soffice
+from tests.spreadsheet_app import recalc_mismatches
 
-pytestmark = pytest.mark.skipif(soffice() is None,
-                                reason="LibreOffice Calc is not installed (apt-get install "
-                                "libreoffice-calc); CI installs it")
+# skips without LibreOffice locally, fails without it in CI (tests/conftest.py)
+pytestmark = pytest.mark.needs_soffice
 
 
 def test_libreoffice_recalculation_matches_cached_values(cli, tmp_path, monkeypatch):
