@@ -4,11 +4,13 @@ runner. The data here is invented test data, not check values."""
 from __future__ import annotations
 
 import copy
+import os
 
 import pytest
 
 from costing.cli import main
 from costing.workbook.template import write_template
+from tests import spreadsheet_app
 
 BASE = {
     "Settings": [
@@ -77,3 +79,26 @@ def cli(capsys):
         return code, out.out, out.err
 
     return _run
+
+
+# ---------------------------------------------------------------------------------------------
+# tests that need LibreOffice Calc: @pytest.mark.needs_soffice. Without soffice they skip locally
+# (the reason is printed: -rs in pyproject.toml) and FAIL in CI (CI=true), so the recalculation
+# checks can never silently go missing there.
+
+
+def in_ci() -> bool:
+    return os.environ.get("CI", "").strip().lower() == "true"  # as .ci/run tests it
+
+
+def pytest_configure(config):
+    config.addinivalue_line("markers", "needs_soffice: recalculates in LibreOffice Calc (soffice)")
+
+
+def pytest_runtest_setup(item):
+    if item.get_closest_marker("needs_soffice") is None or spreadsheet_app.soffice() is not None:
+        return
+    if in_ci():
+        pytest.fail("CI=true but LibreOffice Calc (soffice) is not installed; the recalculation "
+                    "check must run in CI (.ci/run installs libreoffice-calc)", pytrace=False)
+    pytest.skip("LibreOffice Calc is not installed (apt-get install libreoffice-calc); CI installs it")

@@ -25,10 +25,9 @@ from costing.compare.diff import (
     read_costed,
     write_comparison,
 )
-from costing.sheets.writer import SUMMARY_COLUMNS
 from costing.workbook.template import write_template
 from tests.conftest import base_data
-from tests.spreadsheet_app import recalc_mismatches, soffice
+from tests.spreadsheet_app import recalc_mismatches
 
 NASTY_ID = "=1+1"
 
@@ -230,7 +229,7 @@ def test_written_workbook_caches_the_deltas_in_live_formulas(runs, tmp_path):
     assert NASTY_ID in [r[col["shipment_id"]] for r in rows]
 
 
-@pytest.mark.skipif(soffice() is None, reason="LibreOffice Calc is not installed")
+@pytest.mark.needs_soffice  # skips locally without LibreOffice, fails in CI (conftest.py)
 def test_libreoffice_recalculates_the_cached_values(runs, tmp_path):
     out = tmp_path / "comparison.xlsx"
     write_comparison(str(out), compare(read_costed(runs[0]), read_costed(runs[1])))
@@ -274,7 +273,11 @@ def test_input_template_is_refused_clearly(cli, tmp_path):
     assert "costing run" in str(e.value)
 
 
-COST_COLUMN = get_column_letter([name for name, _w, _k in SUMMARY_COLUMNS].index("total_cost") + 1)
+def header_letter(path, header: str, sheet: str = "Summary") -> str:
+    """Column letter of the one cell in row 1 of `sheet` whose text is `header` (openpyxl)."""
+    row = [c.value for c in next(openpyxl.load_workbook(path, read_only=True)[sheet].iter_rows(max_row=1))]
+    assert row.count(header) == 1, row
+    return get_column_letter(row.index(header) + 1)
 
 
 def _edited(path, tmp_path, edit, data_only=False):
@@ -308,9 +311,10 @@ def _add_run_mark(wb):
     (lambda wb: wb.remove(wb["Run"]), True, "is not a costed workbook: it has no Run sheet"),
     (_drop_currency, True, "no 'setting: currency' row"),
     (_add_run_mark, False,
-     f"Summary!{COST_COLUMN}2 (total_cost of shipment S1) holds a formula with no saved result"),
+     "Summary!{total_cost}2 (total_cost of shipment S1) holds a formula with no saved result"),
 ])
 def test_damaged_outputs_are_refused_naming_file_and_cell(runs, tmp_path, edit, data_only, words):
+    words = words.format(total_cost=header_letter(runs[0], "total_cost"))
     bad = _edited(runs[0], tmp_path, edit, data_only)
     with pytest.raises(CompareError) as e:
         read_costed(bad)
@@ -320,11 +324,13 @@ def test_damaged_outputs_are_refused_naming_file_and_cell(runs, tmp_path, edit, 
 
 
 def test_blank_cost_of_a_routed_shipment_is_refused(runs, tmp_path):
+    cost_column = header_letter(runs[0], "total_cost")
+
     def blank(wb):
-        wb["Summary"][f"{COST_COLUMN}3"] = None
+        wb["Summary"][f"{cost_column}3"] = None
 
     bad = _edited(runs[0], tmp_path, blank, data_only=True)
-    with pytest.raises(CompareError, match=rf"Summary!{COST_COLUMN}3 \(total_cost of shipment S2\) is blank"):
+    with pytest.raises(CompareError, match=rf"Summary!{cost_column}3 \(total_cost of shipment S2\) is blank"):
         read_costed(bad)
 
 
@@ -338,16 +344,22 @@ def test_not_a_workbook_and_missing_file_are_refused(tmp_path):
 
 
 def test_total_row_that_disagrees_is_reported(runs, tmp_path):
+    cost_column = header_letter(runs[0], "total_cost")
+
     def edit_total(wb):
         ws = wb["Summary"]
         for row in ws.iter_rows():
             if row[0].value == "TOTAL":
-                ws[f"{COST_COLUMN}{row[0].row}"] = 1.0
+                ws[f"{cost_column}{row[0].row}"] = 1.0
 
-    run = read_costed(_edited(runs[0], tmp_path, edit_total, data_only=True))
-    cmp = compare(run, read_costed(runs[1]))
+    edited = _edited(runs[0], tmp_path, edit_total, data_only=True)
+    cmp = compare(read_costed(edited), read_costed(runs[1]))
     assert any("TOTAL row's total_cost (1.00) differs" in w for w in cmp.warnings)
-    assert cmp.old_total == pytest.approx(sum(s.total_cost or 0 for s in run.shipments.values()))
+    # the old total is the sum of the shipments' total_cost cells, not the edited TOTAL row: the
+    # cells are read here with openpyxl by header text (summary_of), not through read_costed
+    shipments, total_row = summary_of(edited)
+    assert cents(total_row["total_cost"]) == 100
+    assert cents(cmp.old_total) == sum(cents(r["total_cost"]) for r in shipments.values())
 
 
 def test_currency_mismatch_is_refused(runs, make_input, cli, tmp_path):

@@ -12,13 +12,30 @@ import zipfile
 import openpyxl
 import pytest
 
-from costing.sheets.writer import LEG_COLUMNS, SUMMARY_COLUMNS
 from tests.conftest import base_data
 
-LEG = {name: i for i, (name, _w, _k) in enumerate(LEG_COLUMNS)}
-SUM = {name: i for i, (name, _w, _k) in enumerate(SUMMARY_COLUMNS)}
+# The output's header names, written out here (the README's description of the Summary and Legs
+# sheets), not taken from the writer's column lists: columns are found by the header text the
+# output holds, so a value written under the wrong header, or a header renamed, fails the checks.
 MONEY = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
          "handling_start_cost", "handling_end_cost", "trip_cost"]
+LEG_HEADERS = ["shipment_id", "seq", "from_depot", "to_depot", "vehicles", "distance_km", "per_km",
+               "leg_cost", *MONEY]
+SUMMARY_HEADERS = ["shipment_id", "status", "origin", "destination", "objective", "distance_km",
+                   "subtotal", "min_charge", "min_charge_uplift", "total_cost", "route"]
+
+
+def header_index(ws, wanted: list[str]) -> dict[str, int]:
+    """{header text: 0-based column} from row 1 of `ws`, for every name in `wanted` (each must
+    appear exactly once)."""
+    row = [c.value for c in next(ws.iter_rows(min_row=1, max_row=1))]
+    for name in wanted:
+        assert row.count(name) == 1, f"{ws.title}: header {name!r} found {row.count(name)} times in {row}"
+    return {name: row.index(name) for name in wanted}
+
+
+def summary_columns(path) -> dict[str, int]:
+    return header_index(openpyxl.load_workbook(path, read_only=True)["Summary"], SUMMARY_HEADERS)
 
 
 def _sha(path):
@@ -34,42 +51,48 @@ def check_costed_workbook(path):
     wb = openpyxl.load_workbook(path, data_only=True)
     assert wb.sheetnames[0] == "Summary" and "Legs" in wb.sheetnames
     assert wb.sheetnames[-2:] == ["Problems", "Run"]
-    legs = [r for name in wb.sheetnames if name == "Legs" or name.startswith("Legs ")
-            for r in wb[name].iter_rows(min_row=2, values_only=True) if r[0] is not None]
+    # every Legs sheet is read through its own header row; rows become {header: value}
+    legs = []
+    for name in wb.sheetnames:
+        if name == "Legs" or name.startswith("Legs "):
+            cols = header_index(wb[name], LEG_HEADERS)
+            legs += [{h: r[i] for h, i in cols.items()}
+                     for r in wb[name].iter_rows(min_row=2, values_only=True) if r[0] is not None]
+    col = header_index(wb["Summary"], SUMMARY_HEADERS)
     summary = [r for r in wb["Summary"].iter_rows(min_row=2, values_only=True) if r[0] is not None]
     total_row = summary[-1]
     assert total_row[0] == "TOTAL"
     summary = summary[:-1]
     by_ship: dict[str, list] = {}
     for leg in legs:
-        parts = [leg[LEG[m]] for m in MONEY]
-        assert _cents(leg[LEG["leg_cost"]]) == sum(_cents(p) for p in parts)
+        parts = [leg[m] for m in MONEY]
+        assert _cents(leg["leg_cost"]) == sum(_cents(p) for p in parts)
         # each component is ROUND(vehicles x quantity x rate) to the cent
-        n = leg[LEG["vehicles"]]
-        assert _cents(leg[LEG["km_cost"]]) == pytest.approx(
-            n * leg[LEG["distance_km"]] * leg[LEG["per_km"]] * 100, abs=0.5 + 1e-6)
-        by_ship.setdefault(leg[0], []).append(leg)
+        n = leg["vehicles"]
+        assert _cents(leg["km_cost"]) == pytest.approx(
+            n * leg["distance_km"] * leg["per_km"] * 100, abs=0.5 + 1e-6)
+        by_ship.setdefault(leg["shipment_id"], []).append(leg)
     grand = 0
     for row in summary:
-        sid, status = row[SUM["shipment_id"]], row[SUM["status"]]
+        sid, status = row[col["shipment_id"]], row[col["status"]]
         if status != "routed":
-            assert sid not in by_ship and row[SUM["total_cost"]] is None
+            assert sid not in by_ship and row[col["total_cost"]] is None
             continue
         ls = by_ship[sid]
-        assert [x[LEG["seq"]] for x in ls] == list(range(1, len(ls) + 1))
-        subtotal = sum(_cents(x[LEG["leg_cost"]]) for x in ls)
-        assert _cents(row[SUM["subtotal"]]) == subtotal
-        uplift = max(0, _cents(row[SUM["min_charge"]]) - subtotal)
-        assert _cents(row[SUM["min_charge_uplift"]]) == uplift
-        assert _cents(row[SUM["total_cost"]]) == subtotal + uplift
-        assert row[SUM["distance_km"]] == pytest.approx(sum(x[LEG["distance_km"]] for x in ls))
+        assert [x["seq"] for x in ls] == list(range(1, len(ls) + 1))
+        subtotal = sum(_cents(x["leg_cost"]) for x in ls)
+        assert _cents(row[col["subtotal"]]) == subtotal
+        uplift = max(0, _cents(row[col["min_charge"]]) - subtotal)
+        assert _cents(row[col["min_charge_uplift"]]) == uplift
+        assert _cents(row[col["total_cost"]]) == subtotal + uplift
+        assert row[col["distance_km"]] == pytest.approx(sum(x["distance_km"] for x in ls))
         # the legs chain from origin to destination
-        assert ls[0][LEG["from_depot"]] == row[SUM["origin"]]
-        assert ls[-1][LEG["to_depot"]] == row[SUM["destination"]]
+        assert ls[0]["from_depot"] == row[col["origin"]]
+        assert ls[-1]["to_depot"] == row[col["destination"]]
         for a, b in zip(ls, ls[1:]):
-            assert a[LEG["to_depot"]] == b[LEG["from_depot"]]
+            assert a["to_depot"] == b["from_depot"]
         grand += subtotal + uplift
-    assert _cents(total_row[SUM["total_cost"]]) == grand
+    assert _cents(total_row[col["total_cost"]]) == grand
     run = dict(wb["Run"].iter_rows(min_row=2, max_col=2, values_only=True))
     assert run["difference (must be 0)"] == 0
     assert len(run["input SHA-256"]) == 64
@@ -86,6 +109,7 @@ def test_run_end_to_end(cli, make_input, tmp_path):
     assert "2 of 3 shipments routed" in stdout
     assert _sha(inp) == before, "the input workbook is never modified"
     summary, legs = check_costed_workbook(out)
+    SUM = summary_columns(out)
     assert [r[SUM["status"]] for r in summary] == ["routed", "routed", "no_route"]
     run = dict(openpyxl.load_workbook(out)["Run"].iter_rows(min_row=2, max_col=2, values_only=True))
     assert run["input SHA-256"] == before
@@ -177,6 +201,7 @@ def test_objective_option(cli, make_input, tmp_path):
     code, _, _ = cli("run", make_input(), "-o", str(out), "--objective", "distance")
     assert code == 0
     summary, legs = check_costed_workbook(out)
+    SUM = summary_columns(out)
     assert summary[0][SUM["objective"]] == "distance"
     assert summary[0][SUM["route"]] == "A > B > C"
 

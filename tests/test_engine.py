@@ -7,7 +7,12 @@ Sources of truth:
   code with the engine (which uses scipy for its landmark tables).
 - The definitions of admissible (h(v) <= d(v, t)) and consistent (h(u) <= w(u, v) + h(v) on every
   arc, h(t) = 0) as stated in costing/search.py, checked at every node and arc.
-- costing.network.search.astar (the product's reviewed search) for the adjacency-list input.
+- scipy.sparse.csgraph.dijkstra (reference library, compiled, shares no code with the engine's
+  searches) on a sparse matrix this file builds itself from the arc list (parallel arcs reduced to
+  the lightest, loops dropped): the least route weight from every queried source to every node,
+  checked against every strategy and the batched route_many (the large-network path).
+- costing.network.search.astar (the product's reviewed search) for the adjacency-list input, as a second
+  opinion next to scipy.
 Networks are invented test inputs only; no expected value is invented.
 """
 
@@ -69,6 +74,38 @@ def nx_graph(n, arcs) -> nx.DiGraph:
         if not g.has_edge(u, v) or w < g[u][v]["weight"]:
             g.add_edge(u, v, weight=w)
     return g
+
+
+def scipy_distances(n, arcs, sources) -> dict[int, np.ndarray]:
+    """{source: least weight to every node} by scipy.sparse.csgraph.dijkstra (reference library) on
+    a CSR matrix built here: parallel arcs reduced to the lightest, self-loops dropped (a loop is
+    never on a least route). No zero weights here: a sparse matrix cannot tell a zero-weight arc
+    from no arc, so the zero-weight case is checked against networkx instead."""
+    from scipy.sparse import csr_array
+    from scipy.sparse.csgraph import dijkstra
+
+    best: dict[tuple[int, int], float] = {}
+    for u, v, w, _e in arcs:
+        if u == v:
+            continue
+        assert w > 0, "scipy_distances: zero weights are not representable"
+        if w < best.get((u, v), math.inf):
+            best[(u, v)] = w
+    rows, cols = zip(*best) if best else ((), ())
+    mat = csr_array((list(best.values()), (list(rows), list(cols))), shape=(n, n))
+    sources = sorted(set(sources))
+    dist = dijkstra(mat, directed=True, indices=sources)
+    return {s: dist[i] for i, s in enumerate(sources)}
+
+
+def assert_weights_equal_scipy(results, pairs, ref) -> None:
+    """Each result's found flag and weight against scipy's distance for its (source, target)."""
+    assert len(results) == len(pairs)
+    for r, (s, t) in zip(results, pairs):
+        d = ref[s][t]
+        assert r.found == math.isfinite(d), (s, t, r.weight, d)
+        if r.found:
+            assert r.weight == pytest.approx(d, rel=1e-12, abs=1e-12), (s, t)
 
 
 def engine_for(n, arcs, landmarks=6, active=3, reorder=True, seed=0) -> SearchEngine:
@@ -185,6 +222,8 @@ def test_source_equals_target_like_costing_search():
     for u, v, w, e in arcs:
         adj[u].append((v, w, e))
     ours, theirs = eng.astar(4, 4), astar(adj, 4, 4)
+    assert_weights_equal_scipy([ours], [(4, 4)], scipy_distances(n, arcs, [4]))  # reference: scipy
+    assert ours.nodes == (4,) and ours.edges == ()  # the empty route (definition, no source)
     assert (ours.found, ours.weight, ours.nodes, ours.edges) == (theirs.found, theirs.weight, theirs.nodes,
                                                                  theirs.edges)
 
@@ -200,9 +239,14 @@ def test_from_adjacency_matches_costing_search():
         adj[0].append((1 % n, 1.0, 10_000))
         adj[0].append((1 % n, 1.0, 10_001))  # an equally light parallel lane: 10_000 must win
         eng = SearchEngine(CSRGraph.from_adjacency(adj), landmarks=4)
+        all_arcs = [(u, v, w, e) for u in range(n) for v, w, e in adj[u]]
+        ref = scipy_distances(n, all_arcs, range(0, n, max(1, n // 5)))  # reference: scipy
         for s in range(0, n, max(1, n // 5)):
             for t in range(0, n, max(1, n // 7)):
                 a, b = eng.astar(s, t), astar(adj, s, t)
+                assert_weights_equal_scipy([a], [(s, t)], ref)
+                if a.found:
+                    check_route(a, all_arcs, s, t)
                 assert a.found == b.found
                 if a.found:
                     assert a.weight == pytest.approx(b.weight, rel=1e-12, abs=1e-12)
@@ -238,6 +282,9 @@ def test_batching_strategies_give_identical_results(seed):
         runs = {m: [_key(r) for r in eng.one_to_many(s, targets, m)]
                 for m in ("astar", "python-many", "scipy-all")}
         assert runs["astar"] == runs["python-many"] == runs["scipy-all"]
+        # and the weights are the least ones (reference: scipy's Dijkstra on our own matrix)
+        ref = scipy_distances(n, arcs, [s])
+        assert_weights_equal_scipy(eng.one_to_many(s, targets, "astar"), [(s, t) for t in targets], ref)
         lb = eng.one_to_many(s, targets, "astar", lower_bound=lambda t: straight_line(xy, t))
         assert [_key(r) for r in lb] == runs["astar"]
         for t, r in zip(targets, lb):
@@ -259,6 +306,10 @@ def test_route_many_identical_to_per_shipment_astar():
         assert [_key(r) for r in forced] == [_key(r) for r in auto]
     single = [eng.astar(o, d) for o, d in pairs]
     assert [_key(r) for r in single] == [_key(r) for r in auto]
+    assert_weights_equal_scipy(auto, pairs, scipy_distances(n, arcs, origins))  # reference: scipy
+    for r, (o, d) in zip(auto, pairs):
+        if r.found:
+            check_route(r, arcs, o, d)
     assert sum(eng.stats.shipments.values()) == 4 * len(pairs)
     # a shared search's statistics are split over its results, not repeated: they add up to at
     # most every node once
@@ -290,3 +341,56 @@ def test_zero_weight_arcs_same_weights_every_strategy():
             if r.found:
                 assert r.weight == pytest.approx(ref[t], rel=1e-12, abs=1e-12)
                 check_route(r, arcs, 1, t)
+
+
+# ---------------------------------------------------------------------------------------------
+# the large-network path against scipy and networkx
+
+
+def road_like(seed: int, side: int):
+    """A side x side grid of junctions, jittered, each joined to its right and lower neighbours
+    both ways (weight = straight line x U(1, 1.6), different each way) plus a few long one-way
+    links; built here, independently of benchmarks/road_network.py. Returns (n, arcs, xy)."""
+    rng = random.Random(seed)
+    n = side * side
+    xy = [(i % side + rng.uniform(-0.3, 0.3), i // side + rng.uniform(-0.3, 0.3)) for i in range(n)]
+    arcs = []
+
+    def add(u, v):
+        arcs.append((u, v, math.hypot(xy[u][0] - xy[v][0], xy[u][1] - xy[v][1]) * rng.uniform(1.0, 1.6)))
+
+    for i in range(n):
+        if i % side + 1 < side:
+            add(i, i + 1)
+            add(i + 1, i)
+        if i + side < n:
+            add(i, i + side)
+            add(i + side, i)
+    for _ in range(n // 20):
+        add(rng.randrange(n), rng.randrange(n))
+    arcs = [a for a in arcs if a[2] > 0]
+    return n, [(u, v, w, i) for i, (u, v, w) in enumerate(arcs)], xy
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_large_network_route_many_equals_scipy_and_networkx(seed):
+    """route_many on a 2,500-node road-like network (landmarks, batching by origin, every
+    strategy the planner picks), with and without the straight-line bound: every weight equals
+    scipy's Dijkstra, every route is a real chain of arcs, and a sample equals networkx's
+    dijkstra_path_length (second reference library)."""
+    n, arcs, xy = road_like(seed, 50)
+    eng = engine_for(n, arcs, landmarks=12, active=3, seed=seed)
+    rng = random.Random(seed)
+    origins = rng.sample(range(n), 8)
+    pairs = [(o, rng.randrange(n)) for o in origins for _ in range(rng.choice([1, 2, 40, 200]))]
+    rng.shuffle(pairs)
+    ref = scipy_distances(n, arcs, origins)
+    for lower_bound in (None, lambda t: straight_line(xy, t)):
+        res = eng.route_many(pairs, lower_bound=lower_bound)
+        assert_weights_equal_scipy(res, pairs, ref)
+        for r, (o, d) in zip(res, pairs):
+            check_route(r, arcs, o, d)
+    assert {p.strategy for p in eng.plans} >= {"astar"}  # the A* path is among those checked
+    g = nx_graph(n, arcs)
+    for o, d in rng.sample(pairs, 20):
+        assert ref[o][d] == pytest.approx(nx.dijkstra_path_length(g, o, d, weight="weight"), rel=1e-12)

@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import math
 import random
-import time
 from functools import cache
 from itertools import product
 
@@ -330,8 +329,6 @@ def test_ties_keep_the_first_found():
 
 
 def test_rounding_noise_is_one_point():
-    # IEEE 754 doubles: 0.1 + 0.2 != 0.3 (common practice, checked here)
-    assert 0.1 + 0.2 != 0.3 and close(0.1 + 0.2, 0.3)
     # same cost within 1e-9 relative, same time: one point
     adj, _g, _table = build(3, [(0, 2, 0.3, 2.0), (0, 1, 0.1, 1.0), (1, 2, 0.2, 1.0)])
     res = pareto_frontier(adj, 0, 2)
@@ -340,6 +337,13 @@ def test_rounding_noise_is_one_point():
     adj, _g, _table = build(3, [(0, 2, 0.3, 2.0), (0, 1, 0.1, 0.5), (1, 2, 0.2, 0.5)])
     res = pareto_frontier(adj, 0, 2)
     assert [(r.nodes, r.time) for r in res.routes] == [((0, 1, 2), 1.0)]
+    # The cost the module accumulated for the two-lane route is not the double 0.3 of the
+    # one-lane route (IEEE 754 binary64: 0.1 + 0.2 rounds to 0.30000000000000004, from memory),
+    # yet within the module's 1e-9 relative tolerance of it: the merge above is the tolerance's
+    # doing, not exact equality. If the module summed exactly (decimal, fsum) this would fail
+    # and the case above would no longer test the tolerance.
+    via = res.routes[0].cost
+    assert via != 0.3 and close(via, 0.3)
 
 
 def test_near_tie_found_later_replaces():
@@ -382,11 +386,3 @@ def test_bad_input():
     with pytest.raises(ValueError):
         pareto_frontier(adj, 0, 2)
 
-
-def test_speed_budget():
-    # the whole random sample, four bound kinds, well inside the suite's time budget
-    start = time.perf_counter()
-    for seed in range(N_RANDOM):
-        adj, _g, _table, s, t, _front = case(seed)
-        pareto_frontier(adj, s, t, *bounds(seed, "scaled"))
-    assert time.perf_counter() - start < 10.0
