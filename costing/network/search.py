@@ -10,6 +10,15 @@ true remaining weight). With h = 0 this is plain uniform-cost search (Dijkstra).
 
 Ties on f are broken by the order in which entries were pushed, which depends only on the
 adjacency order, so the same network gives the same route every time.
+
+One core. `_label_setting` is the only search loop of this module: several sources with start
+weights, optional exits with exit weights (joined to one virtual target), a bound, and an
+optional stop set. `astar` is the core with exits and a bound, stopped when the virtual target
+is settled; `one_to_many` is the core with h = 0 and a stop set (the exits of every target),
+stopped when the set is empty; `dijkstra_all` is the core with neither, run until the queue is
+empty. The argument above covers all three: each returns g values of settled nodes only, and a
+settled node's g is final. (Stopping early never changes a settled g; it only leaves nodes
+unsettled, whose g is then not used.)
 """
 
 from __future__ import annotations
@@ -39,61 +48,70 @@ class SearchResult:
     stats: SearchStats
 
 
-def astar(adj: Adjacency, source: int | Sequence[tuple[int, float]],
-          target: int | Mapping[int, float],
-          h: Sequence[float] | Callable[[int], float] | None = None) -> SearchResult:
-    """Least-weight route from source to target.
+def _label_setting(adj: Adjacency, starts: Sequence[tuple[int, float]],
+                   bound: Callable[[int], float] | None = None,
+                   exits: Mapping[int, float] | None = None,
+                   stop: set[int] | None = None):
+    """The search core: label-setting from several sources, least key g + h first.
 
-    `source` is a node id, or several (node id, starting weight) pairs; `target` is a node id, or
-    a mapping of node id -> exit weight (the route ends at one of them and pays its exit
-    weight). Several sources and exits are the same as one virtual source and one virtual
-    target joined to them by edges of those weights, so the argument above still holds with
-    h(virtual target) = 0 and h(exit node) = 0 (the caller's bound must be 0 at exits).
-    `h` is a lower bound per node (a sequence indexed by node id, a function, or None for
-    uniform-cost search). The route returned excludes the virtual ends; `weight` includes the
-    starting and exit weights."""
-    if h is None:
-        def bound(_v: int) -> float:
-            return 0.0
-    elif callable(h):
-        bound = h
-    else:
-        bound = h.__getitem__
-    starts = [(source, 0.0)] if isinstance(source, int) else list(source)
-    exits = {target: 0.0} if isinstance(target, int) else dict(target)
+    Parameters
+    ----------
+    adj : sequence of sequences of (head, weight, edge id)
+        Out-arcs of node u at ``adj[u]``; weights non-negative.
+    starts : sequence of (node, start weight)
+        The sources; the least start weight of a node counts.
+    bound : callable, optional
+        Consistent lower bound h(v) on the remaining weight, 0 at every exit; None: h = 0.
+    exits : mapping of node -> exit weight, optional
+        Where a route may end; they are joined to a virtual target (id ``len(adj)``) and the
+        search stops when that is settled.
+    stop : set of nodes, optional
+        Without exits: stop as soon as every node of the set is settled (the set is emptied).
+
+    Returns
+    -------
+    g, parent_node, parent_edge, done : lists indexed by node id (one more entry when
+        ``exits`` is given: the virtual target)
+    stats : SearchStats
+        Nodes settled (the virtual target not counted) and entries pushed.
+    """
     n = len(adj)
-    virtual = n  # the virtual target's id
-    g = [float("inf")] * (n + 1)
-    parent_node = [-1] * (n + 1)
-    parent_edge = [-1] * (n + 1)
-    done = [False] * (n + 1)
+    size = n + 1 if exits is not None else n
+    virtual = n
+    g = [float("inf")] * size
+    parent_node = [-1] * size
+    parent_edge = [-1] * size
+    done = [False] * size
     heap: list[tuple[float, int, int]] = []
     counter = 0
     for s, g0 in starts:
         if g0 < g[s]:
             g[s] = g0
             counter += 1
-            heap.append((g0 + bound(s), counter, s))
+            heap.append((g0 + bound(s) if bound else g0, counter, s))
     heapq.heapify(heap)
     pushed = len(heap)
     settled = 0
     push, pop = heapq.heappush, heapq.heappop
-    while heap:
+    while heap and (stop is None or stop):
         _f, _c, u = pop(heap)
         if done[u]:
             continue  # a stale entry: u was settled through a better one
         done[u] = True
         settled += 1
-        if u == virtual:
-            break
+        if stop is not None:
+            stop.discard(u)
+        if exits is not None:
+            if u == virtual:
+                break
+            exit_w = exits.get(u)
+            if exit_w is not None and g[u] + exit_w < g[virtual]:
+                g[virtual] = g[u] + exit_w
+                parent_node[virtual] = u
+                counter += 1
+                push(heap, (g[virtual], counter, virtual))
+                pushed += 1
         gu = g[u]
-        exit_w = exits.get(u)
-        if exit_w is not None and gu + exit_w < g[virtual]:
-            g[virtual] = gu + exit_w
-            parent_node[virtual] = u
-            counter += 1
-            push(heap, (g[virtual], counter, virtual))
-            pushed += 1
         for v, w, e in adj[u]:
             if done[v]:
                 continue
@@ -103,10 +121,56 @@ def astar(adj: Adjacency, source: int | Sequence[tuple[int, float]],
                 parent_node[v] = u
                 parent_edge[v] = e
                 counter += 1
-                push(heap, (gv + bound(v), counter, v))
+                push(heap, (gv + bound(v) if bound else gv, counter, v))
                 pushed += 1
-    settled -= 1 if done[virtual] else 0  # the virtual target is not a network node
-    stats = SearchStats(settled, pushed)
+    if exits is not None and done[virtual]:
+        settled -= 1  # the virtual target is not a network node
+    return g, parent_node, parent_edge, done, SearchStats(settled, pushed)
+
+
+def astar(adj: Adjacency, source: int | Sequence[tuple[int, float]],
+          target: int | Mapping[int, float],
+          h: Sequence[float] | Callable[[int], float] | None = None) -> SearchResult:
+    """Least-weight route from source to target (A*; uniform-cost search when h is None).
+
+    Parameters
+    ----------
+    adj : sequence of sequences of (head, weight, edge id)
+        The network; weights non-negative (cost, hours, km or kg CO2e).
+    source : int or sequence of (node, start weight)
+        A node id, or several nodes with the weight of starting there.
+    target : int or mapping of node -> exit weight
+        A node id, or several exits: the route ends at one of them and pays its exit weight.
+        Several sources and exits are the same as one virtual source and one virtual target
+        joined to them by arcs of those weights, so the argument at the top of this module
+        holds with h(virtual target) = 0 and h(exit node) = 0 (the caller's bound must be 0 at
+        exits).
+    h : sequence of float, callable or None
+        Consistent lower bound per node (indexed by node id, or a function); None: h = 0.
+
+    Returns
+    -------
+    SearchResult
+        The route without the virtual ends; ``weight`` includes the start and exit weights
+        (in the weights' unit); ``found`` is False and ``weight`` inf when no exit is reachable.
+
+    Examples
+    --------
+    >>> adj = [[(1, 2.0, 0), (2, 5.0, 1)], [(2, 1.0, 2)], []]
+    >>> r = astar(adj, 0, 2)
+    >>> r.weight, r.nodes, r.edges
+    (3.0, (0, 1, 2), (0, 2))
+    """
+    if h is None:
+        bound = None
+    elif callable(h):
+        bound = h
+    else:
+        bound = h.__getitem__
+    starts = [(source, 0.0)] if isinstance(source, int) else list(source)
+    exits = {target: 0.0} if isinstance(target, int) else dict(target)
+    g, parent_node, parent_edge, done, stats = _label_setting(adj, starts, bound, exits)
+    virtual = len(adj)
     if not done[virtual]:
         return SearchResult(False, float("inf"), (), (), stats)
     nodes, edges = _walk_back(parent_node, parent_edge, parent_node[virtual])
@@ -125,72 +189,42 @@ def _walk_back(parent_node: list[int], parent_edge: list[int], end: int) -> tupl
 
 
 def dijkstra_all(adj: Adjacency, source: int) -> list[float]:
-    """Least weight from source to every node (inf where unreachable). Used for the
-    reverse-search checks of the bound and for reachability reports."""
-    n = len(adj)
-    g = [float("inf")] * n
-    g[source] = 0.0
-    heap = [(0.0, source)]
-    done = [False] * n
-    while heap:
-        gu, u = heapq.heappop(heap)
-        if done[u]:
-            continue
-        done[u] = True
-        for v, w, _e in adj[u]:
-            gv = gu + w
-            if gv < g[v]:
-                g[v] = gv
-                heapq.heappush(heap, (gv, v))
-    return g
+    """Least weight from `source` to every node (inf where unreachable), in the weights' unit.
+
+    Used for the reverse-search checks of the bound and for reachability reports.
+
+    Examples
+    --------
+    >>> dijkstra_all([[(1, 2.0, 0)], [], []], 0)
+    [0.0, 2.0, inf]
+    """
+    return _label_setting(adj, [(source, 0.0)])[0]
 
 
 def one_to_many(adj: Adjacency, source: Sequence[tuple[int, float]],
                 targets: Sequence[Mapping[int, float]]) -> list[SearchResult]:
-    """One uniform-cost search from `source` (node, starting weight pairs) that serves several
-    targets, each a mapping of exit node -> exit weight as in `astar`. It stops as soon as every
-    exit node of every target is settled, so each target's least weight is min over its exits of
-    g(exit) + exit weight, exactly what `astar` returns for it alone (the settled g values are
-    final, by the argument at the top of this module with h = 0). Statistics are shared: each
-    result carries the whole search's counts."""
-    n = len(adj)
-    g = [float("inf")] * n
-    parent_node = [-1] * n
-    parent_edge = [-1] * n
-    done = [False] * n
-    heap: list[tuple[float, int, int]] = []
-    counter = 0
-    for s, g0 in source:
-        if g0 < g[s]:
-            g[s] = g0
-            counter += 1
-            heap.append((g0, counter, s))
-    heapq.heapify(heap)
-    pushed = len(heap)
-    waiting = set()
+    """One uniform-cost search from `source` that serves several targets.
+
+    Parameters
+    ----------
+    adj : sequence of sequences of (head, weight, edge id)
+    source : sequence of (node, start weight)
+    targets : sequence of mappings of exit node -> exit weight
+        Each as ``target`` in `astar`.
+
+    Returns
+    -------
+    list of SearchResult
+        One per target, in order. The search stops as soon as every exit node of every target
+        is settled, so each target's least weight is min over its exits of g(exit) + exit
+        weight, exactly what `astar` returns for it alone (settled g values are final, by the
+        argument at the top of this module with h = 0). Statistics are shared: each result
+        carries the whole search's counts.
+    """
+    waiting: set[int] = set()
     for t in targets:
         waiting.update(t)
-    settled = 0
-    push, pop = heapq.heappush, heapq.heappop
-    while heap and waiting:
-        gu, _c, u = pop(heap)
-        if done[u]:
-            continue
-        done[u] = True
-        settled += 1
-        waiting.discard(u)
-        for v, w, e in adj[u]:
-            if done[v]:
-                continue
-            gv = gu + w
-            if gv < g[v]:
-                g[v] = gv
-                parent_node[v] = u
-                parent_edge[v] = e
-                counter += 1
-                push(heap, (gv, counter, v))
-                pushed += 1
-    stats = SearchStats(settled, pushed)
+    g, parent_node, parent_edge, _done, stats = _label_setting(adj, list(source), stop=waiting)
     out = []
     for t in targets:
         best, best_node = float("inf"), -1
