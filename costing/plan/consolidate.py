@@ -17,6 +17,9 @@ Method.
    every candidate route (what the load adds to the runs given where all the other loads are)
    and move the load to the candidate of lowest marginal cost when that lowers the total
    (by more than a rounding tolerance). Repeat sweeps until a whole sweep moves no load.
+3. Pair moves (``pair_moves=True``, the default): then try moving two loads of the same day
+   together, each to any of its candidate routes; make the first such move that lowers the
+   total and go back to step 2. Stop when neither single nor pair moves lower the total.
 
 Guarantees.
 - Terminates: every move strictly lowers the total, and there are finitely many assignments,
@@ -26,19 +29,19 @@ Guarantees.
   fits in no open one, so it uses at most one vehicle per piece, and a load alone needs one
   vehicle per piece), so the start costs at most the sum of the loads' stand-alone cheapest
   costs; moves only lower it.
-- A local optimum with respect to single-load moves: no single load can be moved to another of
-  its candidate routes to lower the total.
-- Not globally optimal in general: moving two loads together (both onto a shared trunk that is
-  dearer for either alone) can lower the total when no single move does, and first-fit
-  decreasing may use more vehicles than the best packing. The tests measure the gap against an
-  exact mixed-integer optimum on small instances.
+- A local optimum with respect to single-load moves (and pair moves, when on): no load (no two
+  loads) can be moved to other candidate routes to lower the total.
+- Not globally optimal in general: moving three or more loads together can lower the total when
+  no single or pair move does (without pair moves already two: both onto a shared trunk that is
+  dearer for either alone), and first-fit decreasing may use more vehicles than the best
+  packing. The tests measure the gap against an exact mixed-integer optimum on small instances.
 
 Consolidation hubs need nothing special. Two loads from different depots to different customers
 whose candidate routes run through the same hub share the trunk step (the same step key) and
 so its runs: say load 1 has the routes ``[A-C]`` and ``[A-H, H-X, X-C]`` and load 2 the routes
 ``[B-D]`` and ``[B-H, H-X, X-D]``. If the trunk ``H-X`` carried by one vehicle for both is
-cheaper than the two direct runs, the local improvement finds it once one of the loads is
-already on the trunk (or when its marginal cost through the hub is lowest alone).
+cheaper than the two direct runs, the single moves find it once one of the loads is already on
+the trunk (because its route through the hub is its cheapest alone), else the pair moves do.
 
 A load larger than one vehicle in some dimension is split into m equal pieces, m the largest
 of ceil(size / capacity) over the dimensions, so each piece fits; alone it needs m vehicles, the
@@ -180,7 +183,11 @@ class Plan:
     standalone_route : dict
         load id -> index of that cheapest stand-alone route.
     moves : int
-        Single-load moves the local improvement made."""
+        Moves the local improvement made (a pair move counts once).
+    sweeps : int
+        Sweeps over the loads (single moves).
+    notes : list of str
+        What stopped the improvement early, if anything."""
 
     choice: dict
     runs: tuple[Run, ...]
@@ -326,7 +333,42 @@ def _check(loads: Sequence[Load]) -> None:
                 raise ValueError(f"load {load.load_id!r} route {r} uses the same step and card twice")
 
 
-def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000) -> Plan:
+def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int]) -> bool:
+    """Make the first improving two-load move (both loads change route at once); True if made.
+
+    Only pairs of loads on the same day whose candidate routes have a (step, card) in common are
+    tried: for any other pair the two moves are independent, so the pair's change in cost is the
+    sum of two single moves, none of which lowers the total at a single-move local optimum."""
+    steps = [{(st.key, st.card) for route in ld.routes for st in route} for ld in loads]
+    for i in range(len(loads)):
+        for j in range(i + 1, len(loads)):
+            li, lj = loads[i], loads[j]
+            if li.day != lj.day or len(li.routes) * len(lj.routes) < 2 or not steps[i] & steps[j]:
+                continue
+            ri, rj = li.routes[choice[i]], lj.routes[choice[j]]
+            state.remove(j, rj)
+            before = state.marginal(i, ri) + state.marginal(j, rj)
+            state.remove(i, ri)
+            best = (before - _COST_EPS, choice[i], choice[j])
+            for a, ra in enumerate(li.routes):
+                state.place(i, ra)
+                for b, rb in enumerate(lj.routes):
+                    if (a, b) == (choice[i], choice[j]):
+                        continue
+                    after = state.marginal(i, ra) + state.marginal(j, rb)
+                    if after < best[0]:
+                        best = (after, a, b)
+                state.remove(i, ra)
+            state.place(i, li.routes[best[1]])
+            state.place(j, lj.routes[best[2]])
+            if (best[1], best[2]) != (choice[i], choice[j]):
+                choice[i], choice[j] = best[1], best[2]
+                return True
+    return False
+
+
+def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
+         pair_moves: bool = True) -> Plan:
     """Assign each load a candidate route so that loads leaving together share vehicles.
 
     Parameters
@@ -335,6 +377,9 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000) -> Pla
         The loads, each with its day, size and candidate routes.
     capacities : dict
         card -> Capacity of one vehicle of that card.
+    pair_moves : bool
+        After the single-load moves stop, also try moving two loads of the same day together
+        (both onto new candidate routes at once), then single moves again, until neither helps.
     max_sweeps : int
         Safety bound on improvement sweeps (the method terminates on its own; this only caps
         work on very large inputs, and the plan is then still never worse than alone).
@@ -380,6 +425,9 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000) -> Pla
                 state.place(li, load.routes[best])
                 moves += 1
                 improved = True
+        if not improved and pair_moves:
+            improved = _pair_sweep(state, loads, choice)
+            moves += 1 if improved else 0
 
     notes = [] if not improved else [f"stopped after {max_sweeps} sweeps (max_sweeps)"]
     runs = []
