@@ -82,6 +82,21 @@ def test_volume_binds_and_oversize_load_splits():
     assert vehicles_for([(49.0, 1, 1)], Capacity(24.5)) == 2
 
 
+@settings(max_examples=200, deadline=None)
+@given(sizes=st.lists(st.tuples(st.floats(0, 40), st.integers(0, 50), st.floats(0, 120)),
+                      min_size=1, max_size=15))
+def test_packing_bounds(sizes):
+    n = vehicles_for(sizes, ARTIC)
+    cap = ARTIC.dims()
+    # a valid packing respects every capacity, so it needs at least ceil(sum / capacity) vehicles
+    # in each dimension (the volume bound of bin packing, common practice, no source) ...
+    for d in range(3):
+        assert n >= math.ceil(sum(s[d] for s in sizes) / cap[d] - 1e-9)
+    # ... and first-fit decreasing opens at most one vehicle per piece, the pieces of a load being
+    # max over dimensions of ceil(size / capacity), at least one (worked by hand from the rule)
+    assert n <= sum(max(1, *(math.ceil(s[d] / cap[d] - 1e-9) for d in range(3))) for s in sizes)
+
+
 def test_hub_trunk_shared():
     # load 1: direct A-C 600, or A-H 150 + trunk H-X 300 + X-C 100 = 550 (cheaper alone);
     # load 2: direct B-D 500, or B-H 150 + H-X 300 + X-D 100 = 550 (dearer alone).
@@ -115,6 +130,9 @@ def test_pair_move_finds_what_single_moves_cannot():
     # on different days the two cannot share the trunk: both stay direct (by hand: 1000)
     p = plan([loads[0], Load(2, "tue", 8, 10, 30, r2)], {"artic": ARTIC})
     assert p.total == pytest.approx(1000)
+    # a day with more loads than pair_limit gets single moves only, and the plan says so
+    p = plan(loads, {"artic": ARTIC}, pair_limit=1)
+    assert p.total == pytest.approx(1000) and "pair_limit" in p.notes[0]
 
 
 def test_bad_plan_input():

@@ -17,9 +17,10 @@ Method.
    every candidate route (what the load adds to the runs given where all the other loads are)
    and move the load to the candidate of lowest marginal cost when that lowers the total
    (by more than a rounding tolerance). Repeat sweeps until a whole sweep moves no load.
-3. Pair moves (``pair_moves=True``, the default): then try moving two loads of the same day
-   together, each to any of its candidate routes; make the first such move that lowers the
-   total and go back to step 2. Stop when neither single nor pair moves lower the total.
+3. Pair moves (``pair_moves=True``, the default; on days of at most ``pair_limit`` loads):
+   try moving two loads of the same day together, each to any of its candidate routes: one
+   sweep over the pairs, each pair moved (at the plan as it then is) when that lowers the
+   total; after a sweep with moves go back to step 2. Stop when neither single nor pair moves lower the total.
 
 Guarantees.
 - Terminates: every move strictly lowers the total, and there are finitely many assignments,
@@ -333,17 +334,21 @@ def _check(loads: Sequence[Load]) -> None:
                 raise ValueError(f"load {load.load_id!r} route {r} uses the same step and card twice")
 
 
-def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int]) -> bool:
-    """Make the first improving two-load move (both loads change route at once); True if made.
+def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int], days: set) -> int:
+    """One sweep over the pairs of loads: each pair, taken in order at the current plan, moves to
+    the pair of candidate routes that lowers the total most (both change at once), if any.
+    Returns the number of pair moves made.
 
     Only pairs of loads on the same day whose candidate routes have a (step, card) in common are
     tried: for any other pair the two moves are independent, so the pair's change in cost is the
     sum of two single moves, none of which lowers the total at a single-move local optimum."""
     steps = [{(st.key, st.card) for route in ld.routes for st in route} for ld in loads]
+    made = 0
     for i in range(len(loads)):
         for j in range(i + 1, len(loads)):
             li, lj = loads[i], loads[j]
-            if li.day != lj.day or len(li.routes) * len(lj.routes) < 2 or not steps[i] & steps[j]:
+            if (li.day != lj.day or li.day not in days or len(li.routes) * len(lj.routes) < 2
+                    or not steps[i] & steps[j]):
                 continue
             ri, rj = li.routes[choice[i]], lj.routes[choice[j]]
             state.remove(j, rj)
@@ -363,12 +368,12 @@ def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int]) -> bool
             state.place(j, lj.routes[best[2]])
             if (best[1], best[2]) != (choice[i], choice[j]):
                 choice[i], choice[j] = best[1], best[2]
-                return True
-    return False
+                made += 1
+    return made
 
 
 def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
-         pair_moves: bool = True) -> Plan:
+         pair_moves: bool = True, pair_limit: int = 60) -> Plan:
     """Assign each load a candidate route so that loads leaving together share vehicles.
 
     Parameters
@@ -380,6 +385,10 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     pair_moves : bool
         After the single-load moves stop, also try moving two loads of the same day together
         (both onto new candidate routes at once), then single moves again, until neither helps.
+    pair_limit : int
+        Pair moves only on days with at most this many loads: a pair sweep tries every pair of
+        the day's loads, so its work grows with the square of their number (measured: 300 loads
+        on one day take minutes, 100 a few seconds). Larger days get single moves only (noted).
     max_sweeps : int
         Safety bound on improvement sweeps (the method terminates on its own; this only caps
         work on very large inputs, and the plan is then still never worse than alone).
@@ -409,6 +418,12 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     for li, load in enumerate(loads):
         state.place(li, load.routes[choice[li]])
 
+    per_day: dict = {}
+    for load in loads:
+        per_day[load.day] = per_day.get(load.day, 0) + 1
+    pair_days = {d for d, k in per_day.items() if k <= pair_limit}
+    notes = [f"day {d!r}: {k} loads, more than pair_limit {pair_limit}: single moves only"
+             for d, k in per_day.items() if pair_moves and k > pair_limit]
     moves = sweeps = 0
     improved = True
     while improved and sweeps < max_sweeps:
@@ -426,10 +441,12 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
                 moves += 1
                 improved = True
         if not improved and pair_moves:
-            improved = _pair_sweep(state, loads, choice)
-            moves += 1 if improved else 0
+            made = _pair_sweep(state, loads, choice, pair_days)
+            moves += made
+            improved = made > 0
 
-    notes = [] if not improved else [f"stopped after {max_sweeps} sweeps (max_sweeps)"]
+    if improved:
+        notes.append(f"stopped after {max_sweeps} sweeps (max_sweeps)")
     runs = []
     for rk, members in state.members.items():
         if not members:
