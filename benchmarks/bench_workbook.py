@@ -121,7 +121,7 @@ def main(argv=None) -> None:
     if args.smoke:
         args.depots, args.lanes, args.shipments, args.origins = 200, 800, 500, 10
     from costing.cli import main as costing_main
-    from costing.sheets.writer import LEG_COLUMNS, SUMMARY_COLUMNS
+    from costing.contract.outputs import LEG_COLUMNS, SUMMARY_COLUMNS
 
     with tempfile.TemporaryDirectory() as tmp:
         inp = os.path.join(tmp, "w1-input.xlsx")

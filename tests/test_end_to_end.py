@@ -221,9 +221,9 @@ def test_reproducible_bytes(cli, make_input, tmp_path, monkeypatch):
 def test_legs_continue_on_further_sheets(cli, tmp_path, monkeypatch):
     # the spreadsheet row limit (1,048,576 rows: Microsoft "Excel specifications and limits", per
     # shared/references.md 6) is simulated with a 16-row limit so the test stays small
-    import costing.sheets.writer as writer
+    import costing.sheets.legs as legs
 
-    monkeypatch.setattr(writer, "LEGS_SHEET_ROWS", 16)
+    monkeypatch.setattr(legs, "LEGS_SHEET_ROWS", 16)
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "split.xlsx")[0] == 0
     wb = openpyxl.load_workbook("split.xlsx")
@@ -266,12 +266,12 @@ def test_fuel_rebate_larger_than_per_km_is_refused(cli, make_input, tmp_path):
 def test_streamed_output_holds_the_same_cells(cli, tmp_path, monkeypatch):
     # large outputs are streamed (xlsxwriter constant_memory), which silently drops a write to an
     # earlier row: the streamed workbook must hold exactly the cells of the normal one
-    import costing.sheets.writer as writer
+    import costing.sheets.legs as legs
 
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "normal.xlsx")[0] == 0
-    monkeypatch.setattr(writer, "STREAMING_LEGS", 0)
+    monkeypatch.setattr(legs, "STREAMING_LEGS", 0)
     assert cli("demo", "-o", "streamed.xlsx")[0] == 0
     a = openpyxl.load_workbook("normal.xlsx")
     b = openpyxl.load_workbook("streamed.xlsx")
@@ -288,7 +288,7 @@ def test_fast_formula_path_matches_xlsxwriter(cli, tmp_path, monkeypatch):
     # reference: xlsxwriter's own formula preparation, on every formula the demo writes
     import xlsxwriter
 
-    from costing.sheets.writer import _fast_formulas
+    from costing.sheets.formats import fast_formulas as _fast_formulas
 
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "d.xlsx")[0] == 0

@@ -35,9 +35,9 @@ def test_libreoffice_recalculation_matches_cached_values(cli, tmp_path, monkeypa
 
 def test_libreoffice_recalculation_with_legs_on_several_sheets(cli, tmp_path, monkeypatch):
     # the cross-sheet formulas (Summary, Lane usage, reconciliation) over Legs, Legs 2, ...
-    import costing.sheets.writer as writer
+    import costing.sheets.legs as legs
 
-    monkeypatch.setattr(writer, "LEGS_SHEET_ROWS", 40)
+    monkeypatch.setattr(legs, "LEGS_SHEET_ROWS", 40)
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "split.xlsx")[0] == 0
     assert "Legs 2" in openpyxl.load_workbook("split.xlsx").sheetnames

@@ -23,13 +23,12 @@ from costing.contract.inputs import normalise_header
 from costing.errors import CompareError
 from costing.money import minor_unit, round_money
 from costing.workbook.reader import (
-    _READ_ERRORS,
+    READ_ERRORS,
     InputError,
-    _check_container,
-    _detail,
-    _is_formula,
-    _open,
-    _rows,
+    describe_read_error,
+    is_formula,
+    iter_rows,
+    open_workbook,
     sha256_of,
 )
 
@@ -100,10 +99,12 @@ class CostedRun:
 
     @property
     def total_cost(self) -> float | None:
+        """The run's TOTAL row total_cost (currency), or None when it has none."""
         return self.total.get("total_cost")
 
     @property
     def routed(self) -> int:
+        """How many shipments of the run were routed."""
         return sum(s.status == "routed" for s in self.shipments.values())
 
 
@@ -133,6 +134,7 @@ class Change:
 
     @property
     def delta_pct(self) -> float | None:
+        """The change in total cost as a percentage of the old total, or None when that was 0."""
         return None if self.delta_ratio is None else self.delta_ratio * 100
 
 
@@ -151,6 +153,7 @@ class Comparison:
     warnings: list[str] = field(default_factory=list)
 
     def change(self, shipment_id: str) -> Change:
+        """The change record of `shipment_id` (KeyError if it is in neither run)."""
         for c in self.changes:
             if c.shipment_id == shipment_id:
                 return c
@@ -205,8 +208,7 @@ def read_costed(path: str | os.PathLike) -> CostedRun:
     path = os.fspath(path)
     name = os.path.basename(path)
     try:
-        _check_container(path)
-        wb = _open(path, data_only=True)
+        wb = open_workbook(path, data_only=True)
     except InputError as e:
         raise _from_input_error(e, path) from None
     try:
@@ -226,8 +228,8 @@ def read_costed(path: str | os.PathLike) -> CostedRun:
                                    f"{' or '.join(missing)} sheet (its sheets: {shown})", what, path)
             run = _read_run(wb[run_title])
             header, rows = _read_summary_rows(wb[summary_title])
-    except _READ_ERRORS as e:
-        detail, fix = _detail(e)
+    except READ_ERRORS as e:
+        detail, fix = describe_read_error(e)
         raise CompareError(f"{name} could not be read as a workbook: {detail}", fix, path) from None
     finally:
         wb.close()
@@ -259,7 +261,7 @@ def read_costed(path: str | os.PathLike) -> CostedRun:
 
 def _read_run(ws) -> dict[str, object]:
     items: dict[str, object] = {}
-    for row in _rows(ws, 1, None, 2):
+    for row in iter_rows(ws, 1, None, 2):
         if not row or _is_blank(row[0]):
             continue
         key = str(row[0]).strip()
@@ -269,7 +271,7 @@ def _read_run(ws) -> dict[str, object]:
 
 
 def _read_summary_rows(ws) -> tuple[tuple, list[tuple[int, tuple]]]:
-    it = _rows(ws, 1, None, None)
+    it = iter_rows(ws, 1, None, None)
     header = tuple(next(it, None) or ())
     width = len(header)
     while width and _is_blank(header[width - 1]):
@@ -353,17 +355,17 @@ def _refuse_missing(run: CostedRun, sheet: str, cells: list[tuple[int, int, str]
     where = f"{run.file_name}: {sheet}!{_cell(c, r)} ({what})"
     raw: object = None
     try:
-        fwb = _open(run.path, data_only=False)
+        fwb = open_workbook(run.path, data_only=False)
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
-                row = next(_rows(fwb[sheet], r, r, c + 1), ())
+                row = next(iter_rows(fwb[sheet], r, r, c + 1), ())
                 raw = row[c] if len(row) > c else None
         finally:
             fwb.close()
-    except (InputError, *_READ_ERRORS):
+    except (InputError, *READ_ERRORS):
         raw = None
-    if _is_formula(raw):
+    if is_formula(raw):
         raise CompareError(f"{where} holds a formula with no saved result{more}", _NO_CACHE_FIX, run.path)
     if isinstance(raw, str) and raw.startswith("#"):
         raise CompareError(f"{where} holds the error {raw[:20]}{more}",

@@ -77,6 +77,7 @@ class Profile:
 
     @property
     def vehicles(self) -> tuple[str, ...]:
+        """The vehicles of the profile's cards, each once, in card order."""
         return tuple(dict.fromkeys(v for v, _m, _n in self.cards))
 
 
@@ -102,6 +103,7 @@ class Step:
 
 
 def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
+    """The rate card of `vehicle` on `mode`."""
     return model.cards_for(vehicle)[mode]
 
 
@@ -200,12 +202,15 @@ class CompactNetwork:
 
     @property
     def n_cards(self) -> int:
+        """Number of rate cards in the profile (states per depot)."""
         return len(self.profile.cards)
 
     def node(self, depot: str, k: int) -> int:
+        """The state id of (depot id, card index k)."""
         return self.index[depot] * self.n_cards + k
 
     def depot_of(self, node: int) -> str:
+        """The depot id of state `node`."""
         return self.depot_ids[node // self.n_cards]
 
     def bound(self, target_depot: int) -> list[float] | None:

@@ -152,14 +152,17 @@ class CSRGraph:
 
     @property
     def m(self) -> int:
+        """Number of arcs."""
         return int(self.heads.shape[0])
 
     @property
     def tails(self) -> np.ndarray:
+        """Tail node of every arc, in arc order (an array of m ids)."""
         return np.repeat(np.arange(self.n, dtype=self.heads.dtype), np.diff(self.indptr))
 
     @property
     def nbytes(self) -> int:
+        """Bytes held by the arrays (indptr, heads, weights, edge ids)."""
         return int(self.indptr.nbytes + self.heads.nbytes + self.weights.nbytes + self.edge_ids.nbytes)
 
     @classmethod
@@ -244,10 +247,12 @@ class Landmarks:
 
     @property
     def k(self) -> int:
+        """Number of landmarks."""
         return int(self.nodes.shape[0])
 
     @property
     def nbytes(self) -> int:
+        """Bytes held by the distance tables and landmark ids."""
         return int(self.to_lm.nbytes + self.from_lm.nbytes + self.nodes.nbytes)
 
 
@@ -307,6 +312,7 @@ class EngineStats:
     shipments: dict[str, int] = field(default_factory=dict)  # strategy -> shipments
 
     def count(self, strategy: str, shipments: int) -> None:
+        """Count one origin group of `shipments` searched by `strategy`."""
         self.groups[strategy] = self.groups.get(strategy, 0) + 1
         self.shipments[strategy] = self.shipments.get(strategy, 0) + shipments
 

@@ -106,6 +106,7 @@ class Router:
         self._engines: dict = {}  # profile -> costing.network.engine.SearchEngine
 
     def network(self, profile: Profile) -> CompactNetwork:
+        """The compact network of `profile`, built once and cached (its build time is recorded)."""
         cn = self.networks.get(profile)
         if cn is None:
             t0 = time.perf_counter()
@@ -164,6 +165,9 @@ class Router:
                 self._batched[(profile, origin, d)] = (cn, res)
 
     def search(self, s: Shipment, profile: Profile):
+        """(network, search result) of shipment `s` under `profile`: from the batched one-to-many
+        search when one served it, else one search (the array engine for large one-card networks,
+        A* with the profile's bound otherwise)."""
         hit = self._batched.get((profile, s.origin, s.destination))
         if hit is not None:
             return hit
@@ -215,6 +219,8 @@ class Router:
         return [[c for c in pool if c.min_charge <= t] for t in levels]
 
     def route(self, s: Shipment, obj: str, notes: bool = True) -> CostedShipment:
+        """Route and price shipment `s` under objective `obj`: the cheapest feasible card set, its
+        legs and notes; a result with the reason when it has no route."""
         return _route_one(self, s, obj, notes)
 
     def alternatives(self, s: Shipment, objectives) -> dict[str, CostedShipment]:

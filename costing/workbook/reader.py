@@ -580,3 +580,47 @@ def _merged_problems(spec, title, columns, merges, problems) -> None:
     if listed > MAX_LISTED:
         problems.append(Problem(ERROR, title, "", f"{listed - MAX_LISTED} more merged ranges",
                                 "unmerge all cells of the table"))
+
+
+# -- public reading API (used by costing.compare and the spreadsheet add-on) -----------------------
+
+READ_ERRORS = _READ_ERRORS  # what opening or reading a damaged or hostile workbook can raise
+
+
+def open_workbook(path: str, data_only: bool = True):
+    """Open an .xlsx workbook read-only, after the container checks (zip and XML guards).
+
+    Parameters
+    ----------
+    path : str
+        The workbook; never changed.
+    data_only : bool
+        True: cells give their cached values; False: formulas as text.
+
+    Returns
+    -------
+    A read-only workbook with ``sheetnames``, ``wb[title]`` and ``close()``.
+
+    Raises
+    ------
+    InputError
+        Not an .xlsx workbook (csv, xls, ods, encrypted, Strict Open XML, damaged, hostile).
+    """
+    _check_container(path)
+    return _open(path, data_only=data_only)
+
+
+def iter_rows(ws, min_row: int = 1, max_row: int | None = None, max_col: int | None = None):
+    """Rows of a read-only sheet as tuples of values (1-based, inclusive bounds), ignoring the
+    sheet's stated dimension (a hostile A1:XFD1048576 would pad every row)."""
+    return _rows(ws, min_row, max_row, max_col)
+
+
+def describe_read_error(e: BaseException) -> tuple[str, str]:
+    """(what went wrong, what to do) for an exception of ``READ_ERRORS``."""
+    return _detail(e)
+
+
+def is_formula(value: object) -> bool:
+    """Whether a cell value read with ``data_only=False`` is a formula."""
+    return _is_formula(value)

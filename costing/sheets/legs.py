@@ -1,0 +1,127 @@
+"""The Legs sheet: one row per leg, every cost component a live formula over the leg's own cells with
+its value cached; Legs continue on further sheets at the row limit (Legs 2, ...)."""
+
+from __future__ import annotations
+
+from xlsxwriter.utility import xl_col_to_name
+
+from costing.contract.outputs import LEG, LEG_COLUMNS
+from costing.errors import OutputLimitError
+from costing.sheets.formats import MAX_ROWS, Writer, basis, cell_text
+
+# Per Legs column: the cached value (from the result r and leg g) and the formula, if any.
+LEG_CELLS = {
+    "shipment_id": (lambda r, g: r.shipment.shipment_id, None),
+    "seq": (lambda r, g: g.seq, None),
+    "lane_id": (lambda r, g: g.use.lane.lane_id, None),
+    "from_depot": (lambda r, g: g.use.from_depot, None),
+    "to_depot": (lambda r, g: g.use.to_depot, None),
+    "mode": (lambda r, g: g.use.lane.mode, None),
+    "vehicle": (lambda r, g: g.card.vehicle, None),
+    "vehicles": (lambda r, g: g.vehicles, None),
+    "weight_t": (lambda r, g: g.weight_t, None),
+    "distance_km": (lambda r, g: g.use.km, None),
+    "km_basis": (lambda r, g: basis(g.use.km_estimated), None),
+    "drive_hours": (lambda r, g: g.use.hours, None),
+    "hours_basis": (lambda r, g: basis(g.use.hours_estimated), None),
+    "break_hours": (lambda r, g: g.break_hours, None),
+    "rest_hours": (lambda r, g: g.rest_hours, None),
+    "handling_hours": (lambda r, g: g.handling_hours, None),
+    "elapsed_hours": (lambda r, g: g.elapsed_hours,
+                      "{drive_hours}+{break_hours}+{rest_hours}+{handling_hours}"),
+    "paid_stop_hours": (lambda r, g: g.paid_stop_hours, None),
+    "per_km": (lambda r, g: g.card.per_km, None),
+    "per_hour": (lambda r, g: g.card.per_hour, None),
+    "toll": (lambda r, g: g.use.lane.toll, None),
+    "fixed_cost_rate": (lambda r, g: g.use.lane.fixed_cost, None),
+    "fuel_l_per_100km": (lambda r, g: g.card.fuel_l_per_100km, None),
+    "fuel_price": (lambda r, g: g.fuel_price, None),
+    "fuel_included_at": (lambda r, g: g.card.fuel_included_at if g.fuel_price is not None else None,
+                         None),
+    "handling_start_rate": (lambda r, g: g.start_handling_rate, None),
+    "handling_end_rate": (lambda r, g: g.end_handling_rate, None),
+    "per_trip": (lambda r, g: g.trip_rate, None),
+    "km_cost": (lambda r, g: g.km_cost, "ROUND({vehicles}*{distance_km}*{per_km},{d})"),
+    "hour_cost": (lambda r, g: g.hour_cost, "ROUND({vehicles}*{drive_hours}*{per_hour},{d})"),
+    "toll_cost": (lambda r, g: g.toll_cost, "ROUND({vehicles}*{toll},{d})"),
+    "fixed_cost": (lambda r, g: g.fixed_cost, "ROUND({vehicles}*{fixed_cost_rate},{d})"),
+    "fuel_surcharge": (lambda r, g: g.fuel_surcharge,
+        'IF(OR({fuel_price}="",{fuel_included_at}="",{fuel_l_per_100km}=""),0,'
+        "ROUND({vehicles}*{distance_km}*{fuel_l_per_100km}/100*({fuel_price}-{fuel_included_at}),{d}))"),
+    "stop_cost": (lambda r, g: g.stop_cost, "ROUND({vehicles}*{paid_stop_hours}*{per_hour},{d})"),
+    "handling_start_cost": (lambda r, g: g.start_handling_cost,
+                            "ROUND({vehicles}*{handling_start_rate},{d})"),
+    "handling_end_cost": (lambda r, g: g.end_handling_cost, "ROUND({vehicles}*{handling_end_rate},{d})"),
+    "trip_cost": (lambda r, g: g.trip_cost, "ROUND({vehicles}*{per_trip},{d})"),
+    "leg_cost": (lambda r, g: g.leg_cost, "ROUND(SUM({km_cost}:{trip_cost}),{d})"),
+    "co2e_kg_per_litre": (lambda r, g: g.card.co2e_kg_per_litre, None),
+    "co2e_basis": (lambda r, g: g.co2e_basis, None),
+    "intensity_g_per_tkm": (lambda r, g: g.intensity_g_per_tkm, None),
+    "co2e_kg": (lambda r, g: g.co2e_kg,
+        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*{co2e_kg_per_litre},'
+        "{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
+}
+LEG_SPEC = [(name, width, kind, *LEG_CELLS[name]) for name, width, kind in LEG_COLUMNS]
+
+
+# data rows per Legs sheet; more legs continue on "Legs 2", "Legs 3", ...
+LEGS_SHEET_ROWS = MAX_ROWS - 1
+
+
+# from this many legs on, rows are streamed to disk instead of held in memory
+STREAMING_LEGS = 100_000
+
+
+def legs_sheet_names(results) -> list[str]:
+    """Names of the Legs sheets the results need (Legs, Legs 2, ...), at most LEGS_SHEET_ROWS legs
+    each; a shipment's legs are never split across two sheets."""
+    names, used = ["Legs"], 0
+    for res in results:
+        n = len(res.legs)
+        if n > LEGS_SHEET_ROWS:
+            raise OutputLimitError(f"shipment {res.shipment.shipment_id} has {n:,} legs, more than a sheet "
+                                   "holds", "check the lanes of this shipment")
+        if used + n > LEGS_SHEET_ROWS:
+            names.append(f"Legs {len(names) + 1}")
+            used = 0
+        used += n
+    return names
+
+
+def write_legs(w: Writer, legs_sheets, results) -> tuple[dict[str, tuple[str, int, int]], dict[str, int]]:
+    """Legs rows, continuing on further sheets at the row limit. Returns shipment id ->
+    (sheet, first row, last row) (1-based) and sheet -> its last data row."""
+    letters = {name: xl_col_to_name(i) for name, i in LEG.items()}
+    ranges: dict[str, tuple[str, int, int]] = {}
+    last: dict[str, int] = {}
+    k = 0
+    name, ws = legs_sheets[0]
+    w.header(ws, LEG_COLUMNS)
+    r = 1
+    for res in results:
+        if not res.legs:
+            continue
+        if r - 1 + len(res.legs) > LEGS_SHEET_ROWS:
+            ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
+            last[name] = r
+            k += 1
+            name, ws = legs_sheets[k]
+            w.header(ws, LEG_COLUMNS)
+            r = 1
+        first = r
+        for leg in res.legs:
+            refs = {col_name: f"{col}{r + 1}" for col_name, col in letters.items()}
+            refs["d"] = str(w.places)
+            for c, (_name, _width, kind, value_of, formula) in enumerate(LEG_SPEC):
+                value = value_of(res, leg)
+                if formula is not None:
+                    ws.write_formula(r, c, "=" + formula.format(**refs), w.f[kind], value)
+                elif kind == "text":
+                    ws.write_string(r, c, cell_text(value))
+                elif value is not None:
+                    ws.write_number(r, c, value)
+            r += 1
+        ranges[res.shipment.shipment_id] = (name, first + 1, r)  # 1-based inclusive rows
+    ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
+    last[name] = r
+    return ranges, last
