@@ -22,6 +22,7 @@ import numpy as np
 from costing.geo import great_circle_km, great_circle_km_many
 from costing.model import Depot, Lane, LaneUse, Model, RateCard
 from costing.money import minor_unit
+from costing.network.search import Arcs
 from costing.objectives import objective
 from costing.price.rates import charge, co2e_kg, lane_charges
 
@@ -199,6 +200,15 @@ class CompactNetwork:
     lons: object
     bound_note: str
     _bounds: dict[int, list[float]] = field(default_factory=dict)
+    _arcs: Arcs | None = field(default=None, repr=False, compare=False)
+
+    @property
+    def arcs(self) -> Arcs:
+        """`adj` as the search core reads it, made once per network (its rows are split as
+        searches first read them, and its work arrays are reused from search to search)."""
+        if self._arcs is None:
+            self._arcs = Arcs.from_rows(self.adj)
+        return self._arcs
 
     @property
     def n_cards(self) -> int:

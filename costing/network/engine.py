@@ -1,5 +1,9 @@
-"""A search engine for networks of any size: a compact array network built once and reused for
-every shipment, a landmark lower bound, and batching of shipments that share an origin.
+"""The array side of the search for networks of any size: a compact array network built once
+and reused for every shipment, a landmark lower bound, and batching of shipments that share an
+origin. It does not search by itself: its A* and its one-to-many Dijkstra are the one search
+routine of `costing.network.search` (`_label_setting`), fed with this module's CSR rows and
+landmark bound; the third batching strategy is a compiled one-to-all search (scipy) and a
+vectorised reconstruction of the routes the routine would return.
 
 Nothing here knows about depots or rates: node ids 0..n-1, arcs with non-negative weights and
 edge ids, exactly as `costing.network.search`. Results are `costing.network.search.SearchResult`.
@@ -41,7 +45,8 @@ optional lower bound supplied by the caller (the straight-line bound of `costing
 consistent with b(t) = 0). A maximum of consistent functions is consistent
 (max_i h_i(u) <= max_i (w + h_i(v)) = w + max_i h_i(v)), and so is SAFETY * h for 0 < SAFETY <= 1
 (SAFETY * h(u) <= SAFETY * (w + h(v)) <= w + SAFETY * h(v) as w >= 0); h(t) = 0. So A* with h
-settles each node once and the target with its least weight, as proved in `costing.network.search`.
+settles each node once and the target with its least weight, as proved in `costing.network.search`
+(whose routine this engine runs, so that proof covers the engine's routes).
 Any subset of landmarks gives a bound with the same properties, which is why each query may use
 only its `active` best landmarks (those with the largest bound at the source).
 
@@ -60,15 +65,16 @@ tight predecessor is settled before v, and every g is the exact (bit for bit) le
 weights added along the route from the source, the same number a compiled Dijkstra computes
 (tests/test_engine.py checks the equality, and the bound at every node and arc, exactly).
 
-Ties and determinism. Queue ties on f are broken by push order, as in `costing.network.search`. Among
-routes of exactly equal weight, the parent of a node is its tight predecessor with the smallest
-internal id (an arc of equal g from a smaller id replaces the parent). Because all tight
+Ties and determinism. Queue ties on f are broken by push order (the search routine's counter).
+Among routes of exactly equal weight, the parent of a node is its tight predecessor with the
+smallest internal id (the routine's `lowest_parent` rule: an arc of equal g from a smaller id
+replaces the parent). Because all tight
 predecessors are settled before the node, this choice does not depend on the order of the search:
 A*, a one-to-many Dijkstra and the reconstruction after scipy's one-to-all give the same route,
 not only the same weight. (Zero-weight arcs break the "settled before" argument; with them the
 weights are still identical but an equal-weight route may differ between strategies. On exact
-ties the route can also differ from `costing.network.search.astar`, which keeps the first predecessor
-found; both are optimal.)
+ties the route can also differ from `costing.network.search.astar`, which runs the same routine
+with its default rule, the first predecessor found; both are optimal.)
 
 Landmark choice (farthest first). Start from a seeded random node s0; the first landmark is the
 node farthest from s0 (out-distance); then repeatedly the node whose least "round trip"
@@ -99,21 +105,20 @@ reconstruction about 15 ms for 500 destinations. They only steer speed, never re
 
 Memory: arrays and work lists take about 40 m + 100 n bytes (m arcs, in both orders), the landmark
 tables 16 k n bytes (k landmarks; `stats.landmark_bytes`), and the Python rows of the inner loop
-about 60 bytes per arc, made only for the nodes a Python search has settled. The engine keeps
-per-node work arrays between queries (reset after each), so one engine must not be searched from
-two threads at once.
+about 60 bytes per arc, made only for the nodes a Python search has settled. The search routine
+keeps per-node work arrays in the engine's `Arcs` between queries (reset after each), so one
+engine must not be searched from two threads at once.
 """
 
 from __future__ import annotations
 
-import heapq
 import time
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from costing.network.search import SearchResult, SearchStats
+from costing.network.search import Arcs, SearchResult, SearchStats, _label_setting
 
 BIG = 1e300  # stored in place of a distance that does not exist
 HUGE = 1e299  # a bound at least this large means "cannot reach the target"
@@ -389,11 +394,8 @@ class SearchEngine:
         self._wts_mv = memoryview(g.weights)
         self._ip = memoryview(g.indptr)
         self._eid = memoryview(np.ascontiguousarray(g.edge_ids))
-        # Work arrays, reset after each query.
-        self._g = [INF] * n
-        self._par = [-1] * n
-        self._hc = [0.0] * n
-        self._done = bytearray(n)
+        # The rows as the search core reads them (it also keeps its work arrays there).
+        self._arcs = Arcs(n, self._heads, self._wts, self._load_row, self._edge)
         self.lm = choose_landmarks(self._fwd, self._bwd, n, landmarks, seed)
         self._to_rows = [memoryview(r) for r in self.lm.to_lm]
         self._from_rows = [memoryview(r) for r in self.lm.from_lm]
@@ -498,61 +500,12 @@ class SearchEngine:
         return res
 
     def _astar(self, s: int, t: int, lower: LowerBound) -> SearchResult:
+        """The search core ("every" mode with the one target, lowest-parent ties, nodes with a
+        bound >= HUGE never queued) with the landmark bound towards t."""
         h = self._bound_function(t, self._active_landmarks(s, t), lower)
-        heads, wts = self._heads, self._wts
-        g, par, hc, done = self._g, self._par, self._hc, self._done
-        hs = h(s)
-        if not hs < HUGE:
-            return SearchResult(False, INF, (), (), SearchStats(0, 0))
-        g[s] = 0.0
-        hc[s] = hs
-        touched = [s]
-        heap = [(hs, 0, s)]
-        counter = 1
-        settled = 0
-        push, pop = heapq.heappush, heapq.heappop
-        try:
-            while heap:
-                _f, _c, u = pop(heap)
-                if done[u]:
-                    continue  # stale entry
-                done[u] = 1
-                settled += 1
-                if u == t:
-                    break
-                gu = g[u]
-                hu = heads[u]
-                if hu is None:
-                    hu = self._load_row(u)
-                for v, w in zip(hu, wts[u]):
-                    gv = gu + w
-                    gold = g[v]
-                    if gv < gold:
-                        if done[v]:
-                            continue  # settled nodes are final (never reopened)
-                        if gold == INF:
-                            touched.append(v)
-                            hv = h(v)
-                            if not hv < HUGE:
-                                done[v] = 1  # v cannot reach t: never queue it
-                                continue
-                            hc[v] = hv
-                        else:
-                            hv = hc[v]
-                        g[v] = gv
-                        par[v] = u
-                        push(heap, (gv + hv, counter, v))
-                        counter += 1
-                    elif gv == gold and u < par[v] and not done[v]:
-                        par[v] = u  # equal weight: the smaller predecessor id wins
-            stats = SearchStats(settled, counter)
-            if done[t] and g[t] < INF:
-                return self._result(s, t, g[t], stats)
-            return SearchResult(False, INF, (), (), stats)
-        finally:
-            for v in touched:
-                g[v] = INF
-                done[v] = 0
+        routes, stats, _ = _label_setting(self._arcs, ((s, 0.0),), ({t: 0.0},), h, until="every",
+                                          cutoff=HUGE, lowest_parent=True)
+        return self._external(routes[0], stats)
 
     def _load_row(self, u: int) -> tuple[int, ...]:
         a, b = self._ip[u], self._ip[u + 1]
@@ -560,23 +513,16 @@ class SearchEngine:
         self._wts[u] = tuple(self._wts_mv[a:b])
         return hu
 
-    def _result(self, s: int, t: int, weight: float, stats: SearchStats) -> SearchResult:
-        """Walk the parents back from t (internal ids) while they are still set."""
-        par, ext, heads, ip, eid = self._par, self._ext, self._heads, self._ip, self._eid
-        nodes = [ext[t]]
-        edges = []
-        v = t
-        while v != s:
-            u = par[v]
-            hu = heads[u]
-            if hu is None:
-                hu = self._load_row(u)
-            edges.append(eid[ip[u] + hu.index(v)])
-            nodes.append(ext[u])
-            v = u
-        nodes.reverse()
-        edges.reverse()
-        return SearchResult(True, weight, tuple(nodes), tuple(edges), stats)
+    def _edge(self, u: int, i: int) -> int:
+        return self._eid[self._ip[u] + i]
+
+    def _external(self, route: tuple, stats: SearchStats) -> SearchResult:
+        """A route of the core (internal node ids) as a SearchResult in the caller's ids."""
+        found, weight, nodes, edges = route
+        if not found:
+            return SearchResult(False, INF, (), (), stats)
+        ext = self._ext
+        return SearchResult(True, weight, tuple([ext[v] for v in nodes]), edges, stats)
 
     # -- one to many -------------------------------------------------------------------------------
 
@@ -619,55 +565,10 @@ class SearchEngine:
         return out
 
     def _dijkstra_many(self, s: int, targets: list[int]) -> list[SearchResult]:
-        heads, wts = self._heads, self._wts
-        g, par, done = self._g, self._par, self._done
-        remaining = set(targets)
-        g[s] = 0.0
-        touched = [s]
-        heap = [(0.0, 0, s)]
-        counter = 1
-        settled = 0
-        push, pop = heapq.heappush, heapq.heappop
-        try:
-            while heap and remaining:
-                _f, _c, u = pop(heap)
-                if done[u]:
-                    continue
-                done[u] = 1
-                settled += 1
-                remaining.discard(u)
-                if not remaining:
-                    break
-                gu = g[u]
-                hu = heads[u]
-                if hu is None:
-                    hu = self._load_row(u)
-                for v, w in zip(hu, wts[u]):
-                    gv = gu + w
-                    gold = g[v]
-                    if gv < gold:
-                        if done[v]:
-                            continue
-                        if gold == INF:
-                            touched.append(v)
-                        g[v] = gv
-                        par[v] = u
-                        push(heap, (gv, counter, v))
-                        counter += 1
-                    elif gv == gold and u < par[v] and not done[v]:
-                        par[v] = u
-            parts = self._split(SearchStats(settled, counter), len(targets))
-            out = []
-            for t, st in zip(targets, parts):
-                if done[t] and g[t] < INF:
-                    out.append(self._result(s, t, g[t], st))
-                else:
-                    out.append(SearchResult(False, INF, (), (), st))
-            return out
-        finally:
-            for v in touched:
-                g[v] = INF
-                done[v] = 0
+        """The search core with h = 0, ended when every target is settled (lowest-parent ties)."""
+        routes, stats, _ = _label_setting(self._arcs, ((s, 0.0),), [{t: 0.0} for t in targets],
+                                          until="every", cutoff=HUGE, lowest_parent=True)
+        return [self._external(r, st) for r, st in zip(routes, self._split(stats, len(targets)))]
 
     def _scipy_all(self, s: int, targets: list[int]) -> list[SearchResult]:
         dist = _one_to_all(self._fwd, s)

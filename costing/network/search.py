@@ -1,33 +1,89 @@
-"""A* over a compact network: node ids 0..n-1, an adjacency list of (head, weight, edge id),
-and a lower bound h on the remaining weight. Nothing here knows about depots or rates.
+"""Least-weight routes over a compact network: node ids 0..n-1, out-arcs with non-negative
+weights and edge ids, and a lower bound h on the remaining weight. Nothing here knows about
+depots, rates or workbooks.
 
-Correctness, in brief. Weights are non-negative. If h is consistent,
-    h(u) <= w(u, v) + h(v) for every edge u->v, and h(target) = 0,
-then the key f = g + h along any path never decreases, so the first time a node is popped its
-g is the least weight from the source (it is "settled"), and the route to the target is optimal
-when the target is popped. A consistent h with h(target) = 0 is also admissible (never above the
-true remaining weight). With h = 0 this is plain uniform-cost search (Dijkstra).
+One search routine, `_label_setting`, does every search of the product. The public functions
+are its special cases, and the array engine (`costing.network.engine`) calls it too:
 
-Ties on f are broken by the order in which entries were pushed, which depends only on the
-adjacency order, so the same network gives the same route every time.
+    astar(adj, sources, exits, h)        several sources with start weights, several exits with
+                                         exit weights, a bound: the best route ("exit" mode)
+    one_to_many(adj, sources, targets)   one uniform-cost search serving several targets, ended
+                                         when every target's exits are settled ("every" mode)
+    dijkstra_all(adj, source)            least weight to every node (run until the queue is empty)
+    engine.SearchEngine                  the same routine over CSR arrays, with the landmark bound
+                                         ("every" mode: one target per A*, a group per Dijkstra)
 
-One core. `_label_setting` is the only search loop of this module: several sources with start
-weights, optional exits with exit weights (joined to one virtual target), a bound, and an
-optional stop set. `astar` is the core with exits and a bound, stopped when the virtual target
-is settled; `one_to_many` is the core with h = 0 and a stop set (the exits of every target),
-stopped when the set is empty; `dijkstra_all` is the core with neither, run until the queue is
-empty. The argument above covers all three: each returns g values of settled nodes only, and a
-settled node's g is final. (Stopping early never changes a settled g; it only leaves nodes
-unsettled, whose g is then not used.)
+Units. Weights, start weights, exit weights and the bound are all in one unit, the caller's
+(the objective's: currency, hours, km or kg CO2e); the routine only adds and compares them.
+
+Correctness
+-----------
+Weights are non-negative. Several sources are one virtual source joined to each source s by an
+arc of its start weight g0(s); in "exit" mode several exits are one virtual end joined from each
+exit x by an arc of its exit weight e(x). The routine is Dijkstra's algorithm keyed by
+f = g + h. Let h be consistent,
+
+    h(u) <= w(u, v) + h(v) for every arc u->v,   and h(x) <= e(x) at every exit (h(end) = 0),
+
+for example h(x) = 0 at exits. The reduced weight w'(u, v) = w(u, v) - h(u) + h(v) is then
+>= 0 on every arc, and a path's reduced weight is its weight minus h at its first node plus h at
+its last; so f(v) = g(v) + h(v) is the reduced weight of the best known route to v plus a
+constant per source (g0(s) + h(s) on the virtual source's arc, which may have any sign: no route
+comes back to the virtual source). Popping the least f is therefore Dijkstra on non-negative
+reduced weights, and Dijkstra's invariant holds: when a node is popped for the first time
+("settled"), its g is the least weight of any route from the virtual source to it, and it is
+never changed again. In particular
+
+* "exit" mode: the virtual end is settled with the least (start + route + exit) weight over all
+  sources and exits, which is why the search can stop there; a consistent h with h(exit) = 0 is
+  also admissible (never above the true remaining weight);
+* "every" mode: each node of the stop set has its least weight once settled, so the search can
+  stop when all are (with any consistent h; the product uses h = 0 here, or the target's bound
+  when the stop set is that one target); each target's answer is min over its exits of
+  g(x) + e(x);
+* no ends: every reachable node is settled with its least weight.
+
+With h = 0 this is plain uniform-cost search (Dijkstra).
+
+Pruning. A caller may pass a `cutoff`: a node with h(v) >= cutoff is declared unable to reach
+any end and is never queued (the engine's landmark bound gives about 1e300 exactly there; see
+`costing.network.engine`). Leaving out nodes that reach no end changes no route to an end, and
+the argument above holds on the rest of the network. With the default cutoff (infinity) only a
+node whose bound is infinite is left out.
+
+Routes and ties. Every queue entry carries a counter, so entries of equal f leave the queue in
+push order, and pushes follow the adjacency order: the same network gives the same route every
+time. The parent of a node v is, by default, the node whose relaxation first gave v its final g
+(a later equal offer does not replace it; among parallel arcs the first in the row); with
+`lowest_parent` it is, among the settled nodes offering exactly v's final g, the one with the
+smallest id (the array engine's rule, which makes its three strategies return the same route;
+see `costing.network.engine`). Either way the parent u is settled and g(u) + w(u, v) = g(v) bit
+for bit, so walking the parents back from an end gives a route whose weight is exactly the g
+the search computed, and the arc taken from u is the first of u's arcs to v with that weight.
+
+The array engine. Its A* and its one-to-many Dijkstra are this routine ("every" mode, the
+lowest-parent rule, cutoff HUGE) over the engine's CSR rows, with the landmark bound that
+`costing.network.engine` proves consistent (and 0 at the target). So the argument above covers
+the engine's routes too; its third strategy is a compiled Dijkstra (scipy) followed by a
+reconstruction of the lowest-parent tree, which the engine's docstring shows gives the same routes.
+
+Statistics: `settled` counts the network nodes settled (the virtual end is not one), `pushed`
+the entries put on the queue (sources, improved labels and offers to the virtual end).
 """
 
 from __future__ import annotations
 
 import heapq
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass
 
 Adjacency = Sequence[Sequence[tuple[int, float, int]]]
+Bound = Sequence[float] | Callable[[int], float] | None
+
+INF = float("inf")
+# h(v) = 0 for every node: a C-level callable (0.0 * v is 0.0 for every integer v), cheaper per
+# call than a Python function
+_ZERO_BOUND = (0.0).__mul__
 
 
 @dataclass(frozen=True)
@@ -42,198 +98,343 @@ class SearchStats:
 @dataclass(frozen=True)
 class SearchResult:
     found: bool
-    weight: float  # total weight of the route (inf when not found)
+    weight: float  # total weight of the route, the caller's unit (inf when not found)
     nodes: tuple[int, ...]  # source .. target
     edges: tuple[int, ...]  # edge ids, one per step
     stats: SearchStats
 
 
-def _label_setting(adj: Adjacency, starts: Sequence[tuple[int, float]],
-                   bound: Callable[[int], float] | None = None,
-                   exits: Mapping[int, float] | None = None,
-                   stop: set[int] | None = None):
-    """The search core: label-setting from several sources, least key g + h first.
+NOT_FOUND = (False, INF, (), ())
+
+
+class Arcs:
+    """The out-arcs of nodes 0..n-1 as the search routine reads them.
+
+    For node u, ``heads[u]`` and ``weights[u]`` are parallel tuples (head node ids, arc weights);
+    a row may be None until it is first needed, and ``load(u)`` then fills both and returns
+    ``heads[u]``. ``edge(u, i)`` is the caller's edge id of the i-th arc of u. The object also
+    keeps the routine's work arrays between searches (so one Arcs must not be searched from two
+    threads at once). Build it with `from_rows`, or as the array engine does from CSR arrays.
+    """
+
+    __slots__ = ("n", "heads", "weights", "load", "edge", "_work", "_busy")
+
+    def __init__(self, n: int, heads: list, weights: list, load: Callable[[int], tuple],
+                 edge: Callable[[int, int], int]):
+        self.n = n
+        self.heads = heads
+        self.weights = weights
+        self.load = load
+        self.edge = edge
+        self._work: tuple | None = None
+        self._busy = False
+
+    @classmethod
+    def from_rows(cls, adj: Adjacency) -> Arcs:
+        """From ``adj[u] = [(head, weight, edge id), ...]`` (rows split the first time a search
+        reads them; `adj` must not change afterwards)."""
+        n = len(adj)
+        heads: list = [None] * n
+        weights: list = [None] * n
+
+        def load(u: int) -> tuple:
+            row = adj[u]
+            if row:
+                hu, wu, _e = zip(*row)
+            else:
+                hu = wu = ()
+            heads[u], weights[u] = hu, wu
+            return hu
+
+        def edge(u: int, i: int) -> int:
+            return adj[u][i][2]
+
+        return cls(n, heads, weights, load, edge)
+
+    def _acquire(self) -> tuple:
+        """Work arrays of n + 1 entries (the last is the virtual end): g = inf, done = 0
+        everywhere; parents and cached bounds hold leftovers that the routine overwrites
+        before it reads them."""
+        if self._busy or self._work is None:
+            size = self.n + 1
+            work = ([INF] * size, [-1] * size, [0.0] * size, bytearray(size))
+            if self._busy:
+                return work  # a search inside a search (a bound that searches): its own arrays
+            self._work = work
+        self._busy = True
+        return self._work
+
+    def _release(self, work: tuple) -> None:
+        if work is self._work:
+            self._busy = False
+
+
+def _arcs(adj: Adjacency | Arcs) -> Arcs:
+    return adj if isinstance(adj, Arcs) else Arcs.from_rows(adj)
+
+
+def _label_setting(arcs: Arcs, starts: Iterable[tuple[int, float]],
+                   ends: Sequence[Mapping[int, float]] = (), bound: Bound = None, *,
+                   until: str = "exit", cutoff: float = INF, lowest_parent: bool = False,
+                   relax_last: bool = False) -> tuple[list[tuple], SearchStats, list[float] | None]:
+    """The one search routine (module docstring: correctness, ties, statistics).
 
     Parameters
     ----------
-    adj : sequence of sequences of (head, weight, edge id)
-        Out-arcs of node u at ``adj[u]``; weights non-negative.
-    starts : sequence of (node, start weight)
-        The sources; the least start weight of a node counts.
-    bound : callable, optional
-        Consistent lower bound h(v) on the remaining weight, 0 at every exit; None: h = 0.
-    exits : mapping of node -> exit weight, optional
-        Where a route may end; they are joined to a virtual target (id ``len(adj)``) and the
-        search stops when that is settled.
-    stop : set of nodes, optional
-        Without exits: stop as soon as every node of the set is settled (the set is emptied).
+    arcs : Arcs
+        Out-arcs with non-negative weights (caller's unit).
+    starts : iterable of (node id, start weight)
+        Sources; a node given twice keeps its smaller start weight.
+    ends : sequence of mappings node id -> exit weight
+        The targets. ``until="exit"``: exactly one mapping; the search ends when the best
+        (route + exit weight) over its exits is settled. ``until="every"``: the search ends
+        when every exit node of every mapping is settled. ``until="all"``: ignored; the search
+        runs until the queue is empty.
+    bound : sequence indexed by node id, callable node id -> float, or None
+        A consistent lower bound on the remaining weight (caller's unit), 0 at exits; None is 0.
+    cutoff : float
+        Nodes with bound >= cutoff are taken to reach no end and are never queued.
+    lowest_parent : bool
+        Among equal-weight offers, the smallest parent id wins (default: the first offer).
+    relax_last : bool
+        ``until="every"``: relax the arcs of the node that completes the stop set before ending
+        (changes only `pushed`; `one_to_many` has always counted those pushes).
 
     Returns
     -------
-    g, parent_node, parent_edge, done : lists indexed by node id (one more entry when
-        ``exits`` is given: the virtual target)
+    routes : list of (found, weight, nodes, edges)
+        One per mapping of `ends` (empty for ``until="all"``): nodes from a source to the
+        chosen exit, the caller's edge ids, weight = start + route + exit weights.
     stats : SearchStats
-        Nodes settled (the virtual target not counted) and entries pushed.
+    weights : list of float or None
+        ``until="all"``: the least weight from the sources to every node (inf where
+        unreachable); else None.
     """
-    n = len(adj)
-    size = n + 1 if exits is not None else n
-    virtual = n
-    g = [float("inf")] * size
-    parent_node = [-1] * size
-    parent_edge = [-1] * size
-    done = [False] * size
+    if bound is None:
+        h = _ZERO_BOUND
+    elif callable(bound):
+        h = bound
+    else:
+        h = bound.__getitem__
+    n = arcs.n
+    end = n  # the virtual end's id ("exit" mode)
+    exit_mode = until == "exit"
+    if exit_mode:
+        if len(ends) != 1:
+            raise ValueError("until='exit' takes exactly one mapping of exits")
+        waiting: dict | set = dict(ends[0])
+        waiting[end] = 0.0
+    elif until == "every":
+        waiting = set()
+        for t in ends:
+            waiting.update(t)
+    elif until == "all":
+        waiting = set()
+    else:
+        raise ValueError(f"until must be 'exit', 'every' or 'all', not {until!r}")
+    heads, weights, load = arcs.heads, arcs.weights, arcs.load
+    work = arcs._acquire()
+    g, par, hc, done = work
+    touched: list[int] = []  # every entry of g or done changed, reset at the end
     heap: list[tuple[float, int, int]] = []
     counter = 0
-    for s, g0 in starts:
-        if g0 < g[s]:
-            g[s] = g0
-            counter += 1
-            heap.append((g0 + bound(s) if bound else g0, counter, s))
-    heapq.heapify(heap)
-    pushed = len(heap)
     settled = 0
-    push, pop = heapq.heappush, heapq.heappop
-    while heap and (stop is None or stop):
-        _f, _c, u = pop(heap)
-        if done[u]:
-            continue  # a stale entry: u was settled through a better one
-        done[u] = True
-        settled += 1
-        if stop is not None:
-            stop.discard(u)
-        if exits is not None:
-            if u == virtual:
+    try:
+        for s, g0 in starts:
+            if g[s] == INF:
+                if done[s]:
+                    continue  # already left out by the cutoff
+                touched.append(s)
+                hs = h(s)
+                if not hs < cutoff:
+                    done[s] = 1
+                    continue
+                hc[s] = hs
+            if g0 < g[s]:
+                g[s] = g0
+                par[s] = -1
+                counter += 1
+                heap.append((g0 + hc[s], counter, s))
+        heapq.heapify(heap)
+        if until == "every" and not waiting:
+            heap.clear()  # nothing to wait for
+        last = False
+        push, pop = heapq.heappush, heapq.heappop
+        while heap:
+            _f, _c, u = pop(heap)
+            if done[u]:
+                continue  # a stale entry: u was settled through a better one
+            done[u] = 1
+            settled += 1
+            if u in waiting:
+                if exit_mode:
+                    if u == end:
+                        settled -= 1  # the virtual end is not a network node
+                        break
+                    gx = g[u] + waiting[u]
+                    if gx < g[end]:
+                        if g[end] == INF:
+                            touched.append(end)
+                        g[end] = gx
+                        par[end] = u
+                        counter += 1
+                        push(heap, (gx, counter, end))
+                else:
+                    waiting.discard(u)
+                    if not waiting:
+                        if not relax_last:
+                            break
+                        last = True
+            gu = g[u]
+            hu = heads[u]
+            if hu is None:
+                hu = load(u)
+            for v, w in zip(hu, weights[u]):
+                gv = gu + w
+                gold = g[v]
+                if gv < gold:
+                    if done[v]:
+                        continue  # settled nodes are final (never reopened)
+                    if gold == INF:
+                        touched.append(v)
+                        hv = h(v)
+                        if not hv < cutoff:
+                            done[v] = 1  # v reaches no end: never queue it
+                            continue
+                        hc[v] = hv
+                    else:
+                        hv = hc[v]
+                    g[v] = gv
+                    par[v] = u
+                    counter += 1
+                    push(heap, (gv + hv, counter, v))
+                elif gv == gold and lowest_parent and u < par[v] and not done[v]:
+                    par[v] = u  # equal weight: the smaller parent id wins
+            if last:
                 break
-            exit_w = exits.get(u)
-            if exit_w is not None and g[u] + exit_w < g[virtual]:
-                g[virtual] = g[u] + exit_w
-                parent_node[virtual] = u
-                counter += 1
-                push(heap, (g[virtual], counter, virtual))
-                pushed += 1
-        gu = g[u]
-        for v, w, e in adj[u]:
-            if done[v]:
-                continue
-            gv = gu + w
-            if gv < g[v]:
-                g[v] = gv
-                parent_node[v] = u
-                parent_edge[v] = e
-                counter += 1
-                push(heap, (gv + bound(v) if bound else gv, counter, v))
-                pushed += 1
-    if exits is not None and done[virtual]:
-        settled -= 1  # the virtual target is not a network node
-    return g, parent_node, parent_edge, done, SearchStats(settled, pushed)
+        stats = SearchStats(settled, counter)
+        if until == "all":
+            return [], stats, g[:n]
+        routes = []
+        if exit_mode:
+            if done[end]:
+                nodes, edges = _walk_back(arcs, g, par, par[end])
+                routes.append((True, g[end], nodes, edges))
+            else:
+                routes.append(NOT_FOUND)
+            return routes, stats, None
+        for t in ends:
+            best, best_node = INF, -1
+            for x, exit_w in t.items():  # the first exit in mapping order wins ties
+                if done[x] and g[x] + exit_w < best:
+                    best, best_node = g[x] + exit_w, x
+            if best_node < 0:
+                routes.append(NOT_FOUND)
+            else:
+                nodes, edges = _walk_back(arcs, g, par, best_node)
+                routes.append((True, best, nodes, edges))
+        return routes, stats, None
+    finally:
+        for v in touched:
+            g[v] = INF
+            done[v] = 0
+        arcs._release(work)
 
 
-def astar(adj: Adjacency, source: int | Sequence[tuple[int, float]],
-          target: int | Mapping[int, float],
-          h: Sequence[float] | Callable[[int], float] | None = None) -> SearchResult:
-    """Least-weight route from source to target (A*; uniform-cost search when h is None).
+def _walk_back(arcs: Arcs, g: list[float], par: list[int], last: int) -> tuple[tuple, tuple]:
+    """The route to `last` as (nodes, edge ids), from the parents the search recorded: from each
+    parent u the first arc to v with g(u) + w = g(v) (the arc the search took)."""
+    heads, weights, edge = arcs.heads, arcs.weights, arcs.edge
+    nodes, edges = [last], []
+    v = last
+    u = par[v]
+    while u != -1:
+        hu, wu, gu, gv = heads[u], weights[u], g[u], g[v]
+        i = hu.index(v)
+        while gu + wu[i] != gv:
+            i = hu.index(v, i + 1)
+        edges.append(edge(u, i))
+        nodes.append(u)
+        v = u
+        u = par[v]
+    nodes.reverse()
+    edges.reverse()
+    return tuple(nodes), tuple(edges)
+
+
+def astar(adj: Adjacency | Arcs, source: int | Sequence[tuple[int, float]],
+          target: int | Mapping[int, float], h: Bound = None) -> SearchResult:
+    """Least-weight route from the sources to the exits (A*).
+
+    Several sources and exits are one virtual source and one virtual end joined to them by arcs
+    of their start and exit weights (module docstring), so the optimality argument holds as for
+    one source and one target.
 
     Parameters
     ----------
-    adj : sequence of sequences of (head, weight, edge id)
-        The network; weights non-negative (cost, hours, km or kg CO2e).
-    source : int or sequence of (node, start weight)
-        A node id, or several nodes with the weight of starting there.
-    target : int or mapping of node -> exit weight
-        A node id, or several exits: the route ends at one of them and pays its exit weight.
-        Several sources and exits are the same as one virtual source and one virtual target
-        joined to them by arcs of those weights, so the argument at the top of this module
-        holds with h(virtual target) = 0 and h(exit node) = 0 (the caller's bound must be 0 at
-        exits).
-    h : sequence of float, callable or None
-        Consistent lower bound per node (indexed by node id, or a function); None: h = 0.
+    adj : sequence of rows ``[(head, weight, edge id), ...]`` per node, or Arcs
+        Weights non-negative, in the caller's unit (currency, hours, km or kg CO2e). Passing the
+        same `Arcs` to many searches reuses its split rows and work arrays.
+    source : int or sequence of (node id, start weight)
+        One node (start weight 0), or several with the weight paid before the first arc.
+    target : int or mapping node id -> exit weight
+        One node (exit weight 0), or several exits: the route ends at one of them and pays its
+        exit weight.
+    h : sequence indexed by node id, callable node id -> float, or None
+        Consistent lower bound on the remaining weight, same unit, 0 at the exits; None for
+        uniform-cost search.
 
     Returns
     -------
     SearchResult
-        The route without the virtual ends; ``weight`` includes the start and exit weights
-        (in the weights' unit); ``found`` is False and ``weight`` inf when no exit is reachable.
-
-    Examples
-    --------
-    >>> adj = [[(1, 2.0, 0), (2, 5.0, 1)], [(2, 1.0, 2)], []]
-    >>> r = astar(adj, 0, 2)
-    >>> r.weight, r.nodes, r.edges
-    (3.0, (0, 1, 2), (0, 2))
+        `weight` includes the start and exit weights (inf when no route); `nodes` run from a
+        source to an exit, `edges` are the edge ids of the steps (the virtual ends excluded).
     """
-    if h is None:
-        bound = None
-    elif callable(h):
-        bound = h
-    else:
-        bound = h.__getitem__
-    starts = [(source, 0.0)] if isinstance(source, int) else list(source)
-    exits = {target: 0.0} if isinstance(target, int) else dict(target)
-    g, parent_node, parent_edge, done, stats = _label_setting(adj, starts, bound, exits)
-    virtual = len(adj)
-    if not done[virtual]:
-        return SearchResult(False, float("inf"), (), (), stats)
-    nodes, edges = _walk_back(parent_node, parent_edge, parent_node[virtual])
-    return SearchResult(True, g[virtual], nodes, edges, stats)
+    starts = [(source, 0.0)] if isinstance(source, int) else source
+    exits = {target: 0.0} if isinstance(target, int) else target
+    routes, stats, _ = _label_setting(_arcs(adj), starts, (exits,), h, until="exit")
+    return SearchResult(*routes[0], stats)
 
 
-def _walk_back(parent_node: list[int], parent_edge: list[int], end: int) -> tuple[tuple, tuple]:
-    """The route to `end` as (nodes, edges), from the parents the search recorded."""
-    nodes, edges = [end], []
-    v = end
-    while parent_node[v] != -1:
-        edges.append(parent_edge[v])
-        v = parent_node[v]
-        nodes.append(v)
-    return tuple(reversed(nodes)), tuple(reversed(edges))
-
-
-def dijkstra_all(adj: Adjacency, source: int) -> list[float]:
-    """Least weight from `source` to every node (inf where unreachable), in the weights' unit.
-
-    Used for the reverse-search checks of the bound and for reachability reports.
-
-    Examples
-    --------
-    >>> dijkstra_all([[(1, 2.0, 0)], [], []], 0)
-    [0.0, 2.0, inf]
-    """
-    return _label_setting(adj, [(source, 0.0)])[0]
-
-
-def one_to_many(adj: Adjacency, source: Sequence[tuple[int, float]],
-                targets: Sequence[Mapping[int, float]]) -> list[SearchResult]:
-    """One uniform-cost search from `source` that serves several targets.
+def dijkstra_all(adj: Adjacency | Arcs, source: int) -> list[float]:
+    """Least weight from `source` to every node, for the reverse-search checks of the bound and
+    for reachability reports.
 
     Parameters
     ----------
-    adj : sequence of sequences of (head, weight, edge id)
-    source : sequence of (node, start weight)
-    targets : sequence of mappings of exit node -> exit weight
-        Each as ``target`` in `astar`.
+    adj : sequence of rows ``[(head, weight, edge id), ...]`` per node, or Arcs
+        Non-negative weights, caller's unit.
+    source : int
+
+    Returns
+    -------
+    list of float
+        Indexed by node id, the caller's unit; inf where `source` cannot reach.
+    """
+    _routes, _stats, weights = _label_setting(_arcs(adj), ((source, 0.0),), until="all")
+    return weights
+
+
+def one_to_many(adj: Adjacency | Arcs, source: Sequence[tuple[int, float]],
+                targets: Sequence[Mapping[int, float]]) -> list[SearchResult]:
+    """One uniform-cost search from the sources that serves several targets.
+
+    It stops once every exit node of every target is settled, so each target's least weight is
+    min over its exits of g(exit) + exit weight, exactly what `astar` returns for it alone (the
+    settled g values are final: module docstring, with h = 0).
+
+    Parameters
+    ----------
+    adj : sequence of rows ``[(head, weight, edge id), ...]`` per node, or Arcs
+        Non-negative weights, caller's unit.
+    source : sequence of (node id, start weight)
+    targets : sequence of mappings exit node id -> exit weight, as `astar`'s target
 
     Returns
     -------
     list of SearchResult
-        One per target, in order. The search stops as soon as every exit node of every target
-        is settled, so each target's least weight is min over its exits of g(exit) + exit
-        weight, exactly what `astar` returns for it alone (settled g values are final, by the
-        argument at the top of this module with h = 0). Statistics are shared: each result
-        carries the whole search's counts.
+        One per target, in order; weights include start and exit weights. Statistics are the
+        whole search's: each result carries the same counts.
     """
-    waiting: set[int] = set()
-    for t in targets:
-        waiting.update(t)
-    g, parent_node, parent_edge, _done, stats = _label_setting(adj, list(source), stop=waiting)
-    out = []
-    for t in targets:
-        best, best_node = float("inf"), -1
-        for x, exit_w in t.items():  # first exit in mapping order wins ties, as in astar's queue
-            if g[x] + exit_w < best:
-                best, best_node = g[x] + exit_w, x
-        if best_node < 0:
-            out.append(SearchResult(False, float("inf"), (), (), stats))
-            continue
-        nodes, edges = _walk_back(parent_node, parent_edge, best_node)
-        out.append(SearchResult(True, best, nodes, edges, stats))
-    return out
+    routes, stats, _ = _label_setting(_arcs(adj), source, targets, until="every", relax_last=True)
+    return [SearchResult(*r, stats) for r in routes]

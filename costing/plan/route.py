@@ -154,7 +154,7 @@ class Router:
                 settled = sum(r.stats.settled for r in raw)
                 pushed = sum(r.stats.pushed for r in raw)
             else:  # one search: every result carries its whole count
-                results = one_to_many(cn.adj, sources, targets)
+                results = one_to_many(cn.arcs, sources, targets)
                 settled = results[0].stats.settled if results else 0
                 pushed = results[0].stats.pushed if results else 0
             self.stats.batches += 1
@@ -179,7 +179,7 @@ class Router:
             res = _with_ends(engine.astar(sources[0][0], d, lower_bound=cn.bound(cn.index[s.destination])),
                              sources[0][1], exits[d])
         else:
-            res = astar(cn.adj, sources, exits, cn.bound(cn.index[s.destination]))
+            res = astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
         self.stats.searches += 1
         self.stats.settled += res.stats.settled
         self.stats.pushed += res.stats.pushed
