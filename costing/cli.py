@@ -75,6 +75,20 @@ def _parser() -> argparse.ArgumentParser:
     m.add_argument("-o", "--output", metavar="DIFF", required=True, help="comparison workbook to write")
     m.add_argument("--overwrite", action="store_true", help="replace DIFF if it exists")
     m.add_argument("--quiet", action="store_true", help="print only errors")
+
+    a = sub.add_parser("addon", help="the LibreOffice Calc extension (Route costing menu)",
+                       description="Build the LibreOffice Calc extension; install it with `unopkg add`.")
+    a_sub = a.add_subparsers(dest="addon_command", metavar="ACTION", parser_class=_Parser)
+    a_sub.required = True
+    b = a_sub.add_parser("build", help="write the extension (.oxt)",
+                         description="Write the Route costing extension. It finds costing in the folders "
+                         "this Python imports it from (recorded in the extension), COSTING_PYTHONPATH, "
+                         "or LibreOffice's own Python.")
+    b.add_argument("-o", "--output", metavar="PATH", default="costing.oxt", help="default: costing.oxt")
+    b.add_argument("--python-path", metavar="DIRS", default=None,
+                   help="folders holding costing and its dependencies, for LibreOffice's Python "
+                   "(default: where this Python finds them; '' for none)")
+    b.add_argument("--overwrite", action="store_true", help="replace PATH if it exists")
     return p
 
 
@@ -100,6 +114,8 @@ def main(argv: list[str] | None = None) -> int:
             return _demo(args)
         if args.command == "compare":
             return _compare(args)
+        if args.command == "addon":
+            return _addon(args)
     except UsageError as e:
         print(f"costing: error: {e}", file=sys.stderr)
         return EXIT_USAGE
@@ -372,6 +388,20 @@ def _compare(args) -> int:
         counts = ", ".join(f"{n} {k}" for k, n in cmp.counts.items() if n)
         print(f"{counts}; total {cmp.old_total:,.2f} -> {cmp.new_total:,.2f} {cmp.currency} "
               f"({cmp.total_delta:+,.2f}); wrote {args.output}")
+    return EXIT_OK
+
+
+def _addon(args) -> int:
+    from costing.addon.build import build, python_version_note
+
+    if not args.output.lower().endswith(".oxt"):
+        raise UsageError(f"PATH must end in .oxt: {args.output}")
+    if os.path.exists(args.output) and not args.overwrite:
+        raise UsageError(f"{args.output} exists; add --overwrite to replace it, or choose another name")
+    setting = build(args.output, args.python_path)
+    print(f"extension written: {args.output} (finds costing in: {setting or 'LibreOffice Python only'}; "
+          f"built with Python {python_version_note()}, LibreOffice's must match). "
+          f"Install: unopkg add {args.output}")
     return EXIT_OK
 
 

@@ -1,0 +1,1 @@
+"""The LibreOffice Calc extension "Route costing": `core` (plain logic), `glue` (UNO), `build`."""
