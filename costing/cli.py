@@ -240,11 +240,15 @@ def _raise_terminated(signum, _frame):
 def _stop_signals_unwind():
     """While the block runs, SIGTERM and SIGHUP raise Terminated (as Ctrl-C raises
     KeyboardInterrupt), so `finally` and `except BaseException` clean-ups run. Outside the main
-    thread (where handlers cannot be set) nothing changes."""
+    thread (where handlers cannot be set), and for a signal whose handler the host program set
+    outside Python (getsignal gives None, e.g. inside the spreadsheet application that runs the
+    add-on), nothing changes: that handler could not be put back."""
     wanted = [getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n)]
     old = {}
     try:
         for sig in wanted:
+            if signal.getsignal(sig) is None:
+                continue
             old[sig] = signal.signal(sig, _raise_terminated)
     except ValueError:  # not the main thread
         pass
