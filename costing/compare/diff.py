@@ -20,6 +20,7 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
 from costing.contract.inputs import normalise_header
+from costing.contract.outputs import RUN_KEYS
 from costing.errors import CompareError
 from costing.money import minor_unit, round_money
 from costing.workbook.reader import (
@@ -50,8 +51,6 @@ KIND_NOTES = {
 }
 
 REQUIRED_SUMMARY = ("shipment_id", "status", "total_cost")
-RUN_KEYS = {"currency": "setting: currency", "input_name": "input file",
-            "input_sha256": "input SHA-256", "run_at": "run at (UTC)", "tool": "tool"}
 _COSTED_FIX = ("give the costed workbook written by `costing run INPUT -o OUTPUT` (sheets Summary, "
                "Legs, Problems, Run)")
 _NO_CACHE_FIX = ("the workbook was saved by a program that keeps formulas but not their results; open "

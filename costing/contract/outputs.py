@@ -20,6 +20,16 @@ PROBLEMS = "Problems"
 RUN = "Run"
 SHEETS = (SUMMARY, SCENARIO_COMPARISON, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
 
+# Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
+# "setting: " + its name.
+RUN_TOOL = "tool"
+RUN_AT = "run at (UTC)"
+RUN_INPUT_NAME = "input file"
+RUN_INPUT_SHA256 = "input SHA-256"
+RUN_SETTING_PREFIX = "setting: "
+RUN_KEYS = {"currency": RUN_SETTING_PREFIX + "currency", "input_name": RUN_INPUT_NAME,
+            "input_sha256": RUN_INPUT_SHA256, "run_at": RUN_AT, "tool": RUN_TOOL}
+
 # Legs columns: (header, width, kind). kind: text | int | km | hours | money | rate | kg | plain.
 LEG_COLUMNS = [
     ("shipment_id", 12, "text"),

@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
+from costing.contract import outputs as out
 from costing.contract.outputs import LEG, SUM
 from costing.model import ERROR, INFO, WARNING, Model
 from costing.money import round_money
@@ -82,10 +83,10 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     ws.set_column(1, 1, 90, w.f["wrap"])
     f = w.f
     rows: list[tuple[str, object]] = [
-        ("tool", f"costing {__version__}"),
-        ("run at (UTC)", info.created.strftime("%Y-%m-%d %H:%M:%S")),
-        ("input file", info.input_name),
-        ("input SHA-256", info.input_sha256),
+        (out.RUN_TOOL, f"costing {__version__}"),
+        (out.RUN_AT, info.created.strftime("%Y-%m-%d %H:%M:%S")),
+        (out.RUN_INPUT_NAME, info.input_name),
+        (out.RUN_INPUT_SHA256, info.input_sha256),
         ("caution", CAUTION),
         ("rounding", f"money rounded half away from zero to {w.places} decimals "
                      f"({model.settings.currency}, ISO 4217 minor unit) per leg component; "
@@ -99,7 +100,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
 
     for name in (spec.name for spec in SETTINGS):  # every setting, as used (defaults filled in)
         v = getattr(s, name)
-        rows.append((f"setting: {name}", "(blank: default)" if v is None else v))
+        rows.append((f"{out.RUN_SETTING_PREFIX}{name}", "(blank: default)" if v is None else v))
     counts: dict[str, int] = {}
     for x in results:
         counts[x.status] = counts.get(x.status, 0) + 1
