@@ -294,24 +294,24 @@ def _label_setting(arcs: Arcs, starts: Iterable[tuple[int, float]],
                 if gv < gold:
                     if done[v]:
                         continue  # settled nodes are final (never reopened)
-                    if gold == INF:
+                    if not bounded:
+                        if gold == INF:
+                            touched.append(v)
+                        key = gv
+                    elif gold == INF:
                         touched.append(v)
-                        if bounded:
-                            hv = h(v)
-                            if not hv < cutoff:
-                                done[v] = 1  # v reaches no end: never queue it
-                                continue
-                            hc[v] = hv
-                        else:
-                            hv = 0.0
-                    elif bounded:
-                        hv = hc[v]
+                        hv = h(v)
+                        if not hv < cutoff:
+                            done[v] = 1  # v reaches no end: never queue it
+                            continue
+                        hc[v] = hv
+                        key = gv + hv
                     else:
-                        hv = 0.0
+                        key = gv + hc[v]
                     g[v] = gv
                     par[v] = u
                     counter += 1
-                    push(heap, (gv + hv, counter, v))
+                    push(heap, (key, counter, v))
                 elif gv == gold and lowest_parent and u < par[v] and not done[v]:
                     par[v] = u  # equal weight: the smaller parent id wins
             if last:
