@@ -395,7 +395,12 @@ class SearchEngine:
         self._ip = memoryview(g.indptr)
         self._eid = memoryview(np.ascontiguousarray(g.edge_ids))
         # The rows as the search core reads them (it also keeps its work arrays there).
-        self._arcs = Arcs(n, self._heads, self._wts, self._load_row, self._edge)
+        eid, ip = self._eid, self._ip
+
+        def edge(u: int, i: int) -> int:
+            return eid[ip[u] + i]
+
+        self._arcs = Arcs(n, self._heads, self._wts, self._load_row, edge)
         self.lm = choose_landmarks(self._fwd, self._bwd, n, landmarks, seed)
         self._to_rows = [memoryview(r) for r in self.lm.to_lm]
         self._from_rows = [memoryview(r) for r in self.lm.from_lm]
@@ -489,9 +494,22 @@ class SearchEngine:
     # -- point to point --------------------------------------------------------------------------
 
     def astar(self, source: int, target: int, lower_bound: LowerBound = None) -> SearchResult:
-        """Least-weight route from source to target (caller's ids). `lower_bound`: an optional
-        consistent lower bound towards target, indexed by the caller's node ids (for example
-        `CompactNetwork.bound(target)`)."""
+        """Least-weight route from source to target: A* with the landmark bound.
+
+        Parameters
+        ----------
+        source, target : int
+            The caller's node ids.
+        lower_bound : sequence or array indexed by the caller's node ids, or None
+            An optional consistent lower bound towards `target`, in the weights' unit (for
+            example `CompactNetwork.bound(target)`); the larger of it and the landmark bound
+            is used.
+
+        Returns
+        -------
+        SearchResult
+            Weight in the weights' unit (inf when no route), the caller's node and edge ids.
+        """
         s, t = self._int[source], self._int[target]
         res = self._astar(s, t, lower_bound)
         self.stats.queries += 1
@@ -513,9 +531,6 @@ class SearchEngine:
         self._wts[u] = tuple(self._wts_mv[a:b])
         return hu
 
-    def _edge(self, u: int, i: int) -> int:
-        return self._eid[self._ip[u] + i]
-
     def _external(self, route: tuple, stats: SearchStats) -> SearchResult:
         """A route of the core (internal node ids) as a SearchResult in the caller's ids."""
         found, weight, nodes, edges = route
@@ -528,11 +543,28 @@ class SearchEngine:
 
     def one_to_many(self, source: int, targets: Sequence[int], method: str = "python-many",
                     lower_bound: Callable[[int], LowerBound] | None = None) -> list[SearchResult]:
-        """Routes from source to each target (caller's ids), in the order given, by one
-        strategy: "astar" (one A* each), "python-many" (one Dijkstra stopped when every target is
-        settled) or "scipy-all" (compiled one-to-all and vectorised reconstruction). The routes
-        and weights are the same whichever is used. The statistics of a shared search are split
-        over its results (first results take the remainder), so that their sum is the search's."""
+        """Routes from one source to each target, by one strategy.
+
+        The routes and weights are the same whichever strategy is used (module docstring).
+
+        Parameters
+        ----------
+        source : int
+            The caller's node id.
+        targets : sequence of int
+            The caller's node ids; results come in this order.
+        method : {"astar", "python-many", "scipy-all"}
+            One A* each; one Dijkstra stopped when every target is settled; or a compiled
+            one-to-all search and a vectorised reconstruction of the routes.
+        lower_bound : callable target -> lower bound (as `astar`'s), or None
+            For "astar" only.
+
+        Returns
+        -------
+        list of SearchResult
+            Weights in the weights' unit. The statistics of a shared search are split over its
+            results (first results take the remainder), so that their sum is the search's.
+        """
         s = self._int[source]
         tl = [self._int[t] for t in targets]
         if method == "astar":
@@ -699,10 +731,23 @@ class SearchEngine:
     def route_many(self, pairs: Sequence[tuple[int, int]],
                    lower_bound: Callable[[int], LowerBound] | None = None,
                    strategy: str = "auto") -> list[SearchResult]:
-        """Routes for (origin, destination) pairs (caller's ids), in the order given. Pairs are
-        grouped by origin and each group is answered by the strategy `plan` estimates cheapest
-        (or the one forced by `strategy`). `lower_bound(target)` may give a consistent lower
-        bound per target for the A* queries (e.g. `CompactNetwork.bound`)."""
+        """Routes for many (origin, destination) pairs, batched by origin.
+
+        Parameters
+        ----------
+        pairs : sequence of (int, int)
+            The caller's node ids; results come in this order.
+        lower_bound : callable target -> lower bound (as `astar`'s), or None
+            A consistent lower bound per target, in the weights' unit, for the A* queries
+            (e.g. `CompactNetwork.bound`).
+        strategy : {"auto", "astar", "python-many", "scipy-all"}
+            "auto": per origin group the strategy `plan` estimates cheapest.
+
+        Returns
+        -------
+        list of SearchResult
+            One per pair; weights in the weights' unit.
+        """
         groups: dict[int, list[int]] = {}
         for i, (o, _d) in enumerate(pairs):
             groups.setdefault(o, []).append(i)

@@ -81,9 +81,6 @@ Adjacency = Sequence[Sequence[tuple[int, float, int]]]
 Bound = Sequence[float] | Callable[[int], float] | None
 
 INF = float("inf")
-# h(v) = 0 for every node: a C-level callable (0.0 * v is 0.0 for every integer v), cheaper per
-# call than a Python function
-_ZERO_BOUND = (0.0).__mul__
 
 
 @dataclass(frozen=True)
@@ -210,8 +207,9 @@ def _label_setting(arcs: Arcs, starts: Iterable[tuple[int, float]],
         ``until="all"``: the least weight from the sources to every node (inf where
         unreachable); else None.
     """
-    if bound is None:
-        h = _ZERO_BOUND
+    bounded = bound is not None
+    if not bounded:
+        h = None  # h = 0, never evaluated
     elif callable(bound):
         h = bound
     else:
@@ -245,16 +243,17 @@ def _label_setting(arcs: Arcs, starts: Iterable[tuple[int, float]],
                 if done[s]:
                     continue  # already left out by the cutoff
                 touched.append(s)
-                hs = h(s)
-                if not hs < cutoff:
-                    done[s] = 1
-                    continue
-                hc[s] = hs
+                if bounded:
+                    hs = h(s)
+                    if not hs < cutoff:
+                        done[s] = 1
+                        continue
+                    hc[s] = hs
             if g0 < g[s]:
                 g[s] = g0
                 par[s] = -1
                 counter += 1
-                heap.append((g0 + hc[s], counter, s))
+                heap.append((g0 + hc[s] if bounded else g0, counter, s))
         heapq.heapify(heap)
         if until == "every" and not waiting:
             heap.clear()  # nothing to wait for
@@ -295,19 +294,24 @@ def _label_setting(arcs: Arcs, starts: Iterable[tuple[int, float]],
                 if gv < gold:
                     if done[v]:
                         continue  # settled nodes are final (never reopened)
-                    if gold == INF:
+                    if not bounded:
+                        if gold == INF:
+                            touched.append(v)
+                        key = gv
+                    elif gold == INF:
                         touched.append(v)
                         hv = h(v)
                         if not hv < cutoff:
                             done[v] = 1  # v reaches no end: never queue it
                             continue
                         hc[v] = hv
+                        key = gv + hv
                     else:
-                        hv = hc[v]
+                        key = gv + hc[v]
                     g[v] = gv
                     par[v] = u
                     counter += 1
-                    push(heap, (gv + hv, counter, v))
+                    push(heap, (key, counter, v))
                 elif gv == gold and lowest_parent and u < par[v] and not done[v]:
                     par[v] = u  # equal weight: the smaller parent id wins
             if last:
