@@ -142,13 +142,6 @@ def _template(args) -> int:
     return EXIT_OK
 
 
-def _load(path: str):
-    """read + check; returns (model or None, problems, sha256)."""
-    from costing.pipeline import load
-
-    return load(path)
-
-
 # More than FLOOD problems of one kind are summarised on stderr: the first SHOWN in full, then
 # one line with the count and the next cells.
 FLOOD, SHOWN = 10, 3
@@ -193,9 +186,11 @@ def _print_problems(problems: list[Problem], quiet: bool = False, full_list: str
 
 
 def _check(args) -> int:
+    from costing import pipeline
+
     if not os.path.exists(args.input):
         raise UsageError(f"input file not found: {args.input}")
-    model, problems, _ = _load(args.input)
+    model, problems, _ = pipeline.load(args.input)
     errors = [p for p in problems if p.severity == ERROR]
     for p in problems:
         print(f"{p.severity}: {p}")
@@ -332,7 +327,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     _check_output_path(output, input_path, args.overwrite)
     times: dict[str, float] = {}
     started = t0 = time.perf_counter()
-    model, problems, digest = _load(input_path)
+    model, problems, digest = pipeline.load(input_path)
     times["read and validate"] = time.perf_counter() - t0
     errors = [p for p in problems if p.severity == ERROR]
     if model is None or errors:

@@ -64,9 +64,25 @@ class Objective:
         """True when the objective's value is an amount of the run's currency."""
         return self.unit == "currency"
 
-    def coefficients(self, settings) -> list[tuple[str, float]]:
-        """(quantity, coefficient) for each term, coefficients read from ``settings``."""
-        return [(q, 1.0 if c is None else float(getattr(settings, c))) for q, c in self.terms]
+    def combine(self, quantity, coefficient) -> float:
+        """The objective's value: the sum of coefficient x quantity over the terms, in term order.
+
+        Parameters
+        ----------
+        quantity : callable
+            ``quantity(name) -> float`` for each quantity the terms name.
+        coefficient : callable
+            ``coefficient(setting name) -> float`` for the terms whose coefficient is a Setting.
+
+        A one-term objective with coefficient 1 is its quantity exactly (no arithmetic), so a
+        lane's weight and a route's value are the same float the quantity is.
+        """
+        if self.quantity is not None:
+            return quantity(self.quantity)
+        total = 0.0
+        for q, c in self.terms:
+            total += (1.0 if c is None else coefficient(c)) * quantity(q)
+        return total
 
     def unit_text(self, currency: str) -> str:
         """The unit as the output prints it (e.g. ``EUR``, ``h``, ``kg CO2e``)."""

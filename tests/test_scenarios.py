@@ -19,8 +19,9 @@ from costing.check.scenarios import (
 )
 from costing.check.validate import validate
 from costing.contract.inputs import SETTINGS, SHEETS_BY_NAME
+from costing.contract.rows import RawRow, RawSheet
 from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, RateCard, Settings, Shipment
-from costing.workbook.reader import RawRow, RawSheet, read_workbook
+from costing.workbook.reader import read_workbook
 from tests.conftest import base_data
 
 NAMES = ("scenario", "sheet", "key", "column", "change")  # columns A to E

@@ -109,16 +109,8 @@ def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
 
 
 def _weigh(model: Model, profile: Profile, quantity_weight) -> float:
-    """The profile's objective as the weighted sum of quantity weights (costing.objectives).
-    A one-term objective is its quantity's weight; blended is 1 x cost + value_of_time x hours,
-    summed in that order."""
-    obj = objective(profile.objective)
-    if obj.quantity is not None:
-        return quantity_weight(obj.quantity)
-    total = 0.0
-    for q, coefficient in obj.coefficients(model.settings):
-        total += coefficient * quantity_weight(q)
-    return total
+    """The profile's objective as the weighted sum of quantity weights (costing.objectives)."""
+    return objective(profile.objective).combine(quantity_weight, lambda c: getattr(model.settings, c))
 
 
 def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: int) -> float:

@@ -39,39 +39,27 @@ def lane_usage(results: list[CostedShipment]) -> list[LaneTotals]:
     """Legs, tonnes, vehicle trips, vehicle-km and cost per lane (both directions together),
     costliest first (ties by lane id).
 
-    One row per leg into a pandas frame, grouped by lane. Sums are taken in leg order
-    (``math.fsum`` would differ from the spreadsheet's SUM by an ulp now and then; the plain
-    sequential sum is what the Lane usage formulas recompute).
+    Sums are taken in leg order, as the Lane usage formulas recompute them (a compensated sum,
+    such as pandas' groupby sum, differs from the spreadsheet's SUM in the last bit now and then).
 
     Returns
     -------
     list of LaneTotals
         tonnes in t, vehicle_km in km, cost in the run's currency.
     """
-    import pandas as pd
-
-    rows = [(leg.use.lane, leg.weight_t, leg.vehicles, leg.vehicles * leg.use.km, leg.leg_cost)
-            for r in results for leg in r.legs]
-    if not rows:
-        return []
-    frame = pd.DataFrame(rows, columns=["lane", "tonnes", "vehicle_trips", "vehicle_km", "cost"])
-    frame["lane_id"] = [lane.lane_id for lane in frame["lane"]]
-    grouped = frame.groupby("lane_id", sort=False)
-    sums = grouped[["tonnes", "vehicle_km", "cost"]].agg(_sequential_sum)
-    out = [LaneTotals(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode,
-                      legs=int(n), tonnes=sums.at[lid, "tonnes"], vehicle_trips=int(trips),
-                      vehicle_km=sums.at[lid, "vehicle_km"], cost=sums.at[lid, "cost"])
-           for lid, lane, n, trips in zip(grouped.size().index, grouped["lane"].first(), grouped.size(),
-                                          grouped["vehicle_trips"].sum())]
-    return sorted(out, key=lambda u: (-u.cost, u.lane_id))
-
-
-def _sequential_sum(values) -> float:
-    """Left-to-right float sum (pandas' own sum compensates, which can differ in the last bit)."""
-    total = 0.0
-    for v in values:
-        total += float(v)
-    return total
+    out: dict[str, LaneTotals] = {}
+    for r in results:
+        for leg in r.legs:
+            lane = leg.use.lane
+            u = out.get(lane.lane_id)
+            if u is None:
+                u = out[lane.lane_id] = LaneTotals(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode)
+            u.legs += 1
+            u.tonnes += leg.weight_t
+            u.vehicle_trips += leg.vehicles
+            u.vehicle_km += leg.vehicles * leg.use.km
+            u.cost += leg.leg_cost
+    return sorted(out.values(), key=lambda u: (-u.cost, u.lane_id))
 
 
 def analyse(model: Model, router: Router, results: list[CostedShipment],

@@ -161,13 +161,8 @@ class CostedShipment:
     @property
     def objective_value(self) -> float:
         """The route's value under its objective (costing.objectives), in the objective's unit."""
-        obj = objective(self.objective)
-        if obj.quantity is not None:
-            return self.quantity(obj.quantity)
-        value = 0.0
-        for q, c in obj.terms:
-            value += (1.0 if c is None else self.value_of_time) * self.quantity(q)
-        return value
+        coefficients = {"value_of_time_per_hour": self.value_of_time}  # the Settings a route carries
+        return objective(self.objective).combine(self.quantity, coefficients.__getitem__)
 
 
 def cost_route(model: Model, shipment: Shipment, objective: str,

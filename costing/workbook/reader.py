@@ -33,9 +33,10 @@ MAX_COLUMNS = 16_384
 # At most this many problems of one kind per sheet (merged ranges, unused columns) are listed.
 MAX_LISTED = 20
 
-# Everything openpyxl, zipfile, zlib and the XML parser raise on a damaged or hostile file.
+# Everything openpyxl, zipfile, zlib and the XML parser raise on a damaged or hostile file
+# (public: readers of costed workbooks catch the same).
 # defusedxml's EntitiesForbidden is a ValueError; xml.etree's ParseError is a SyntaxError.
-_READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, OverflowError,
+READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, OverflowError,
                 SyntaxError, EOFError, OSError, RuntimeError, NotImplementedError,
                 zipfile.BadZipFile, zlib.error)
 
@@ -225,7 +226,7 @@ _HOSTILE_FIX = ("spreadsheet applications do not write XML entities: do not open
                 "the sender for a workbook saved from a spreadsheet application")
 
 
-def _detail(e: BaseException) -> tuple[str, str]:
+def describe_read_error(e: BaseException) -> tuple[str, str]:
     """(what went wrong, what to do), in words a coordinator can act on, for what openpyxl,
     zipfile or the XML parser raised."""
     names = {type(e).__name__, type(e.__cause__).__name__ if e.__cause__ else ""}
@@ -279,8 +280,8 @@ def _open(path: str, data_only: bool) -> _Book:
         except BaseException:
             f.close()
             raise
-    except _READ_ERRORS as e:
-        detail, fix = _detail(e)
+    except READ_ERRORS as e:
+        detail, fix = describe_read_error(e)
         raise _refuse(f"{os.path.basename(path)} could not be read as a workbook: {detail}",
                       fix) from None
 
@@ -387,9 +388,9 @@ def read_workbook(path: str) -> RawWorkbook:
                 sheet = _read_sheet(spec, title, ws, ws_f, merges, problems)
                 if sheet is not None:
                     sheets[spec.name] = sheet
-    except _READ_ERRORS as e:
+    except READ_ERRORS as e:
         where = f"sheet {current} of " if current else ""
-        detail, fix = _detail(e)
+        detail, fix = describe_read_error(e)
         raise InputError([Problem(ERROR, current, "", f"{where}{os.path.basename(path)} could "
                                   f"not be read: {detail}", fix)]) from None
     finally:
@@ -403,7 +404,7 @@ def _blank(v: object) -> bool:
     return v is None or (isinstance(v, str) and v.strip() == "")
 
 
-def _rows(ws, min_row: int, max_row: int | None, max_col: int | None):
+def iter_rows(ws, min_row: int = 1, max_row: int | None = None, max_col: int | None = None):
     """Rows of a read-only sheet as value tuples. The sheet's stated dimension is ignored:
     a wrong or hostile one (A1:XFD1048576) would otherwise pad every row to 16,384 cells and
     add empty rows up to row 1,048,576."""
@@ -416,7 +417,7 @@ def _looks_like_header(row, wanted) -> int:
 
 
 def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawSheet | None:
-    header = next(_rows(ws_values, 1, 1, None), None)
+    header = next(iter_rows(ws_values, 1, 1, None), None)
     header = tuple(header or ())[:MAX_COLUMNS]
     wanted = {c.name: c for c in spec.columns}
     names = ", ".join(c.name for c in spec.columns if c.required)
@@ -450,7 +451,7 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
     if not columns and not hints:
         # Nothing in row 1 names a column: the header is lower down, or missing.
         width = min(max(len(header), 30) + 5, MAX_COLUMNS)
-        for r, row in enumerate(_rows(ws_values, 2, 30, width), start=2):
+        for r, row in enumerate(iter_rows(ws_values, 2, 30, width), start=2):
             if _looks_like_header(row, wanted) >= 2:
                 problems.append(Problem(ERROR, title, f"A{r}", f"the column names of {spec.name} "
                                         f"are in row {r}, not row 1",
@@ -491,8 +492,8 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
     width = max(columns.values())
     id_columns = {c.name for c in spec.columns if c.kind in ("id", "depot", "vehicle")
                   or (spec.name == "Rates" and c.name == "vehicle")}
-    rows_v = _rows(ws_values, 2, None, width)
-    rows_f = _rows(ws_formulas, 2, None, width) if ws_formulas is not None else None
+    rows_v = iter_rows(ws_values, 2, None, width)
+    rows_f = iter_rows(ws_formulas, 2, None, width) if ws_formulas is not None else None
     r = 1
     for vals in rows_v:
         r += 1
@@ -517,7 +518,7 @@ def _read_sheet(spec, title, ws_values, ws_formulas, merges, problems) -> RawShe
                 if stripped and stripped != v and name in id_columns:
                     _spaces_problem(problems, title, f"{get_column_letter(idx)}{r}", name, v, stripped)
                 v = stripped or None
-            if v is None and _is_formula(f):
+            if v is None and is_formula(f):
                 formula_cols.add(name)
                 empty = False
             if v is not None:
@@ -536,7 +537,7 @@ def _spaces_problem(problems, title, cell, name, raw, stripped) -> None:
                             "spreadsheet would not find it as it is)"))
 
 
-def _is_formula(f: object) -> bool:
+def is_formula(f: object) -> bool:
     if isinstance(f, str):
         return f.startswith("=")
     # array and data-table formulas come back as objects with a text reference
@@ -584,8 +585,6 @@ def _merged_problems(spec, title, columns, merges, problems) -> None:
 
 # -- public reading API (used by costing.compare and the spreadsheet add-on) -----------------------
 
-READ_ERRORS = _READ_ERRORS  # what opening or reading a damaged or hostile workbook can raise
-
 
 def open_workbook(path: str, data_only: bool = True):
     """Open an .xlsx workbook read-only, after the container checks (zip and XML guards).
@@ -608,19 +607,3 @@ def open_workbook(path: str, data_only: bool = True):
     """
     _check_container(path)
     return _open(path, data_only=data_only)
-
-
-def iter_rows(ws, min_row: int = 1, max_row: int | None = None, max_col: int | None = None):
-    """Rows of a read-only sheet as tuples of values (1-based, inclusive bounds), ignoring the
-    sheet's stated dimension (a hostile A1:XFD1048576 would pad every row)."""
-    return _rows(ws, min_row, max_row, max_col)
-
-
-def describe_read_error(e: BaseException) -> tuple[str, str]:
-    """(what went wrong, what to do) for an exception of ``READ_ERRORS``."""
-    return _detail(e)
-
-
-def is_formula(value: object) -> bool:
-    """Whether a cell value read with ``data_only=False`` is a formula."""
-    return _is_formula(value)
