@@ -71,6 +71,8 @@ class Writer:
         self.wb.set_properties({"title": "Costed routes", "created": created,
                                 "comments": f"Written by costing {__version__}"})
         self.model = model
+        self.streaming = streaming
+        install_layout(self.wb, streaming)
         self.legs_last: dict[str, int] = {}  # Legs sheet name -> its last data row (1-based)
         cur = model.settings.currency
         from costing.money import minor_unit
@@ -107,18 +109,13 @@ class Writer:
 
     def header(self, ws, columns):
         """Write the header row of `columns` (name, width, kind): widths, number formats, notes,
-        frozen header, landscape A4 fit to width, header repeated on every printed page."""
+        frozen header. Print set-up and the final widths follow from what is written (`layout`)."""
         for c, (name, width, kind) in enumerate(columns):
             ws.write_string(0, c, name, self.f["head"])
             ws.set_column(c, c, max(width, len(name) + 2), self.f.get(kind) if kind != "text" else None)
             if name in HEADER_NOTES:
                 ws.write_comment(0, c, HEADER_NOTES[name], {"x_scale": 2, "y_scale": 1.2})
         ws.freeze_panes(1, 0)
-        ws.set_row(0, 30)
-        ws.set_landscape()
-        ws.set_paper(9)
-        ws.fit_to_pages(1, 0)
-        ws.repeat_rows(0)
 
 
 def route_text(res: CostedShipment) -> str:
@@ -139,10 +136,9 @@ def component(res: CostedShipment, name: str) -> float:
 
 
 def page(ws) -> None:
-    """Print set-up for a one-page sheet: landscape A4, fit to one page."""
-    ws.set_landscape()
+    """Kept for sheet modules that ask for print set-up: every sheet of a Writer gets it from
+    `Layout` when the workbook closes (print area, paper, orientation, scale)."""
     ws.set_paper(9)
-    ws.fit_to_pages(1, 1)
 
 
 def sheet_ref(name: str) -> str:
@@ -160,3 +156,334 @@ def shipment_value(res: CostedShipment, col: str) -> float:
                 for leg in res.legs for c in legs_cols)
     kind = SUMMARY_COLUMNS[SUM[col]][2]
     return round_money(total, res.places) if kind == "money" else total
+
+
+# --- layout: widths from what is shown, print set-up -----------------------------------------
+# Every worksheet of a Writer's workbook is measured as it is written (`install_layout`), and
+# when the workbook closes each sheet gets: column widths from its formatted values (bold cells
+# wider; no `###`), long text wrapped at TEXT_CAP characters with taller rows, header cells wide
+# enough for their longest word (never cut mid-word), a print area, the header row repeated on
+# every page, A4 in portrait or landscape by width, and a print scale that fits the sheet's
+# width over as few pages as keep the type at least MIN_FONT_PT. Sheet modules need do nothing.
+
+TEXT_CAP = 60  # widest text column, characters; longer text wraps
+MIN_SCALE = 65  # per cent: 11 pt Calibri prints at 7.15 pt or larger
+MIN_FONT_PT = 11 * MIN_SCALE / 100
+PAGE_W = {"portrait": 595.3 - 100.8, "landscape": 841.9 - 100.8}  # A4 less 0.7 in margins, points
+PAGE_H = {"portrait": 841.9 - 108.0, "landscape": 595.3 - 108.0}
+CAPTION_SPAN = 110  # characters a caption wraps within
+_MEASURED_ROWS = 2000  # rows whose cells are counted to tell captions (a lone long text) apart
+
+
+def col_points(width: float) -> float:
+    """Printed width in points of a column `width` characters wide (Calibri 11: 7 px a digit
+    plus 5 px padding; 0.75 pt a pixel)."""
+    return (int(width * 7 + 0.5) + 5) * 0.75 if width >= 1 else width * 12 * 0.75
+
+
+def _parse_number_format(nf) -> tuple:
+    """(decimals, optional decimals, thousands?, percent?, literal characters) of the first
+    section of a number format; None for General."""
+    if nf in (None, 0, "General", ""):
+        return None
+    if isinstance(nf, int):
+        return (2, 0, True, False, 0)
+    section = nf.split(";")[0]
+    literals = sum(len(q) for q in re.findall(r'"([^"]*)"', section))
+    bare = re.sub(r'"[^"]*"', "", section)
+    literals += len(re.sub(r"[#0,.%?]", "", bare))
+    dec = bare.split(".", 1)[1] if "." in bare else ""
+    return (dec.count("0"), dec.count("#"), "," in bare, "%" in bare, literals)
+
+
+def shown_length(value, nf) -> int:
+    """Characters a number takes when shown with number format `nf`."""
+    if isinstance(value, bool):
+        return 5
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return len(str(value))
+    if v != v or v in (float("inf"), float("-inf")):
+        return 7
+    p = _parse_number_format(nf)
+    if p is None:
+        return len(f"{v:.10g}")
+    zeros, hashes, thousands, percent, literals = p
+    x = abs(v) * (100 if percent else 1)
+    s = f"{x:{',' if thousands else ''}.{zeros + hashes}f}"
+    if hashes:
+        keep = len(s) - hashes
+        s = s[:keep] + s[keep:].rstrip("0")
+        s = s.rstrip(".") if zeros == 0 else s
+    return len(s) + (v < 0) + percent + literals
+
+
+class Layout:
+    """What one worksheet shows, measured as it is written; `finish` sets widths and print."""
+
+    def __init__(self, ws, streaming: bool):
+        self.ws = ws
+        self.streaming = streaming
+        self.width: dict[int, float] = {}  # column -> widest shown value, characters
+        self.head_word: dict[int, float] = {}  # column -> longest word of a header cell
+        self.heads: list[tuple[int, int, str]] = []  # header cells (row, col, text)
+        self.long: list[tuple[int, int, int, bool]] = []  # (row, col, length, bold) text over TEXT_CAP
+        self.captions: list[tuple[int, int, str, object]] = []
+        self.row_cells: dict[int, int] = {}
+        self.col_fmt: dict[int, object] = {}
+        self.declared: dict[int, float] = {}
+        self.max_row = -1
+        self.max_col = -1
+        self.drawings: list[tuple[int, int, float, float]] = []  # row, col, width px, height px
+        self.active = True
+        self.fmt_info: dict[int, tuple] = {}
+
+    def _info(self, fmt, col) -> tuple:
+        if fmt is None:
+            fmt = self.col_fmt.get(col)
+            if fmt is None:
+                return (None, False, False, False)
+        key = id(fmt)
+        got = self.fmt_info.get(key)
+        if got is None:
+            head = bool(fmt.bold and fmt.text_wrap and fmt.bg_color)
+            got = (fmt.num_format, bool(fmt.bold), bool(fmt.text_wrap), head)
+            self.fmt_info[key] = got
+        return got
+
+    def _grow(self, row: int, col: int) -> None:
+        if row > self.max_row:
+            self.max_row = row
+        if col > self.max_col:
+            self.max_col = col
+        if row < _MEASURED_ROWS:
+            self.row_cells[row] = self.row_cells.get(row, 0) + 1
+
+    def text(self, row, col, s, fmt) -> None:
+        if not self.active:
+            return
+        self._grow(row, col)
+        nf, bold, _wrap, head = self._info(fmt, col)
+        s = "" if s is None else str(s)
+        if head:
+            word = max((len(w) for w in s.split()), default=0) * 1.1 + 1.5
+            self.head_word[col] = max(self.head_word.get(col, 0), word)
+            self.heads.append((row, col, s))
+            return
+        n = max((len(part) for part in s.split("\n")), default=0) if s else 0
+        w = n * (1.1 if bold else 1.0) + 1.5
+        if n > 40 and row < _MEASURED_ROWS:  # maybe a caption: decided in finish
+            self.captions.append((row, col, s, fmt))
+            return
+        if n > TEXT_CAP:
+            self.long.append((row, col, len(s), bold))
+            w = TEXT_CAP
+        if w > self.width.get(col, 0):
+            self.width[col] = w
+
+    def number(self, row, col, value, fmt) -> None:
+        if not self.active:
+            return
+        self._grow(row, col)
+        nf, bold, _wrap, _head = self._info(fmt, col)
+        w = shown_length(value, nf) * (1.1 if bold else 1.0) + 2.0
+        if w > self.width.get(col, 0):
+            self.width[col] = w
+
+    # -- finish --
+    def finish(self, wb) -> None:
+        self.active = False
+        ws = self.ws
+        if self.max_col < 0 and not self.drawings:
+            return
+        captions = {}
+        for r, c, text, fmt in self.captions:
+            if self.row_cells.get(r, 0) == 1:
+                captions[(r, c)] = (text, fmt)
+                continue
+            bold = self._info(fmt, c)[1]
+            if len(text) > TEXT_CAP:
+                self.long.append((r, c, len(text), bold))
+            w = min(TEXT_CAP, len(text) * (1.1 if bold else 1.0) + 1.5)
+            self.width[c] = max(self.width.get(c, 0), w)
+        widths: dict[int, float] = {}
+        for c in range(self.max_col + 1):
+            data = self.width.get(c)
+            w = max(data or 0.0, self.head_word.get(c, 0.0))
+            if data is None:  # nothing but a header (or a caption): the width the sheet asked for
+                w = max(w, self.declared.get(c, 8.43))
+            widths[c] = max(3.0, w)
+        wrap = wb.add_format({"text_wrap": True, "valign": "top"})
+        wrapped_cols = {c for _r, c, _n, _b in self.long if (_r, c) not in captions}
+        for c, w in widths.items():
+            fmt = self.col_fmt.get(c)
+            if c in wrapped_cols and fmt is None:
+                fmt = wrap
+            ws.set_column(c, c, round(w, 1), fmt)
+        total_chars = sum(widths.values())
+        heights: dict[int, float] = {}
+        for r, c, n, bold in self.long:
+            if (r, c) in captions:
+                continue
+            lines = -(-int(n * (1.1 if bold else 1.0) * 1.1) // max(1, int(widths[c] - 1)))
+            heights[r] = max(heights.get(r, 15.0), min(409.0, 15.0 * lines))
+        for r, c, s in self.heads:
+            width = max(1, int(widths.get(c, 10) - 1.5))
+            lines, used = 1, 0
+            for word in s.split():
+                n = int(len(word) * 1.1) + 1
+                if used and used + n > width:
+                    lines, used = lines + 1, 0
+                used += n
+            heights[r] = max(heights.get(r, 15.0), 15.0 * lines + 3)
+        if not self.streaming:
+            bold_wrap = wb.add_format({"bold": True, "text_wrap": True, "valign": "top"})
+            for (r, c), (s, f) in captions.items():
+                # wrap over the columns to its right, at most about a printed page wide
+                end, span = c, widths.get(c, 8.43)
+                while end < self.max_col and span < CAPTION_SPAN:
+                    end += 1
+                    span += widths.get(end, 8.43)
+                if len(s) * 1.1 + 2 > span and end > c:
+                    bold = f is not None and f.bold
+                    ws.merge_range(r, c, r, end, s, bold_wrap if bold else wrap)
+                    lines = -(-int(len(s) * 1.15) // max(1, int(span)))
+                    heights[r] = max(heights.get(r, 15.0), 15.0 * lines)
+            for r, h in heights.items():
+                ws.set_row(r, h)
+        # print set-up
+        width_pt = sum(col_points(w) for w in widths.values())
+        last_row, last_col = self.max_row, self.max_col
+        height_pt = 15.0 * (self.max_row + 1)
+        for r, c, wpx, hpx in self.drawings:
+            x = sum(col_points(widths.get(k, 8.43)) for k in range(c))
+            width_pt = max(width_pt, x + wpx * 0.75)
+            height_pt = max(height_pt, 15.0 * r + hpx * 0.75)
+            px, k = x / 0.75 + wpx, 0
+            while px > 0 and k < 200:
+                px -= col_points(widths.get(k, 8.43)) / 0.75
+                k += 1
+            last_col = max(last_col, k - 1)
+            last_row = max(last_row, r + int(hpx / 20) + 1)
+        ws.set_paper(9)
+        orientation = "portrait" if width_pt <= PAGE_W["portrait"] else "landscape"
+        if orientation == "portrait":
+            ws.set_portrait()
+        else:
+            ws.set_landscape()
+        page_w = PAGE_W[orientation]
+        if self.drawings and not self.heads:
+            scale = min(100.0, page_w / width_pt * 100, PAGE_H[orientation] / height_pt * 100)
+            scale = max(scale, MIN_SCALE if height_pt <= PAGE_H[orientation] * 2 else 40)
+        else:
+            cols = [col_points(widths[c]) for c in range(self.max_col + 1)]
+            scale, pages = fit_columns(cols, page_w, repeat_first=bool(self.heads))
+            if pages > 1 and self.heads:
+                ws.repeat_columns(0)
+        ws.set_print_scale(int(scale))
+        ws.print_area(0, 0, max(last_row, 0), max(last_col, 0))
+        if self.heads:
+            ws.repeat_rows(min(r for r, _c, _s in self.heads))
+        self.total_chars = total_chars
+        self.print_scale = int(scale)
+        self.orientation = orientation
+
+
+def fit_columns(cols: list[float], page_w: float, repeat_first: bool = True) -> tuple[float, int]:
+    """(print scale in per cent, pages wide) for columns of these printed widths (points) on a
+    page `page_w` points wide: the fewest pages at MIN_SCALE or larger, at the largest scale that
+    keeps that many. A column is never split; with `repeat_first` the first column is printed
+    again at the left of every page."""
+
+    def pages_at(scale: float) -> int:
+        room = page_w / (scale / 100)
+        pages, used = 1, 0.0
+        for k, w in enumerate(cols):
+            if used and used + w > room:
+                pages += 1
+                used = cols[0] if repeat_first else 0.0
+            used += w
+            del k
+        return pages
+
+    fewest = pages_at(MIN_SCALE)
+    for scale in range(100, MIN_SCALE - 1, -1):
+        if pages_at(scale) <= fewest:
+            return float(scale), fewest
+    return float(MIN_SCALE), fewest
+
+
+def _png_size(data) -> tuple[int, int]:
+    """Width and height in pixels of PNG bytes in a BytesIO (its IHDR chunk); 640 x 480 otherwise."""
+    try:
+        head = data.getvalue()[:24]
+        if head[:8] == b"\x89PNG\r\n\x1a\n":
+            return int.from_bytes(head[16:20], "big"), int.from_bytes(head[20:24], "big")
+    except AttributeError:
+        pass
+    return 640, 480
+
+
+def install_layout(wb, streaming: bool) -> None:
+    """Measure every worksheet `wb` adds from now on and lay each out when `wb` closes."""
+    layouts: list[Layout] = []
+    add = wb.add_worksheet
+
+    def add_worksheet(name=None, *args, **kwargs):
+        ws = add(name, *args, **kwargs)
+        lay = Layout(ws, streaming)
+        ws.layout = lay
+        layouts.append(lay)
+        ws_string, ws_number, ws_formula = ws._write_string, ws._write_number, ws._write_formula
+        ws_set_column, ws_chart, ws_image = ws.set_column, ws.insert_chart, ws.insert_image
+
+        def write_string(row, col, string, cell_format=None):
+            lay.text(row, col, string, cell_format)
+            return ws_string(row, col, string, cell_format)
+
+        def write_number(row, col, number, cell_format=None):
+            lay.number(row, col, number, cell_format)
+            return ws_number(row, col, number, cell_format)
+
+        def write_formula(row, col, formula, cell_format=None, value=0):
+            if isinstance(value, str):
+                lay.text(row, col, value, cell_format)
+            else:
+                lay.number(row, col, value, cell_format)
+            return ws_formula(row, col, formula, cell_format, value)
+
+        def set_column(first_col, last_col, width=None, cell_format=None, options=None):
+            if lay.active and isinstance(first_col, int):
+                for c in range(first_col, min(last_col, first_col + 200) + 1):
+                    lay.col_fmt[c] = cell_format
+                    if width is not None:
+                        lay.declared[c] = width
+            return ws_set_column(first_col, last_col, width, cell_format, options)
+
+        def insert_chart(row, col, chart, options=None):
+            o = options or {}
+            w = chart.width * o.get("x_scale", 1) + o.get("x_offset", 0)
+            h = chart.height * o.get("y_scale", 1) + o.get("y_offset", 0)
+            lay.drawings.append((row, col, w, h))
+            return ws_chart(row, col, chart, options)
+
+        def insert_image(row, col, source, options=None):
+            o = options or {}
+            w, h = _png_size(o.get("image_data"))
+            lay.drawings.append((row, col, w * o.get("x_scale", 1), h * o.get("y_scale", 1)))
+            return ws_image(row, col, source, options)
+
+        ws._write_string, ws._write_number, ws._write_formula = write_string, write_number, write_formula
+        ws.set_column, ws.insert_chart, ws.insert_image = set_column, insert_chart, insert_image
+        return ws
+
+    close = wb.close
+
+    def close_laid_out():
+        for lay in layouts:
+            lay.finish(wb)
+        return close()
+
+    wb.add_worksheet = add_worksheet
+    wb.close = close_laid_out
