@@ -351,15 +351,16 @@ def test_equals_alone_makes_a_cell_blank():
     assert new.settings.objective == "cost"  # blank setting: its default
 
 
-def test_plain_number_sets_with_a_warning():
-    # a number cell 1.85 is read as =1.85, warned: a spreadsheet makes a typed +12.5 into 12.5
+def test_number_cell_is_an_error_naming_the_cell_and_the_fix():
+    # a number cell 1.85 could be a typed +1.85 or =1.85 (a spreadsheet stores both as 1.85) and
+    # 0.1 a typed +10%: never guessed, an error naming the cell (common practice, no source)
     model = base_model()
-    (s,), problems = parse(("s", "Settings", "fuel_price_per_litre", "value", 1.85), model=model)
+    _, problems = parse(("s", "Settings", "fuel_price_per_litre", "value", 1.85), model=model)
     (p,) = problems
-    assert (p.severity, p.cell) == (WARNING, "E2") and "read as =1.85" in p.message
-    assert s.changes[0].op == "set" and s.changes[0].amount == 1.85
+    assert (p.severity, p.cell) == (ERROR, "E2") and "the number 1.85" in p.message
+    assert "as Text" in p.fix and "=1.85" in p.fix
     _, problems = parse(("s", "Lanes", "L1", "toll", 0.1))
-    assert "+10% into 0.1" in problems[0].message
+    assert problems[0].severity == ERROR and "+10%" in problems[0].message
     # the same number typed as text in a Text cell sets without a warning
     (s,), problems = parse(("s", "Settings", "fuel_price_per_litre", "value", "1.85"), model=model)
     assert problems == [] and s.changes[0].amount == 1.85

@@ -279,7 +279,13 @@ def _parse_form(v) -> tuple[str | None, object, str, str, bool]:
         x = float(v)
         if not math.isfinite(x):
             return None, None, f"change is not a finite number ({v})", FORMS, True
-        return "set", x, "", "", True
+        # a spreadsheet stores a typed +10% in a General cell as 0.1 and +12.5 as 12.5: a bare
+        # number cannot say whether it was meant to scale, add or set, so it is never guessed
+        hint = f"; +10% arrives as 0.1, so {_num(x)} may be +{_num(x * 100)}%" if abs(x) < 1 else ""
+        return None, None, (f"change is the number {_num(x)}, not a change: a spreadsheet stores a "
+                            f"typed +12.5 as 12.5{hint}"), (
+            "format the change cell as Text (Format > Cells > Text), then type the change again: "
+            f"+10% or -5% (relative), +12.5 or -3 (added), or ={_num(x)} to set it"), True
     if isinstance(v, (_dt.datetime, _dt.date, _dt.time, _dt.timedelta)):
         return None, None, f"change holds a date or time ({v}), not a change", (
             "format the change cell as Text, then " + FORMS), False
@@ -562,7 +568,7 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
         return None
     if change_v is _REPORTED:
         return None
-    op, amount, message, fix, number_cell = _parse_form(change_v)
+    op, amount, message, fix, _number_cell = _parse_form(change_v)
     if op is None:
         p.add(ERROR, "change", message, fix)
         return None
@@ -580,13 +586,6 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
         if message:
             p.add(ERROR, "change", message, fix)
             return None
-        if number_cell and target.kind == "number":
-            x = float(change_v)
-            hint = " and +10% into 0.1" if abs(x) < 1 else ""
-            p.add(WARNING, "change", f"change is the number {_num(x)}, read as ={_num(x)} (set to "
-                  f"{_num(x)}); a spreadsheet turns a typed +12.5 into 12.5{hint}",
-                  "nothing to do if you meant to set it; to add or scale, format the change cell "
-                  "as Text and type +12.5 or +10% again")
         if target.kind == "currency" and not is_known_currency(amount):
             p.add(WARNING, "change", f"currency {amount} is not in the tool's list; money is rounded "
                   "to 2 decimals", "check the ISO 4217 code")

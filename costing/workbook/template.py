@@ -13,6 +13,8 @@ from costing.contract.inputs import SETTINGS, SHEETS, SheetSpec
 # Validations reach this far down; a coordinator with more rows extends them in the app.
 TEMPLATE_ROWS = 5000
 FIXED_TIME = _dt.datetime(2026, 1, 1, 0, 0, 0)
+# blank rows printed below the header of an empty sheet, to write on
+PRINT_BLANK_ROWS = 25
 
 _NUMBER_FORMATS = {
     "degrees": "0.0000",
@@ -55,8 +57,10 @@ def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None
     head_req = wb.add_format({"bold": True, "bg_color": "#1F4E78", "font_color": "#FFFFFF",
                               "border": 1})
     head_opt = wb.add_format({"bold": True, "bg_color": "#DDEBF7", "border": 1})
-    note_fmt = wb.add_format({"italic": True, "font_color": "#595959", "text_wrap": False})
+    note_fmt = wb.add_format({"italic": True, "font_color": "#595959", "text_wrap": True,
+                              "valign": "top"})
     text_fmt = wb.add_format({"num_format": "@"})
+    date_fmt = wb.add_format({"num_format": "yyyy-mm-dd"})
     fmt_cache: dict[str, object] = {}
 
     def number_format(unit: str):
@@ -75,8 +79,12 @@ def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None
             cell_format = None
             if col.kind == "number":
                 cell_format = number_format(col.unit)
+            elif col.kind == "date":
+                cell_format = date_fmt
+            elif spec.name == "Settings" and col.name == "value":
+                cell_format = None  # General: a typed 1.3 is a number, a typed EUR or yes is text
             elif col.kind in ("id", "text", "depot", "vehicle"):
-                cell_format = text_fmt
+                cell_format = text_fmt  # a typed +10%, =no or 007 stays as typed
             ws.set_column(c, c, col.width, cell_format)
             rng = f"{xl_col_to_name(c)}2:{xl_col_to_name(c)}{TEMPLATE_ROWS}"
             source = _list_source(spec, col)
@@ -99,6 +107,16 @@ def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None
                     "error_message": f"{col.name} takes a number from {lo:g} to {hi:g}."[:255],
                 })
         ws.autofilter(0, 0, 0, len(spec.columns) - 1)
+        # print: the header and the rows filled in (or a few blank ones), one page wide, the
+        # header on every page; without a print area a blank sheet prints its formatted columns
+        rows = len(data.get(spec.name, [])) or (len(SETTINGS) if spec.name == "Settings" else 0)
+        ws.print_area(0, 0, max(rows, PRINT_BLANK_ROWS), len(spec.columns) - 1)
+        ws.repeat_rows(0)
+        ws.set_paper(9)
+        width = sum(col.width for col in spec.columns)
+        if width > 80:
+            ws.set_landscape()
+        ws.fit_to_pages(1, 0)
         if spec.name == "Settings" and "Settings" not in data:
             for r, s in enumerate(SETTINGS, start=1):
                 ws.write_string(r, 0, s.name)
@@ -108,6 +126,7 @@ def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None
                     else:
                         ws.write_string(r, 1, str(s.default))
                 ws.write_string(r, 2, s.note, note_fmt)
+                ws.set_row(r, 15 * max(1, -(-len(s.note) // 95)))  # wrapped note: whole words shown
                 if s.choices:
                     ws.data_validation(r, 1, r, 1, {"validate": "list", "source": list(s.choices)})
         for r, record in enumerate(data.get(spec.name, []), start=1):
