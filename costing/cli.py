@@ -179,7 +179,19 @@ def _problem_lines(problems: list[Problem], full_list: str) -> list[str]:
     return lines
 
 
+def unique_problems(problems) -> list[Problem]:
+    """`problems` in order, each finding once (validation and routing may both report one)."""
+    seen, out = set(), []
+    for p in problems:
+        key = (p.severity, p.sheet, p.cell, p.message)
+        if key not in seen:
+            seen.add(key)
+            out.append(p)
+    return out
+
+
 def _print_problems(problems: list[Problem], quiet: bool = False, full_list: str = "") -> None:
+    problems = unique_problems(problems)
     shown = [p for p in problems if p.severity == ERROR or (not quiet and p.severity == WARNING)]
     for line in _problem_lines(shown, full_list or "full list on the Problems sheet"):
         print(line, file=sys.stderr)
@@ -191,12 +203,16 @@ def _check(args) -> int:
     if not os.path.exists(args.input):
         raise UsageError(f"input file not found: {args.input}")
     model, problems, _ = pipeline.load(args.input)
+    problems = unique_problems(problems)
     errors = [p for p in problems if p.severity == ERROR]
     for p in problems:
         print(f"{p.severity}: {p}")
     if model is not None and not errors:
+        warnings = sum(p.severity == WARNING for p in problems)
+        infos = len(problems) - warnings
+        extra = f" and {infos} info line(s)" if infos else ""
         print(f"OK: {len(model.depots)} depots, {len(model.lanes)} lanes, {len(model.rates)} rate cards, "
-              f"{len(model.shipments)} shipments; {len(problems)} note(s) above, no errors")
+              f"{len(model.shipments)} shipments; {warnings} warning(s){extra} above, no errors")
         return EXIT_OK
     print(f"{len(errors)} error(s); fix them and check again", file=sys.stderr)
     return EXIT_INPUT

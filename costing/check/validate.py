@@ -505,6 +505,11 @@ def validate(raw: RawWorkbook) -> Model:
                               bool(rec["hazmat_allowed"]), bool(rec["open"]), rr.row))
 
     shipments: list[Shipment] = []
+    depot_modes: dict[str, set[str]] = {}  # modes of the open lanes at each depot
+    for ln in lanes:
+        if ln.open:
+            for d in (ln.from_depot, ln.to_depot):
+                depot_modes.setdefault(d, set()).add(ln.mode)
     if "Shipments" in raw.sheets:
         sh = _Sheet(raw.sheets["Shipments"], problems)
         for rr, rec, ok in _ids(sh, list(_records(sh)), "shipment_id", "shipment"):
@@ -522,6 +527,8 @@ def validate(raw: RawWorkbook) -> Model:
                 shipments.append(Shipment(rec["shipment_id"], rec["origin"], rec["destination"],
                                           rec["weight_t"], v, rec["objective"],
                                           bool(rec["hazmat"]), rec["customer"] or "", rr.row))
+                _split_warning(sh, rr.row, rec, [r for r in rates if v is None or r.vehicle == v],
+                               depot_modes)
 
     if "Rates" in raw.sheets and not rates and raw.sheets["Rates"].rows == []:
         problems.append(Problem(ERROR, raw.sheets["Rates"].title, "A2", "no rate cards",
@@ -539,6 +546,28 @@ def validate(raw: RawWorkbook) -> Model:
         for p in fuel_rebate_problems(changed.settings, changed.rates, layout):
             more.append(replace(p, message=f"in scenario {sc.name}: {p.message}"))
     return replace(model, problems=tuple(problems) + tuple(more), scenarios=tuple(scenarios))
+
+
+def _split_warning(sh, row: int, rec: dict, cards, depot_modes: dict[str, set[str]]) -> None:
+    """A shipment heavier than the largest payload of the cards it may use at its origin or at
+    its destination (cards of the modes of the open lanes there) is split over several vehicles:
+    said here, before routing, so `check` and `run` report the same. Worded as the router words
+    it for the card it splits on (the same message is listed once)."""
+    weight = rec["weight_t"]
+    if weight is None:
+        return
+    best = None
+    for end in (rec["origin"], rec["destination"]):
+        usable = [c for c in cards if c.payload_t and c.payload_t > 0 and c.mode in depot_modes.get(end, ())]
+        if usable:
+            big = max(usable, key=lambda c: c.payload_t)
+            if best is None or big.payload_t < best.payload_t:
+                best = big
+    if best is not None and weight > best.payload_t:
+        n = math.ceil(weight / best.payload_t - 1e-9)
+        sh.problem(WARNING, "weight_t", row, f"shipment {rec['shipment_id']}: {weight:g} t is more than one "
+                   f"{best.vehicle} carries ({best.payload_t:g} t): split over {n} vehicles",
+                   "check the weight; otherwise nothing to do: each vehicle is costed")
 
 
 def _swapped_depot(a: Depot, b: Depot, km: float) -> Depot | None:

@@ -12,6 +12,13 @@ def write_problems(w: Writer, ws, problems: list[Problem]) -> None:
             ("message", 80, "text"), ("what_to_do", 60, "text")]
     w.header(ws, cols)
     order = {ERROR: 0, WARNING: 1, INFO: 2}
+    seen: set = set()  # one finding once: validation and routing may both report it
+    unique = []
+    for p in problems:
+        if (p.severity, p.sheet, p.cell, p.message) not in seen:
+            seen.add((p.severity, p.sheet, p.cell, p.message))
+            unique.append(p)
+    problems = unique
     for r, p in enumerate(sorted(problems, key=lambda p: order.get(p.severity, 3)), start=1):
         fmt = w.f.get(p.severity)
         ws.write_string(r, 0, p.severity, fmt)

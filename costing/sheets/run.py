@@ -111,7 +111,8 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ("rejected", counts.get("rejected", 0)),
         ("legs", n_legs),
         ("problems: errors / warnings / info",
-         "{} / {} / {}".format(*(sum(p.severity == k for p in problems) for k in (ERROR, WARNING, INFO)))),
+         "{} / {} / {}".format(*(len({(p.sheet, p.cell, p.message) for p in problems if p.severity == k})
+                                 for k in (ERROR, WARNING, INFO)))),
     ]
     from costing.price.rates import DEFAULT_INTENSITY
     from costing.price.rules import rules_for
