@@ -21,6 +21,10 @@ from costing.errors import UsageError
 from costing.model import ERROR, WARNING, Problem
 
 EXIT_OK, EXIT_INPUT, EXIT_USAGE = 0, 1, 2
+EXIT_CODES_HELP = ("exit codes: 0 done (warnings, if any, are printed and listed on the Problems sheet); "
+                   "1 the input has errors, or the output could not be written: nothing written; "
+                   "2 usage error (unknown option, missing file, OUTPUT exists without --overwrite); "
+                   "130 interrupted (Ctrl-C).")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -33,7 +37,7 @@ class _Parser(argparse.ArgumentParser):
 def _parser() -> argparse.ArgumentParser:
     p = _Parser(prog="costing", description="Cost freight shipments over a lane network: reads an "
                 "input workbook, finds each shipment's least-cost route (A* search) and writes a new, "
-                "auditable costed workbook.")
+                "auditable costed workbook.", epilog=EXIT_CODES_HELP)
     p.add_argument("--version", action="version", version=f"costing {__version__}")
     sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
@@ -46,12 +50,13 @@ def _parser() -> argparse.ArgumentParser:
 
     c = sub.add_parser("check", help="validate an input workbook and list its problems",
                        description="Validate INPUT and print every problem as Sheet!Cell: message "
-                       "(fix). Exit 0 when there are no errors, 1 when there are.")
+                       "(fix). Exit 0 when there are no errors, 1 when there are.", epilog=EXIT_CODES_HELP)
     c.add_argument("input", metavar="INPUT", help="input workbook (.xlsx)")
 
     r = sub.add_parser("run", help="cost the shipments of an input workbook",
                        description="Validate INPUT, route and cost every shipment, and write the costed "
-                       "workbook OUTPUT. On input errors nothing is written and the exit code is 1.")
+                       "workbook OUTPUT. On input errors nothing is written and the exit code is 1.",
+                       epilog=EXIT_CODES_HELP)
     r.add_argument("input", metavar="INPUT", help="input workbook (.xlsx); never modified")
     r.add_argument("-o", "--output", metavar="OUTPUT", required=True, help="costed workbook to write")
     _common(r)
@@ -310,27 +315,29 @@ def _atomic_write_here(output: str, write, folder: str) -> None:
 
 
 class _Progress:
-    """A one-line progress bar on stderr, only when stderr is a terminal."""
+    """A progress bar on stderr (tqdm) for a stage of the run: shown only when stderr is a
+    terminal and only once the stage has run for PROGRESS_DELAY seconds; silent otherwise."""
 
     def __init__(self, label: str, min_total: int = 50):
         self.on = sys.stderr.isatty()
         self.label = label
         self.min_total = min_total
-        self.last = 0.0
+        self.bar = None
 
     def __call__(self, done: int, total: int) -> None:
         if not self.on or total < self.min_total:
             return
-        now = time.monotonic()
-        if done < total and now - self.last < 0.1:
-            return
-        self.last = now
-        width = 30
-        fill = int(width * done / total)
-        sys.stderr.write(f"\r{self.label} [{'#' * fill}{'.' * (width - fill)}] {done}/{total}")
-        if done == total:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
+        if self.bar is None:
+            from tqdm import tqdm
+
+            self.bar = tqdm(total=total, desc=self.label, unit="shipment", file=sys.stderr,
+                            delay=PROGRESS_DELAY, leave=False, dynamic_ncols=True)
+        self.bar.update(done - self.bar.n)
+        if done >= total:
+            self.bar.close()
+
+
+PROGRESS_DELAY = 2.0  # seconds a stage runs before its progress bar appears
 
 
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
