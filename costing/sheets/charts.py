@@ -3,32 +3,46 @@
 from __future__ import annotations
 
 from costing.contract.outputs import SCENARIO_COMPONENTS, SUM, TRADEOFF_COLUMNS
-from costing.sheets.formats import Writer, page
+from costing.sheets.formats import Writer, component, page
+
+# the charts sit in a grid of two columns beside the first chart's data
+CHART_W, CHART_H = 520, 330  # pixels
+GRID_COL = 3  # column D
+CHART_COLS, CHART_ROWS = 8, 17  # grid step: 8 default columns (512 px), 17 rows (340 px)
 
 
 def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_rows=None) -> None:
     """Native charts: cost by component (from the Summary TOTAL row) and the cost-time
     trade-offs of the costliest shipments (from the Trade-offs sheet)."""
     page(ws)
-    ws.set_column(0, 0, 2)
-    ws.write_string(0, 1, "Charts are drawn from the Summary and Trade-offs sheets; "
+    ws.write_string(0, 0, "Charts are drawn from the Summary, Trade-offs and Scenario comparison sheets; "
                     "they follow those figures when rates change and the workbook recalculates.",
                     w.f["bold"])
     components = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
                   "handling_cost", "trip_cost", "min_charge_uplift"]
     total_row = last_row + 1  # 0-based TOTAL row of Summary
-    chart = w.wb.add_chart({"type": "column"})
-    for name in components:
-        ci = SUM[name]
-        chart.add_series({"name": name,
-                          "categories": ["Summary", 0, SUM["total_cost"], 0, SUM["total_cost"]],
-                          "values": ["Summary", total_row, ci, total_row, ci]})
+    # the first chart's data, beside it: each component's name and its Summary TOTAL by formula
+    ws.write_string(2, 0, "component", w.f["head"])
+    ws.write_string(2, 1, f"all shipments ({w.model.settings.currency})", w.f["head"])
+    from xlsxwriter.utility import xl_col_to_name
+
+    routed = [r for r in results if r.status == "routed"]
+    for k, name in enumerate(components, start=3):
+        ws.write_string(k, 0, name)
+        value = round(sum(component(r, name) for r in routed), w.places)
+        ws.write_formula(k, 1, f"=Summary!{xl_col_to_name(SUM[name])}{total_row + 1}", w.f["money"], value)
+    first, last = 3, 2 + len(components)
+    chart = w.wb.add_chart({"type": "bar"})
+    chart.add_series({"name": "cost", "categories": [ws.name, first, 0, last, 0],
+                      "values": [ws.name, first, 1, last, 1], "fill": {"color": "#4472C4"},
+                      "data_labels": {"value": True, "num_format": "#,##0"}})
     chart.set_title({"name": "Cost by component, all shipments"})
-    chart.set_y_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
-    chart.set_x_axis({"visible": False})
-    chart.set_legend({"position": "right"})
-    chart.set_size({"width": 760, "height": 380})
-    ws.insert_chart(2, 1, chart)
+    chart.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0", "min": 0})
+    chart.set_y_axis({"name": "cost component", "reverse": True})
+    chart.set_legend({"none": True})
+    chart.set_size({"width": CHART_W, "height": CHART_H})
+    ws.insert_chart(2, GRID_COL, chart)
+    slots = [(2, GRID_COL + CHART_COLS), (2 + CHART_ROWS, GRID_COL), (2 + CHART_ROWS, GRID_COL + CHART_COLS)]
     costliest = sorted((r for r in results if r.shipment.shipment_id in frontier_rows),
                        key=lambda r: -r.total_cost)
     picked = [r for r in costliest if frontier_rows[r.shipment.shipment_id][1]
@@ -46,8 +60,8 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
         sc.set_title({"name": "Cost against hours: trade-offs of the costliest shipments"})
         sc.set_x_axis({"name": "hours (drive + handling)"})
         sc.set_y_axis({"name": f"total cost ({w.model.settings.currency})", "num_format": "#,##0"})
-        sc.set_size({"width": 760, "height": 420})
-        ws.insert_chart(23, 1, sc)
+        sc.set_size({"width": CHART_W, "height": CHART_H})
+        ws.insert_chart(*slots.pop(0), sc)
     if scenario_rows:
         a, b = scenario_rows  # 0-based rows of the scenario totals on "Scenario comparison"
         name = "Scenario comparison"
@@ -58,14 +72,17 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
                         "data_labels": {"value": True, "num_format": "#,##0"}})
         bar.set_title({"name": "Total cost per scenario"})
         bar.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0", "min": 0})
+        bar.set_y_axis({"name": "scenario", "reverse": True})
         bar.set_legend({"none": True})
-        bar.set_size({"width": 760, "height": 320})
-        ws.insert_chart(45, 1, bar)
+        bar.set_size({"width": CHART_W, "height": CHART_H})
+        ws.insert_chart(*slots.pop(0), bar)
         stack = w.wb.add_chart({"type": "column", "subtype": "stacked"})
         for k, comp in enumerate(SCENARIO_COMPONENTS):
             stack.add_series({"name": comp, "categories": [name, a, 0, b, 0],
                               "values": [name, a, 2 + k, b, 2 + k]})
         stack.set_title({"name": "Cost by component per scenario"})
         stack.set_y_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
-        stack.set_size({"width": 760, "height": 400})
-        ws.insert_chart(62, 1, stack)
+        stack.set_x_axis({"name": "scenario"})
+        stack.set_legend({"position": "bottom"})
+        stack.set_size({"width": CHART_W, "height": CHART_H})
+        ws.insert_chart(*slots.pop(0), stack)

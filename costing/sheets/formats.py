@@ -373,7 +373,7 @@ class Layout:
         else:
             ws.set_landscape()
         page_w = PAGE_W[orientation]
-        if self.drawings and not self.heads:
+        if self.drawings:
             scale = min(100.0, page_w / width_pt * 100, PAGE_H[orientation] / height_pt * 100)
             scale = max(scale, MIN_SCALE if height_pt <= PAGE_H[orientation] * 2 else 40)
         else:
@@ -381,7 +381,10 @@ class Layout:
             scale, pages = fit_columns(cols, page_w, repeat_first=bool(self.heads))
             if pages > 1 and self.heads:
                 ws.repeat_columns(0)
-        ws.set_print_scale(int(scale))
+        if self.drawings:  # pictures and charts: one page, scaled by the application
+            ws.fit_to_pages(1, 1 if height_pt * scale / 100 <= PAGE_H[orientation] * 1.05 else 0)
+        else:
+            ws.set_print_scale(int(scale))
         ws.print_area(0, 0, max(last_row, 0), max(last_col, 0))
         if self.heads:
             ws.repeat_rows(min(r for r, _c, _s in self.heads))
