@@ -273,9 +273,12 @@ def test_menu_commands_check_and_cost_the_example(office, tmp_path):
                  "org.costing.addon:cost")
     check, goto, cost = got["commands"]
     assert all(c["handled"] for c in got["commands"]), "the protocol handler is not registered"
-    # check: the example's one planted warning, at the cell the README names
+    # check: the example's planted warning, at the cell the README names, and the four shipments
+    # split over several vehicles (the same findings `costing check` prints)
     assert check["result"]["kind"] == core.OK, check["result"]["message"]
-    assert [(r["sheet"], r["cell"]) for r in check["result"]["rows"]] == [("Lanes", "E13")]
+    assert [(r["sheet"], r["cell"]) for r in check["result"]["rows"]] == [
+        ("Lanes", "E13"), ("Shipments", "D6"), ("Shipments", "D7"), ("Shipments", "D45"),
+        ("Shipments", "D48")]
     assert check["result"]["dialog_rows"] == [r["text"] for r in check["result"]["rows"]]
     # picking a problem selects its cell: LibreOffice reports the selection
     assert goto["result"]["selected"] is True and goto["selection"] == "$Lanes.$E$13"
