@@ -471,6 +471,9 @@ def _import_network(args) -> int:
         for s in snaps:
             print(f"depot {s.depot_id} joined to node {s.node_depot_id}: {s.km * 1000:,.1f} m "
                   f"(lane {s.lane_id})")
+            if s.km > 1.0:
+                print(f"warning: depot {s.depot_id} is {s.km:,.1f} km from the nearest node: the network "
+                      "may not cover it (check its coordinates or import a larger network)", file=sys.stderr)
         closed = sum(not ln.open for ln in net.lanes)
         one_way = sum(not ln.two_way for ln in net.lanes)
         print(f"{len(net.depots)} nodes, {len(net.lanes)} links ({one_way} one-way, {closed} closed), "
