@@ -94,6 +94,7 @@ def _parser() -> argparse.ArgumentParser:
                    help="folders holding costing and its dependencies, for LibreOffice's Python "
                    "(default: where this Python finds them; '' for none)")
     b.add_argument("--overwrite", action="store_true", help="replace PATH if it exists")
+    _import_network_parser(sub)
     return p
 
 
@@ -121,6 +122,8 @@ def main(argv: list[str] | None = None) -> int:
             return _compare(args)
         if args.command == "addon":
             return _addon(args)
+        if args.command == "import-network":
+            return _import_network(args)
     except UsageError as e:
         print(f"costing: error: {e}", file=sys.stderr)
         return EXIT_USAGE
@@ -444,6 +447,61 @@ def _demo(args) -> int:
             _check_output_path(args.input_copy, None, args.overwrite)
             _atomic_write(args.input_copy, write_example)
         return _run(example, output, args, input_label="bundled example (costing.example)")
+
+
+def _import_network_parser(sub) -> None:
+    g = sub.add_parser("import-network", help="import a GMNS road network (node.csv, link.csv) into a "
+                       "workbook",
+                       description="Read GMNS node.csv and link.csv (units from config.csv beside them, or "
+                       "the flags), add their nodes to Depots and links to Lanes of a copy of WORKBOOK, join "
+                       "each depot to its nearest node, and write OUTPUT. WORKBOOK is never modified.")
+    g.add_argument("nodes", metavar="NODE.csv")
+    g.add_argument("links", metavar="LINK.csv")
+    g.add_argument("-w", "--workbook", metavar="WORKBOOK", required=True, help="input workbook (.xlsx)")
+    g.add_argument("-o", "--output", metavar="OUTPUT", required=True, help="workbook to write (.xlsx)")
+    g.add_argument("--config", metavar="CONFIG.csv", default=None, help="GMNS config.csv (units, crs)")
+    g.add_argument("--length-unit", default=None, help="unit of link length: km, m, mi, ft")
+    g.add_argument("--speed-unit", default=None, help="unit of free_speed: kph, mph, m/s")
+    g.add_argument("--overwrite", action="store_true", help="replace OUTPUT if it exists")
+    g.add_argument("--quiet", action="store_true", help="print only errors")
+
+
+def _import_network(args) -> int:
+    from costing import pipeline
+    from costing.errors import InputError
+    from costing.network.gmns import IMPORT_PREFIX, read_gmns, snap
+    from costing.workbook.network_sheets import write_network
+
+    if not os.path.exists(args.workbook):
+        raise UsageError(f"input file not found: {args.workbook}")
+    _check_output_path(args.output, args.workbook, args.overwrite)
+    try:
+        net = read_gmns(args.nodes, args.links, args.config, length_unit=args.length_unit,
+                        speed_unit=args.speed_unit)
+        model, problems, _ = pipeline.load(args.workbook)
+        if model is None:
+            raise InputError(problems)
+        own = [d for d in model.depots if not d.depot_id.startswith(IMPORT_PREFIX)]
+        snaps, connectors = snap(own, net)
+        _atomic_write(args.output, lambda p: write_network(args.workbook, p, list(net.depots),
+                                                           list(net.lanes) + connectors, (IMPORT_PREFIX,)))
+    except InputError as e:
+        for p in e.problems:
+            print(f"{p.severity}: {p}", file=sys.stderr)
+        print("costing: nothing written", file=sys.stderr)
+        return EXIT_INPUT
+    if not args.quiet:
+        for s in snaps:
+            print(f"depot {s.depot_id} joined to node {s.node_depot_id}: {s.km * 1000:,.1f} m "
+                  f"(lane {s.lane_id})")
+            if s.km > 1.0:
+                print(f"warning: depot {s.depot_id} is {s.km:,.1f} km from the nearest node: the network "
+                      "may not cover it (check its coordinates or import a larger network)", file=sys.stderr)
+        closed = sum(not ln.open for ln in net.lanes)
+        one_way = sum(not ln.two_way for ln in net.lanes)
+        print(f"{len(net.depots)} nodes, {len(net.lanes)} links ({one_way} one-way, {closed} closed), "
+              f"{len(snaps)} depot(s) joined; wrote {args.output}")
+    return EXIT_OK
 
 
 if __name__ == "__main__":  # pragma: no cover
