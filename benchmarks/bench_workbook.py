@@ -150,9 +150,12 @@ def main(argv=None) -> None:
                         args.shipments, len(SUMMARY_COLUMNS))
         peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
         print(f"legs written: {leg_rows:,} rows x {len(LEG_COLUMNS)} columns")
-        for k, v in run.items():
-            if str(k).startswith("seconds:") or k in ("searches (A*)", "nodes settled", "batched searches"):
-                print(f"  {k}: {v}")
+        import pandas as pd
+
+        counts = ("searches (A*)", "nodes settled", "batched searches")
+        rows = [(str(k).removeprefix("seconds: "), v) for k, v in run.items()
+                if str(k).startswith("seconds:") or k in counts]
+        print(pd.DataFrame(rows, columns=["Run sheet row", "value"]).to_string(index=False))
         print(f"costing run end to end: {ours:.1f} s; read input + write output rows only: {base:.1f} s; "
               f"ratio {ours / base:.2f} (goal: at most 2); peak memory {peak:,.0f} MB")
         if not math.isfinite(ours):

@@ -65,7 +65,12 @@ no label of its node covered when it was made; L is at most the number of such r
 label costs O(log L) on the heap and, per outgoing edge, O(log k) to test against a node
 staircase of size k plus O(k) to insert into it (list insertion). L can grow exponentially with
 the network size, as the frontier itself can (P. Hansen, "Bicriterion path problems", 1980),
-hence the two caps. Memory is O(L).
+hence the two caps. Memory is O(L): rows are read and staircases made only for the nodes labels
+reach, so a query costs nothing proportional to the network beyond its bounds.
+
+`FrontierNetwork` is the form the product uses: one network, many queries from sources with
+start weights to exits with exit weights (one virtual source and end, as in the search core),
+with exact bounds from two reverse searches of the search core per set of exits, cached.
 """
 
 from __future__ import annotations
