@@ -17,6 +17,7 @@ import time
 from itertools import product
 
 import networkx as nx
+import pandas as pd
 
 from costing.network.pareto import pareto_frontier
 
@@ -63,8 +64,12 @@ def main() -> None:
     points = sum(brute_force_points(g, 0, n - 1) for _adj, g, n in graphs)
     brute = time.perf_counter() - start
 
-    print(f"{args.graphs} graphs: frontier search {ours:.3f} s ({routes} frontier routes); "
-          f"brute force {brute:.3f} s ({points} routes enumerated); ratio brute/ours {brute / ours:.1f}")
+    table = pd.DataFrame([("frontier search (ours)", ours, f"{routes} frontier routes"),
+                          ("brute force (networkx)", brute, f"{points} routes enumerated")],
+                         columns=["method", "seconds", "output"])
+    print(f"{args.graphs} graphs")
+    print(table.to_string(index=False, float_format=lambda x: f"{x:.3f}"))
+    print(f"ratio brute/ours {brute / ours:.1f}")
 
 
 if __name__ == "__main__":

@@ -43,3 +43,13 @@ def test_workbook_benchmark_smoke(capsys):
     main(["--smoke"])
     out = capsys.readouterr().out
     assert "costing run end to end" in out and "ratio" in out
+
+
+def test_week_benchmark_smoke(capsys):
+    # every sheet on, small: it runs, prints the stage table and the ratio against the floor
+    from benchmarks.bench_week import main
+
+    report = main(["--smoke"])
+    out = capsys.readouterr().out
+    assert "ratio end to end / floor" in out and "sheet: comparison" in out
+    assert report["counts"]["comparison shipments"] > 0 and report["counts"]["trade-off routes"] > 0

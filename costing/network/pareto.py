@@ -65,7 +65,12 @@ no label of its node covered when it was made; L is at most the number of such r
 label costs O(log L) on the heap and, per outgoing edge, O(log k) to test against a node
 staircase of size k plus O(k) to insert into it (list insertion). L can grow exponentially with
 the network size, as the frontier itself can (P. Hansen, "Bicriterion path problems", 1980),
-hence the two caps. Memory is O(L).
+hence the two caps. Memory is O(L): rows are read and staircases made only for the nodes labels
+reach, so a query costs nothing proportional to the network beyond its bounds.
+
+`FrontierNetwork` is the form the product uses: one network, many queries from sources with
+start weights to exits with exit weights (one virtual source and end, as in the search core),
+with exact bounds from two reverse searches of the search core per set of exits, cached.
 """
 
 from __future__ import annotations
@@ -73,7 +78,7 @@ from __future__ import annotations
 import heapq
 import math
 from bisect import bisect_left, bisect_right
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 Adjacency = Sequence[Sequence[tuple[int, float, float, int]]]
@@ -160,11 +165,23 @@ def pareto_frontier(adj: Adjacency, source: int, target: int,
     n = len(adj)
     if not (0 <= source < n and 0 <= target < n):
         raise ValueError(f"source {source} or target {target} is not a node id in 0..{n - 1}")
-    if max_routes < 1 or max_labels < 1:
-        raise ValueError("max_routes and max_labels must be at least 1")
+    _check_caps(max_routes, max_labels)
     hc = _bounds(h_cost, n, target, "h_cost")
     ht = _bounds(h_time, n, target, "h_time")
+    return _search(adj, source, target, hc, ht, max_routes, max_labels)
 
+
+def _check_caps(max_routes: int, max_labels: int) -> None:
+    if max_routes < 1 or max_labels < 1:
+        raise ValueError("max_routes and max_labels must be at least 1")
+
+
+def _search(adj, source: int, target: int, hc: Sequence[float], ht: Sequence[float],
+            max_routes: int, max_labels: int) -> ParetoResult:
+    """The search of the module docstring. `adj[u]` is read only for the nodes labels reach,
+    and a node's staircase is made when its first label is, so the work is proportional to the
+    labels, not to the network. `hc`/`ht` are indexable by every node id `adj` leads to, >= 0
+    (inf where the target is unreachable), 0 at the target."""
     # labels, by id: g pair, node, parent label id (-1 at the source), edge id, state
     l_cost: list[float] = []
     l_time: list[float] = []
@@ -172,10 +189,8 @@ def pareto_frontier(adj: Adjacency, source: int, target: int,
     l_parent: list[int] = []
     l_edge: list[int] = []
     l_state: list[int] = []
-    # per node: the staircase of its open and closed labels
-    st_cost: list[list[float]] = [[] for _ in range(n)]
-    st_time: list[list[float]] = [[] for _ in range(n)]
-    st_id: list[list[int]] = [[] for _ in range(n)]
+    # per node reached: the staircase (costs, times, label ids) of its open and closed labels
+    stairs: dict[int, tuple[list[float], list[float], list[int]]] = {}
     # the solutions (target labels taken), as a staircase
     sol_cost: list[float] = []
     sol_time: list[float] = []
@@ -187,8 +202,9 @@ def pareto_frontier(adj: Adjacency, source: int, target: int,
     capped = False
     full = False  # max_routes solutions held: finish the tolerance tie window, then stop
     last_cost = 0.0
+    inf = math.inf
 
-    if math.isinf(hc[source]) or math.isinf(ht[source]):
+    if hc[source] == inf or ht[source] == inf:
         return ParetoResult((), False, 0, 0)
     l_cost.append(0.0)
     l_time.append(0.0)
@@ -196,16 +212,14 @@ def pareto_frontier(adj: Adjacency, source: int, target: int,
     l_parent.append(-1)
     l_edge.append(-1)
     l_state.append(_OPEN)
-    st_cost[source].append(0.0)
-    st_time[source].append(0.0)
-    st_id[source].append(0)
+    stairs[source] = ([0.0], [0.0], [0])
     heap.append((hc[source], ht[source], 0))
 
     while heap:
         fc, ft, lid = pop(heap)
         if l_state[lid] != _OPEN:
             continue  # removed from its node's set by a label that covers it
-        if _covered(sol_cost, sol_time, fc, ft):
+        if sol_id and _covered(sol_cost, sol_time, fc, ft):
             l_state[lid] = _CLOSED  # filtered; it stays in its node's set as a witness
             continue
         if (full and not _leq(fc, last_cost)) or expanded >= max_labels:
@@ -230,17 +244,22 @@ def pareto_frontier(adj: Adjacency, source: int, target: int,
         for v, wc, wt, e in adj[u]:
             if not (wc >= 0.0 and wt >= 0.0):
                 raise ValueError(f"edge {e} ({u}->{v}) has a negative or NaN weight ({wc}, {wt})")
-            if wc == math.inf or wt == math.inf or hc[v] == math.inf or ht[v] == math.inf:
+            if wc == inf or wt == inf:
+                continue
+            hv_c, hv_t = hc[v], ht[v]
+            if hv_c == inf or hv_t == inf:
                 continue
             c2, t2 = gc + wc, gt + wt
-            f2c, f2t = c2 + hc[v], t2 + ht[v]
-            if _covered(sol_cost, sol_time, f2c, f2t):
+            f2c, f2t = c2 + hv_c, t2 + hv_t
+            if sol_id and _covered(sol_cost, sol_time, f2c, f2t):
                 continue
-            costs, times = st_cost[v], st_time[v]
-            if _covered(costs, times, c2, t2):
+            st = stairs.get(v)
+            if st is None:
+                st = stairs[v] = ([], [], [])
+            elif _covered(st[0], st[1], c2, t2):
                 continue
             new = len(l_cost)
-            for old in _insert(costs, times, st_id[v], c2, t2, new):
+            for old in _insert(st[0], st[1], st[2], c2, t2, new):
                 l_state[old] = _DEAD
             l_cost.append(c2)
             l_time.append(t2)
@@ -263,3 +282,117 @@ def pareto_frontier(adj: Adjacency, source: int, target: int,
         edges.reverse()
         routes.append(ParetoRoute(l_cost[lid], l_time[lid], tuple(nodes), tuple(edges)))
     return ParetoResult(tuple(routes), capped, expanded, len(l_cost))
+
+
+class _Rows:
+    """A network's rows with a virtual source (id n: arcs of the start weights) and a virtual end
+    (id n + 1, no arcs) joined from each exit by an arc of its exit weights (edge id -1), listed
+    after the exit's own arcs. Built per query from the sources and exits only."""
+
+    __slots__ = ("adj", "extra")
+
+    def __init__(self, adj: Adjacency, starts, exits):
+        n = len(adj)
+        self.adj = adj
+        self.extra = {n: [(v, c0, t0, -1) for v, c0, t0 in starts], n + 1: ()}
+        for x, (ce, te) in exits.items():
+            self.extra[x] = list(adj[x]) + [(n + 1, ce, te, -1)]
+
+    def __getitem__(self, u: int):
+        row = self.extra.get(u)
+        return self.adj[u] if row is None else row
+
+
+class FrontierNetwork:
+    """One network searched for many frontiers, each from sources with start weights to exits
+    with exit weights, with exact bounds.
+
+    The bounds. For a set of exits, h_cost(v) is the least cost of any route from v to an exit
+    plus that exit's cost weight, and h_time(v) the same in time, each computed by one reverse
+    search of the search core (`costing.network.search.dijkstra_all` from the exits, their exit
+    weights as start weights, over the reversed arcs). A remaining route's cost is at least its
+    least cost, so both are admissible; they are also consistent, h(u) <= w(u, v) + h(v), being
+    least weights (the triangle inequality of shortest paths), and inf exactly where no exit is
+    reachable, which drops those labels. So the module's guarantees hold, and no label is kept
+    that cannot reach an exit. The bounds are cached per key (the caller's name for the set of
+    exits, e.g. the destination), up to about ``BOUND_ENTRIES`` node entries in all; past that
+    the cache starts again.
+
+    Per query the work is the two reverse searches (none when the key is cached) and the labels:
+    the sources and exits are joined by a virtual source and end (`_Rows`) without copying the
+    network, and staircases are made for the nodes labels reach only.
+
+    Parameters
+    ----------
+    adj : sequence of rows ``[(head, cost, time, edge id), ...]`` per node
+        Non-negative weights (cost in the caller's money unit, time in hours, or any two units);
+        inf marks an unusable edge. Must not change afterwards.
+    """
+
+    BOUND_ENTRIES = 2_000_000
+
+    def __init__(self, adj: Adjacency):
+        from costing.network.search import Arcs
+
+        self.adj = adj
+        self.n = n = len(adj)
+        rev_c: list[list[tuple[int, float, int]]] = [[] for _ in range(n)]
+        rev_t: list[list[tuple[int, float, int]]] = [[] for _ in range(n)]
+        for u, row in enumerate(adj):
+            for v, wc, wt, e in row:
+                if not (wc >= 0.0 and wt >= 0.0):
+                    raise ValueError(f"edge {e} ({u}->{v}) has a negative or NaN weight ({wc}, {wt})")
+                rev_c[v].append((u, wc, e))
+                rev_t[v].append((u, wt, e))
+        self._reverse = (Arcs.from_rows(rev_c), Arcs.from_rows(rev_t))
+        self._bounds: dict = {}
+        self.reverse_searches = 0  # statistics: reverse searches run for bounds
+
+    def bounds(self, exits: Mapping[int, tuple[float, float]], key=None) -> tuple[list[float], list[float]]:
+        """(h_cost, h_time): the exact least remaining cost and time to the exits (exit weights
+        included) for every node, and 0 at the two virtual nodes n and n + 1; cached by `key`
+        (None: not cached)."""
+        from costing.network.search import dijkstra_all
+
+        got = self._bounds.get(key) if key is not None else None
+        if got is not None:
+            return got
+        rc, rt = self._reverse
+        hc = dijkstra_all(rc, [(x, ce) for x, (ce, _te) in exits.items()])
+        ht = dijkstra_all(rt, [(x, te) for x, (_ce, te) in exits.items()])
+        hc += (0.0, 0.0)
+        ht += (0.0, 0.0)
+        self.reverse_searches += 2
+        if key is not None:
+            if (len(self._bounds) + 1) * self.n > self.BOUND_ENTRIES:
+                self._bounds.clear()
+            self._bounds[key] = (hc, ht)
+        return hc, ht
+
+    def frontier(self, starts: Sequence[tuple[int, float, float]], exits: Mapping[int, tuple[float, float]],
+                 key=None, max_routes: int = 50, max_labels: int = 200_000) -> ParetoResult:
+        """The frontier of (start + route + exit) cost and time over routes from a source to an
+        exit, with the exact bounds (cached by `key`, the name of this set of exits).
+
+        Parameters
+        ----------
+        starts : sequence of (node id, start cost, start time)
+        exits : mapping node id -> (exit cost, exit time)
+        key : hashable or None
+            Names the set of exits (with its weights) for the bound cache.
+        max_routes, max_labels : int
+            The caps of `pareto_frontier`.
+
+        Returns
+        -------
+        ParetoResult
+            As `pareto_frontier`'s, with each route's nodes from a source to an exit and its
+            edges the network's edge ids (the virtual arcs left out); cost and time include the
+            start and exit weights.
+        """
+        _check_caps(max_routes, max_labels)
+        n = self.n
+        hc, ht = self.bounds(exits, key)
+        res = _search(_Rows(self.adj, starts, exits), n, n + 1, hc, ht, max_routes, max_labels)
+        routes = tuple(ParetoRoute(r.cost, r.time, r.nodes[1:-1], r.edges[1:-1]) for r in res.routes)
+        return ParetoResult(routes, res.capped, res.labels_expanded, res.labels_pushed)

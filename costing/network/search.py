@@ -9,7 +9,7 @@ are its special cases, and the array engine (`costing.network.engine`) calls it 
                                          exit weights, a bound: the best route ("exit" mode)
     one_to_many(adj, sources, targets)   one uniform-cost search serving several targets, ended
                                          when every target's exits are settled ("every" mode)
-    dijkstra_all(adj, source)            least weight to every node (run until the queue is empty)
+    dijkstra_all(adj, sources)           least weight to every node (run until the queue is empty)
     engine.SearchEngine                  the same routine over CSR arrays, with the landmark bound
                                          ("every" mode: one target per A*, a group per Dijkstra)
 
@@ -400,22 +400,26 @@ def astar(adj: Adjacency | Arcs, source: int | Sequence[tuple[int, float]],
     return SearchResult(*routes[0], stats)
 
 
-def dijkstra_all(adj: Adjacency | Arcs, source: int) -> list[float]:
-    """Least weight from `source` to every node, for the reverse-search checks of the bound and
-    for reachability reports.
+def dijkstra_all(adj: Adjacency | Arcs, source: int | Sequence[tuple[int, float]]) -> list[float]:
+    """Least weight from `source` to every node, for the reverse-search checks of the bound, for
+    reachability reports and for exact bounds (a reverse search from a target's exits).
 
     Parameters
     ----------
     adj : sequence of rows ``[(head, weight, edge id), ...]`` per node, or Arcs
         Non-negative weights, caller's unit.
-    source : int
+    source : int or sequence of (node id, start weight)
+        One node (start weight 0), or several with the weight paid before the first arc (as in
+        `astar`: one virtual source joined to each by an arc of its start weight).
 
     Returns
     -------
     list of float
-        Indexed by node id, the caller's unit; inf where `source` cannot reach.
+        Indexed by node id, the caller's unit: the least (start + route) weight; inf where no
+        source reaches.
     """
-    _routes, _stats, weights = _label_setting(_arcs(adj), ((source, 0.0),), until="all")
+    starts = ((source, 0.0),) if isinstance(source, int) else source
+    _routes, _stats, weights = _label_setting(_arcs(adj), starts, until="all")
     return weights
 
 

@@ -4,6 +4,7 @@ search and cost stages, on their results; writes nothing."""
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -11,6 +12,10 @@ from costing.contract.inputs import OBJECTIVES
 from costing.model import Model
 from costing.plan.route import Router
 from costing.price.cost import ROUTED, CostedShipment
+
+# the analyses' entries in RunStats.seconds (wall seconds)
+COMPARING = "comparison across objectives (within analyses)"
+TRADING = "cost-time trade-offs (within analyses)"
 
 
 @dataclass
@@ -71,19 +76,33 @@ def analyse(model: Model, router: Router, results: list[CostedShipment],
     compare = model.settings.compare_objectives == "yes"
     max_routes = int(model.settings.frontier_max_routes)
     total = len(results)
+    spent = {COMPARING: 0.0, TRADING: 0.0}
     for k, r in enumerate(results):
         s = r.shipment
         if r.status == ROUTED:
             if compare:
+                t0 = time.perf_counter()
                 others = [o for o in OBJECTIVES if o != r.objective]
                 alts = router.alternatives(s, others)
                 alts[r.objective] = r
                 a.alternatives[s.shipment_id] = {o: alts[o] for o in OBJECTIVES}
+                spent[COMPARING] += time.perf_counter() - t0
             if max_routes > 0:
+                t0 = time.perf_counter()
                 a.frontiers[s.shipment_id] = router.frontier(s, max_routes)
+                spent[TRADING] += time.perf_counter() - t0
         if progress:
             progress(k + 1, total)
+    _record(router, spent)
     return a
+
+
+def _record(router: Router, spent: dict[str, float]) -> None:
+    """Add the analyses' own timings (wall seconds) to the router's stage times."""
+    seconds = router.stats.seconds
+    for key, secs in spent.items():
+        if secs:
+            seconds[key] = seconds.get(key, 0.0) + secs
 
 
 @dataclass

@@ -235,37 +235,37 @@ class Router:
     def frontier(self, s: Shipment, max_routes: int) -> tuple[list[CostedShipment], bool]:
         """Routes of `s` that no other route beats on both cost and time (drive + handling
         hours), cheapest first, and whether the cap stopped the search early."""
-        from costing.network.pareto import pareto_frontier
-
         if s.origin == s.destination:
             return [], False
+        pc, net, starts, exits = self._frontier_query(s)
+        result = net.frontier(starts, exits, key=s.destination, max_routes=max_routes)
+        self.stats.searches += 1
+        cnc = self.network(pc)
+        out = []
+        for r in result.routes:
+            runs = _runs_from(self.model, cnc, r.nodes[0], r.edges)
+            out.append(cost_route(self.model, s, "cost", runs))
+        return out, result.capped
+
+    def _frontier_query(self, s: Shipment):
+        """(cost profile, its FrontierNetwork with the cost and time of every edge, sources as
+        (node, start cost, start hours), exits as node -> (exit cost, exit hours)) for the
+        trade-offs of `s`; the network is made once per profile."""
+        from costing.network.pareto import FrontierNetwork
+
         pc = make_profile(self.model, s, "cost", self.pool(s))
         pt = replace(pc, objective="time")
         cnc, cnt = self.network(pc), self.network(pt)
-        adj2 = self._pairs.get(pc)
-        if adj2 is None:  # both networks list the same edges in the same order
-            adj2 = self._pairs[pc] = [[(v, wc, wt, e) for (v, wc, e), (_v, wt, _e) in zip(ec, et)]
-                                      for ec, et in zip(cnc.adj, cnt.adj)]
-        n = len(adj2)
-        src, dst = n, n + 1
+        net = self._pairs.get(pc)
+        if net is None:  # both networks list the same edges in the same order
+            net = self._pairs[pc] = FrontierNetwork(
+                [[(v, wc, wt, e) for (v, wc, e), (_v, wt, _e) in zip(ec, et)]
+                 for ec, et in zip(cnc.adj, cnt.adj)])
         starts_c, exits_c = self._ends(s, pc, cnc)
         starts_t, exits_t = self._ends(s, pt, cnt)
-        q = list(adj2)
-        q.append([(v, wc, wt, -1) for (v, wc), (_v, wt) in zip(starts_c, starts_t)])
-        q.append([])
-        for x, wc in exits_c.items():
-            q[x] = q[x] + [(dst, wc, exits_t[x], -1)]
-        d = cnc.index[s.destination]
-        hc, ht = cnc.bound(d), cnt.bound(d)
-        hc = None if hc is None else hc + [0.0, 0.0]
-        ht = None if ht is None else ht + [0.0, 0.0]
-        result = pareto_frontier(q, src, dst, hc, ht, max_routes=max_routes)
-        self.stats.searches += 1
-        out = []
-        for r in result.routes:
-            runs = _runs_from(self.model, cnc, r.nodes[1], [e for e in r.edges if e >= 0])
-            out.append(cost_route(self.model, s, "cost", runs))
-        return out, result.capped
+        starts = [(v, wc, wt) for (v, wc), (_v, wt) in zip(starts_c, starts_t)]
+        exits = {x: (wc, exits_t[x]) for x, wc in exits_c.items()}
+        return pc, net, starts, exits
 
 
 def _with_ends(res, start: float, exit_weight: float):
