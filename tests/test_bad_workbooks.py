@@ -383,6 +383,11 @@ def _unpaid(d):
 
 
 CASES: list[Case] = [
+    # ---- a part whose XML declaration names an encoding that does not exist (found by the fuzz
+    # test: encoding="AUTF-8" raised LookupError, which the reader did not catch)
+    Case("unknown_xml_encoding", lambda b: rewrite_parts(b.good(), lambda n, d: d.replace(
+        b'encoding="UTF-8"', b'encoding="AUTF-8"') if n == "[Content_Types].xml" else d),
+         "workbook", ("text encoding that does not exist", "AUTF-8")),
     # ---- not a workbook at all
     Case("csv_text", lambda b: b.raw(b"depot_id,name\nA,Alpha\n", "depots.csv"), "workbook",
          ("text/CSV", "save it as Excel Workbook")),

@@ -412,11 +412,16 @@ def validate(raw: RawWorkbook) -> Model:
     _check_swapped_coordinates(raw, problems)
 
     rates: list[RateCard] = []
+    # vehicles named on a Rates row, whether or not the row is valid: a shipment naming one
+    # whose card has an error gets no second message (the card's own error says what to fix)
+    named_on_rates: set[str] = set()
     if "Rates" in raw.sheets:
         sh = _Sheet(raw.sheets["Rates"], problems)
         seen: dict[tuple, int] = {}
         vehicle_spellings: dict[str, tuple[str, int]] = {}
         for rr, rec, ok in _records(sh):
+            if rec["vehicle"] is not None:
+                named_on_rates.add(rec["vehicle"])
             if rec["vehicle"] is None or rec["mode"] is None:
                 continue
             key = (rec["vehicle"], rec["mode"])
@@ -515,7 +520,9 @@ def validate(raw: RawWorkbook) -> Model:
         for rr, rec, ok in _ids(sh, list(_records(sh)), "shipment_id", "shipment"):
             ok = _known_depots(sh, rr, rec, ("origin", "destination"), depot_ix) and ok
             v = rec["vehicle"]
-            if v is not None and v not in vehicles:
+            if v is not None and v not in vehicles and v in named_on_rates:
+                ok = False  # its rate card has an error of its own, reported on Rates
+            elif v is not None and v not in vehicles:
                 sh.problem(ERROR, "vehicle", rr.row, f"vehicle '{_short(v)}' has no rate card on "
                            "the Rates sheet", did_you_mean(v, vehicles) +
                            "use a vehicle from Rates, or leave blank to let the tool choose")

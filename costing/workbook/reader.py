@@ -36,7 +36,7 @@ MAX_LISTED = 20
 # Everything openpyxl, zipfile, zlib and the XML parser raise on a damaged or hostile file
 # (public: readers of costed workbooks catch the same).
 # defusedxml's EntitiesForbidden is a ValueError; xml.etree's ParseError is a SyntaxError.
-READ_ERRORS = (ValueError, KeyError, TypeError, IndexError, AttributeError, OverflowError,
+READ_ERRORS = (ValueError, LookupError, TypeError, AttributeError, OverflowError,
                 SyntaxError, EOFError, OSError, RuntimeError, NotImplementedError,
                 zipfile.BadZipFile, zlib.error)
 
@@ -237,6 +237,8 @@ def describe_read_error(e: BaseException) -> tuple[str, str]:
         return f"it is damaged: a part does not unpack ({text or type(e).__name__})", _DAMAGED_FIX
     if isinstance(e, KeyError):
         return f"it is damaged: a part it lists is missing ({text})", _DAMAGED_FIX
+    if isinstance(e, LookupError) and "encoding" in text:  # e.g. encoding="AUTF-8" in a part
+        return f"a part declares a text encoding that does not exist ({text})", _DAMAGED_FIX
     if isinstance(e, SyntaxError):  # xml.etree.ElementTree.ParseError
         return f"a part holds malformed XML ({text})", _DAMAGED_FIX
     if isinstance(e, ValueError):  # e.g. a number cell holding NaN: int('NaN') fails
