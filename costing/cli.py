@@ -1,6 +1,6 @@
 """Command line: argument parsing, exit codes, progress. No algorithms here.
 
-Exit codes: 0 done; 1 the input has errors (nothing written); 2 usage error.
+Exit codes: 0 done; 1 the input has errors (nothing written); 2 usage error; 130 interrupted.
 """
 
 from __future__ import annotations
@@ -486,8 +486,7 @@ def _import_network(args) -> int:
         _atomic_write(args.output, lambda p: write_network(args.workbook, p, list(net.depots),
                                                            list(net.lanes) + connectors, (IMPORT_PREFIX,)))
     except InputError as e:
-        for p in e.problems:
-            print(f"{p.severity}: {p}", file=sys.stderr)
+        _print_problems(e.problems, full_list="fix these and run the import again")
         print("costing: nothing written", file=sys.stderr)
         return EXIT_INPUT
     if not args.quiet:

@@ -270,50 +270,50 @@ def _resolve_key(model: Model, sheet: str, key: str) -> tuple[str | None, str, s
 # the change cell
 
 
-def _parse_form(v) -> tuple[str | None, object, str, str, bool]:
-    """(op, amount, message, fix, from_number_cell) of a change cell. op None: refused.
+def _parse_form(v) -> tuple[str | None, object, str, str]:
+    """(op, amount, message, fix) of a change cell. op None: refused.
     For "set" the amount is raw: a float, a bool, a str, or _BLANK."""
     if isinstance(v, bool):
-        return "set", v, "", "", False
+        return "set", v, "", ""
     if isinstance(v, (int, float)):
         x = float(v)
         if not math.isfinite(x):
-            return None, None, f"change is not a finite number ({v})", FORMS, True
+            return None, None, f"change is not a finite number ({v})", FORMS
         # a spreadsheet stores a typed +10% in a General cell as 0.1 and +12.5 as 12.5: a bare
         # number cannot say whether it was meant to scale, add or set, so it is never guessed
         hint = f"; +10% arrives as 0.1, so {_num(x)} may be +{_num(x * 100)}%" if abs(x) < 1 else ""
         return None, None, (f"change is the number {_num(x)}, not a change: a spreadsheet stores a "
                             f"typed +12.5 as 12.5{hint}"), (
             "format the change cell as Text (Format > Cells > Text), then type the change again: "
-            f"+10% or -5% (relative), +12.5 or -3 (added), or ={_num(x)} to set it"), True
+            f"+10% or -5% (relative), +12.5 or -3 (added), or ={_num(x)} to set it")
     if isinstance(v, (_dt.datetime, _dt.date, _dt.time, _dt.timedelta)):
         return None, None, f"change holds a date or time ({v}), not a change", (
-            "format the change cell as Text, then " + FORMS), False
+            "format the change cell as Text, then " + FORMS)
     s = str(v).strip().replace("\u2212", "-")
     if len(s) > MAX_CHANGE_CHARS:
-        return None, None, f"change is {len(s):,} characters long", FORMS, False
+        return None, None, f"change is {len(s):,} characters long", FORMS
     m = _RELATIVE.fullmatch(s)
     if m:
         amount = float(m.group(2))
         if not math.isfinite(amount):
-            return None, None, f"change '{_short(s)}' is too large", FORMS, False
+            return None, None, f"change '{_short(s)}' is too large", FORMS
         amount = -amount if m.group(1) == "-" else amount
-        return ("pct" if m.group(3) else "add"), amount, "", "", False
+        return ("pct" if m.group(3) else "add"), amount, "", ""
     if s.startswith("="):
         rest = s[1:].strip()
-        return "set", (rest if rest else _BLANK), "", "", False
+        return "set", (rest if rest else _BLANK), "", ""
     if _PLAIN.fullmatch(s):
         x = float(s.replace(" ", ""))
         if not math.isfinite(x):
-            return None, None, f"change '{_short(s)}' is too large", FORMS, False
-        return "set", x, "", "", False
+            return None, None, f"change '{_short(s)}' is too large", FORMS
+        return "set", x, "", ""
     if re.fullmatch(rf"{_NUMBER}\s*%", s):
         return None, None, f"change '{s}' has no sign", (
-            f"type +{s} to raise by that percentage or -{s} to lower; or " + FORMS), False
+            f"type +{s} to raise by that percentage or -{s} to lower; or " + FORMS)
     if re.fullmatch(r"[-+=]?\s*\d+(?:[.,]\d+)*\s*%?", s) and "," in s:
         return None, None, f"change '{_short(s)}' has a decimal comma", (
-            f"type it with a decimal point: {s.replace(',', '.')}"), False
-    return None, None, f"change '{_short(s)}' is not a change the tool understands", FORMS, False
+            f"type it with a decimal point: {s.replace(',', '.')}")
+    return None, None, f"change '{_short(s)}' is not a change the tool understands", FORMS
 
 
 def _set_value(target: _Target, raw, model: Model) -> tuple[object, str, str]:
@@ -568,7 +568,7 @@ def _parse_row(rr, p: _Row, model: Model) -> Change | None:
         return None
     if change_v is _REPORTED:
         return None
-    op, amount, message, fix, _number_cell = _parse_form(change_v)
+    op, amount, message, fix = _parse_form(change_v)
     if op is None:
         p.add(ERROR, "change", message, fix)
         return None

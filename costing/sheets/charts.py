@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from costing.contract.outputs import SCENARIO_COMPONENTS, SUM, TRADEOFF_COLUMNS
-from costing.sheets.formats import Writer, component, page
+from costing.sheets.formats import Writer, component
 
 # the charts sit in a grid of two columns beside the first chart's data
 CHART_W, CHART_H = 520, 330  # pixels
@@ -14,7 +14,6 @@ CHART_COLS, CHART_ROWS = 8, 17  # grid step: 8 default columns (512 px), 17 rows
 def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_rows=None) -> None:
     """Native charts: cost by component (from the Summary TOTAL row) and the cost-time
     trade-offs of the costliest shipments (from the Trade-offs sheet)."""
-    page(ws)
     ws.write_string(0, 0, "Charts are drawn from the Summary, Trade-offs and Scenario comparison sheets; "
                     "they follow those figures when rates change and the workbook recalculates.",
                     w.f["bold"])

@@ -71,7 +71,6 @@ class Writer:
         self.wb.set_properties({"title": "Costed routes", "created": created,
                                 "comments": f"Written by costing {__version__}"})
         self.model = model
-        self.streaming = streaming
         install_layout(self.wb, streaming)
         self.legs_last: dict[str, int] = {}  # Legs sheet name -> its last data row (1-based)
         cur = model.settings.currency
@@ -133,12 +132,6 @@ def component(res: CostedShipment, name: str) -> float:
     if name == "total_cost":
         return res.total_cost
     return shipment_value(res, name)
-
-
-def page(ws) -> None:
-    """Kept for sheet modules that ask for print set-up: every sheet of a Writer gets it from
-    `Layout` when the workbook closes (print area, paper, orientation, scale)."""
-    ws.set_paper(9)
 
 
 def sheet_ref(name: str) -> str:
@@ -321,7 +314,6 @@ class Layout:
             if c in wrapped_cols and fmt is None:
                 fmt = wrap
             ws.set_column(c, c, round(w, 1), fmt)
-        total_chars = sum(widths.values())
         heights: dict[int, float] = {}
         for r, c, n, bold in self.long:
             if (r, c) in captions:
@@ -388,9 +380,6 @@ class Layout:
         ws.print_area(0, 0, max(last_row, 0), max(last_col, 0))
         if self.heads:
             ws.repeat_rows(min(r for r, _c, _s in self.heads))
-        self.total_chars = total_chars
-        self.print_scale = int(scale)
-        self.orientation = orientation
 
 
 def fit_columns(cols: list[float], page_w: float, repeat_first: bool = True) -> tuple[float, int]:
@@ -402,12 +391,11 @@ def fit_columns(cols: list[float], page_w: float, repeat_first: bool = True) -> 
     def pages_at(scale: float) -> int:
         room = page_w / (scale / 100)
         pages, used = 1, 0.0
-        for k, w in enumerate(cols):
+        for w in cols:
             if used and used + w > room:
                 pages += 1
                 used = cols[0] if repeat_first else 0.0
             used += w
-            del k
         return pages
 
     fewest = pages_at(MIN_SCALE)
@@ -436,7 +424,6 @@ def install_layout(wb, streaming: bool) -> None:
     def add_worksheet(name=None, *args, **kwargs):
         ws = add(name, *args, **kwargs)
         lay = Layout(ws, streaming)
-        ws.layout = lay
         layouts.append(lay)
         ws_string, ws_number, ws_formula = ws._write_string, ws._write_number, ws._write_formula
         ws_set_column, ws_chart, ws_image = ws.set_column, ws.insert_chart, ws.insert_image

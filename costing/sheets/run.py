@@ -16,7 +16,7 @@ from costing.contract.outputs import LEG, SUM
 from costing.model import ERROR, INFO, WARNING, Model
 from costing.money import round_money
 from costing.price.cost import ROUTED
-from costing.sheets.formats import CAUTION, Writer, cell_text, page, sheet_ref
+from costing.sheets.formats import CAUTION, Writer, cell_text, sheet_ref
 
 
 @dataclass
@@ -77,7 +77,6 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     the reconciliation (legs + uplifts = Summary TOTAL, difference 0) as live formulas.
     `last` is the 0-based index of the last Summary shipment row (`write_summary`), `n_legs`
     the number of legs."""
-    page(ws)
     ws.fit_to_pages(1, 0)  # one page wide, as many long as it takes
     ws.set_column(0, 0, 36)
     ws.set_column(1, 1, 90, w.f["wrap"])

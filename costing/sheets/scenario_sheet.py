@@ -8,14 +8,13 @@ from xlsxwriter.utility import xl_col_to_name
 from costing.contract.outputs import SCENARIO_COMPONENTS, SUM
 from costing.money import round_money
 from costing.price.cost import ROUTED, CostedShipment
-from costing.sheets.formats import Writer, cell_text, component, page, route_text
+from costing.sheets.formats import Writer, cell_text, component, route_text
 
 
 def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: int) -> tuple[int, int]:
     """Totals per scenario and cost component, then per-shipment totals and deltas and which
     shipments changed route. The base row refers to the Summary TOTAL row; scenario figures are
     the tool's costing of each scenario's changed inputs (their legs are not in this workbook)."""
-    page(ws)
     f = w.f
     cur = w.model.settings.currency
     ws.write_string(0, 0, "Scenario totals by cost component. The base row is the Summary TOTAL row; "
