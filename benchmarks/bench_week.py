@@ -31,8 +31,9 @@ import pandas as pd
 from benchmarks.bench_workbook import make_input
 
 FLOOR_COLUMNS = 15
-SHEET_WRITERS = ("write_legs", "write_summary", "write_scenarios", "write_comparison", "write_tradeoffs",
-                 "write_lane_usage", "write_charts", "write_map", "write_problems", "write_run")
+SHEET_WRITERS = ("write_legs", "write_vehicle_runs", "write_summary", "write_scenarios",
+                 "write_comparison", "write_tradeoffs", "write_lane_usage", "write_charts", "write_map",
+                 "write_problems", "write_run")
 
 
 def floor(inp: str, out: str, rows: int) -> tuple[float, float]:
@@ -108,7 +109,7 @@ def costed_run(inp: str, out: str) -> tuple[list[tuple[str, str, float]], dict]:
         info = RunInfo(os.path.basename(inp), digest, None, run_time(), costed.stats)
         t0 = time.perf_counter()
         write_costed(out, model, costed.results, costed.problems, info, costed.analysis, png,
-                     costed.scenarios)
+                     costed.scenarios, costed.runs)
         written = time.perf_counter() - t0
     finally:
         for name, fn in saved.items():

@@ -375,7 +375,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     t0 = time.perf_counter()
     try:
         _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
-                                                        scenario_runs))
+                                                        scenario_runs, costed.runs))
     except OutputLimitError as e:
         print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
         return EXIT_INPUT

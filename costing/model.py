@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import datetime as _dt
 from dataclasses import dataclass, field
 from functools import cached_property
 
@@ -73,6 +74,8 @@ class RateCard:
     row: int = 0
     fuel_included_at: float | None = None  # fuel price per litre the per_km rate includes
     tare_t: float = 0.0  # empty weight of one vehicle, for lane weight limits
+    pallet_places: float | None = None  # pallets one vehicle carries (None: no limit)
+    volume_m3: float | None = None  # load volume of one vehicle, m3 (None: no limit)
 
 
 @dataclass(frozen=True)
@@ -86,6 +89,10 @@ class Shipment:
     hazmat: bool = False
     customer: str = ""
     row: int = 0
+    ready_date: _dt.date | None = None  # None: the first day of the run
+    due_date: _dt.date | None = None
+    pallets: float | None = None
+    volume_m3: float | None = None
 
 
 @dataclass(frozen=True)
@@ -106,6 +113,7 @@ class Settings:
     rest_hours_paid: str = "no"
     compare_objectives: str = "yes"
     frontier_max_routes: float = 6
+    consolidate: str = "yes"
 
 
 @dataclass(frozen=True)

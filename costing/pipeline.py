@@ -19,8 +19,10 @@ What ``run`` guarantees:
   ``costing.network.search``) and its total is the sum of its rounded legs (``costing.price``);
 - the Model is never changed (records are frozen); scenarios run on changed copies.
 
-The plan stage (vehicles shared by loads that leave together) sits between route and
-price: today every load has vehicles of its own, so the plan is the identity on the routes.
+The plan stage (``costing.plan.week``) sits between route and price: loads ready on the same
+day share vehicle runs on the lanes they have in common (Settings ``consolidate``), each pays a
+tonne-km share of its runs, and with ``consolidate = no`` every leg is a run of its own, so each
+total is the shipment's stand-alone total.
 """
 
 from __future__ import annotations
@@ -32,6 +34,7 @@ from dataclasses import dataclass, field, replace
 from costing.model import Model, Problem
 from costing.plan.analysis import Analysis, ScenarioRun, analyse, lane_usage
 from costing.plan.route import Router, RunStats, objective_for
+from costing.plan.week import VehicleRun, plan_week
 from costing.price.cost import CostedShipment
 
 Progress = Callable[[int, int], None]
@@ -90,6 +93,8 @@ class Costed:
         One per scenario of the Model (empty when ``Options.scenarios`` is off).
     seconds : dict of str to float
         Wall seconds of each stage, in the order they ran.
+    runs : list of VehicleRun
+        The vehicle runs of the week (one per leg when Settings ``consolidate`` is no).
     """
 
     model: Model
@@ -99,6 +104,7 @@ class Costed:
     analysis: Analysis
     scenarios: list[ScenarioRun] = field(default_factory=list)
     seconds: dict[str, float] = field(default_factory=dict)  # stage -> wall seconds
+    runs: list[VehicleRun] = field(default_factory=list)
 
 
 def run(model: Model, options: Options | None = None) -> Costed:
@@ -147,7 +153,11 @@ def run(model: Model, options: Options | None = None) -> Costed:
         bar(k + 1, total)
     times["search and cost"] = time.perf_counter() - t0
 
-    # plan stage: every load has vehicles of its own (consolidation plugs in here)
+    t0 = time.perf_counter()
+    week = plan_week(model, lambda s: router.route(s, "cost", notes=False), results)
+    results = week.results
+    router.problems += week.problems
+    times["plan (vehicle runs)"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
     if options.analyses:
@@ -163,13 +173,13 @@ def run(model: Model, options: Options | None = None) -> Costed:
         sub = replace(options, analyses=False, scenarios=False, progress=None)
         for k, sc in enumerate(model.scenarios):
             changed = run(apply_scenario(model, sc), sub)
-            runs.append(ScenarioRun(sc, changed.results, changed.stats))
+            runs.append(ScenarioRun(sc, changed.results, changed.stats, changed.runs))
             bar(k + 1, len(model.scenarios))
         times["scenarios"] = time.perf_counter() - t0
 
     router.stats.networks = len(router.networks)
     return Costed(model, results, list(model.problems) + router.problems, router.stats, analysis, runs,
-                  times)
+                  times, week.runs)
 
 
 def load(path: str) -> tuple[Model | None, list[Problem], str | None]:

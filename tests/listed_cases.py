@@ -69,7 +69,9 @@ def medium_model(seed: int, depots: int = 45, shipments: int = 36, rules: str = 
                               vehicle=rng.choice([None, None, None, "van", "unit"]),
                               objective=rng.choice([None, None, "time", "distance", "emissions", "blended"]),
                               hazmat=rng.random() < 0.15))
-    settings = Settings(driving_rules=rules, value_of_time_per_hour=22.0, fuel_price_per_litre=1.62)
+    # consolidate = no: the snapshot is of each shipment's listed routes and their figures alone
+    settings = Settings(driving_rules=rules, value_of_time_per_hour=22.0, fuel_price_per_litre=1.62,
+                        consolidate="no")
     return Model(settings, tuple(pts), tuple(lanes), rates, tuple(ships))
 
 

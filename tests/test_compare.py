@@ -46,6 +46,9 @@ EXPECTED_KINDS = {
 
 def old_data() -> dict:
     d = base_data()
+    # each shipment priced alone, so each expected kind above follows from its own route
+    # (sharing vehicles would move cost between shipments; tests/test_week_plan.py covers it)
+    d.setdefault("Settings", []).append({"setting": "consolidate", "value": "no"})
     d["Depots"].append({"depot_id": "E", "name": "Echo", "latitude": 52.2, "longitude": 4.6})
     d["Lanes"].append({"lane_id": "L5", "from_depot": "A", "to_depot": "E", "mode": "road",
                        "distance_km": 60, "drive_hours": 0.9})

@@ -20,9 +20,10 @@ from tests.conftest import base_data
 MONEY = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
          "handling_start_cost", "handling_end_cost", "trip_cost"]
 LEG_HEADERS = ["shipment_id", "seq", "from_depot", "to_depot", "vehicles", "distance_km", "per_km",
-               "leg_cost", *MONEY]
+               "leg_cost", "run_id", "cost_share", *MONEY]
 SUMMARY_HEADERS = ["shipment_id", "status", "origin", "destination", "objective", "distance_km",
-                   "subtotal", "min_charge", "min_charge_uplift", "total_cost", "route"]
+                   "subtotal", "min_charge", "min_charge_uplift", "standalone_cost", "allocated_cost",
+                   "total_cost", "saving", "travels_with", "route"]
 
 
 def header_index(ws, wanted: list[str]) -> dict[str, int]:
@@ -84,14 +85,22 @@ def check_costed_workbook(path):
         assert _cents(row[col["subtotal"]]) == subtotal
         uplift = max(0, _cents(row[col["min_charge"]]) - subtotal)
         assert _cents(row[col["min_charge_uplift"]]) == uplift
-        assert _cents(row[col["total_cost"]]) == subtotal + uplift
+        # the shipment alone: its legs plus the uplift; what it pays: its shares of the runs
+        # it rides in, plus the uplift only when it shares no vehicle (issue: consolidation)
+        assert _cents(row[col["standalone_cost"]]) == subtotal + uplift
+        shares = sum(_cents(x["cost_share"]) for x in ls)
+        assert _cents(row[col["allocated_cost"]]) == shares <= subtotal
+        shared = bool(row[col["travels_with"]])
+        total = shares + (0 if shared else uplift)
+        assert _cents(row[col["total_cost"]]) == total
+        assert _cents(row[col["saving"]]) == subtotal + uplift - total >= 0
         assert row[col["distance_km"]] == pytest.approx(sum(x["distance_km"] for x in ls))
         # the legs chain from origin to destination
         assert ls[0]["from_depot"] == row[col["origin"]]
         assert ls[-1]["to_depot"] == row[col["destination"]]
         for a, b in zip(ls, ls[1:]):
             assert a["to_depot"] == b["from_depot"]
-        grand += subtotal + uplift
+        grand += total
     assert _cents(total_row[col["total_cost"]]) == grand
     run = dict(wb["Run"].iter_rows(min_row=2, max_col=2, values_only=True))
     assert run["difference (must be 0)"] == 0
@@ -138,7 +147,7 @@ def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_pa
     code, _, err = cli("run", inp, "-o", str(out))
     assert code == 0, err
     # our formulas use only these functions, sheet and cell references, numbers and operators
-    token = re.compile(r'SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!'
+    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!|'Vehicle runs'!"
                        r'|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
                        r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"')
     with zipfile.ZipFile(out) as z:

@@ -87,7 +87,9 @@ def _random_intermodal(seed):
     pairs = rng.sample([(a, b) for a in range(n) for b in range(n) if a != b], 5)
     ships = tuple(Shipment(f"S{i}", depots[a].depot_id, depots[b].depot_id, weight)
                   for i, (a, b) in enumerate(pairs))
-    return Model(Settings(), depots, tuple(lanes), rates, ships)
+    # each load priced alone: the oracle checks each shipment's own least-cost route (sharing
+    # vehicles may move a load to a dearer route of its own; tests/test_week_plan.py covers that)
+    return Model(Settings(consolidate="no"), depots, tuple(lanes), rates, ships)
 
 
 def oracle_cost(model: Model, s: Shipment) -> float | None:

@@ -495,7 +495,8 @@ def test_scenarios_read_from_a_workbook(make_input):
 def test_every_figure_of_the_contract_can_be_set():
     # each non-id column of each input sheet, and each setting, takes a "=" change
     # (a column added to the contract but not to the Model shows up here)
-    samples = {"number": "=1", "yesno": "=no", "text": "=x", "depot": "=B", "vehicle": "=van"}
+    samples = {"number": "=1", "yesno": "=no", "text": "=x", "depot": "=B", "vehicle": "=van",
+               "date": "=2026-12-08"}
     model = base_model()
     for sheet, key in (("Depots", "A"), ("Lanes", "L3"), ("Rates", "van/road"), ("Shipments", "S1")):
         for col in SHEETS_BY_NAME[sheet].columns:

@@ -361,6 +361,12 @@ def _set_value(target: _Target, raw, model: Model) -> tuple[object, str, str]:
             return None, f"currency '{_short(text)}' is not an ISO 4217 code", (
                 "type a three-letter code such as =EUR, =GBP or =USD")
         return s, "", ""
+    if target.kind == "date":
+        try:
+            return _dt.date.fromisoformat(text.strip()), "", ""
+        except ValueError:
+            return None, f"={_short(text)} is not a date; {name} takes a date", (
+                "type the date as =YYYY-MM-DD, e.g. =2026-12-08")
     if target.kind == "depot":
         ids = [d.depot_id for d in model.depots]
         if text in ids:
@@ -638,6 +644,8 @@ def _type_ok(target: _Target, value) -> bool:
         return isinstance(value, bool)
     if target.kind == "choice":
         return value in target.choices
+    if target.kind == "date":
+        return isinstance(value, _dt.date)
     return isinstance(value, str)
 
 

@@ -86,7 +86,31 @@ class _Sheet:
             return self._yes_no(rr, col, v)
         if col.kind == "choice":
             return self._choice(rr, col, v)
+        if col.kind == "date":
+            return self._date(rr, col, v)
         return self._text(rr, col, v)
+
+    def _date(self, rr, col, v):
+        """A date cell: a spreadsheet date, or text in ISO form (2026-12-07)."""
+        if isinstance(v, _dt.datetime):
+            if v.time() != _dt.time(0, 0):
+                self.problem(WARNING, col.name, rr.row, f"{col.name} holds a time of day ({v:%H:%M}); "
+                             "only the day is used", f"type the {col.name} as a date")
+            return v.date()
+        if isinstance(v, _dt.date):
+            return v
+        if isinstance(v, str):
+            try:
+                return _dt.date.fromisoformat(v.strip())
+            except ValueError:
+                pass
+            self.problem(ERROR, col.name, rr.row, f"{col.name} holds the text '{_short(v)}', not a date",
+                         "type the date as YYYY-MM-DD (e.g. 2026-12-07) in a cell formatted as Date")
+            return _MISSING
+        what = "TRUE/FALSE" if isinstance(v, bool) else f"the number {v}"
+        self.problem(ERROR, col.name, rr.row, f"{col.name} holds {what}, not a date",
+                     "format the cell as Date and type the date as YYYY-MM-DD (e.g. 2026-12-07)")
+        return _MISSING
 
     def _number(self, rr, col, v, label: str | None = None):
         name = label or col.name  # Settings: the setting's name; its cell is in column value
@@ -458,7 +482,9 @@ def validate(raw: RawWorkbook) -> Model:
                                       rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
                                       rec["min_charge"] or 0.0, rr.row,
                                       fuel_included_at=rec["fuel_included_at"],
-                                      tare_t=rec["tare_t"] or 0.0))
+                                      tare_t=rec["tare_t"] or 0.0,
+                                      pallet_places=rec["pallet_places"] or None,
+                                      volume_m3=rec["volume_m3"] or None))
     vehicles = {r.vehicle for r in rates}
     rated_modes = {r.mode for r in rates}
 
@@ -530,10 +556,16 @@ def validate(raw: RawWorkbook) -> Model:
             if rec["weight_t"] == 0:
                 sh.problem(WARNING, "weight_t", rr.row, "weight_t is 0; costed as one vehicle",
                            "enter the weight in tonnes")
+            ready, due = rec["ready_date"], rec["due_date"]
+            if ready is not None and due is not None and due < ready:
+                sh.problem(ERROR, "due_date", rr.row, f"due_date {due} is before ready_date {ready}",
+                           "correct the due_date or the ready_date")
+                ok = False
             if ok:
                 shipments.append(Shipment(rec["shipment_id"], rec["origin"], rec["destination"],
                                           rec["weight_t"], v, rec["objective"],
-                                          bool(rec["hazmat"]), rec["customer"] or "", rr.row))
+                                          bool(rec["hazmat"]), rec["customer"] or "", rr.row,
+                                          ready, due, rec["pallets"], rec["volume_m3"]))
                 _split_warning(sh, rr.row, rec, [r for r in rates if v is None or r.vehicle == v],
                                depot_modes)
 

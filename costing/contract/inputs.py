@@ -113,6 +113,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("frontier_max_routes", "number", 6,
                 "Most cost-time trade-off routes listed per shipment on the Trade-offs sheet; "
                 "0 leaves the sheet out.", minimum=0, maximum=100),
+    SettingSpec("consolidate", "choice", "yes",
+                "yes: shipments ready on the same day share vehicles on the lanes they have in "
+                "common, up to payload, pallet places and volume, and each pays a tonne-km share of "
+                "the vehicle runs it rides in (Vehicle runs sheet). no: every shipment has vehicles "
+                "of its own.", choices=YES_NO),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
@@ -215,6 +220,11 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("tare_t", "number", False, "tonnes", "Empty weight of one vehicle, added to its "
                    "load when checking a lane's max_weight_t. Blank: 0 (load only).", default=0.0,
                    minimum=0.0, maximum=1000.0, width=9),
+            Column("pallet_places", "number", False, "pallets", "Pallet places (floor positions) of "
+                   "one vehicle, e.g. 33 for a 13.6 m trailer with euro pallets. Blank: no pallet limit.",
+                   minimum=0.0, maximum=10000.0, width=12),
+            Column("volume_m3", "number", False, "m3", "Load volume of one vehicle in cubic metres. "
+                   "Blank: no volume limit.", minimum=0.0, maximum=100000.0, width=10),
         ),
         note="Rate cards: what each vehicle costs on each mode.",
     ),
@@ -234,6 +244,16 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("hazmat", "yesno", False, note="yes: dangerous goods. Blank: no.",
                    choices=YES_NO, default=False, width=9),
             Column("customer", "text", False, note="Customer name, for your reference.", width=20),
+            Column("ready_date", "date", False, "date", "Day the goods are ready to leave. Shipments "
+                   "ready on the same day may share vehicles. Blank: the first day of the run (the "
+                   "earliest ready_date given).", width=12),
+            Column("due_date", "date", False, "date", "Last day the goods may arrive (by the end of "
+                   "that day). Blank: no deadline. A later arrival is marked late.", width=12),
+            Column("pallets", "number", False, "pallets", "Pallet places the goods take. Blank: 0 "
+                   "(weight alone decides how many fit in a vehicle).", minimum=0.0,
+                   maximum=100000.0, width=9),
+            Column("volume_m3", "number", False, "m3", "Volume of the goods in cubic metres. Blank: "
+                   "0 (weight alone decides).", minimum=0.0, maximum=1000000.0, width=10),
         ),
         id_column="shipment_id",
         note="The shipments to cost.",

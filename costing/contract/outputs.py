@@ -9,6 +9,7 @@ from __future__ import annotations
 # spreadsheet's row limit; Scenario comparison, Comparison, Trade-offs, Lane usage, Charts and Map
 # appear only when the run has them.
 SUMMARY = "Summary"
+VEHICLE_RUNS = "Vehicle runs"
 SCENARIO_COMPARISON = "Scenario comparison"
 LEGS = "Legs"
 COMPARISON = "Comparison"
@@ -18,7 +19,8 @@ CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
-SHEETS = (SUMMARY, SCENARIO_COMPARISON, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
+SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP,
+          PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -74,6 +76,11 @@ LEG_COLUMNS = [
     ("co2e_basis", 15, "text"),
     ("intensity_g_per_tkm", 11, "plain"),
     ("co2e_kg", 10, "kg"),
+    ("run_id", 8, "text"),
+    ("tonne_km", 11, "km"),
+    ("cost_share", 11, "money"),
+    ("share_adjust", 9, "money"),
+    ("co2e_share", 10, "kg"),
 ]
 
 
@@ -90,9 +97,11 @@ SUMMARY_COLUMNS = [
     ("hour_cost", 11, "money"), ("toll_cost", 10, "money"), ("fixed_cost", 10, "money"),
     ("fuel_surcharge", 11, "money"), ("stop_cost", 10, "money"),
     ("handling_cost", 11, "money"), ("trip_cost", 10, "money"), ("subtotal", 12, "money"),
-    ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("total_cost", 12, "money"),
-    ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("customer", 18, "text"),
-    ("route", 40, "text"), ("note", 60, "text"),
+    ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("standalone_cost", 12, "money"),
+    ("allocated_cost", 12, "money"), ("total_cost", 12, "money"), ("saving", 11, "money"),
+    ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("tonne_km", 11, "km"), ("customer", 18, "text"),
+    ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
+    ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
 ]
 
 
@@ -106,14 +115,42 @@ SUMMED = {
     "elapsed_hours": ["elapsed_hours"], "km_cost": ["km_cost"], "hour_cost": ["hour_cost"],
     "toll_cost": ["toll_cost"], "fixed_cost": ["fixed_cost"], "fuel_surcharge": ["fuel_surcharge"],
     "stop_cost": ["stop_cost"], "handling_cost": ["handling_start_cost", "handling_end_cost"],
-    "trip_cost": ["trip_cost"], "subtotal": ["leg_cost"], "co2e_kg": ["co2e_kg"],
+    "trip_cost": ["trip_cost"], "subtotal": ["leg_cost"], "co2e_kg": ["co2e_share"],
+    "allocated_cost": ["cost_share"], "tonne_km": ["tonne_km"],
 }
+
+
+# Vehicle runs columns: (header, width, kind). One row per vehicle run: vehicles of one rate card
+# on one lane step on one day, with the loads they carry. The rate and cost columns have the
+# names (and formulas) of the Legs columns, for the run's vehicles.
+RUN_COLUMNS = [
+    ("run_id", 8, "text"), ("date", 11, "date"), ("lane_id", 9, "text"), ("from_depot", 11, "text"),
+    ("to_depot", 11, "text"), ("mode", 9, "text"), ("vehicle", 12, "text"), ("vehicles", 8, "int"),
+    ("loads", 6, "int"), ("shipments", 24, "text"), ("tonnes", 9, "plain"), ("pallets", 8, "plain"),
+    ("volume_m3", 9, "plain"), ("payload_t", 9, "plain"), ("pallet_places", 9, "plain"),
+    ("capacity_m3", 9, "plain"), ("fill_weight", 9, "pct"), ("fill_pallets", 9, "pct"),
+    ("fill_volume", 9, "pct"), ("distance_km", 11, "km"), ("drive_hours", 11, "hours"),
+    ("paid_stop_hours", 10, "hours"), ("per_km", 9, "rate"), ("per_hour", 9, "rate"), ("toll", 9, "rate"),
+    ("fixed_cost_rate", 10, "rate"), ("fuel_l_per_100km", 10, "plain"), ("fuel_price", 9, "rate"),
+    ("fuel_included_at", 10, "rate"), ("handling_start_rate", 12, "rate"), ("handling_end_rate", 12, "rate"),
+    ("per_trip", 9, "rate"), ("km_cost", 11, "money"), ("hour_cost", 11, "money"), ("toll_cost", 10, "money"),
+    ("fixed_cost", 10, "money"), ("fuel_surcharge", 11, "money"), ("stop_cost", 10, "money"),
+    ("handling_start_cost", 12, "money"), ("handling_end_cost", 12, "money"), ("trip_cost", 10, "money"),
+    ("run_cost", 12, "money"), ("standalone_cost", 12, "money"), ("saving", 11, "money"),
+    ("tonne_km", 11, "km"), ("co2e_kg_per_litre", 10, "plain"), ("co2e_basis", 15, "text"),
+    ("intensity_g_per_tkm", 11, "plain"), ("co2e_kg", 10, "kg"),
+]
+
+
+RUN_COL = {name: i for i, (name, _w, _k) in enumerate(RUN_COLUMNS)}
 
 
 HEADER_NOTES = {
     "km_basis": "stated: from the Lanes sheet; estimated: straight line x detour_factor.",
     "hours_basis": "stated: from the Lanes sheet; estimated: km / default_speed_kmh.",
-    "vehicles": "Vehicles needed = ceil(weight_t / payload_t of the rate card).",
+    "vehicles": "Legs: vehicles the load needs alone = the most of ceil(weight_t / payload_t), "
+                "ceil(pallets / pallet_places) and ceil(volume / the card's volume_m3). Vehicle runs: "
+                "the vehicles its loads are packed into (first-fit decreasing).",
     "break_hours": "Driving-time breaks on this leg (driving_rules; planning estimate).",
     "rest_hours": "Daily rests on this leg (driving_rules; planning estimate).",
     "paid_stop_hours": "Break and rest hours charged at per_hour (settings break_hours_paid, "
@@ -138,7 +175,29 @@ HEADER_NOTES = {
     "subtotal": "Sum of the shipment's leg_cost on the Legs sheet.",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
-    "total_cost": "subtotal + min_charge_uplift",
+    "total_cost": "allocated_cost, plus min_charge_uplift when the shipment shares no vehicle "
+                  "(travels_with blank). With consolidate = no: subtotal + min_charge_uplift.",
+    "run_id": "The vehicle run (Vehicle runs sheet) the leg rides in.",
+    "tonne_km": "weight_t x distance_km: the allocation key (ISO 14083 allocates a run's emissions "
+                "among its loads by tonne-km; the same key shares its cost).",
+    "cost_share": "The leg's share of its run's run_cost: ROUND(run_cost x tonne_km / run tonne_km) "
+                  "+ share_adjust. With consolidate = no (one load per run) it is the leg_cost.",
+    "share_adjust": "Largest-remainder rounding (so a run's shares add up to its run_cost to the cent) "
+                    "and, where a share would exceed the leg's own cost, the amount moved to the "
+                    "other loads of the run (see the shipment's note).",
+    "co2e_share": "The leg's share of its run's co2e_kg, by tonne-km. Planning estimate.",
+    "standalone_cost": "subtotal + min_charge_uplift: the route with vehicles of its own.",
+    "allocated_cost": "Sum of the shipment's cost_share on the Legs sheet: its share of the vehicle "
+                      "runs it rides in.",
+    "saving": "standalone_cost - total_cost: what sharing vehicles saves.",
+    "travels_with": "Shipments that share a vehicle run with this one (blank: none).",
+    "late_hours": "Hours the shipment arrives after the end of its due_date, leaving at the start "
+                  "of its ready_date (0: on time; blank: no due_date).",
+    "loads": "Shipments carried on the run.",
+    "fill_weight": "tonnes / (vehicles x payload_t).",
+    "fill_pallets": "pallets / (vehicles x pallet_places); blank when the card gives no pallet places.",
+    "fill_volume": "volume_m3 / (vehicles x capacity_m3); blank when the card gives no volume.",
+    "run_cost": "Sum of the run's cost components for its vehicles; shared among its loads by tonne-km.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }
@@ -169,4 +228,4 @@ LANE_COLUMNS = [
 
 
 SCENARIO_COMPONENTS = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
-                       "handling_cost", "trip_cost", "min_charge_uplift"]
+                       "handling_cost", "trip_cost", "min_charge_uplift", "consolidation_saving"]

@@ -110,3 +110,4 @@ class ScenarioRun:
     scenario: object  # costing.check.scenarios.Scenario
     results: list[CostedShipment]
     stats: object  # route.RunStats
+    runs: list = field(default_factory=list)  # costing.plan.week.VehicleRun of the scenario

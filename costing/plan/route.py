@@ -23,7 +23,7 @@ from costing.network.build import (
 from costing.network.search import astar
 from costing.objectives import objective
 from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
-from costing.price.rates import vehicles_needed
+from costing.price.rates import load_vehicles
 
 
 @dataclass
@@ -72,13 +72,14 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
     needs_tonnes = _uses(objective, "co2e") and any(
         c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None for c in cards)
     return Profile(objective,
-                   tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
+                   tuple((c.vehicle, c.mode, load_vehicles(s.weight_t, c, s.pallets, s.volume_m3))
+                         for c in cards),
                    frozenset(blocked), s.weight_t if needs_tonnes else 0.0)
 
 
 def loaded_weight(s: Shipment, card: RateCard) -> float:
     """Gross weight of one loaded vehicle: its share of the load plus its tare."""
-    return s.weight_t / vehicles_needed(s.weight_t, card.payload_t) + card.tare_t
+    return s.weight_t / load_vehicles(s.weight_t, card, s.pallets, s.volume_m3) + card.tare_t
 
 
 # a group of this many shipments with one origin and profile is searched one-to-many

@@ -20,12 +20,12 @@ ROUND is half away from zero to the currency's minor unit, as the spreadsheet RO
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
 from costing.objectives import objective
-from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges, vehicles_needed
+from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges, load_vehicles
 from costing.price.rules import rules_for, stops_for_run
 
 ROUTED, NO_ROUTE, REJECTED = "routed", "no_route", "rejected"
@@ -59,6 +59,16 @@ class Leg:
     intensity_g_per_tkm: float | None  # the default intensity used, if any
     weight_t: float
     fuel_price: float | None  # the fuel price used for the surcharge, if any
+    # set by the plan stage (costing.plan.week): the vehicle run the leg rides in and its shares
+    run_id: str = ""
+    cost_share: float | None = None  # the leg's share of its run's cost, currency
+    share_adjust: float = 0.0  # cost_share minus ROUND(run cost x tonne-km / run tonne-km)
+    co2e_share: float | None = None  # the leg's share of its run's kg CO2e
+
+    @property
+    def tonne_km(self) -> float:
+        """Tonnes carried x km of the leg (the allocation key of ISO 14083)."""
+        return self.weight_t * self.use.km
 
     @property
     def handling_cost(self) -> float:
@@ -84,6 +94,8 @@ class CostedShipment:
     pushed: int = 0
     places: int = 2
     value_of_time: float = 0.0  # per hour, for the blended objective
+    shared_with: tuple[str, ...] = ()  # shipment ids sharing a vehicle run with it (plan stage)
+    day: object = None  # the plan's day (ready_date, or the first day of the run)
 
     @property
     def subtotal(self) -> float:
@@ -96,9 +108,30 @@ class CostedShipment:
         return round_money(max(0.0, self.min_charge - self.subtotal), self.places) if self.legs else 0.0
 
     @property
-    def total_cost(self) -> float:
-        """Subtotal plus the minimum-charge uplift, in the run's currency: what the shipment costs."""
+    def standalone_cost(self) -> float:
+        """Subtotal plus the minimum-charge uplift, currency: what the route costs the shipment
+        with vehicles of its own."""
         return round_money(self.subtotal + self.min_charge_uplift, self.places)
+
+    @property
+    def allocated_cost(self) -> float:
+        """Sum of the leg's shares of the vehicle runs they ride in, currency (the legs' own
+        cost before the plan stage has run)."""
+        return round_money(sum(leg.leg_cost if leg.cost_share is None else leg.cost_share
+                               for leg in self.legs), self.places)
+
+    @property
+    def total_cost(self) -> float:
+        """What the shipment costs, currency: its allocated share of the vehicle runs, plus the
+        minimum-charge uplift when it shares no vehicle (with vehicles of its own this is
+        subtotal + uplift, the stand-alone cost)."""
+        uplift = 0.0 if self.shared_with else self.min_charge_uplift
+        return round_money(self.allocated_cost + uplift, self.places)
+
+    @property
+    def saving(self) -> float:
+        """Stand-alone cost minus total cost, currency: what sharing vehicles saves (>= 0)."""
+        return round_money(self.standalone_cost - self.total_cost, self.places)
 
     @property
     def vehicles(self) -> int:
@@ -137,8 +170,19 @@ class CostedShipment:
 
     @property
     def co2e_kg(self) -> float:
-        """Emissions of the route, kg CO2e (sum of the legs)."""
+        """Emissions of the route, kg CO2e: the legs' shares of their vehicle runs (the legs'
+        own emissions before the plan stage has run)."""
+        return sum(leg.co2e_kg if leg.co2e_share is None else leg.co2e_share for leg in self.legs)
+
+    @property
+    def standalone_co2e_kg(self) -> float:
+        """Emissions of the route with vehicles of its own, kg CO2e."""
         return sum(leg.co2e_kg for leg in self.legs)
+
+    @property
+    def tonne_km(self) -> float:
+        """Tonne-km of the route (weight x km, summed over the legs)."""
+        return sum(leg.tonne_km for leg in self.legs)
 
     def component(self, name: str) -> float:
         """One cost component (a Leg field such as ``km_cost``) summed over the legs and rounded
@@ -165,6 +209,18 @@ class CostedShipment:
         return objective(self.objective).combine(self.quantity, coefficients.__getitem__)
 
 
+def _charges(use: LaneUse, card: RateCard, n: int, paid_hours: float, start_rate: float,
+             end_rate: float, trip_rate: float, settings, places: int):
+    """(lane charges, stop, start handling, end handling, trip, leg cost) of `n` vehicles on one
+    lane step, each rounded in the order of its spreadsheet formula (module docstring)."""
+    lc = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n, settings, places)
+    stop_cost = round_money(n * paid_hours * card.per_hour, places)
+    sh_cost, eh_cost = charge(n, start_rate, places), charge(n, end_rate, places)
+    trip_cost = charge(n, trip_rate, places)
+    leg_cost = round_money(lc.total + stop_cost + sh_cost + eh_cost + trip_cost, places)
+    return lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost
+
+
 def cost_route(model: Model, shipment: Shipment, objective: str,
                runs: list[tuple[RateCard, list[LaneUse]]], settled: int = 0,
                pushed: int = 0) -> CostedShipment:
@@ -176,7 +232,7 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     legs: list[Leg] = []
     total_steps = sum(len(uses) for _c, uses in runs)
     for card, uses in runs:
-        n = vehicles_needed(shipment.weight_t, card.payload_t)
+        n = load_vehicles(shipment.weight_t, card, shipment.pallets, shipment.volume_m3)
         stops = (stops_for_run([u.hours for u in uses], rules) if rules and card.mode == "road"
                  else [(0.0, 0.0)] * len(uses))
         surcharge_rate = fuel_surcharge_rate(card, settings)
@@ -189,15 +245,11 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
             end_rate = end.handling_cost if end_counts else 0.0
             hours = (start.handling_hours if start else 0.0) + (end.handling_hours if end_counts else 0.0)
             trip_rate = card.per_trip if i == 0 else 0.0
-            lc = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n, settings,
-                              places)
             brk, rest = stops[i]
             paid = (brk if settings.break_hours_paid == "yes" else 0.0) + \
                 (rest if settings.rest_hours_paid == "yes" else 0.0)
-            stop_cost = round_money(n * paid * card.per_hour, places)
-            sh_cost, eh_cost = charge(n, start_rate, places), charge(n, end_rate, places)
-            trip_cost = charge(n, trip_rate, places)
-            leg_cost = round_money(lc.total + stop_cost + sh_cost + eh_cost + trip_cost, places)
+            lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
+                use, card, n, paid, start_rate, end_rate, trip_rate, settings, places)
             kg, basis, intensity = co2e_kg(use.km, card, n, shipment.weight_t)
             legs.append(Leg(len(legs) + 1, use, card, n, start_rate, end_rate, hours, trip_rate,
                             lc.km_cost, lc.hour_cost, lc.toll_cost, lc.fixed_cost, lc.fuel_surcharge,
@@ -209,6 +261,36 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,
                           settled=settled, pushed=pushed, places=places,
                           value_of_time=settings.value_of_time_per_hour)
+
+
+def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
+    """The same leg (lane, card, rates, handling, stops) run with `n` vehicles: every cost
+    component recomputed with the arithmetic of `cost_route`, in the same order.
+
+    Parameters
+    ----------
+    model : Model
+        For the settings (fuel price, currency).
+    leg : Leg
+        A priced leg.
+    n : int
+        Vehicles, >= 1 (a vehicle run carrying several loads).
+
+    Returns
+    -------
+    Leg
+        With ``vehicles = n`` and its cost components and leg_cost for n vehicles; emissions
+        and weight are left as they were (a run's emissions are computed from all its loads)."""
+    settings = model.settings
+    places = minor_unit(settings.currency)
+    card, use = leg.card, leg.use
+    lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
+        use, card, n, leg.paid_stop_hours, leg.start_handling_rate, leg.end_handling_rate, leg.trip_rate,
+        settings, places)
+    return replace(leg, vehicles=n, km_cost=lc.km_cost, hour_cost=lc.hour_cost, toll_cost=lc.toll_cost,
+                   fixed_cost=lc.fixed_cost, fuel_surcharge=lc.fuel_surcharge, stop_cost=stop_cost,
+                   start_handling_cost=sh_cost, end_handling_cost=eh_cost, trip_cost=trip_cost,
+                   leg_cost=leg_cost)
 
 
 def unrouted(model: Model, shipment: Shipment, status: str, objective: str, message: str,

@@ -99,6 +99,32 @@ def co2e_kg(km: float, card: RateCard, n: int, weight_t: float) -> tuple[float, 
     return weight_t * km * intensity / 1000, "default intensity", intensity
 
 
+def load_vehicles(weight_t: float, card: RateCard, pallets: float | None = None,
+                  volume_m3: float | None = None) -> int:
+    """Vehicles of `card` one load needs on its own: the most of ceil(weight / payload),
+    ceil(pallets / pallet_places) and ceil(volume / the card's volume), at least one.
+
+    Parameters
+    ----------
+    weight_t : float
+        The load's weight, tonnes.
+    card : RateCard
+        Its payload_t, pallet_places and volume_m3 (a blank capacity sets no limit).
+    pallets, volume_m3 : float, optional
+        The load's pallet places and volume, m3 (None: not given, no limit from them).
+
+    Returns
+    -------
+    int
+        The same count as ``vehicles_needed`` when no pallets or volume are given; the same rule
+        (with the same tolerance) as the piece count of ``costing.plan.consolidate``."""
+    n = vehicles_needed(weight_t, card.payload_t)
+    for size, cap in ((pallets, card.pallet_places), (volume_m3, card.volume_m3)):
+        if size and cap:
+            n = max(n, math.ceil(size / cap - 1e-9))
+    return n
+
+
 def vehicles_needed(weight_t: float, payload_t: float) -> int:
     """ceil(weight / payload), at least one vehicle. A tiny tolerance keeps 49.0 t on 24.5 t
     payloads at 2 vehicles despite float division."""

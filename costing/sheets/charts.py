@@ -17,8 +17,7 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
     ws.write_string(0, 0, "Charts are drawn from the Summary, Trade-offs and Scenario comparison sheets; "
                     "they follow those figures when rates change and the workbook recalculates.",
                     w.f["bold"])
-    components = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
-                  "handling_cost", "trip_cost", "min_charge_uplift"]
+    components = SCENARIO_COMPONENTS
     total_row = last_row + 1  # 0-based TOTAL row of Summary
     # the first chart's data, beside it: each component's name and its Summary TOTAL by formula
     ws.write_string(2, 0, "component", w.f["head"])
@@ -29,14 +28,16 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
     for k, name in enumerate(components, start=3):
         ws.write_string(k, 0, name)
         value = round(sum(component(r, name) for r in routed), w.places)
-        ws.write_formula(k, 1, f"=Summary!{xl_col_to_name(SUM[name])}{total_row + 1}", w.f["money"], value)
+        ref = (f"-Summary!{xl_col_to_name(SUM['saving'])}" if name == "consolidation_saving"
+               else f"Summary!{xl_col_to_name(SUM[name])}")
+        ws.write_formula(k, 1, f"={ref}{total_row + 1}", w.f["money"], value)
     first, last = 3, 2 + len(components)
     chart = w.wb.add_chart({"type": "bar"})
     chart.add_series({"name": "cost", "categories": [ws.name, first, 0, last, 0],
                       "values": [ws.name, first, 1, last, 1], "fill": {"color": "#4472C4"},
                       "data_labels": {"value": True, "num_format": "#,##0"}})
     chart.set_title({"name": "Cost by component, all shipments"})
-    chart.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0", "min": 0})
+    chart.set_x_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
     chart.set_y_axis({"name": "cost component", "reverse": True})
     chart.set_legend({"none": True})
     chart.set_size({"width": CHART_W, "height": CHART_H})

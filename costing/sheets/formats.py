@@ -71,6 +71,9 @@ class Writer:
         self.wb.set_properties({"title": "Costed routes", "created": created,
                                 "comments": f"Written by costing {__version__}"})
         self.model = model
+        from costing.plan.week import first_day
+
+        self.first_day = first_day(model)  # the day of shipments with no ready_date
         install_layout(self.wb, streaming)
         self.legs_last: dict[str, int] = {}  # Legs sheet name -> its last data row (1-based)
         cur = model.settings.currency
@@ -90,6 +93,8 @@ class Writer:
             "rate": wb.add_format({"num_format": "#,##0.00##"}),
             "kg": wb.add_format({"num_format": "#,##0.0"}),
             "plain": wb.add_format({"num_format": "General"}),
+            "date": wb.add_format({"num_format": "yyyy-mm-dd"}),
+            "pct": wb.add_format({"num_format": "0.0%"}),
             "bold": wb.add_format({"bold": True}),
             "total_text": wb.add_format({"bold": True, "top": 2}),
             "wrap": wb.add_format({"text_wrap": True, "valign": "top"}),
@@ -131,6 +136,8 @@ def component(res: CostedShipment, name: str) -> float:
         return res.min_charge_uplift
     if name == "total_cost":
         return res.total_cost
+    if name == "consolidation_saving":
+        return -res.saving
     return shipment_value(res, name)
 
 
@@ -139,14 +146,27 @@ def sheet_ref(name: str) -> str:
     return f"'{name}'" if " " in name else name
 
 
+_LEG_ATTR = {"handling_start_cost": "start_handling_cost", "handling_end_cost": "end_handling_cost"}
+
+
+def leg_value(leg, col: str) -> float:
+    """The cached value of a numeric Legs column of `leg` (shares fall back to the leg's own
+    figures when no plan stage has set them)."""
+    if col == "distance_km":
+        return leg.use.km
+    if col == "drive_hours":
+        return leg.use.hours
+    if col == "cost_share":
+        return leg.leg_cost if leg.cost_share is None else leg.cost_share
+    if col == "co2e_share":
+        return leg.co2e_kg if leg.co2e_share is None else leg.co2e_share
+    return getattr(leg, _LEG_ATTR.get(col, col))
+
+
 def shipment_value(res: CostedShipment, col: str) -> float:
     """The cached value of a summed Summary column, from the same rounded leg figures."""
     legs_cols = SUMMED[col]
-    attr = {"handling_start_cost": "start_handling_cost", "handling_end_cost": "end_handling_cost",
-            "leg_cost": "leg_cost"}
-    total = sum(getattr(leg, attr.get(c, c)) if c not in ("distance_km", "drive_hours")
-                else (leg.use.km if c == "distance_km" else leg.use.hours)
-                for leg in res.legs for c in legs_cols)
+    total = sum(leg_value(leg, c) for leg in res.legs for c in legs_cols)
     kind = SUMMARY_COLUMNS[SUM[col]][2]
     return round_money(total, res.places) if kind == "money" else total
 

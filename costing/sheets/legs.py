@@ -5,9 +5,9 @@ from __future__ import annotations
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import LEG, LEG_COLUMNS
+from costing.contract.outputs import LEG, LEG_COLUMNS, RUN_COL, VEHICLE_RUNS
 from costing.errors import OutputLimitError
-from costing.sheets.formats import MAX_ROWS, Writer, basis, cell_text
+from costing.sheets.formats import MAX_ROWS, Writer, basis, cell_text, leg_value, sheet_ref
 
 # Per Legs column: the cached value (from the result r and leg g) and the formula, if any.
 LEG_CELLS = {
@@ -60,6 +60,17 @@ LEG_CELLS = {
     "co2e_kg": (lambda r, g: g.co2e_kg,
         'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*{co2e_kg_per_litre},'
         "{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
+    "run_id": (lambda r, g: g.run_id, None),
+    "tonne_km": (lambda r, g: g.tonne_km, "{weight_t}*{distance_km}"),
+    # the leg's share of its run (Vehicle runs): tonne-km share of run_cost, in the order of
+    # costing.plan.week._quota, plus the largest-remainder (and cap) adjustment
+    "cost_share": (lambda r, g: leg_value(g, "cost_share"),
+        "ROUND(IF({run_tkm}={tonne_km},{run_cost},IF({run_tkm}=0,{run_cost}/{run_loads},"
+        "{run_cost}*{tonne_km}/{run_tkm})),{d})+{share_adjust}"),
+    "share_adjust": (lambda r, g: g.share_adjust, None),
+    "co2e_share": (lambda r, g: leg_value(g, "co2e_share"),
+        "IF({run_tkm}={tonne_km},{run_co2e},IF({run_tkm}=0,{run_co2e}/{run_loads},"
+        "{run_co2e}*{tonne_km}/{run_tkm}))"),
 }
 LEG_SPEC = [(name, width, kind, *LEG_CELLS[name]) for name, width, kind in LEG_COLUMNS]
 
@@ -92,6 +103,10 @@ def write_legs(w: Writer, legs_sheets, results) -> tuple[dict[str, tuple[str, in
     """Legs rows, continuing on further sheets at the row limit. Returns shipment id ->
     (sheet, first row, last row) (1-based) and sheet -> its last data row."""
     letters = {name: xl_col_to_name(i) for name, i in LEG.items()}
+    runs = sheet_ref(VEHICLE_RUNS)
+    run_letter = {ref: xl_col_to_name(RUN_COL[name]) for ref, name in
+                  (("run_cost", "run_cost"), ("run_tkm", "tonne_km"), ("run_co2e", "co2e_kg"),
+                   ("run_loads", "loads"))}
     ranges: dict[str, tuple[str, int, int]] = {}
     last: dict[str, int] = {}
     k = 0
@@ -112,6 +127,12 @@ def write_legs(w: Writer, legs_sheets, results) -> tuple[dict[str, tuple[str, in
         for leg in res.legs:
             refs = {col_name: f"{col}{r + 1}" for col_name, col in letters.items()}
             refs["d"] = str(w.places)
+            if leg.run_id:  # run R0001 is on row 2 of Vehicle runs
+                rr = int(leg.run_id[1:]) + 1
+                refs.update({ref: f"{runs}!{col}{rr}" for ref, col in run_letter.items()})
+            else:  # not planned: the leg is its own run
+                refs.update(run_cost=refs["leg_cost"], run_tkm=refs["tonne_km"], run_co2e=refs["co2e_kg"],
+                            run_loads="1")
             for c, (_name, _width, kind, value_of, formula) in enumerate(LEG_SPEC):
                 value = value_of(res, leg)
                 if formula is not None:

@@ -12,11 +12,11 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
 from costing.contract import outputs as out
-from costing.contract.outputs import LEG, SUM
+from costing.contract.outputs import LEG, RUN_COL, SUM
 from costing.model import ERROR, INFO, WARNING, Model
 from costing.money import round_money
 from costing.price.cost import ROUTED
-from costing.sheets.formats import CAUTION, Writer, cell_text, sheet_ref
+from costing.sheets.formats import CAUTION, Writer, cell_text, leg_value, sheet_ref
 
 
 @dataclass
@@ -72,11 +72,12 @@ def bound_rows(bounds: dict[str, str]) -> list[tuple[str, str]]:
 
 
 def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, last: int,
-               n_legs: int) -> None:
+               n_legs: int, runs=()) -> None:
     """The Run sheet: tool, time, input SHA-256, every setting used, statistics, cautions, and
-    the reconciliation (legs + uplifts = Summary TOTAL, difference 0) as live formulas.
-    `last` is the 0-based index of the last Summary shipment row (`write_summary`), `n_legs`
-    the number of legs."""
+    the reconciliation as live formulas: the vehicle runs' costs equal the legs' shares
+    (difference 0), and runs + minimum-charge uplifts of shipments sharing no vehicle equal the
+    Summary TOTAL (difference 0). `last` is the 0-based index of the last Summary shipment row
+    (`write_summary`), `n_legs` the number of legs, `runs` the vehicle runs."""
     ws.fit_to_pages(1, 0)  # one page wide, as many long as it takes
     ws.set_column(0, 0, 36)
     ws.set_column(1, 1, 90, w.f["wrap"])
@@ -109,6 +110,14 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ("no_route", counts.get("no_route", 0)),
         ("rejected", counts.get("rejected", 0)),
         ("legs", n_legs),
+        ("vehicle runs", f"{len(runs)} runs, {sum(r.vehicles for r in runs)} vehicles; "
+                         f"{sum(len(r.loads) > 1 for r in runs)} runs carry more than one shipment "
+                         f"(consolidate = {s.consolidate})"),
+        ("consolidation", "shipments ready on the same day share vehicle runs on the lane steps they have "
+                          "in common (same rate card and per-vehicle charges), packed by weight, pallet "
+                          "places and volume; each pays a tonne-km share of its runs, never more than its "
+                          "leg alone (costing.plan.week)" if s.consolidate == "yes" else
+                          "off: every shipment has vehicles of its own"),
         ("problems: errors / warnings / info",
          "{} / {} / {}".format(*(len({(p.sheet, p.cell, p.message) for p in problems if p.severity == k})
                                  for k in (ERROR, WARNING, INFO)))),
@@ -167,18 +176,36 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     # reconciliation: the totals tie out
     L = {name: xl_col_to_name(i) for name, i in LEG.items()}
     S = {name: xl_col_to_name(i) for name, i in SUM.items()}
+    R = {name: xl_col_to_name(i) for name, i in RUN_COL.items()}
     routed = [x for x in results if x.status == ROUTED]
-    leg_total = round_money(sum(leg.leg_cost for x in routed for leg in x.legs), w.places)
-    uplift = round_money(sum(x.min_charge_uplift for x in routed), w.places)
+    run_total = round_money(sum(run.run_cost for run in runs), w.places)
+    share_total = round_money(sum(leg_value(leg, "cost_share") for x in routed for leg in x.legs), w.places)
+    uplift = round_money(sum(x.min_charge_uplift for x in routed if not x.shared_with), w.places)
     total = round_money(sum(x.total_cost for x in routed), w.places)
     r += 2
     ws.write_string(r, 0, "reconciliation", f["bold"])
+    vr = sheet_ref(out.VEHICLE_RUNS)
+    n_summary = last + 1
     recon = [
-        ("sum of Legs leg_cost", w.round_f("+".join(
-            f"SUM({sheet_ref(sheet)}!{L['leg_cost']}2:{L['leg_cost']}{max(last, 2)})"
-            for sheet, last in w.legs_last.items())), leg_total),
-        ("plus sum of min_charge_uplift",
-         w.round_f(f"SUM(Summary!{S['min_charge_uplift']}2:{S['min_charge_uplift']}{last + 1})"), uplift),
+        ("sum of Vehicle runs run_cost",
+         w.round_f(f"SUM({vr}!{R['run_cost']}2:{R['run_cost']}{max(len(runs) + 1, 2)})"), run_total),
+        ("sum of Legs cost_share", w.round_f("+".join(
+            f"SUM({sheet_ref(sheet)}!{L['cost_share']}2:{L['cost_share']}{max(last, 2)})"
+            for sheet, last in w.legs_last.items())), share_total),
+    ]
+    for k, expr, value in recon:
+        r += 1
+        ws.write_string(r, 0, k)
+        ws.write_formula(r, 1, "=" + expr, f["money"], value)
+    r += 1
+    ws.write_string(r, 0, "difference runs - shares (must be 0)")
+    ws.write_formula(r, 1, "=" + w.round_f(f"B{r - 1}-B{r}"), f["money"],
+                     round_money(run_total - share_total, w.places))
+    runs_row = r - 1  # 1-based row of the runs' total is r - 1 (0-based r - 2)
+    recon = [
+        ("plus min_charge_uplift of shipments sharing no vehicle",
+         w.round_f(f"SUMPRODUCT((Summary!{S['travels_with']}2:{S['travels_with']}{n_summary}=\"\")*"
+                   f"(Summary!{S['min_charge_uplift']}2:{S['min_charge_uplift']}{n_summary}))"), uplift),
         ("equals Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),
     ]
     for k, expr, value in recon:
@@ -187,5 +214,5 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ws.write_formula(r, 1, "=" + expr, f["money"], value)
     r += 1
     ws.write_string(r, 0, "difference (must be 0)")
-    ws.write_formula(r, 1, "=" + w.round_f(f"B{r - 2}+B{r - 1}-B{r}"), f["money"],
-                     round_money(leg_total + uplift - total, w.places))
+    ws.write_formula(r, 1, "=" + w.round_f(f"B{runs_row}+B{r - 1}-B{r}"), f["money"],
+                     round_money(run_total + uplift - total, w.places))

@@ -55,7 +55,9 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
         for comp in SCENARIO_COMPONENTS + ["total_cost", "co2e_kg"]:
             fmt = f["kg"] if comp == "co2e_kg" else f["money"]
             if i == 0:
-                ws.write_formula(r, col[comp], f"=Summary!{xl_col_to_name(SUM[comp])}{t}", fmt, fig[comp])
+                ref = (f"-Summary!{xl_col_to_name(SUM['saving'])}{t}" if comp == "consolidation_saving"
+                       else f"Summary!{xl_col_to_name(SUM[comp])}{t}")
+                ws.write_formula(r, col[comp], "=" + ref, fmt, fig[comp])
             else:
                 ws.write_number(r, col[comp], fig[comp], fmt)
         b = first + 1

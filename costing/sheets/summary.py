@@ -3,10 +3,13 @@ row that is the sum of the rows above (so it ties out to the cent)."""
 
 from __future__ import annotations
 
+import datetime as _dt
+
 from xlsxwriter.utility import xl_col_to_name
 
 from costing.contract.outputs import LEG, SUM, SUMMARY_COLUMNS, SUMMED
 from costing.money import round_money
+from costing.plan.week import late_hours
 from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_value
 
@@ -29,6 +32,10 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
                            ("vehicle", res.vehicle), ("customer", s.customer), ("note", res.message)):
             ws.write_string(r, c[col], cell_text(value))
         ws.write_number(r, c["weight_t"], s.weight_t)
+        ws.write_string(r, c["travels_with"], ", ".join(res.shared_with))
+        for col, day in (("ready_date", s.ready_date or w.first_day), ("due_date", s.due_date)):
+            if day is not None:
+                ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
             continue
@@ -47,9 +54,17 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
         ws.write_formula(r, c["min_charge_uplift"],
                          "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
                          f["money"], res.min_charge_uplift)
-        ws.write_formula(r, c["total_cost"],
+        ws.write_formula(r, c["standalone_cost"],
                          "=" + w.round_f(f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}"),
-                         f["money"], res.total_cost)
+                         f["money"], res.standalone_cost)
+        ws.write_formula(r, c["total_cost"], "=" + w.round_f(
+            f"{S['allocated_cost']}{x}+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
+            f["money"], res.total_cost)
+        ws.write_formula(r, c["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
+                         f["money"], res.saving)
+        late = late_hours(res, w.first_day)
+        if late is not None:
+            ws.write_number(r, c["late_hours"], late, f["hours"])
         route = " > ".join([res.legs[0].use.from_depot] + [leg.use.to_depot for leg in res.legs])
         ws.write_string(r, c["route"], cell_text(route))
     last = r
@@ -62,6 +77,8 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
     totals["weight_t"] = sum(x.shipment.weight_t for x in results)
     totals["min_charge_uplift"] = sum(x.min_charge_uplift for x in routed)
     totals["total_cost"] = sum(x.total_cost for x in routed)
+    totals["standalone_cost"] = sum(x.standalone_cost for x in routed)
+    totals["saving"] = sum(x.saving for x in routed)
     for col, value in totals.items():
         kind = SUMMARY_COLUMNS[c[col]][2]
         expr = f"SUM({S[col]}2:{S[col]}{last + 1})"

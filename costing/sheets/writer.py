@@ -20,15 +20,22 @@ from costing.sheets.run import RunInfo, run_time, write_run
 from costing.sheets.scenario_sheet import write_scenarios
 from costing.sheets.summary import write_summary
 from costing.sheets.tradeoffs import write_tradeoffs
+from costing.sheets.vehicle_runs import write_vehicle_runs
 
 __all__ = ["OutputLimitError", "RunInfo", "run_time", "write_costed"]
 
 
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
-                 info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=()) -> None:
-    """Write the costed workbook. `analysis` (costing.plan.analysis.Analysis) adds the Comparison,
-    Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
+                 info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=(),
+                 runs=()) -> None:
+    """Write the costed workbook. `runs` (costing.plan.week.VehicleRun, ``Costed.runs``) are the
+    vehicle runs the results' legs name; `analysis` (costing.plan.analysis.Analysis) adds the
+    Comparison, Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
     (costing.plan.analysis.ScenarioRun) a Scenarios sheet."""
+    named = {leg.run_id for r in results for leg in r.legs if leg.run_id}
+    if len(named) != len(runs) or any(run.run_id not in named for run in runs):
+        raise ValueError(f"the results' legs name {len(named)} vehicle runs but {len(runs)} were given: "
+                         "pass Costed.runs with Costed.results")
     if len(results) + 2 > MAX_ROWS:
         raise OutputLimitError(f"{len(results):,} shipments do not fit on one Summary sheet "
                                f"({MAX_ROWS:,} rows)", "cost the shipments in batches of under a million")
@@ -38,6 +45,7 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     sheets = {}
     if scenario_runs:
         sheets["Scenarios"] = w.wb.add_worksheet(out.SCENARIO_COMPARISON)
+    runs_ws = w.wb.add_worksheet(out.VEHICLE_RUNS)
     legs_sheets = [(name, w.wb.add_worksheet(name)) for name in legs_sheet_names(results)]
     if analysis is not None:
         if analysis.alternatives:
@@ -57,6 +65,7 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         info.extra["Legs sheets"] = (f"{', '.join(n for n, _ws in legs_sheets)}: one sheet holds at most "
                                      f"{legs.LEGS_SHEET_ROWS:,} legs (the spreadsheet row limit); a "
                                      "shipment's legs are never split across sheets")
+    write_vehicle_runs(w, runs_ws, runs, ranges)
     last_row = write_summary(w, summary, results, ranges)
     frontier_rows: dict[str, tuple[int, int]] = {}
     scenario_rows = None
@@ -72,6 +81,6 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if map_png:
         write_map(w, sheets["Map"], map_png)
     write_problems(w, problems_ws, problems)
-    write_run(w, run_ws, model, results, problems, info, last_row, n_legs)
+    write_run(w, run_ws, model, results, problems, info, last_row, n_legs, runs)
     summary.activate()
     w.wb.close()

@@ -1,0 +1,397 @@
+"""The plan stage: from each shipment's route to the vehicle runs of the week, and what each
+shipment pays of them.
+
+A *vehicle run* is one movement on one lane step, on one day, with one rate card: ``vehicles``
+vehicles carrying one or more loads. Its cost is the leg arithmetic of ``costing.price.cost``
+for that many vehicles (``reprice_leg``), so a run carrying one load costs exactly what the
+load's leg costs alone.
+
+With Settings ``consolidate = no`` every leg of every routed shipment is a run of its own: the
+run's cost is the leg's cost, the shipment's share is all of it, and every total is the
+stand-alone total to the cent (nothing else changes).
+
+With ``consolidate = yes`` (the default):
+
+1. **Candidates.** Each routed shipment keeps the route the search chose under its objective.
+   A shipment under the cost objective, on a day with other shipments, also gets its cheapest
+   route through each of up to ``MAX_HUBS`` consolidation hubs (depots of kind ``hub``): those
+   the chosen routes of other shipments of its day pass through first, then the least
+   straight-line detour (the two halves searched with the same search core and priced as one
+   route). A candidate that would arrive after the
+   due date is dropped when the chosen route is on time.
+2. **Plan.** ``costing.plan.consolidate.plan`` chooses one candidate per shipment so that the
+   runs of the week cost least: loads of the same day on the same lane step with the same card
+   and the same per-vehicle charges (start and end handling, trip, paid stops: the *step key*)
+   share vehicles, packed first-fit decreasing over payload, pallet places and volume. Its
+   module docstring states the method and its guarantees: it terminates, it is a local optimum
+   for single and pair moves, it is never worse than every load alone.
+3. **Price.** Each run is priced for its vehicles. A run of several loads that would not cost
+   less than its loads' legs alone is split back into one run per load (rounding can make
+   ROUND(n x rate) exceed the sum of the parts when no vehicle is saved).
+4. **Allocate.** A run's cost is shared among its loads by tonne-km (``costing.price.allocate``:
+   largest remainder, so the shares add up to the run's cost exactly), then capped so no leg pays
+   more than it would alone (``cap_at_standalone``; the excess goes to the other loads of the
+   run, and the shipment's note says so). Emissions are shared by the same keys, unrounded.
+
+Guarantees (each tested):
+
+- the shares of every run add up to its cost exactly, to the minor unit;
+- no shipment's total exceeds its stand-alone cost on the route it takes (each leg's share is
+  at most the leg alone, and the minimum-charge uplift is charged only when it shares nothing);
+- the week's total is the sum of the runs' costs plus the minimum-charge uplifts of the
+  shipments that share no vehicle;
+- with ``consolidate = no`` every shipment's total is its stand-alone total.
+
+What is approximated: loads share a run only where their per-vehicle charges on that step are
+the same (a load driving through a hub does not share with a load joining there); every load of
+a day leaves at the start of the day, so waiting for a shared vehicle is 0 h; candidates through
+hubs are the cheapest route through each of a few hubs, not every route.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from collections.abc import Callable
+from dataclasses import dataclass, field, replace
+
+from costing.geo import great_circle_km
+from costing.model import WARNING, Model, Problem, RateCard
+from costing.money import minor_unit, round_money
+from costing.plan.consolidate import Capacity, Load, Step, plan
+from costing.price.allocate import allocate, cap_at_standalone
+from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg
+
+MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
+
+
+@dataclass(frozen=True)
+class VehicleRun:
+    """Vehicles of one rate card on one lane step on one day, with the loads they carry.
+
+    Attributes
+    ----------
+    run_id : str
+        ``R0001``, ... in the order of the Vehicle runs sheet.
+    day : datetime.date or None
+        The loads' ready day (None when no shipment gives one).
+    leg : Leg
+        The step priced for the run's vehicles: rates, cost components, ``leg_cost`` (the run's
+        cost, currency).
+    loads : tuple of str
+        Shipment ids on the run, in input order.
+    load_legs : tuple of Leg
+        Each load's own leg on the step (priced alone), in the order of `loads`.
+    tonne_km : float
+        Sum of the loads' tonne-km, in load order (the allocation keys' total).
+    co2e_kg : float
+        The run's emissions, kg CO2e (fuel-based for its vehicles, or tonne-km x intensity).
+    """
+
+    run_id: str
+    day: _dt.date | None
+    leg: Leg
+    loads: tuple[str, ...]
+    load_legs: tuple[Leg, ...]
+    tonne_km: float
+    co2e_kg: float
+    pallets: tuple[float, ...] = ()  # each load's pallet places, in the order of `loads`
+    volumes: tuple[float, ...] = ()  # each load's m3
+
+    @property
+    def vehicles(self) -> int:
+        """Vehicles on the run."""
+        return self.leg.vehicles
+
+    @property
+    def run_cost(self) -> float:
+        """The run's cost, currency."""
+        return self.leg.leg_cost
+
+    @property
+    def standalone_cost(self) -> float:
+        """What the loads' legs cost alone, each with vehicles of its own (currency, unrounded
+        sum of rounded amounts)."""
+        return sum(g.leg_cost for g in self.load_legs)
+
+    @property
+    def tonnes(self) -> float:
+        """Tonnes carried."""
+        return sum(g.weight_t for g in self.load_legs)
+
+
+@dataclass
+class WeekPlan:
+    """The plan stage's result.
+
+    Attributes
+    ----------
+    results : list of CostedShipment
+        One per shipment, in the Model's order, each routed leg carrying its run id and shares.
+    runs : list of VehicleRun
+        Every vehicle run, ordered by day and then as the shipments first use them.
+    consolidated : bool
+        Settings ``consolidate`` was yes.
+    problems : list of Problem
+        Late arrivals (warnings naming the shipment's due_date cell).
+    notes : list of str
+        What the planner reported (e.g. days too large for pair moves).
+    """
+
+    results: list[CostedShipment]
+    runs: list[VehicleRun]
+    consolidated: bool
+    problems: list[Problem] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+    moves: int = 0
+
+
+def first_day(model: Model) -> _dt.date | None:
+    """The first day of the run: the earliest ready_date of the shipments (None when none has one)."""
+    days = [s.ready_date for s in model.shipments if s.ready_date is not None]
+    return min(days) if days else None
+
+
+def late_hours(res: CostedShipment, start: _dt.date | None) -> float | None:
+    """Hours the shipment arrives after the end of its due_date (0 when on time), leaving at the
+    start of its ready day (`start` when it gives none); None when it has no due_date, no route,
+    or no day to start from."""
+    s = res.shipment
+    ready = s.ready_date or start
+    if s.due_date is None or ready is None or res.status != ROUTED:
+        return None
+    allowed = ((s.due_date - ready).days + 1) * 24.0
+    return max(0.0, res.elapsed_hours - allowed)
+
+
+def _route_runs(res: CostedShipment) -> list[tuple[RateCard, list]]:
+    """A priced route as vehicle runs (rate card, consecutive lane steps), as cost_route takes them."""
+    runs: list[tuple[RateCard, list]] = []
+    for leg in res.legs:
+        if runs and runs[-1][0] is leg.card and leg.trip_rate == 0 and leg.start_handling_rate == 0:
+            runs[-1][1].append(leg.use)
+        else:
+            runs.append((leg.card, [leg.use]))
+    return runs
+
+
+def _join(first: list[tuple[RateCard, list]], second: list[tuple[RateCard, list]]):
+    """Two routes end to end; the vehicle goes on where both sides use the same card."""
+    if first and second and first[-1][0] is second[0][0]:
+        return first[:-1] + [(first[-1][0], first[-1][1] + second[0][1])] + second[1:]
+    return first + second
+
+
+def _step_key(leg: Leg) -> tuple:
+    return (leg.use.key, leg.start_handling_rate, leg.end_handling_rate, leg.trip_rate, leg.paid_stop_hours)
+
+
+def _card_key(card: RateCard) -> tuple[str, str]:
+    return card.vehicle, card.mode
+
+
+def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str]) -> list[str]:
+    """Up to MAX_HUBS of `hubs` not already on the route: those on other loads' routes of the
+    day (`used`) first, then the least straight-line detour first."""
+    s = res.shipment
+    on_route = {s.origin, s.destination} | {leg.use.to_depot for leg in res.legs}
+    out = [h for h in hubs if h not in on_route]
+
+    def detour(h: str) -> float:
+        a, b, c = model.depot(s.origin), model.depot(h), model.depot(s.destination)
+        if None in (a.latitude, b.latitude, c.latitude):
+            return 0.0
+        return (great_circle_km(a.latitude, a.longitude, b.latitude, b.longitude)
+                + great_circle_km(b.latitude, b.longitude, c.latitude, c.longitude))
+
+    return sorted(out, key=lambda h: (h not in used, detour(h), h))[:MAX_HUBS]
+
+
+def _candidates(model: Model, route: Callable, results: list[CostedShipment], day_of) -> list[list]:
+    """Per result: its candidate routes (CostedShipment), the chosen one first."""
+    hub_ids = [d.depot_id for d in model.depots if d.kind == "hub"]
+    start = first_day(model)
+    per_day_hubs: dict = {}
+    per_day: dict = {}
+    for i, res in enumerate(results):
+        if res.status == ROUTED:
+            per_day[day_of(res.shipment)] = per_day.get(day_of(res.shipment), 0) + 1
+            for leg in res.legs:
+                for d in (leg.use.from_depot, leg.use.to_depot):
+                    if d in hub_ids:
+                        per_day_hubs.setdefault(day_of(res.shipment), {}).setdefault(d, set()).add(i)
+    out: list[list] = []
+    for i, res in enumerate(results):
+        cands = [res]
+        if res.status == ROUTED and res.objective == "cost" and hub_ids and per_day[day_of(res.shipment)] > 1:
+            s = res.shipment
+            day_hubs = per_day_hubs.get(day_of(s), {})
+            used = {h for h, users in day_hubs.items() if users - {i}}
+            on_time = (late_hours(res, start) or 0.0) == 0.0
+            for h in _hubs_near(model, res, hub_ids, used):
+                a = route(replace(s, destination=h))
+                b = route(replace(s, origin=h))
+                if a.status != ROUTED or b.status != ROUTED:
+                    continue
+                via = cost_route(model, s, "cost", _join(_route_runs(a), _route_runs(b)))
+                keys = [(_step_key(g), _card_key(g.card)) for g in via.legs]
+                if len(set(keys)) != len(keys):
+                    continue  # a route through the hub that repeats a step is never the cheapest
+                if on_time and (late_hours(via, start) or 0.0) > 0.0:
+                    continue
+                cands.append(via)
+        out.append(cands)
+    return out
+
+
+def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load:
+    s = res_list[0].shipment
+    routes = []
+    for res in res_list:
+        routes.append(tuple(Step((_step_key(g),), _card_key(g.card), reprice_leg(model, g, 1).leg_cost,
+                                 g.use.km) for g in res.legs))
+    return Load(index, day, s.weight_t, s.pallets or 0.0, s.volume_m3 or 0.0, tuple(routes))
+
+
+def _run_co2e(leg: Leg, vehicles: int, tonne_km: float) -> float:
+    """A run's kg CO2e in the order of its spreadsheet formula (Vehicle runs sheet)."""
+    card = leg.card
+    if leg.co2e_basis == "fuel":
+        return vehicles * leg.use.km * card.fuel_l_per_100km / 100 * card.co2e_kg_per_litre
+    return tonne_km * leg.intensity_g_per_tkm / 1000
+
+
+def _quota(amount: float, key: float, total_key: float, n: int) -> float:
+    """amount x key / total_key in the order of the share formulas (amount / n when no keys)."""
+    if total_key == key:
+        return amount
+    if total_key == 0:
+        return amount / n
+    return amount * key / total_key
+
+
+def plan_week(model: Model, route: Callable[..., CostedShipment],
+              results: list[CostedShipment]) -> WeekPlan:
+    """Turn routed shipments into vehicle runs and price each shipment's share.
+
+    Parameters
+    ----------
+    model : Model
+        Settings ``consolidate`` decides whether loads share vehicles.
+    route : callable
+        ``route(shipment) -> CostedShipment``: the cheapest route of a (changed) shipment under
+        the cost objective, for candidates through hubs (the pipeline passes the Router's).
+    results : list of CostedShipment
+        The routing stage's results, in the Model's order.
+
+    Returns
+    -------
+    WeekPlan
+        The results with run ids and shares on their legs, and the runs.
+    """
+    places = minor_unit(model.settings.currency)
+    start = first_day(model)
+
+    def day_of(s):
+        return s.ready_date or start
+
+    consolidate = model.settings.consolidate == "yes"
+    notes: list[str] = []
+    moves = 0
+    chosen = list(results)
+    # groups: (day, step key, card) -> [(result index, leg index)], in order of first use
+    groups: dict[tuple, list[tuple[int, int]]] = {}
+    vehicles: dict[tuple, int] = {}
+    if consolidate:
+        cands = _candidates(model, route, results, day_of)
+        idx = [i for i, r in enumerate(results) if r.status == ROUTED]
+        loads = [_load(i, cands[i], model, day_of(results[i].shipment)) for i in idx]
+        capacities = {_card_key(c): Capacity(c.payload_t, c.pallet_places, c.volume_m3) for c in model.rates}
+        p = plan(loads, capacities)
+        notes += p.notes
+        moves = p.moves
+        for i in idx:
+            chosen[i] = cands[i][p.choice[i]]
+        for run in p.runs:
+            vehicles[(run.day, run.key[0], run.card)] = run.vehicles
+    for i, res in enumerate(chosen):
+        for k, g in enumerate(res.legs):
+            key = (day_of(res.shipment), _step_key(g), _card_key(g.card))
+            if not consolidate:
+                key = key + (i, k)  # every leg its own run
+            groups.setdefault(key, []).append((i, k))
+
+    # runs in order: by day, then by first use
+    order = sorted(groups, key=lambda key: (key[0] is not None, key[0] or _dt.date.min))
+    legs: dict[tuple[int, int], Leg] = {}
+    shared: dict[int, set[int]] = {}
+    capped: dict[int, list[str]] = {}
+    runs: list[VehicleRun] = []
+    for key in order:
+        members = groups[key]
+        own = [chosen[i].legs[k] for i, k in members]
+        n = vehicles.get(key[:3], own[0].vehicles) if consolidate else own[0].vehicles
+        run_leg = own[0] if len(members) == 1 and n == own[0].vehicles else reprice_leg(model, own[0], n)
+        pieces = [members]
+        if len(members) > 1 and run_leg.leg_cost >= round_money(sum(g.leg_cost for g in own), places):
+            pieces = [[m] for m in members]  # sharing saves nothing here: each load alone
+        for part in pieces:
+            part_legs = [chosen[i].legs[k] for i, k in part]
+            rl = run_leg if len(part) == len(members) else part_legs[0]
+            tkm = sum(g.tonne_km for g in part_legs)
+            co2e = _run_co2e(rl, rl.vehicles, tkm)
+            run_id = f"R{len(runs) + 1:04d}"
+            keys = [g.tonne_km for g in part_legs]
+            cost_shares = allocate(rl.leg_cost, keys, places) if len(part) > 1 else [rl.leg_cost]
+            alone = [g.leg_cost for g in part_legs]
+            cost_shares, cut = cap_at_standalone(cost_shares, alone, places)
+            for pos, ((i, k), g) in enumerate(zip(part, part_legs)):
+                q = _quota(rl.leg_cost, g.tonne_km, tkm, len(part))
+                legs[(i, k)] = replace(g, run_id=run_id, cost_share=cost_shares[pos],
+                                       share_adjust=round_money(cost_shares[pos] - round_money(q, places),
+                                                                places),
+                                       co2e_share=_quota(co2e, g.tonne_km, tkm, len(part)))
+                if len(part) > 1:
+                    shared.setdefault(i, set()).update(j for j, _k in part if j != i)
+                if pos in cut:
+                    capped.setdefault(i, []).append(g.use.lane.lane_id)
+            ships = [chosen[i].shipment for i, _k in part]
+            runs.append(VehicleRun(run_id, key[0], rl, tuple(s.shipment_id for s in ships), tuple(part_legs),
+                                   tkm, co2e, tuple(s.pallets or 0.0 for s in ships),
+                                   tuple(s.volume_m3 or 0.0 for s in ships)))
+
+    out: list[CostedShipment] = []
+    problems: list[Problem] = []
+    for i, res in enumerate(chosen):
+        if res.status != ROUTED:
+            out.append(replace(res, day=day_of(res.shipment)))
+            continue
+        new_legs = tuple(legs[(i, k)] for k in range(len(res.legs)))
+        with_ids = tuple(chosen[j].shipment.shipment_id for j in sorted(shared.get(i, ())))
+        msg = [res.message] if res.message else []
+        if res is not results[i]:
+            old = results[i]
+            msg = [m for m in [old.message] if m]
+            via = [leg.use.to_depot for leg in res.legs[:-1]]
+            msg.append(f"routed via {', '.join(via)} to share vehicles (alone it would go "
+                       f"{' > '.join([old.legs[0].use.from_depot] + [g.use.to_depot for g in old.legs])} "
+                       f"for {old.standalone_cost:.{places}f})")
+        if with_ids:
+            steps = list(dict.fromkeys(g.use.lane.lane_id for g in new_legs
+                                       if any(len(r.loads) > 1 for r in runs if r.run_id == g.run_id)))
+            msg.append(f"travels with {', '.join(with_ids)} on {', '.join(steps)}")
+        if i in capped:
+            msg.append(f"share capped at its stand-alone cost on {', '.join(dict.fromkeys(capped[i]))}")
+        new = replace(res, legs=new_legs, shared_with=with_ids, day=day_of(res.shipment),
+                      message="; ".join(msg))
+        late = late_hours(new, start)
+        if late:
+            s = res.shipment
+            new = replace(new, message=new.message + f"; late: arrives {late:.1f} h after its due_date")
+            sheet, cell = model.cell("Shipments", "due_date", s.row)
+            problems.append(Problem(WARNING, sheet, cell,
+                                    f"shipment {s.shipment_id} arrives {late:.1f} h after the end of its "
+                                    f"due_date {s.due_date}",
+                                    "allow a later due_date, an earlier ready_date, or a faster objective "
+                                    "for it (objective = time)"))
+        out.append(new)
+    return WeekPlan(out, runs, consolidate, problems, notes, moves)

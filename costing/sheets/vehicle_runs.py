@@ -1,0 +1,93 @@
+"""The Vehicle runs sheet: one row per vehicle run (vehicles of one rate card on one lane step on
+one day), with the loads it carries, its fill rates, its cost components for its vehicles as
+live formulas (the Legs formulas, for the run's vehicles), and its tonne-km and emissions, which
+the Legs rows of its loads share by tonne-km. Run R0001 is on row 2, R0002 on row 3, ..."""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+from xlsxwriter.utility import xl_col_to_name
+
+from costing.contract.outputs import LEG, RUN_COL, RUN_COLUMNS
+from costing.money import round_money
+from costing.sheets.formats import Writer, cell_text, sheet_ref
+from costing.sheets.legs import LEG_CELLS
+
+
+def _fill(amount: float, vehicles: int, capacity: float | None) -> float | None:
+    """amount / (vehicles x capacity), in the order of the fill formulas; None without a capacity."""
+    if not capacity:
+        return None
+    return amount / (vehicles * capacity)
+
+
+def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, int]]) -> int:
+    """Write one row per run. `ranges` (from ``write_legs``): shipment id -> (Legs sheet, first
+    row, last row), to refer to each load's Legs row. Returns the last data row (1-based)."""
+    w.header(ws, RUN_COLUMNS)
+    f = w.f
+    R = {name: xl_col_to_name(i) for name, i in RUN_COL.items()}
+    L = {name: xl_col_to_name(i) for name, i in LEG.items()}
+    r = 0
+    for r, run in enumerate(runs, start=1):
+        x = r + 1
+        g, card = run.leg, run.leg.card
+        refs = {name: f"{col}{x}" for name, col in R.items()}
+        refs["d"] = str(w.places)
+
+        def legs_sum(col: str, run=run) -> str:
+            """The loads' Legs cells of column `col`, added in load order."""
+            return "+".join(f"{sheet_ref(ranges[sid][0])}!{L[col]}{ranges[sid][1] + own.seq - 1}"
+                            for sid, own in zip(run.loads, run.load_legs))
+
+        text = {"run_id": run.run_id, "lane_id": g.use.lane.lane_id, "from_depot": g.use.from_depot,
+                "to_depot": g.use.to_depot, "mode": g.use.lane.mode, "vehicle": card.vehicle,
+                "shipments": ", ".join(run.loads), "co2e_basis": g.co2e_basis}
+        for name, value in text.items():
+            ws.write_string(r, RUN_COL[name], cell_text(value))
+        if run.day is not None:
+            ws.write_datetime(r, RUN_COL["date"], _dt.datetime.combine(run.day, _dt.time()), f["date"])
+        pallets = sum(run.pallets)
+        volume = sum(run.volumes)
+        numbers = {"vehicles": run.vehicles, "loads": len(run.loads), "pallets": pallets,
+                   "volume_m3": volume, "payload_t": card.payload_t, "pallet_places": card.pallet_places,
+                   "capacity_m3": card.volume_m3, "distance_km": g.use.km, "drive_hours": g.use.hours,
+                   "paid_stop_hours": g.paid_stop_hours}
+        for name in ("per_km", "per_hour", "toll", "fixed_cost_rate", "fuel_l_per_100km", "fuel_price",
+                     "fuel_included_at", "handling_start_rate", "handling_end_rate", "per_trip",
+                     "co2e_kg_per_litre", "intensity_g_per_tkm"):
+            numbers[name] = LEG_CELLS[name][0](None, g)
+        for name, value in numbers.items():
+            if value is not None:
+                ws.write_number(r, RUN_COL[name], value)
+        ws.write_formula(r, RUN_COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
+        fills = (("fill_weight", "tonnes", run.tonnes, card.payload_t),
+                 ("fill_pallets", "pallets", pallets, card.pallet_places),
+                 ("fill_volume", "volume_m3", volume, card.volume_m3))
+        for name, amount_col, amount, cap in fills:
+            cap_col = {"fill_weight": "payload_t", "fill_pallets": "pallet_places",
+                       "fill_volume": "capacity_m3"}[name]
+            value = _fill(amount, run.vehicles, cap)
+            if value is not None:
+                fill = f"={R[amount_col]}{x}/({R['vehicles']}{x}*{R[cap_col]}{x})"
+                ws.write_formula(r, RUN_COL[name], fill, f["pct"], value)
+        for name in ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
+                     "handling_start_cost", "handling_end_cost", "trip_cost"):
+            value, formula = LEG_CELLS[name][0](None, g), LEG_CELLS[name][1]
+            ws.write_formula(r, RUN_COL[name], "=" + formula.format(**refs), f["money"], value)
+        ws.write_formula(r, RUN_COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
+                         run.run_cost)
+        standalone = round_money(run.standalone_cost, w.places)
+        ws.write_formula(r, RUN_COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
+                         standalone)
+        saving = w.round_f(f"{R['standalone_cost']}{x}-{R['run_cost']}{x}")
+        ws.write_formula(r, RUN_COL["saving"], "=" + saving, f["money"],
+                         round_money(standalone - run.run_cost, w.places))
+        ws.write_formula(r, RUN_COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
+        ws.write_formula(r, RUN_COL["co2e_kg"],
+                         '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*'
+                         "{co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),
+                         f["kg"], run.co2e_kg)
+    ws.autofilter(0, 0, max(r, 1), len(RUN_COLUMNS) - 1)
+    return r + 1
