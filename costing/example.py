@@ -9,6 +9,8 @@ no-route reporting have something to show.
 
 from __future__ import annotations
 
+import datetime as _dt
+
 from costing.workbook import template
 
 # Every name and number below is invented for this demo. Coordinates are WGS84 decimal degrees.
@@ -172,17 +174,19 @@ _LANES = [
 ]
 
 _RATE_COLUMNS = ("vehicle", "mode", "per_km", "per_hour", "per_trip", "payload_t", "fuel_l_per_100km",
-                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t")
+                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t", "pallet_places",
+                 "volume_m3")
 # Invented but plausible rates in EUR. Road fuel is diesel at 2.51 kg CO2e per litre. The per_km
 # rates include fuel at 1.45 per litre; the Settings price of 1.62 adds a fuel surcharge.
 # tare_t is the empty weight, checked with the load against lane weight limits (L028, L031).
 # rail_wagon fuel is one wagon's share of a diesel-hauled train (about 8.6 litres per 100 km),
 # so rail emissions and the fuel surcharge are computed on the same diesel basis as road.
+# Pallet places and volumes: a 13.6 m curtainsider, a 7.5 m rigid box, a 3.5 t panel van.
 _RATES = [
-    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0, 1.45, 14.5),
-    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0, 1.45, 8.5),
-    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0, 1.45, 2.3),
-    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0, 1.45, 23.0),
+    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0, 1.45, 14.5, 33, 90),
+    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0, 1.45, 8.5, 15, 40),
+    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0, 1.45, 2.3, 3, 12),
+    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0, 1.45, 23.0, None, None),
 ]
 
 _SHIPMENT_COLUMNS = ("shipment_id", "origin", "destination", "weight_t", "vehicle", "objective",
@@ -263,6 +267,29 @@ def _rows(columns: tuple[str, ...], table: list[tuple]) -> list[dict]:
     return [dict(zip(columns, row, strict=True)) for row in table]
 
 
+# The week: Monday 7 to Wednesday 9 December 2026. Shipments ready on the same day may share
+# vehicles; a blank ready_date is Monday (the first day). S045, the long haul, is due the same
+# day and arrives late; the others are due within two or three days.
+_MONDAY = _dt.date(2026, 12, 7)
+_READY = {"S001": 1, "S016": 1, "S026": 1, "S038": 1, "S044": 1, "S008": 2, "S010": 2, "S027": 2}
+_DUE = {"S045": 0, "S002": 1, "S017": 1, "S034": 2, "S041": 2, "S022": 1, "S015": 1}
+# (pallets, volume m3) of the loads that give them; the rest are weight alone
+_SIZES = {"S002": (14, 38.0), "S017": (6, 12.0), "S011": (8, 20.0), "S012": (2, 5.0),
+          "S034": (10, 26.0), "S041": (4, 9.0), "S022": (4, 11.0), "S037": (2, 6.0)}
+
+
+def _shipment_rows() -> list[dict]:
+    rows = _rows(_SHIPMENT_COLUMNS, _SHIPMENTS)
+    for row in rows:
+        sid = row["shipment_id"]
+        row["ready_date"] = _MONDAY + _dt.timedelta(days=_READY.get(sid, 0))
+        if sid in _DUE:
+            row["due_date"] = row["ready_date"] + _dt.timedelta(days=_DUE[sid])
+        if sid in _SIZES:
+            row["pallets"], row["volume_m3"] = _SIZES[sid]
+    return rows
+
+
 def example_data() -> dict[str, list[dict]]:
     """The demo workbook's rows: sheet name -> list of row dicts keyed by column name."""
     return {
@@ -270,7 +297,7 @@ def example_data() -> dict[str, list[dict]]:
         "Depots": _rows(_DEPOT_COLUMNS, _DEPOTS),
         "Lanes": _rows(_LANE_COLUMNS, _LANES),
         "Rates": _rows(_RATE_COLUMNS, _RATES),
-        "Shipments": _rows(_SHIPMENT_COLUMNS, _SHIPMENTS),
+        "Shipments": _shipment_rows(),
         "Scenarios": _rows(_SCENARIO_COLUMNS, _SCENARIOS),
     }
 

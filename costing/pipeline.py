@@ -161,10 +161,10 @@ def run(model: Model, options: Options | None = None) -> Costed:
 
     t0 = time.perf_counter()
     if options.analyses:
-        analysis = analyse(model, router, results, options.bar("comparing"))
+        analysis = analyse(model, router, results, options.bar("comparing"), week.runs)
         times["comparison and trade-offs"] = time.perf_counter() - t0
     else:
-        analysis = Analysis(lanes=lane_usage(results))
+        analysis = Analysis(lanes=lane_usage(week.runs))
 
     runs: list[ScenarioRun] = []
     if options.scenarios and model.scenarios:

@@ -151,14 +151,16 @@ def test_lane_usage_and_pictures_present(cli, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "d.xlsx")[0] == 0
     wb = openpyxl.load_workbook("d.xlsx", data_only=True)
-    for name in ("Summary", "Scenario comparison", "Legs", "Comparison", "Trade-offs", "Lane usage", "Charts",
-                 "Map", "Problems", "Run"):
+    for name in ("Summary", "Scenario comparison", "Vehicle runs", "Legs", "Comparison", "Trade-offs",
+                 "Lane usage", "Charts", "Map", "Problems", "Run"):
         assert name in wb.sheetnames
-    # lane usage cost adds up to the legs' cost (our own sum over the Legs sheet)
+    # lane usage cost adds up to the legs' shares of their vehicle runs (our own sum over the
+    # Legs sheet), columns found by their header text
     legs = list(wb["Legs"].iter_rows(values_only=True))
-    lc = legs[0].index("leg_cost")
-    lanes = list(wb["Lane usage"].iter_rows(min_row=2, values_only=True))
-    assert sum(r[8] for r in lanes) == pytest.approx(sum(r[lc] for r in legs[1:]), abs=0.01)
+    lc = legs[0].index("cost_share")
+    lanes = list(wb["Lane usage"].iter_rows(values_only=True))
+    cost = lanes[0].index("cost")
+    assert sum(r[cost] for r in lanes[1:]) == pytest.approx(sum(r[lc] for r in legs[1:]), abs=0.01)
     with zipfile.ZipFile("d.xlsx") as z:
         names = z.namelist()
         charts = [n for n in names if n.startswith("xl/charts/chart")]

@@ -194,6 +194,8 @@ HEADER_NOTES = {
     "late_hours": "Hours the shipment arrives after the end of its due_date, leaving at the start "
                   "of its ready_date (0: on time; blank: no due_date).",
     "loads": "Shipments carried on the run.",
+    "capacity_t": "Lane usage: vehicle_trips x payload_t of their rate cards, over the lane's runs.",
+    "runs": "Lane usage: vehicle runs on the lane (a day, a direction, a rate card each).",
     "fill_weight": "tonnes / (vehicles x payload_t).",
     "fill_pallets": "pallets / (vehicles x pallet_places); blank when the card gives no pallet places.",
     "fill_volume": "volume_m3 / (vehicles x capacity_m3); blank when the card gives no volume.",
@@ -222,8 +224,9 @@ TRADEOFF_COLUMNS = [
 
 LANE_COLUMNS = [
     ("lane_id", 9, "text"), ("from_depot", 11, "text"), ("to_depot", 11, "text"), ("mode", 9, "text"),
-    ("legs", 6, "int"), ("tonnes", 10, "km"), ("vehicle_trips", 10, "int"), ("vehicle_km", 11, "km"),
-    ("cost", 12, "money"), ("share_of_cost", 10, "plain"),
+    ("runs", 6, "int"), ("legs", 6, "int"), ("tonnes", 10, "km"), ("vehicle_trips", 10, "int"),
+    ("vehicle_km", 11, "km"), ("capacity_t", 10, "km"), ("fill_weight", 9, "pct"), ("cost", 12, "money"),
+    ("share_of_cost", 10, "plain"),
 ]
 
 

@@ -24,11 +24,18 @@ class LaneTotals:
     from_depot: str
     to_depot: str
     mode: str
-    legs: int = 0
+    legs: int = 0  # loads carried (one per shipment leg)
     tonnes: float = 0.0
     vehicle_trips: int = 0
     vehicle_km: float = 0.0
     cost: float = 0.0
+    runs: int = 0
+    capacity_t: float = 0.0  # vehicles x payload, summed over the runs
+
+    @property
+    def fill_weight(self) -> float:
+        """Tonnes carried / payload of the vehicles run (0 when none)."""
+        return self.tonnes / self.capacity_t if self.capacity_t else 0.0
 
 
 @dataclass
@@ -40,39 +47,49 @@ class Analysis:
     lanes: list[LaneTotals] = field(default_factory=list)
 
 
-def lane_usage(results: list[CostedShipment]) -> list[LaneTotals]:
-    """Legs, tonnes, vehicle trips, vehicle-km and cost per lane (both directions together),
-    costliest first (ties by lane id).
+def lane_usage(runs) -> list[LaneTotals]:
+    """Vehicle runs, loads carried, tonnes, vehicle trips, vehicle-km, capacity and cost per lane
+    (both directions together), costliest first (ties by lane id).
 
-    Sums are taken in leg order, as the Lane usage formulas recompute them (a compensated sum,
-    such as pandas' groupby sum, differs from the spreadsheet's SUM in the last bit now and then).
+    Parameters
+    ----------
+    runs : list of costing.plan.week.VehicleRun
+        The week's vehicle runs, in the order of the Vehicle runs sheet.
 
     Returns
     -------
     list of LaneTotals
-        tonnes in t, vehicle_km in km, cost in the run's currency.
+        tonnes and capacity_t in t, vehicle_km in km, cost in the run's currency.
+
+    Notes
+    -----
+    Sums are taken in run order, as the Lane usage formulas recompute them (a compensated sum,
+    such as pandas' groupby sum, differs from the spreadsheet's SUM in the last bit now and then).
     """
     out: dict[str, LaneTotals] = {}
-    for r in results:
-        for leg in r.legs:
-            lane = leg.use.lane
-            u = out.get(lane.lane_id)
-            if u is None:
-                u = out[lane.lane_id] = LaneTotals(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode)
-            u.legs += 1
-            u.tonnes += leg.weight_t
-            u.vehicle_trips += leg.vehicles
-            u.vehicle_km += leg.vehicles * leg.use.km
-            u.cost += leg.leg_cost
+    for run in runs:
+        leg = run.leg
+        lane = leg.use.lane
+        u = out.get(lane.lane_id)
+        if u is None:
+            u = out[lane.lane_id] = LaneTotals(lane.lane_id, lane.from_depot, lane.to_depot, lane.mode)
+        u.runs += 1
+        u.legs += len(run.loads)
+        u.tonnes += run.tonnes
+        u.vehicle_trips += run.vehicles
+        u.vehicle_km += run.vehicles * leg.use.km
+        u.capacity_t += run.vehicles * leg.card.payload_t
+        u.cost += run.run_cost
     return sorted(out.values(), key=lambda u: (-u.cost, u.lane_id))
 
 
 def analyse(model: Model, router: Router, results: list[CostedShipment],
-            progress: Callable[[int, int], None] | None = None) -> Analysis:
+            progress: Callable[[int, int], None] | None = None, runs=()) -> Analysis:
     """Beside the chosen routes: each routed shipment's best route under every other objective
     (when Settings ``compare_objectives`` is yes), its cost-time trade-offs (up to
-    ``frontier_max_routes``) and the lane totals. Changes nothing; returns an Analysis."""
-    a = Analysis(lanes=lane_usage(results))
+    ``frontier_max_routes``) and the lane totals of the vehicle `runs`. Changes nothing;
+    returns an Analysis."""
+    a = Analysis(lanes=lane_usage(runs))
     compare = model.settings.compare_objectives == "yes"
     max_routes = int(model.settings.frontier_max_routes)
     total = len(results)

@@ -5,8 +5,12 @@ dimensions (weight t, pallets, volume m3) and a few candidate routes; a candidat
 sequence of lane steps, each with the rate card that runs it and that card's per-vehicle cost
 of the step. Loads on the same day whose chosen routes use the same step with the same card
 ride in one vehicle run: the run needs as many vehicles as its loads pack into (first-fit
-decreasing over the three dimensions), and costs vehicles x per-vehicle cost. Loads on
-different days never share.
+decreasing over the three dimensions), and costs vehicles x per-vehicle cost, where the
+per-vehicle cost is the step's shared cost plus, for each load-dependent charge (``extras``:
+loading where a load starts, unloading where it ends), the largest over its loads; or, when
+that is more, what its loads cost each on vehicles of its own (loads can always run
+separately, so a run never costs more than its loads alone). Loads on different days never
+share.
 
 Problem. Choose one candidate route per load to minimise the total cost of all runs
 (a fixed-charge network design problem with bin packing on every run: NP-hard in general).
@@ -96,14 +100,19 @@ class Step:
     card : hashable
         The rate card (vehicle) that runs the step; its capacity is in ``Problem.capacities``.
     cost_per_vehicle : float
-        Cost of one vehicle of `card` on the step, currency.
+        Cost of one vehicle of `card` on the step, currency: what every load on the run shares
+        (the same for every load with this key and card).
     km : float
-        Length of the step, km (for the tonne-km allocation keys)."""
+        Length of the step, km (for the tonne-km allocation keys).
+    extras : tuple of float
+        Per-vehicle charges that depend on the load (e.g. loading where it starts, unloading
+        where it ends): a run pays, per vehicle, the largest of each over its loads."""
 
     key: Hashable
     card: Hashable
     cost_per_vehicle: float
     km: float = 1.0
+    extras: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -147,7 +156,9 @@ class Run:
     cost_per_vehicle : float
         Currency per vehicle.
     cost : float
-        vehicles x cost_per_vehicle, currency.
+        vehicles x (cost_per_vehicle + the largest extras), currency; or, when that is more, what
+        its loads cost on vehicles of their own (the run is then better split: the caller
+        prices it that way).
     keys : tuple of float
         Each load's tonne-km on the run (weight t x km), the allocation keys."""
 
@@ -270,11 +281,13 @@ class _State:
         self.capacities = capacities
         self.members: dict[tuple, set[int]] = {}
         self.cpv: dict[tuple, float] = {}
+        self.extras: dict[tuple, tuple[float, ...]] = {}  # (run key, load index) -> its extras
         self._cache: dict[tuple, int] = {}
-        for load in loads:
+        for li, load in enumerate(loads):
             for route in load.routes:
                 for st in route:
                     rk = (load.day, st.key, st.card)
+                    self.extras[(rk, li)] = st.extras
                     old = self.cpv.setdefault(rk, st.cost_per_vehicle)
                     if abs(old - st.cost_per_vehicle) > _COST_EPS:
                         raise ValueError(
@@ -295,8 +308,18 @@ class _State:
         return n
 
     def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
+        """The cheaper of one shared run (vehicles x (shared cost + the largest extras)) and
+        every member on vehicles of its own: loads may always run separately."""
         m = frozenset(members)
-        return self.vehicles(rk, m) * self.cpv[rk] if m else 0.0
+        if not m:
+            return 0.0
+        cpv = self.cpv[rk]
+        own = [self.extras[(rk, i)] for i in m]
+        shared = self.vehicles(rk, m) * (cpv + sum(max(col) for col in zip(*own)))
+        if len(m) == 1:
+            return shared
+        alone = sum(self.vehicles(rk, frozenset((i,))) * (cpv + sum(self.extras[(rk, i)])) for i in m)
+        return min(shared, alone)
 
     def marginal(self, li: int, route: tuple[Step, ...]) -> float:
         """What load `li` adds to the runs of `route`, given every other load where it is."""
@@ -409,7 +432,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     alone: dict = {}
     alone_route: dict = {}
     for load in loads:
-        costs = [sum(vehicles_for([load.size()], capacities[st.card]) * st.cost_per_vehicle
+        costs = [sum(vehicles_for([load.size()], capacities[st.card]) * (st.cost_per_vehicle + sum(st.extras))
                      for st in route) for route in load.routes]
         best = min(range(len(costs)), key=lambda r: (costs[r], r))
         choice.append(best)
@@ -457,7 +480,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
                   if st.key == key and st.card == card)
         n = state.vehicles(rk, frozenset(members))
         runs.append(Run(day, key, card, tuple(loads[i].load_id for i in ids), n, state.cpv[rk],
-                        n * state.cpv[rk], tuple(loads[i].weight_t * km for i in ids)))
+                        state.run_cost(rk, members), tuple(loads[i].weight_t * km for i in ids)))
     total = sum(r.cost for r in runs)
     return Plan({load.load_id: choice[li] for li, load in enumerate(loads)}, tuple(runs), total,
                 alone, alone_route, moves, sweeps, notes)

@@ -21,13 +21,15 @@ With ``consolidate = yes`` (the default):
    due date is dropped when the chosen route is on time.
 2. **Plan.** ``costing.plan.consolidate.plan`` chooses one candidate per shipment so that the
    runs of the week cost least: loads of the same day on the same lane step with the same card
-   and the same per-vehicle charges (start and end handling, trip, paid stops: the *step key*)
-   share vehicles, packed first-fit decreasing over payload, pallet places and volume. Its
+   and the same paid stop hours (the *step key*) share vehicles, packed first-fit decreasing
+   over payload, pallet places and volume. A shared run pays, per vehicle, the lane's charges
+   once and the largest of its loads' start handling, end handling and trip rates (a vehicle is
+   loaded where any of its loads starts, unloaded where any ends). Its
    module docstring states the method and its guarantees: it terminates, it is a local optimum
    for single and pair moves, it is never worse than every load alone.
-3. **Price.** Each run is priced for its vehicles. A run of several loads that would not cost
-   less than its loads' legs alone is split back into one run per load (rounding can make
-   ROUND(n x rate) exceed the sum of the parts when no vehicle is saved).
+3. **Price.** Each run is priced for its vehicles. A run of several loads that saves no vehicle,
+   or would not cost less than its loads' legs alone, is split back into one run per load
+   (without a vehicle saved, sharing changes only the rounding of ROUND(n x rate)).
 4. **Allocate.** A run's cost is shared among its loads by tonne-km (``costing.price.allocate``:
    largest remainder, so the shares add up to the run's cost exactly), then capped so no leg pays
    more than it would alone (``cap_at_standalone``; the excess goes to the other loads of the
@@ -42,10 +44,11 @@ Guarantees (each tested):
   shipments that share no vehicle;
 - with ``consolidate = no`` every shipment's total is its stand-alone total.
 
-What is approximated: loads share a run only where their per-vehicle charges on that step are
-the same (a load driving through a hub does not share with a load joining there); every load of
-a day leaves at the start of the day, so waiting for a shared vehicle is 0 h; candidates through
-hubs are the cheapest route through each of a few hubs, not every route.
+What is approximated: loads share a run only where their paid stop hours on that step are the
+same; a shared run is handled once per vehicle at each end (at the largest rate of its loads),
+not once per load; every load of a day leaves at the start of the day, so waiting for a shared
+vehicle is 0 h; candidates through hubs are the cheapest route through each of a few hubs, not
+every route.
 """
 
 from __future__ import annotations
@@ -182,7 +185,22 @@ def _join(first: list[tuple[RateCard, list]], second: list[tuple[RateCard, list]
 
 
 def _step_key(leg: Leg) -> tuple:
-    return (leg.use.key, leg.start_handling_rate, leg.end_handling_rate, leg.trip_rate, leg.paid_stop_hours)
+    """What loads must have in common to share a run on a step: the lane direction and the paid
+    stop hours (the card and the day are the planner's own keys)."""
+    return (leg.use.key, leg.paid_stop_hours)
+
+
+def _run_rates(legs: list[Leg]) -> Leg:
+    """The first load's leg with the run's per-vehicle handling and trip rates: the largest of
+    each over the loads (a vehicle is loaded where any load starts a run, unloaded where any
+    ends or is handled at a hub, and dispatched where any load starts a vehicle run)."""
+    first = legs[0]
+    if len(legs) == 1:
+        return first
+    return replace(first, start_handling_rate=max(g.start_handling_rate for g in legs),
+                   end_handling_rate=max(g.end_handling_rate for g in legs),
+                   trip_rate=max(g.trip_rate for g in legs),
+                   handling_hours=max(g.handling_hours for g in legs))
 
 
 def _card_key(card: RateCard) -> tuple[str, str]:
@@ -246,9 +264,15 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
 def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load:
     s = res_list[0].shipment
     routes = []
+    places = minor_unit(model.settings.currency)
     for res in res_list:
-        routes.append(tuple(Step((_step_key(g),), _card_key(g.card), reprice_leg(model, g, 1).leg_cost,
-                                 g.use.km) for g in res.legs))
+        steps = []
+        for g in res.legs:
+            one = reprice_leg(model, g, 1)
+            extras = (one.start_handling_cost, one.end_handling_cost, one.trip_cost)
+            shared = round_money(one.leg_cost - sum(extras), places)
+            steps.append(Step((_step_key(g),), _card_key(g.card), shared, g.use.km, extras))
+        routes.append(tuple(steps))
     return Load(index, day, s.weight_t, s.pallets or 0.0, s.volume_m3 or 0.0, tuple(routes))
 
 
@@ -330,10 +354,12 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         members = groups[key]
         own = [chosen[i].legs[k] for i, k in members]
         n = vehicles.get(key[:3], own[0].vehicles) if consolidate else own[0].vehicles
-        run_leg = own[0] if len(members) == 1 and n == own[0].vehicles else reprice_leg(model, own[0], n)
+        run_leg = (own[0] if len(members) == 1 and n == own[0].vehicles
+                   else reprice_leg(model, _run_rates(own), n))
         pieces = [members]
-        if len(members) > 1 and run_leg.leg_cost >= round_money(sum(g.leg_cost for g in own), places):
-            pieces = [[m] for m in members]  # sharing saves nothing here: each load alone
+        if len(members) > 1 and (n >= sum(g.vehicles for g in own)
+                                 or run_leg.leg_cost >= round_money(sum(g.leg_cost for g in own), places)):
+            pieces = [[m] for m in members]  # sharing saves no vehicle here: each load alone
         for part in pieces:
             part_legs = [chosen[i].legs[k] for i, k in part]
             rl = run_leg if len(part) == len(members) else part_legs[0]

@@ -11,9 +11,11 @@ GRID_COL = 3  # column D
 CHART_COLS, CHART_ROWS = 8, 17  # grid step: 8 default columns (512 px), 17 rows (340 px)
 
 
-def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_rows=None) -> None:
-    """Native charts: cost by component (from the Summary TOTAL row) and the cost-time
-    trade-offs of the costliest shipments (from the Trade-offs sheet)."""
+def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_rows=None,
+                 n_lanes: int = 0) -> None:
+    """Native charts: cost by component (from the Summary TOTAL row), the cost-time trade-offs of
+    the costliest shipments (from the Trade-offs sheet), the scenarios, and the fill rate by
+    weight of the costliest lanes (from the first `n_lanes` rows of the Lane usage sheet)."""
     ws.write_string(0, 0, "Charts are drawn from the Summary, Trade-offs and Scenario comparison sheets; "
                     "they follow those figures when rates change and the workbook recalculates.",
                     w.f["bold"])
@@ -42,7 +44,8 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
     chart.set_legend({"none": True})
     chart.set_size({"width": CHART_W, "height": CHART_H})
     ws.insert_chart(2, GRID_COL, chart)
-    slots = [(2, GRID_COL + CHART_COLS), (2 + CHART_ROWS, GRID_COL), (2 + CHART_ROWS, GRID_COL + CHART_COLS)]
+    slots = [(2, GRID_COL + CHART_COLS), (2 + CHART_ROWS, GRID_COL), (2 + CHART_ROWS, GRID_COL + CHART_COLS),
+             (2 + 2 * CHART_ROWS, GRID_COL), (2 + 2 * CHART_ROWS, GRID_COL + CHART_COLS)]
     costliest = sorted((r for r in results if r.shipment.shipment_id in frontier_rows),
                        key=lambda r: -r.total_cost)
     picked = [r for r in costliest if frontier_rows[r.shipment.shipment_id][1]
@@ -86,3 +89,19 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
         stack.set_legend({"position": "bottom"})
         stack.set_size({"width": CHART_W, "height": CHART_H})
         ws.insert_chart(*slots.pop(0), stack)
+    if n_lanes:
+        from costing.contract.outputs import LANE_COLUMNS, LANE_USAGE
+
+        shown = min(n_lanes, 15)
+        fill = [name for name, _w, _k in LANE_COLUMNS].index("fill_weight")
+        fc = w.wb.add_chart({"type": "bar"})
+        fc.add_series({"name": "fill rate by weight", "categories": [LANE_USAGE, 1, 0, shown, 0],
+                       "values": [LANE_USAGE, 1, fill, shown, fill], "fill": {"color": "#70AD47"},
+                       "data_labels": {"value": True, "num_format": "0%"}})
+        fc.set_title({"name": f"Fill rate by weight, the {shown} costliest lanes"})
+        fc.set_x_axis({"name": "tonnes carried / payload of the vehicles run", "num_format": "0%",
+                       "min": 0, "max": 1})
+        fc.set_y_axis({"name": "lane", "reverse": True})
+        fc.set_legend({"none": True})
+        fc.set_size({"width": CHART_W, "height": CHART_H})
+        ws.insert_chart(*slots.pop(0), fc)

@@ -1,50 +1,58 @@
-"""The Lane usage sheet: tonnes, vehicle trips, vehicle-km and cost per lane, as formulas over Legs."""
+"""The Lane usage sheet: per lane, the vehicle runs, loads, tonnes, vehicle trips, vehicle-km,
+payload capacity, fill rate by weight and cost, as formulas over the Vehicle runs sheet (one row
+per run, so the sums stay small when the Legs sheet is large)."""
 
 from __future__ import annotations
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import LANE_COLUMNS, LEG
+from costing.contract.outputs import LANE_COLUMNS, RUN_COL, VEHICLE_RUNS
 from costing.money import round_money
 from costing.sheets.formats import Writer, cell_text, sheet_ref
 
 
-def write_lane_usage(w: Writer, ws, analysis) -> None:
-    """Where the money goes: per lane, the legs, tonnes, vehicle trips and leg cost routed over
-    it, as SUMIFS over the Legs sheet (both directions of a lane together)."""
+def write_lane_usage(w: Writer, ws, analysis, n_runs: int) -> None:
+    """Where the money goes: per lane (both directions together), COUNTIF / SUMIFS / SUMPRODUCT
+    over the `n_runs` rows of the Vehicle runs sheet, with the values of ``analysis.lanes``
+    (costing.plan.analysis.lane_usage, summed in the same row order) cached."""
     w.header(ws, LANE_COLUMNS)
-    L = {name: xl_col_to_name(i) for name, i in LEG.items()}
+    c = {name: i for i, (name, _w, _k) in enumerate(LANE_COLUMNS)}
+    C = {name: xl_col_to_name(i) for name, i in c.items()}
+    vr = sheet_ref(VEHICLE_RUNS)
 
-    def over_sheets(template: str) -> str:
-        """template with {r(col)} placeholders, summed over every Legs sheet."""
-        parts = []
-        for sheet, last in w.legs_last.items():
-            def rng(col, sheet=sheet, last=last):
-                return f"{sheet_ref(sheet)}!${L[col]}$2:${L[col]}${max(last, 2)}"
-            parts.append(template.format(**{col: rng(col) for col in LEG}))
-        return "+".join(parts)
+    def rng(col: str) -> str:
+        letter = xl_col_to_name(RUN_COL[col])
+        return f"{vr}!${letter}$2:${letter}${max(n_runs + 1, 2)}"
 
-    pct = w.wb.add_format({"num_format": "0.0%"})
     total_cost = round_money(sum(u.cost for u in analysis.lanes), w.places)
     n = len(analysis.lanes)
     for r, u in enumerate(analysis.lanes, start=1):
         x = r + 1
-        ws.write_string(r, 0, cell_text(u.lane_id))
-        ws.write_string(r, 1, cell_text(u.from_depot))
-        ws.write_string(r, 2, cell_text(u.to_depot))
-        ws.write_string(r, 3, u.mode)
+        ws.write_string(r, c["lane_id"], cell_text(u.lane_id))
+        ws.write_string(r, c["from_depot"], cell_text(u.from_depot))
+        ws.write_string(r, c["to_depot"], cell_text(u.to_depot))
+        ws.write_string(r, c["mode"], u.mode)
         key = f"$A{x}"
-        ws.write_formula(r, 4, "=" + over_sheets("COUNTIF({lane_id}," + key + ")"), w.f["int"], u.legs)
-        ws.write_formula(r, 5, "=" + over_sheets("SUMIFS({weight_t},{lane_id}," + key + ")"), w.f["km"],
-                         u.tonnes)
-        ws.write_formula(r, 6, "=" + over_sheets("SUMIFS({vehicles},{lane_id}," + key + ")"), w.f["int"],
-                         u.vehicle_trips)
-        km_expr = over_sheets("SUMPRODUCT(({lane_id}=" + key + ")*{vehicles}*{distance_km})")
-        ws.write_formula(r, 7, "=" + km_expr, w.f["km"], u.vehicle_km)
-        cost_expr = over_sheets("SUMIFS({leg_cost},{lane_id}," + key + ")")
-        ws.write_formula(r, 8, "=" + w.round_f(cost_expr), w.f["money"], round_money(u.cost, w.places))
-        ws.write_formula(r, 9, f"=IF(SUM($I$2:$I${n + 1})=0,0,I{x}/SUM($I$2:$I${n + 1}))", pct,
+        lane = rng("lane_id")
+        ws.write_formula(r, c["runs"], f"=COUNTIF({lane},{key})", w.f["int"], u.runs)
+        sums = (("legs", "loads", "int", u.legs), ("tonnes", "tonnes", "km", u.tonnes),
+                ("vehicle_trips", "vehicles", "int", u.vehicle_trips))
+        for col, run_col, kind, value in sums:
+            ws.write_formula(r, c[col], f"=SUMIFS({rng(run_col)},{lane},{key})", w.f[kind], value)
+        for col, other, value in (("vehicle_km", "distance_km", u.vehicle_km),
+                                  ("capacity_t", "payload_t", u.capacity_t)):
+            ws.write_formula(r, c[col], f"=SUMPRODUCT(({lane}={key})*{rng('vehicles')}*{rng(other)})",
+                             w.f["km"], value)
+        cap, tonnes = f"{C['capacity_t']}{x}", f"{C['tonnes']}{x}"
+        ws.write_formula(r, c["fill_weight"], f"=IF({cap}=0,0,{tonnes}/{cap})", w.f["pct"], u.fill_weight)
+        ws.write_formula(r, c["cost"], "=" + w.round_f(f"SUMIFS({rng('run_cost')},{lane},{key})"),
+                         w.f["money"], round_money(u.cost, w.places))
+        whole = f"SUM(${C['cost']}$2:${C['cost']}${n + 1})"
+        ws.write_formula(r, c["share_of_cost"], f"=IF({whole}=0,0,{C['cost']}{x}/{whole})", w.f["pct"],
                          (round_money(u.cost, w.places) / total_cost) if total_cost else 0.0)
     ws.autofilter(0, 0, max(n, 1), len(LANE_COLUMNS) - 1)
     if n:
-        ws.conditional_format(1, 8, n, 8, {"type": "data_bar", "bar_color": "#9DC3E6"})
+        ws.conditional_format(1, c["cost"], n, c["cost"], {"type": "data_bar", "bar_color": "#9DC3E6"})
+        ws.conditional_format(1, c["fill_weight"], n, c["fill_weight"],
+                              {"type": "3_color_scale", "min_color": "#F8CBAD", "mid_color": "#FFE699",
+                               "max_color": "#C6EFCE"})

@@ -76,8 +76,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if "Trade-offs" in sheets:
         frontier_rows = write_tradeoffs(w, sheets["Trade-offs"], results, analysis)
     if "Lane usage" in sheets:
-        write_lane_usage(w, sheets["Lane usage"], analysis)
-        write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows)
+        write_lane_usage(w, sheets["Lane usage"], analysis, len(runs))
+        write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows,
+                     len(analysis.lanes))
     if map_png:
         write_map(w, sheets["Map"], map_png)
     write_problems(w, problems_ws, problems)

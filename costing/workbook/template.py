@@ -138,6 +138,9 @@ def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None
                     ws.write_string(r, c, "yes" if v else "no")
                 elif isinstance(v, (int, float)):
                     ws.write_number(r, c, v)
+                elif isinstance(v, _dt.date):
+                    ws.write_datetime(r, c, _dt.datetime.combine(v, _dt.time()) if not isinstance(
+                        v, _dt.datetime) else v, date_fmt)
                 else:
                     ws.write_string(r, c, str(v))
     wb.close()
