@@ -114,6 +114,7 @@ class Settings:
     compare_objectives: str = "yes"
     frontier_max_routes: float = 6
     consolidate: str = "yes"
+    return_empty: str = "no"
 
 
 @dataclass(frozen=True)

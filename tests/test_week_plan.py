@@ -22,14 +22,15 @@ from costing.sheets.writer import write_costed
 DAY = dt.date(2026, 12, 7)
 
 
-def _model(shipments, consolidate="yes", rates=None, lanes=None, depots=None) -> Model:
+def _model(shipments, consolidate="yes", rates=None, lanes=None, depots=None, return_empty="no") -> Model:
     depots = depots or (Depot("A", "Ashby", None, None, "depot"),
                         Depot("C", "Corrin", None, None, "customer"))
     # one lane A-C: 250 km, 3.5 h
     lanes = lanes or (Lane("L1", "A", "C", "road", 250.0, 3.5),)
     # artic: 1.85 per km, 45 per hour, 156.25 per trip, 24.5 t
     rates = rates or (RateCard("artic", "road", 1.85, 45.0, 24.5, per_trip=156.25, pallet_places=33),)
-    return Model(Settings(consolidate=consolidate, compare_objectives="no", frontier_max_routes=0),
+    return Model(Settings(consolidate=consolidate, compare_objectives="no", frontier_max_routes=0,
+                          return_empty=return_empty),
                  tuple(depots), tuple(lanes), tuple(rates), tuple(shipments))
 
 
@@ -151,6 +152,28 @@ def test_route_through_a_hub_to_share_a_trunk():
     assert round(sum(r.total_cost for r in alone.results), 2) == 1200.00
 
 
+def test_empty_returns_shared_by_tonne_km():
+    # the artic comes back empty C -> A over L1: 250 x 1.85 = 462.50 + 3.5 x 45 = 157.50 -> 620.00
+    # (no trip or handling charge on an empty return). One artic carried 5 + 5 + 10 t, so one
+    # comes back: 620.00 shared by tonne-km 1:1:2 -> 155.00, 155.00, 310.00. Alone each load's
+    # own artic would come back: 620.00 each.
+    ships = [_ship("S1", 5), _ship("S2", 5), _ship("S3", 10)]
+    costed = _run(_model(ships, return_empty="yes"))
+    empty = [r for r in costed.runs if r.empty_for]
+    assert len(empty) == 1 and empty[0].run_cost == 620.00 and empty[0].empty_for == ("S1", "S2", "S3")
+    assert empty[0].leg.use.from_depot == "C" and empty[0].leg.use.to_depot == "A"
+    assert [r.empty_return_cost for r in costed.results] == [155.00, 155.00, 310.00]
+    assert [r.empty_return_alone for r in costed.results] == [620.00] * 3
+    assert [r.total_cost for r in costed.results] == [349.06, 349.06, 698.13]
+    assert [r.standalone_cost for r in costed.results] == [1396.25] * 3
+    assert round(sum(r.total_cost for r in costed.results), 2) == round(
+        sum(r.run_cost for r in costed.runs), 2) == 1396.25
+    # consolidate = no: each artic comes back on its own
+    alone = _run(_model(ships, consolidate="no", return_empty="yes"))
+    assert len([r for r in alone.runs if r.empty_for]) == 3
+    assert [r.total_cost for r in alone.results] == [1396.25] * 3
+
+
 def _write(costed, path):
     info = RunInfo("test", "0" * 64, None, dt.datetime(2026, 12, 3), costed.stats)
     write_costed(str(path), costed.model, costed.results, costed.problems, info, None, None, (), costed.runs)
@@ -179,6 +202,18 @@ def test_workbook_ties_out(tmp_path):
     assert recon["difference (must be 0)"] == 0
 
 
+def test_workbook_ties_out_with_empty_returns(tmp_path):
+    costed = _run(_model([_ship("S1", 5), _ship("S2", 5), _ship("S3", 10), _ship("S4", 30)],
+                         return_empty="yes"))
+    _write(costed, tmp_path / "out.xlsx")
+    wb = openpyxl.load_workbook(tmp_path / "out.xlsx", data_only=True)
+    recon = {r[0]: r[1] for r in wb["Run"].iter_rows(values_only=True) if r[0]}
+    assert recon["difference runs - shares (must be 0)"] == 0
+    assert recon["difference (must be 0)"] == 0
+    runs = list(wb["Vehicle runs"].iter_rows(values_only=True))
+    assert any(str(r[runs[0].index("shipments")]).startswith("empty return for") for r in runs[1:])
+
+
 @pytest.mark.needs_soffice
 def test_libreoffice_recomputes_the_shares(tmp_path):
     # LibreOffice Calc (an independent spreadsheet engine) recalculates every formula of a run
@@ -187,7 +222,7 @@ def test_libreoffice_recomputes_the_shares(tmp_path):
 
     rates = (RateCard("artic", "road", 1.85, 45.0, 24.0, per_trip=156.25, pallet_places=33),)
     costed = _run(_model([_ship("A", 20, pallets=1), _ship("B", 1, pallets=20), _ship("C", 1, pallets=20),
-                          _ship("D", 5), _ship("E", 5), _ship("F", 7.3)], rates=rates))
+                          _ship("D", 5), _ship("E", 5), _ship("F", 7.3)], rates=rates, return_empty="yes"))
     _write(costed, tmp_path / "out.xlsx")
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(tmp_path / "out.xlsx"), str(tmp_path / "recalc"))

@@ -118,6 +118,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "common, up to payload, pallet places and volume, and each pays a tonne-km share of "
                 "the vehicle runs it rides in (Vehicle runs sheet). no: every shipment has vehicles "
                 "of its own.", choices=YES_NO),
+    SettingSpec("return_empty", "choice", "no",
+                "yes: vehicles drive back empty from where their loads leave them to where they were "
+                "loaded, over the cheapest way back with the same rate card, and the shipments that "
+                "sent them share that cost by tonne-km (rows marked empty on Vehicle runs).",
+                choices=YES_NO),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}

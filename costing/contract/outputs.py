@@ -97,8 +97,9 @@ SUMMARY_COLUMNS = [
     ("hour_cost", 11, "money"), ("toll_cost", 10, "money"), ("fixed_cost", 10, "money"),
     ("fuel_surcharge", 11, "money"), ("stop_cost", 10, "money"),
     ("handling_cost", 11, "money"), ("trip_cost", 10, "money"), ("subtotal", 12, "money"),
-    ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("standalone_cost", 12, "money"),
-    ("allocated_cost", 12, "money"), ("total_cost", 12, "money"), ("saving", 11, "money"),
+    ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"),
+    ("standalone_cost", 12, "money"), ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"),
+    ("total_cost", 12, "money"), ("saving", 11, "money"),
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("tonne_km", 11, "km"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
@@ -175,8 +176,8 @@ HEADER_NOTES = {
     "subtotal": "Sum of the shipment's leg_cost on the Legs sheet.",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
-    "total_cost": "allocated_cost, plus min_charge_uplift when the shipment shares no vehicle "
-                  "(travels_with blank). With consolidate = no: subtotal + min_charge_uplift.",
+    "total_cost": "allocated_cost + empty_return_cost, plus min_charge_uplift when the shipment shares "
+                  "no vehicle (travels_with blank). With consolidate = no: standalone_cost.",
     "run_id": "The vehicle run (Vehicle runs sheet) the leg rides in.",
     "tonne_km": "weight_t x distance_km: the allocation key (ISO 14083 allocates a run's emissions "
                 "among its loads by tonne-km; the same key shares its cost).",
@@ -186,7 +187,13 @@ HEADER_NOTES = {
                     "and, where a share would exceed the leg's own cost, the amount moved to the "
                     "other loads of the run (see the shipment's note).",
     "co2e_share": "The leg's share of its run's co2e_kg, by tonne-km. Planning estimate.",
-    "standalone_cost": "subtotal + min_charge_uplift: the route with vehicles of its own.",
+    "standalone_cost": "subtotal + min_charge_uplift + empty_return_alone: the route with vehicles "
+                       "of its own.",
+    "empty_return_alone": "Settings return_empty = yes: what bringing its own vehicles back empty "
+                          "would cost (the cheapest way back with the same rate card; no handling).",
+    "empty_return_cost": "Settings return_empty = yes: its share of the empty returns (Vehicle runs rows "
+                         "'empty return for ...') of the vehicles it rode in, by the tonne-km of its "
+                         "stretch, never more than its own return alone.",
     "allocated_cost": "Sum of the shipment's cost_share on the Legs sheet: its share of the vehicle "
                       "runs it rides in.",
     "saving": "standalone_cost - total_cost: what sharing vehicles saves.",

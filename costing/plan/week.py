@@ -99,6 +99,7 @@ class VehicleRun:
     co2e_kg: float
     pallets: tuple[float, ...] = ()  # each load's pallet places, in the order of `loads`
     volumes: tuple[float, ...] = ()  # each load's m3
+    empty_for: tuple[str, ...] = ()  # an empty return: the shipments whose vehicles it brings back
 
     @property
     def vehicles(self) -> int:
@@ -284,6 +285,86 @@ def _run_co2e(leg: Leg, vehicles: int, tonne_km: float) -> float:
     return tonne_km * leg.intensity_g_per_tkm / 1000
 
 
+def _stretches(res: CostedShipment) -> list[tuple[RateCard, list[Leg]]]:
+    """The shipment's vehicle stretches: consecutive legs on one rate card (where its vehicles
+    are loaded, to where they are unloaded)."""
+    out: list[tuple[RateCard, list[Leg]]] = []
+    for leg in res.legs:
+        if out and out[-1][0] is leg.card:
+            out[-1][1].append(leg)
+        else:
+            out.append((leg.card, [leg]))
+    return out
+
+
+def _empty_returns(model: Model, route: Callable, chosen: list[CostedShipment], runs: list[VehicleRun],
+                   day_of, consolidate: bool, places: int):
+    """Empty returns (Settings return_empty): the vehicles of each stretch (legs on one card,
+    from where they were loaded, S, to where they were unloaded, E) drive back empty from E to S
+    over the cheapest way with that card (the same search, for an empty vehicle), priced with
+    the leg arithmetic for their vehicles without handling or trip charges. Stretches of the same
+    day, card, S and E return together (with consolidation): as many vehicles as their loads pack
+    into; the return's cost is shared among them by the tonne-km of their stretches (largest
+    remainder), each capped at its own return alone. Returns (runs with the empty runs appended,
+    shipment index -> (its share, its own return alone), notes)."""
+    from costing.model import Shipment
+    from costing.plan.consolidate import vehicles_for
+    from costing.price.rates import load_vehicles
+
+    groups: dict[tuple, list[tuple[int, list[Leg]]]] = {}
+    for i, res in enumerate(chosen):
+        if res.status != ROUTED:
+            continue
+        for card, stretch in _stretches(res):
+            s_, e_ = stretch[0].use.from_depot, stretch[-1].use.to_depot
+            key = (day_of(res.shipment), _card_key(card), s_, e_) + (() if consolidate else (i,))
+            groups.setdefault(key, []).append((i, stretch))
+    paths: dict[tuple, CostedShipment | None] = {}
+    out_runs = list(runs)
+    empty: dict[int, tuple[float, float]] = {}
+    notes: list[str] = []
+    for key, members in groups.items():
+        day, (vehicle, mode), s_, e_ = key[:4]
+        card = next(c for c in model.rates if (c.vehicle, c.mode) == (vehicle, mode))
+        back = paths.get((vehicle, mode, e_, s_), False)
+        if back is False:
+            ghost = Shipment(f"empty {vehicle} {e_}>{s_}", e_, s_, 0.0, vehicle=vehicle, objective="cost")
+            found = route(ghost)
+            ok = found.status == ROUTED and all(g.card is card for g in found.legs)
+            back = paths[(vehicle, mode, e_, s_)] = found if ok else None
+        if back is None:
+            notes.append(f"no way back for empty {vehicle} from {e_} to {s_}: no empty return costed")
+            continue
+        bare = [replace(g, start_handling_rate=0.0, end_handling_rate=0.0, trip_rate=0.0, handling_hours=0.0,
+                        weight_t=0.0) for g in back.legs]
+        ships = [chosen[i].shipment for i, _st in members]
+        own = [[reprice_leg(model, g, load_vehicles(s.weight_t, card, s.pallets, s.volume_m3)) for g in bare]
+               for s in ships]
+        alone = [round_money(sum(g.leg_cost for g in legs), places) for legs in own]
+        n = vehicles_for([(s.weight_t, s.pallets or 0.0, s.volume_m3 or 0.0) for s in ships], _capacity(card))
+        together = [reprice_leg(model, g, n) for g in bare]
+        cost = round_money(sum(g.leg_cost for g in together), places)
+        if len(members) > 1 and cost < round_money(sum(alone), places):
+            keys = [sum(g.tonne_km for g in st) for _i, st in members]
+            shares, _cut = cap_at_standalone(allocate(cost, keys, places), alone, places)
+            trips = [(tuple(s.shipment_id for s in ships), together)]
+        else:  # one shipment, or nothing saved: each brings its own vehicles back
+            shares = alone
+            trips = [((s.shipment_id,), legs) for s, legs in zip(ships, own)]
+        for ids, legs in trips:
+            for g in legs:
+                out_runs.append(VehicleRun(f"R{len(out_runs) + 1:04d}", day, g, (), (), 0.0,
+                                           _run_co2e(g, g.vehicles, 0.0), (), (), ids))
+        for (i, _st), sh, al in zip(members, shares, alone):
+            old_share, old_alone = empty.get(i, (0.0, 0.0))
+            empty[i] = (round_money(old_share + sh, places), round_money(old_alone + al, places))
+    return out_runs, empty, notes
+
+
+def _capacity(card: RateCard) -> Capacity:
+    return Capacity(card.payload_t, card.pallet_places, card.volume_m3)
+
+
 def _quota(amount: float, key: float, total_key: float, n: int) -> float:
     """amount x key / total_key in the order of the share formulas (amount / n when no keys)."""
     if total_key == key:
@@ -385,6 +466,11 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
                                    tkm, co2e, tuple(s.pallets or 0.0 for s in ships),
                                    tuple(s.volume_m3 or 0.0 for s in ships)))
 
+    multi = {r.run_id for r in runs if len(r.loads) > 1}
+    empty: dict[int, tuple[float, float]] = {}
+    if model.settings.return_empty == "yes":
+        runs, empty, empty_notes = _empty_returns(model, route, chosen, runs, day_of, consolidate, places)
+        notes += empty_notes
     out: list[CostedShipment] = []
     problems: list[Problem] = []
     for i, res in enumerate(chosen):
@@ -402,13 +488,15 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
                        f"{' > '.join([old.legs[0].use.from_depot] + [g.use.to_depot for g in old.legs])} "
                        f"for {old.standalone_cost:.{places}f})")
         if with_ids:
-            steps = list(dict.fromkeys(g.use.lane.lane_id for g in new_legs
-                                       if any(len(r.loads) > 1 for r in runs if r.run_id == g.run_id)))
+            steps = list(dict.fromkeys(g.use.lane.lane_id for g in new_legs if g.run_id in multi))
             msg.append(f"travels with {', '.join(with_ids)} on {', '.join(steps)}")
         if i in capped:
             msg.append(f"share capped at its stand-alone cost on {', '.join(dict.fromkeys(capped[i]))}")
+        share, alone = empty.get(i, (0.0, 0.0))
+        if alone:
+            msg.append(f"empty return {share:.{places}f} (alone {alone:.{places}f})")
         new = replace(res, legs=new_legs, shared_with=with_ids, day=day_of(res.shipment),
-                      message="; ".join(msg))
+                      message="; ".join(msg), empty_return_cost=share, empty_return_alone=alone)
         late = late_hours(new, start)
         if late:
             s = res.shipment

@@ -96,6 +96,8 @@ class CostedShipment:
     value_of_time: float = 0.0  # per hour, for the blended objective
     shared_with: tuple[str, ...] = ()  # shipment ids sharing a vehicle run with it (plan stage)
     day: object = None  # the plan's day (ready_date, or the first day of the run)
+    empty_return_cost: float = 0.0  # its share of empty returns (Settings return_empty), currency
+    empty_return_alone: float = 0.0  # its own vehicles' empty return alone, currency
 
     @property
     def subtotal(self) -> float:
@@ -109,9 +111,9 @@ class CostedShipment:
 
     @property
     def standalone_cost(self) -> float:
-        """Subtotal plus the minimum-charge uplift, currency: what the route costs the shipment
-        with vehicles of its own."""
-        return round_money(self.subtotal + self.min_charge_uplift, self.places)
+        """Subtotal plus the minimum-charge uplift (plus its own empty return, when Settings
+        return_empty is yes), currency: what the route costs the shipment with vehicles of its own."""
+        return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone, self.places)
 
     @property
     def allocated_cost(self) -> float:
@@ -122,11 +124,11 @@ class CostedShipment:
 
     @property
     def total_cost(self) -> float:
-        """What the shipment costs, currency: its allocated share of the vehicle runs, plus the
-        minimum-charge uplift when it shares no vehicle (with vehicles of its own this is
-        subtotal + uplift, the stand-alone cost)."""
+        """What the shipment costs, currency: its allocated share of the vehicle runs and of
+        their empty returns, plus the minimum-charge uplift when it shares no vehicle (with
+        vehicles of its own this is the stand-alone cost)."""
         uplift = 0.0 if self.shared_with else self.min_charge_uplift
-        return round_money(self.allocated_cost + uplift, self.places)
+        return round_money(self.allocated_cost + self.empty_return_cost + uplift, self.places)
 
     @property
     def saving(self) -> float:

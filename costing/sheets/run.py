@@ -179,7 +179,8 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     R = {name: xl_col_to_name(i) for name, i in RUN_COL.items()}
     routed = [x for x in results if x.status == ROUTED]
     run_total = round_money(sum(run.run_cost for run in runs), w.places)
-    share_total = round_money(sum(leg_value(leg, "cost_share") for x in routed for leg in x.legs), w.places)
+    share_total = round_money(sum(leg_value(leg, "cost_share") for x in routed for leg in x.legs)
+                              + sum(x.empty_return_cost for x in routed), w.places)
     uplift = round_money(sum(x.min_charge_uplift for x in routed if not x.shared_with), w.places)
     total = round_money(sum(x.total_cost for x in routed), w.places)
     r += 2
@@ -189,9 +190,10 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     recon = [
         ("sum of Vehicle runs run_cost",
          w.round_f(f"SUM({vr}!{R['run_cost']}2:{R['run_cost']}{max(len(runs) + 1, 2)})"), run_total),
-        ("sum of Legs cost_share", w.round_f("+".join(
+        ("sum of Legs cost_share and Summary empty_return_cost", w.round_f("+".join(
             f"SUM({sheet_ref(sheet)}!{L['cost_share']}2:{L['cost_share']}{max(last, 2)})"
-            for sheet, last in w.legs_last.items())), share_total),
+            for sheet, last in w.legs_last.items())
+            + f"+SUM(Summary!{S['empty_return_cost']}2:{S['empty_return_cost']}{last + 1})"), share_total),
     ]
     for k, expr, value in recon:
         r += 1

@@ -54,11 +54,14 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
         ws.write_formula(r, c["min_charge_uplift"],
                          "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
                          f["money"], res.min_charge_uplift)
-        ws.write_formula(r, c["standalone_cost"],
-                         "=" + w.round_f(f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}"),
-                         f["money"], res.standalone_cost)
+        ws.write_number(r, c["empty_return_alone"], res.empty_return_alone, f["money"])
+        ws.write_number(r, c["empty_return_cost"], res.empty_return_cost, f["money"])
+        ws.write_formula(r, c["standalone_cost"], "=" + w.round_f(
+            f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"),
+            f["money"], res.standalone_cost)
         ws.write_formula(r, c["total_cost"], "=" + w.round_f(
-            f"{S['allocated_cost']}{x}+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
+            f"{S['allocated_cost']}{x}+{S['empty_return_cost']}{x}"
+            f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
             f["money"], res.total_cost)
         ws.write_formula(r, c["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
                          f["money"], res.saving)
@@ -78,6 +81,8 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
     totals["min_charge_uplift"] = sum(x.min_charge_uplift for x in routed)
     totals["total_cost"] = sum(x.total_cost for x in routed)
     totals["standalone_cost"] = sum(x.standalone_cost for x in routed)
+    totals["empty_return_cost"] = sum(x.empty_return_cost for x in routed)
+    totals["empty_return_alone"] = sum(x.empty_return_alone for x in routed)
     totals["saving"] = sum(x.saving for x in routed)
     for col, value in totals.items():
         kind = SUMMARY_COLUMNS[c[col]][2]

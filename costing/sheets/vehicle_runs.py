@@ -41,9 +41,10 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, in
             return "+".join(f"{sheet_ref(ranges[sid][0])}!{L[col]}{ranges[sid][1] + own.seq - 1}"
                             for sid, own in zip(run.loads, run.load_legs))
 
+        shipments = ", ".join(run.loads) if run.loads else "empty return for " + ", ".join(run.empty_for)
         text = {"run_id": run.run_id, "lane_id": g.use.lane.lane_id, "from_depot": g.use.from_depot,
                 "to_depot": g.use.to_depot, "mode": g.use.lane.mode, "vehicle": card.vehicle,
-                "shipments": ", ".join(run.loads), "co2e_basis": g.co2e_basis}
+                "shipments": shipments, "co2e_basis": g.co2e_basis}
         for name, value in text.items():
             ws.write_string(r, RUN_COL[name], cell_text(value))
         if run.day is not None:
@@ -61,7 +62,10 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, in
         for name, value in numbers.items():
             if value is not None:
                 ws.write_number(r, RUN_COL[name], value)
-        ws.write_formula(r, RUN_COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
+        if run.loads:
+            ws.write_formula(r, RUN_COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
+        else:  # an empty return
+            ws.write_number(r, RUN_COL["tonnes"], 0.0)
         fills = (("fill_weight", "tonnes", run.tonnes, card.payload_t),
                  ("fill_pallets", "pallets", pallets, card.pallet_places),
                  ("fill_volume", "volume_m3", volume, card.volume_m3))
@@ -78,13 +82,16 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, in
             ws.write_formula(r, RUN_COL[name], "=" + formula.format(**refs), f["money"], value)
         ws.write_formula(r, RUN_COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
                          run.run_cost)
-        standalone = round_money(run.standalone_cost, w.places)
-        ws.write_formula(r, RUN_COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
-                         standalone)
-        saving = w.round_f(f"{R['standalone_cost']}{x}-{R['run_cost']}{x}")
-        ws.write_formula(r, RUN_COL["saving"], "=" + saving, f["money"],
-                         round_money(standalone - run.run_cost, w.places))
-        ws.write_formula(r, RUN_COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
+        if not run.loads:  # an empty return: no loads, no tonne-km, shared as Summary empty_return_cost
+            ws.write_number(r, RUN_COL["tonne_km"], 0.0)
+        else:
+            standalone = round_money(run.standalone_cost, w.places)
+            ws.write_formula(r, RUN_COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
+                             standalone)
+            saving = w.round_f(f"{R['standalone_cost']}{x}-{R['run_cost']}{x}")
+            ws.write_formula(r, RUN_COL["saving"], "=" + saving, f["money"],
+                             round_money(standalone - run.run_cost, w.places))
+            ws.write_formula(r, RUN_COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
         ws.write_formula(r, RUN_COL["co2e_kg"],
                          '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*'
                          "{co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),

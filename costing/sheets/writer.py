@@ -33,7 +33,8 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     Comparison, Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
     (costing.plan.analysis.ScenarioRun) a Scenarios sheet."""
     named = {leg.run_id for r in results for leg in r.legs if leg.run_id}
-    if len(named) != len(runs) or any(run.run_id not in named for run in runs):
+    loaded = [run for run in runs if not run.empty_for]  # empty returns carry no legs
+    if len(named) != len(loaded) or any(run.run_id not in named for run in loaded):
         raise ValueError(f"the results' legs name {len(named)} vehicle runs but {len(runs)} were given: "
                          "pass Costed.runs with Costed.results")
     if len(results) + 2 > MAX_ROWS:
