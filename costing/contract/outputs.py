@@ -6,11 +6,14 @@ workbooks (costing.compare, the tests) find columns by these header names, never
 from __future__ import annotations
 
 # The output sheets, in the order they appear. Legs continue on "Legs 2", "Legs 3", ... at the
-# spreadsheet's row limit; Scenario comparison, Comparison, Trade-offs, Lane usage, Charts and Map
-# appear only when the run has them.
+# spreadsheet's row limit (Scenario legs on "Scenario legs 2", ...); Scenario comparison, Scenario
+# shipments, Scenario legs, Comparison, Trade-offs, Lane usage, Charts and Map appear only when the
+# run has them.
 SUMMARY = "Summary"
 SCENARIO_COMPARISON = "Scenario comparison"
 LEGS = "Legs"
+SCENARIO_SHIPMENTS = "Scenario shipments"
+SCENARIO_LEGS = "Scenario legs"
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
@@ -18,7 +21,8 @@ CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
-SHEETS = (SUMMARY, SCENARIO_COMPARISON, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
+SHEETS = (SUMMARY, SCENARIO_COMPARISON, LEGS, SCENARIO_SHIPMENTS, SCENARIO_LEGS, COMPARISON, TRADE_OFFS,
+          LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -135,7 +139,7 @@ HEADER_NOTES = {
                   "published g CO2e per tonne-km for the mode (see the Run sheet).",
     "co2e_kg": "fuel: vehicles x km x fuel_l_per_100km / 100 x co2e_kg_per_litre; default intensity: "
                "weight_t x km x intensity_g_per_tkm / 1000. Planning estimate.",
-    "subtotal": "Sum of the shipment's leg_cost on the Legs sheet.",
+    "subtotal": "Sum of the shipment's leg_cost on the Legs sheet (a scenario's: on Scenario legs).",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "subtotal + min_charge_uplift",
@@ -170,3 +174,19 @@ LANE_COLUMNS = [
 
 SCENARIO_COMPONENTS = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
                        "handling_cost", "trip_cost", "min_charge_uplift"]
+
+
+# Scenario legs: every scenario's legs on one long sheet, keyed by the scenario's name in a first
+# column, then the Legs columns with the same formulas (costing.sheets.legs.write_legs' `key`).
+SCENARIO_KEY = "scenario"
+SCENARIO_LEG_COLUMNS = [(SCENARIO_KEY, 14, "text"), *LEG_COLUMNS]
+
+# Scenario shipments: one row per scenario and shipment, its totals summed from its Scenario legs
+# rows by the Summary's formulas (subtotal, min_charge_uplift, total_cost).
+SCENARIO_SHIPMENT_COLUMNS = [
+    (SCENARIO_KEY, 14, "text"), ("shipment_id", 12, "text"), ("status", 9, "text"),
+    ("origin", 10, "text"), ("destination", 11, "text"), ("vehicle", 12, "text"), ("vehicles", 8, "int"),
+    ("legs", 6, "int"), ("distance_km", 11, "km"), ("subtotal", 12, "money"), ("min_charge", 10, "money"),
+    ("min_charge_uplift", 11, "money"), ("total_cost", 12, "money"), ("co2e_kg", 10, "kg"),
+    ("route", 40, "text"), ("note", 60, "text"),
+]

@@ -1,24 +1,52 @@
 """The Scenario comparison sheet: totals per scenario and cost component against the base case,
-and per shipment."""
+and per shipment. Every scenario figure is a live formula over the scenario's rows on Scenario legs
+and Scenario shipments (written by costing.sheets.scenario_legs and scenario_shipments with the
+base case's formulas), its value cached; the base row refers to the Summary TOTAL row."""
 
 from __future__ import annotations
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import SCENARIO_COMPONENTS, SUM
+from costing.contract.outputs import (
+    SCENARIO_COMPONENTS,
+    SCENARIO_LEG_COLUMNS,
+    SCENARIO_SHIPMENT_COLUMNS,
+    SCENARIO_SHIPMENTS,
+    SUM,
+    SUMMED,
+)
 from costing.money import round_money
 from costing.price.cost import ROUTED, CostedShipment
-from costing.sheets.formats import Writer, cell_text, component, route_text
+from costing.sheets.formats import Writer, cell_text, component, route_text, sheet_ref
+
+_LEG_COL = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_LEG_COLUMNS)}
+_SHIP_COL = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
 
 
-def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: int) -> tuple[int, int]:
+def keyed_sum(sheets: dict[str, int], col: str, key_cell: str) -> str:
+    """Formula text: the sum of column `col` over the rows of `sheets` (name -> last data row,
+    1-based) whose first column (the scenario) equals `key_cell`. An exact comparison inside
+    SUMPRODUCT, not SUMIFS, so a name holding * ? or ~ is not read as a wildcard."""
+    terms = []
+    for name, last in sheets.items():
+        sh, n = sheet_ref(name), max(last, 2)
+        terms.append(f"SUMPRODUCT(({sh}!$A$2:$A${n}={key_cell})*{sh}!${col}$2:${col}${n})")
+    return "+".join(terms) or "0"
+
+
+def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: int, legs_last: dict[str, int],
+                    ship_rows: dict[tuple[str, str], int], ship_last: int) -> tuple[int, int]:
     """Totals per scenario and cost component, then per-shipment totals and deltas and which
-    shipments changed route. The base row refers to the Summary TOTAL row; scenario figures are
-    the tool's costing of each scenario's changed inputs (their legs are not in this workbook)."""
+    shipments changed route. The base row refers to the Summary TOTAL row; a scenario row sums
+    that scenario's rows on Scenario legs (`legs_last`: sheet -> last data row) and Scenario
+    shipments (`ship_rows`: (scenario, shipment id) -> row; `ship_last`: its last data row).
+    Returns the first and last rows (0-based) of the scenario totals."""
     f = w.f
     cur = w.model.settings.currency
     ws.write_string(0, 0, "Scenario totals by cost component. The base row is the Summary TOTAL row; "
-                    "each scenario row is the same shipments costed with that scenario's changes.", f["bold"])
+                    "each scenario row is the same shipments costed with that scenario's changes, summed "
+                    "from its legs on the Scenario legs sheet and its shipments on Scenario shipments.",
+                    f["bold"])
     head = (["scenario", "routed"] + SCENARIO_COMPONENTS
             + ["total_cost", "delta_vs_base", "delta_pct", "co2e_kg", "rerouted", "changes"])
     for c, h in enumerate(head):
@@ -30,6 +58,14 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
     letter = {h: xl_col_to_name(i) for h, i in col.items()}
     pct = w.wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"})
     t = last_row + 2  # Summary TOTAL row, 1-based
+    ships = {SCENARIO_SHIPMENTS: ship_last}
+
+    def scenario_formula(comp: str, key_cell: str) -> str:
+        """A scenario's total of `comp`: its legs' column(s) or its shipments' column, summed."""
+        if comp in ("min_charge_uplift", "total_cost"):
+            return w.round_f(keyed_sum(ships, _SHIP_COL[comp], key_cell))
+        expr = "+".join(keyed_sum(legs_last, _LEG_COL[lc], key_cell) for lc in SUMMED[comp])
+        return expr if comp == "co2e_kg" else w.round_f(expr)
 
     def figures(results):
         routed = [r for r in results if r.status == ROUTED]
@@ -51,13 +87,19 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
         x = r + 1
         ws.write_string(r, col["scenario"], cell_text(name))
         ws.write_string(r, col["changes"], cell_text(changes))
-        ws.write_number(r, col["routed"], fig["routed"])
+        key_cell = f"$A${x}"
+        if i == 0:
+            ws.write_number(r, col["routed"], fig["routed"])
+        else:
+            sh, n, st = sheet_ref(SCENARIO_SHIPMENTS), max(ship_last, 2), _SHIP_COL["status"]
+            ws.write_formula(r, col["routed"], f"=SUMPRODUCT(({sh}!$A$2:$A${n}={key_cell})"
+                             f'*({sh}!${st}$2:${st}${n}="{ROUTED}"))', f["int"], fig["routed"])
         for comp in SCENARIO_COMPONENTS + ["total_cost", "co2e_kg"]:
             fmt = f["kg"] if comp == "co2e_kg" else f["money"]
             if i == 0:
                 ws.write_formula(r, col[comp], f"=Summary!{xl_col_to_name(SUM[comp])}{t}", fmt, fig[comp])
             else:
-                ws.write_number(r, col[comp], fig[comp], fmt)
+                ws.write_formula(r, col[comp], "=" + scenario_formula(comp, key_cell), fmt, fig[comp])
         b = first + 1
         tot, dv = letter["total_cost"], letter["delta_vs_base"]
         delta = round_money(fig["total_cost"] - base_fig["total_cost"], w.places)
@@ -77,6 +119,7 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
     for c, h in enumerate(heads):
         ws.write_string(r0, c, cell_text(h)[:255], f["head"])
     by_id = [{res.shipment.shipment_id: res for res in run.results} for run in runs]
+    ship_sh, ship_tc = sheet_ref(SCENARIO_SHIPMENTS), _SHIP_COL["total_cost"]
     summary_row = {res.shipment.shipment_id: i + 2 for i, res in enumerate(base)}
     tc = xl_col_to_name(SUM["total_cost"])
     for i, res in enumerate(base):
@@ -94,7 +137,8 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
             if alt is None or alt.status != ROUTED:
                 ws.write_string(r, c, alt.status if alt else "")
                 continue
-            ws.write_number(r, c, alt.total_cost, f["money"])
+            row = ship_rows[(runs[k].scenario.name, sid)]
+            ws.write_formula(r, c, f"={ship_sh}!{ship_tc}{row}", f["money"], alt.total_cost)
             if res.status == ROUTED:
                 ws.write_formula(r, c + 1, "=" + w.round_f(f"{xl_col_to_name(c)}{x}-B{x}"), f["money"],
                                  round_money(alt.total_cost - res.total_cost, w.places))

@@ -1,0 +1,63 @@
+"""The Scenario shipments sheet: one row per scenario and shipment, its totals summed by formula
+from its rows on Scenario legs with the Summary's own formulas (subtotal, min_charge_uplift,
+total_cost), values cached; the Scenario comparison sheet adds these rows up."""
+
+from __future__ import annotations
+
+from xlsxwriter.utility import xl_col_to_name
+
+from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COLUMNS
+from costing.price.cost import ROUTED
+from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value
+
+COL = {name: i for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
+KIND = {name: kind for name, _w, kind in SCENARIO_SHIPMENT_COLUMNS}
+
+
+def write_scenario_shipments(w: Writer, ws, runs, ranges) -> tuple[dict[tuple[str, str], int], int]:
+    """One row per scenario run (costing.plan.analysis.ScenarioRun) and shipment, in scenario
+    order. `ranges`: (scenario, shipment id) -> (Scenario legs sheet, first row, last row), as
+    costing.sheets.scenario_legs.write_scenario_legs returns. Returns (scenario, shipment id) ->
+    its row (1-based) and the last data row (1-based)."""
+    w.header(ws, SCENARIO_SHIPMENT_COLUMNS)
+    f = w.f
+    S = {name: xl_col_to_name(i) for name, i in COL.items()}
+    L = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_LEG_COLUMNS)}
+    rows: dict[tuple[str, str], int] = {}
+    r = 0
+    for run in runs:
+        name = run.scenario.name
+        for res in run.results:
+            r += 1
+            x = r + 1
+            s = res.shipment
+            rows[(name, s.shipment_id)] = x
+            for col, value in (("scenario", name), ("shipment_id", s.shipment_id), ("status", res.status),
+                               ("origin", s.origin), ("destination", s.destination),
+                               ("vehicle", res.vehicle), ("note", res.message)):
+                ws.write_string(r, COL[col], cell_text(value))
+            if res.status != ROUTED or not res.legs:
+                ws.write_number(r, COL["legs"], 0, f["int"])
+                continue
+            sheet, a, b = ranges[(name, s.shipment_id)]
+            sh = sheet_ref(sheet)
+
+            def over(leg_col: str, sh=sh, a=a, b=b) -> str:
+                return f"{sh}!{L[leg_col]}{a}:{L[leg_col]}{b}"
+
+            ws.write_number(r, COL["vehicles"], res.vehicles, f["int"])
+            ws.write_formula(r, COL["legs"], f"=COUNT({over('seq')})", f["int"], len(res.legs))
+            for col, formula in (("distance_km", f"SUM({over('distance_km')})"),
+                                 ("subtotal", w.round_f(f"SUM({over('leg_cost')})")),
+                                 ("co2e_kg", f"SUM({over('co2e_kg')})")):
+                ws.write_formula(r, COL[col], "=" + formula, f[KIND[col]], shipment_value(res, col))
+            ws.write_number(r, COL["min_charge"], res.min_charge, f["money"])
+            ws.write_formula(r, COL["min_charge_uplift"],
+                             "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
+                             f["money"], res.min_charge_uplift)
+            ws.write_formula(r, COL["total_cost"],
+                             "=" + w.round_f(f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}"),
+                             f["money"], res.total_cost)
+            ws.write_string(r, COL["route"], cell_text(route_text(res)))
+    ws.autofilter(0, 0, max(r, 1), len(SCENARIO_SHIPMENT_COLUMNS) - 1)
+    return rows, r + 1
