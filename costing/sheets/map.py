@@ -155,14 +155,23 @@ def place_labels(fig, ax, pos: dict[str, tuple[float, float]], labels: dict[str,
     """Place depot labels in priority `order` so that no two overlap (boxes measured with the
     renderer), none covers another depot's marker and all stay inside the axes. Returns (placed
     Text artists, ids left unlabelled). Call after the axes' limits and aspect are final."""
-    from matplotlib.transforms import Bbox, offset_copy
+    import numpy as np
+    from matplotlib.transforms import offset_copy
 
     renderer = fig.canvas.get_renderer()
     inside = ax.get_window_extent(renderer)
     marker_r = 3.5 * fig.dpi / 72
-    markers = {d: ax.transData.transform(p) for d, p in pos.items()}
-    marker_box = {d: Bbox.from_extents(x - marker_r, y - marker_r, x + marker_r, y + marker_r)
-                  for d, (x, y) in markers.items()}
+    ids = list(pos)
+    at = {d: i for i, d in enumerate(ids)}
+    centres = ax.transData.transform(np.array([pos[d] for d in ids], dtype=float))
+    mx, my = centres[:, 0], centres[:, 1]
+
+    def covers_a_marker(box, own: int) -> bool:
+        hit = ((mx + marker_r > box.x0) & (mx - marker_r < box.x1)
+               & (my + marker_r > box.y0) & (my - marker_r < box.y1))
+        hit[own] = False
+        return bool(hit.any())
+
     placed, boxes, skipped = [], [], []
     style = {"fontsize": LABEL_FONT_PT, "zorder": 6, "color": "#1A1A1A", "clip_on": False,
              "bbox": {"boxstyle": "square,pad=0.15", "fc": "white", "ec": "none", "alpha": 0.7}}
@@ -182,7 +191,7 @@ def place_labels(fig, ax, pos: dict[str, tuple[float, float]], labels: dict[str,
                 ok = (box.x0 >= inside.x0 and box.x1 <= inside.x1 and box.y0 >= inside.y0
                       and box.y1 <= inside.y1
                       and not any(_overlaps(box, b) for b in boxes)
-                      and not any(_overlaps(box, mb, 0.0) for o, mb in marker_box.items() if o != d))
+                      and not covers_a_marker(box, at[d]))
                 if not ok:
                     t.remove()
                     continue
@@ -190,7 +199,7 @@ def place_labels(fig, ax, pos: dict[str, tuple[float, float]], labels: dict[str,
                 placed.append(t)
                 boxes.append(box)
                 if leader:
-                    px, py = markers[d]
+                    px, py = centres[at[d]]
                     px, py = px + dx * fig.dpi / 72, py + dy * fig.dpi / 72
                     ax_pt = ax.transData.inverted().transform((px, py))
                     ax.plot([x, ax_pt[0]], [y, ax_pt[1]], color="#555555", lw=0.5, zorder=5)
