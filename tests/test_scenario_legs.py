@@ -71,6 +71,14 @@ def test_scenario_legs_hold_each_scenarios_rates_and_hand_worked_surcharges(cli,
                 if (g["scenario"], g["shipment_id"]) == (s["scenario"], s["shipment_id"])]
         assert s["subtotal"] == pytest.approx(sum(mine), abs=0.005)
         assert s["total_cost"] == pytest.approx(s["subtotal"] + s["min_charge_uplift"], abs=0.005)
+    # against the base case (hand-worked in tests/test_cost_hand.py and test_finance_sheets.py):
+    # with L3 closed S1 costs 384.00 instead of 370.00 and S2 1152.00 instead of 1110.00
+    per = {(s["scenario"], s["shipment_id"]): s for s in ships}
+    assert per[("L3_closed", "S1")]["delta_vs_base"] == pytest.approx(14.00)
+    assert per[("L3_closed", "S2")]["delta_vs_base"] == pytest.approx(42.00)
+    assert per[("L3_closed", "S1")]["route_vs_base"] == "changed"
+    assert per[("fuel_up", "S1")]["delta_vs_base"] == pytest.approx(10.26)
+    assert per[("fuel_up", "S2")]["route_vs_base"] == "same"
     # the comparison's scenario rows are formulas (not pasted numbers) over those two sheets
     formulas = openpyxl.load_workbook(out)["Scenario comparison"]
     head = [c.value for c in formulas[3]]

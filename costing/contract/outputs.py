@@ -143,6 +143,9 @@ HEADER_NOTES = {
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "subtotal + min_charge_uplift",
+    "base_total_cost": "The shipment's total_cost on the Summary sheet (the input as given).",
+    "delta_vs_base": "total_cost - base_total_cost",
+    "route_vs_base": "same or changed: the scenario's route against the Summary's.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }
@@ -182,11 +185,19 @@ SCENARIO_KEY = "scenario"
 SCENARIO_LEG_COLUMNS = [(SCENARIO_KEY, 14, "text"), *LEG_COLUMNS]
 
 # Scenario shipments: one row per scenario and shipment, its totals summed from its Scenario legs
-# rows by the Summary's formulas (subtotal, min_charge_uplift, total_cost).
+# rows by the Summary's formulas (subtotal, min_charge_uplift, total_cost), against the base case
+# (its Summary total_cost, the difference, and whether the route is the same or changed).
 SCENARIO_SHIPMENT_COLUMNS = [
     (SCENARIO_KEY, 14, "text"), ("shipment_id", 12, "text"), ("status", 9, "text"),
     ("origin", 10, "text"), ("destination", 11, "text"), ("vehicle", 12, "text"), ("vehicles", 8, "int"),
     ("legs", 6, "int"), ("distance_km", 11, "km"), ("subtotal", 12, "money"), ("min_charge", 10, "money"),
-    ("min_charge_uplift", 11, "money"), ("total_cost", 12, "money"), ("co2e_kg", 10, "kg"),
+    ("min_charge_uplift", 11, "money"), ("total_cost", 12, "money"), ("base_total_cost", 12, "money"),
+    ("delta_vs_base", 12, "money"), ("route_vs_base", 9, "text"), ("co2e_kg", 10, "kg"),
     ("route", 40, "text"), ("note", 60, "text"),
 ]
+
+# Scenario comparison: the header of the scenario totals (one row per scenario, the base first);
+# what a reader needs first (the change, the total and the difference) before the components.
+# (What each scenario changes is listed below the totals, one change a row.)
+SCENARIO_TOTAL_COLUMNS = (["scenario", "routed", "rerouted", "total_cost", "delta_vs_base", "delta_pct",
+                           "co2e_kg"] + SCENARIO_COMPONENTS)

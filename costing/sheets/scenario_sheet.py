@@ -1,7 +1,8 @@
-"""The Scenario comparison sheet: totals per scenario and cost component against the base case,
-and per shipment. Every scenario figure is a live formula over the scenario's rows on Scenario legs
-and Scenario shipments (written by costing.sheets.scenario_legs and scenario_shipments with the
-base case's formulas), its value cached; the base row refers to the Summary TOTAL row."""
+"""The Scenario comparison sheet: totals per scenario and cost component against the base case
+(per shipment: the Scenario shipments sheet). Every scenario figure is a live formula over the
+scenario's rows on Scenario legs and Scenario shipments (written by costing.sheets.scenario_legs
+and scenario_shipments with the base case's formulas), its value cached; the base row refers to
+the Summary TOTAL row."""
 
 from __future__ import annotations
 
@@ -12,6 +13,7 @@ from costing.contract.outputs import (
     SCENARIO_LEG_COLUMNS,
     SCENARIO_SHIPMENT_COLUMNS,
     SCENARIO_SHIPMENTS,
+    SCENARIO_TOTAL_COLUMNS,
     SUM,
     SUMMED,
 )
@@ -35,25 +37,21 @@ def keyed_sum(sheets: dict[str, int], col: str, key_cell: str) -> str:
 
 
 def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: int, legs_last: dict[str, int],
-                    ship_rows: dict[tuple[str, str], int], ship_last: int) -> tuple[int, int]:
-    """Totals per scenario and cost component, then per-shipment totals and deltas and which
-    shipments changed route. The base row refers to the Summary TOTAL row; a scenario row sums
-    that scenario's rows on Scenario legs (`legs_last`: sheet -> last data row) and Scenario
-    shipments (`ship_rows`: (scenario, shipment id) -> row; `ship_last`: its last data row).
-    Returns the first and last rows (0-based) of the scenario totals."""
+                    ship_last: int) -> tuple[int, int]:
+    """Totals per scenario and cost component against the base case, and how many shipments
+    changed route (each shipment's figures are on Scenario shipments). The base row refers to the
+    Summary TOTAL row; a scenario row sums that scenario's rows on Scenario legs (`legs_last`:
+    sheet -> last data row) and Scenario shipments (`ship_last`: its last data row). Returns the
+    first and last rows (0-based) of the scenario totals."""
     f = w.f
-    cur = w.model.settings.currency
     ws.write_string(0, 0, "Scenario totals by cost component. The base row is the Summary TOTAL row; "
                     "each scenario row is the same shipments costed with that scenario's changes, summed "
-                    "from its legs on the Scenario legs sheet and its shipments on Scenario shipments.",
+                    "from its legs on the Scenario legs sheet and its shipments on Scenario shipments "
+                    "(each shipment against the base case there).",
                     f["bold"])
-    head = (["scenario", "routed"] + SCENARIO_COMPONENTS
-            + ["total_cost", "delta_vs_base", "delta_pct", "co2e_kg", "rerouted", "changes"])
+    head = SCENARIO_TOTAL_COLUMNS
     for c, h in enumerate(head):
         ws.write_string(2, c, h, f["head"])
-    ws.set_column(0, 0, 18)
-    ws.set_column(1, len(head) - 2, 13)
-    ws.set_column(len(head) - 1, len(head) - 1, 70)
     col = {h: i for i, h in enumerate(head)}
     letter = {h: xl_col_to_name(i) for h, i in col.items()}
     pct = w.wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"})
@@ -77,16 +75,15 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
 
     base_fig = figures(base)
     base_routes = {r.shipment.shipment_id: route_text(r) for r in base}
-    rows = [("base", "(the input as given)", base, base_fig)]
+    rows = [("base", ["(the input as given)"], base, base_fig)]
     for run in runs:
-        rows.append((run.scenario.name, "; ".join(ch.describe() for ch in run.scenario.changes),
+        rows.append((run.scenario.name, [ch.describe() for ch in run.scenario.changes],
                      run.results, figures(run.results)))
     first = 3
-    for i, (name, changes, results, fig) in enumerate(rows):
+    for i, (name, _changes, results, fig) in enumerate(rows):
         r = first + i
         x = r + 1
         ws.write_string(r, col["scenario"], cell_text(name))
-        ws.write_string(r, col["changes"], cell_text(changes))
         key_cell = f"$A${x}"
         if i == 0:
             ws.write_number(r, col["routed"], fig["routed"])
@@ -109,39 +106,12 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
         rerouted = sum(1 for res in results if route_text(res) != base_routes.get(res.shipment.shipment_id))
         ws.write_number(r, col["rerouted"], rerouted)
     last_total = first + len(rows) - 1
-    # per shipment
-    r0 = last_total + 3
-    ws.write_string(r0 - 1, 0, f"Per shipment: total_cost ({cur}) under each scenario, the change from "
-                    "base, and whether the route changed.", f["bold"])
-    heads = ["shipment_id", "base_total"]
-    for run in runs:
-        heads += [f"{run.scenario.name}: total", f"{run.scenario.name}: delta", f"{run.scenario.name}: route"]
-    for c, h in enumerate(heads):
-        ws.write_string(r0, c, cell_text(h)[:255], f["head"])
-    by_id = [{res.shipment.shipment_id: res for res in run.results} for run in runs]
-    ship_sh, ship_tc = sheet_ref(SCENARIO_SHIPMENTS), _SHIP_COL["total_cost"]
-    summary_row = {res.shipment.shipment_id: i + 2 for i, res in enumerate(base)}
-    tc = xl_col_to_name(SUM["total_cost"])
-    for i, res in enumerate(base):
-        r = r0 + 1 + i
-        x = r + 1
-        sid = res.shipment.shipment_id
-        ws.write_string(r, 0, cell_text(sid))
-        if res.status == ROUTED:
-            ws.write_formula(r, 1, f"=Summary!{tc}{summary_row[sid]}", f["money"], res.total_cost)
-        else:
-            ws.write_string(r, 1, res.status)
-        for k, run_ids in enumerate(by_id):
-            alt = run_ids.get(sid)
-            c = 2 + 3 * k
-            if alt is None or alt.status != ROUTED:
-                ws.write_string(r, c, alt.status if alt else "")
-                continue
-            row = ship_rows[(runs[k].scenario.name, sid)]
-            ws.write_formula(r, c, f"={ship_sh}!{ship_tc}{row}", f["money"], alt.total_cost)
-            if res.status == ROUTED:
-                ws.write_formula(r, c + 1, "=" + w.round_f(f"{xl_col_to_name(c)}{x}-B{x}"), f["money"],
-                                 round_money(alt.total_cost - res.total_cost, w.places))
-            ws.write_string(r, c + 2, "changed" if route_text(alt) != base_routes[sid] else "same")
+    # what each scenario changes, a line each below the totals (a cell alone on its row, so a long
+    # list wraps across the columns instead of widening the first)
+    r = last_total + 2
+    ws.write_string(r, 0, "What each scenario changes in the input (the Scenarios sheet):", f["bold"])
+    for name, changes, _results, _fig in rows[1:]:
+        r += 1
+        ws.write_string(r, 0, cell_text(f"{name}: {'; '.join(changes)}"))
     ws.freeze_panes(3, 1)
     return first, last_total

@@ -1,12 +1,14 @@
 """The Scenario shipments sheet: one row per scenario and shipment, its totals summed by formula
 from its rows on Scenario legs with the Summary's own formulas (subtotal, min_charge_uplift,
-total_cost), values cached; the Scenario comparison sheet adds these rows up."""
+total_cost), then the base case's total (from the Summary), the difference and whether the route
+changed; values cached. The Scenario comparison sheet adds these rows up."""
 
 from __future__ import annotations
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COLUMNS
+from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COLUMNS, SUM
+from costing.money import round_money
 from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value
 
@@ -14,16 +16,19 @@ COL = {name: i for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
 KIND = {name: kind for name, _w, kind in SCENARIO_SHIPMENT_COLUMNS}
 
 
-def write_scenario_shipments(w: Writer, ws, runs, ranges) -> tuple[dict[tuple[str, str], int], int]:
+def write_scenario_shipments(w: Writer, ws, runs, ranges, base) -> tuple[dict[tuple[str, str], int], int]:
     """One row per scenario run (costing.plan.analysis.ScenarioRun) and shipment, in scenario
     order. `ranges`: (scenario, shipment id) -> (Scenario legs sheet, first row, last row), as
-    costing.sheets.scenario_legs.write_scenario_legs returns. Returns (scenario, shipment id) ->
-    its row (1-based) and the last data row (1-based)."""
+    costing.sheets.scenario_legs.write_scenario_legs returns; `base`: the base case's results in
+    Summary order (row i + 2), for each shipment's base total and route. Returns (scenario,
+    shipment id) -> its row (1-based) and the last data row (1-based)."""
     w.header(ws, SCENARIO_SHIPMENT_COLUMNS)
     f = w.f
     S = {name: xl_col_to_name(i) for name, i in COL.items()}
     L = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_LEG_COLUMNS)}
     rows: dict[tuple[str, str], int] = {}
+    summary = {res.shipment.shipment_id: (i + 2, res) for i, res in enumerate(base)}
+    base_total = xl_col_to_name(SUM["total_cost"])
     r = 0
     for run in runs:
         name = run.scenario.name
@@ -59,5 +64,15 @@ def write_scenario_shipments(w: Writer, ws, runs, ranges) -> tuple[dict[tuple[st
                              "=" + w.round_f(f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}"),
                              f["money"], res.total_cost)
             ws.write_string(r, COL["route"], cell_text(route_text(res)))
+            row, was = summary.get(s.shipment_id, (None, None))
+            if was is None or was.status != ROUTED:
+                continue
+            ws.write_formula(r, COL["base_total_cost"], f"=Summary!{base_total}{row}", f["money"],
+                             was.total_cost)
+            ws.write_formula(r, COL["delta_vs_base"],
+                             "=" + w.round_f(f"{S['total_cost']}{x}-{S['base_total_cost']}{x}"), f["money"],
+                             round_money(res.total_cost - was.total_cost, w.places))
+            same = route_text(res) == route_text(was)
+            ws.write_string(r, COL["route_vs_base"], "same" if same else "changed")
     ws.autofilter(0, 0, max(r, 1), len(SCENARIO_SHIPMENT_COLUMNS) - 1)
     return rows, r + 1

@@ -74,9 +74,10 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     scenario_rows = None
     if scenario_runs:
         scenario_ranges, scenario_legs_last = write_scenario_legs(w, scenario_legs_sheets, scenario_runs)
-        ship_rows, ship_last = write_scenario_shipments(w, scenario_ships_ws, scenario_runs, scenario_ranges)
+        _rows, ship_last = write_scenario_shipments(w, scenario_ships_ws, scenario_runs, scenario_ranges,
+                                                    results)
         scenario_rows = write_scenarios(w, sheets["Scenarios"], results, scenario_runs, last_row,
-                                        scenario_legs_last, ship_rows, ship_last)
+                                        scenario_legs_last, ship_last)
     if "Comparison" in sheets:
         write_comparison(w, sheets["Comparison"], results, analysis)
     if "Trade-offs" in sheets:
