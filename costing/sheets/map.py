@@ -38,7 +38,11 @@ MARKER_COLOURS = {"customer": ("white", "#222222")}
 KIND_RANK = {"hub": 0, "terminal": 1, "port": 1, "depot": 2, "customer": 3}
 
 LABEL_LIMIT = 80  # depots labelled at most, by priority (routed tonnes, then kind)
-LABEL_FONT_PT = 6.5
+LABEL_FONT_PT = 7
+# the picture: inches at 100 dots an inch, shown at its size on the Map sheet and printed on one
+# landscape A4 page at about 90 % (labels at 6 pt or more)
+FIG_W, FIG_H = 11.0, 7.4
+MAP_BOX = (0.065, 0.085, 0.68, 0.85)  # the map's axes in the figure (left, bottom, width, height)
 NAME_CHARS = 24  # a depot's name on the map is cut to this many characters
 # where a label may go, beside its depot: (direction x, direction y, horizontal, vertical alignment)
 _SIDES = [(1, 0, "left", "center"), (1, 1, "left", "bottom"), (1, -1, "left", "top"),
@@ -241,12 +245,12 @@ def map_figure(model: Model, lanes: list[LaneTotals], title: str):
     xs, ys = [p[0] for p in pos.values()], [p[1] for p in pos.values()]
     mid_lat = (min(ys) + max(ys)) / 2
     aspect = 1 / max(0.2, math.cos(math.radians(mid_lat)))
-    fig = plt.figure(figsize=(12.5, 8.5), dpi=100)
-    box = (0.06, 0.08, 0.68, 0.84)
+    fig = plt.figure(figsize=(FIG_W, FIG_H), dpi=100)
+    box = MAP_BOX
     ax = fig.add_axes(box)
     # limits that hold every depot with a margin and give the axes box the aspect: one degree of
     # latitude drawn `aspect` times as long as one degree of longitude
-    w_px, h_px = box[2] * 12.5, box[3] * 8.5
+    w_px, h_px = box[2] * FIG_W, box[3] * FIG_H
     pad = 0.06 * max(max(xs) - min(xs), (max(ys) - min(ys)) * aspect, 0.05)
     dx = max(max(xs) - min(xs) + 2 * pad, (max(ys) - min(ys) + 2 * pad / aspect) * aspect * w_px / h_px)
     dy = dx * h_px / (aspect * w_px)

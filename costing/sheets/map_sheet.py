@@ -11,4 +11,4 @@ def write_map(w: Writer, ws, png: bytes) -> None:
 
     ws.write_string(0, 0, "Lane network and routed tonnes (line width), drawn from depot coordinates "
                     "over coarse land and borders for orientation.", w.f["bold"])
-    ws.insert_image(2, 0, "network-map.png", {"image_data": io.BytesIO(png), "x_scale": 0.9, "y_scale": 0.9})
+    ws.insert_image(2, 0, "network-map.png", {"image_data": io.BytesIO(png)})
