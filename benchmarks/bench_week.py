@@ -31,8 +31,9 @@ import pandas as pd
 from benchmarks.bench_workbook import make_input
 
 FLOOR_COLUMNS = 15
-SHEET_WRITERS = ("write_legs", "write_summary", "write_scenarios", "write_comparison", "write_tradeoffs",
-                 "write_lane_usage", "write_charts", "write_map", "write_problems", "write_run")
+SHEET_WRITERS = ("write_legs", "write_summary", "write_scenarios", "write_scenario_legs",
+                 "write_scenario_shipments", "write_comparison", "write_tradeoffs", "write_lane_usage",
+                 "write_charts", "write_map", "write_problems", "write_run")
 
 
 def floor(inp: str, out: str, rows: int) -> tuple[float, float]:

@@ -31,3 +31,5 @@ def test_demo_sheets_and_headers_follow_the_output_contract(tmp_path):
     assert header == [name for name, _w, _k in outputs.SCENARIO_LEG_COLUMNS]
     header = [c.value for c in next(wb["Scenario shipments"].iter_rows(min_row=1, max_row=1))]
     assert header == [name for name, _w, _k in outputs.SCENARIO_SHIPMENT_COLUMNS]
+    header = [c.value for c in next(wb["Scenario comparison"].iter_rows(min_row=3, max_row=3))]
+    assert header[:len(outputs.SCENARIO_TOTAL_COLUMNS)] == outputs.SCENARIO_TOTAL_COLUMNS
