@@ -138,3 +138,25 @@ def test_libreoffice_recalculates_the_scenario_sheets_to_the_cached_values(cli, 
     scenario_formulas = sum(1 for name in ("Scenario comparison", "Scenario shipments", "Scenario legs")
                             for row in formulas[name].iter_rows() for c in row if c.data_type == "f")
     assert scenario_formulas > 50 and checked > scenario_formulas
+
+
+def test_a_scenario_that_routes_nothing_and_streamed_output(cli, make_input, tmp_path, monkeypatch):
+    # every lane closed in one scenario: no scenario legs at all for it; the sums are 0 and the
+    # other scenario is unaffected. Written streamed (rows to disk as they come), as large runs are.
+    import costing.sheets.legs as legs
+
+    monkeypatch.setattr(legs, "STREAMING_LEGS", 0)
+    data = _scenario_data()
+    data["Scenarios"] += [{"scenario": "all_closed", "sheet": "Lanes", "key": k, "column": "open",
+                           "change": "=no"} for k in ("L1", "L2", "L3")]
+    out = tmp_path / "o.xlsx"
+    code, _, err = cli("run", make_input(data), "-o", str(out))
+    assert code == 0, err
+    wb = openpyxl.load_workbook(out, data_only=True)
+    totals = _totals_block(wb["Scenario comparison"])
+    assert totals["all_closed"]["routed"] == 0 and totals["all_closed"]["total_cost"] == 0
+    assert totals["fuel_up"]["fuel_surcharge"] == pytest.approx(41.04)  # hand-worked above
+    _, legs_rows = _table(wb["Scenario legs"])
+    assert not [g for g in legs_rows if g["scenario"] == "all_closed"]
+    _, ships = _table(wb["Scenario shipments"])
+    assert {s["status"] for s in ships if s["scenario"] == "all_closed"} == {"no_route"}
