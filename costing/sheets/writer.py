@@ -74,6 +74,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     scenario_rows = None
     if scenario_runs:
         scenario_ranges, scenario_legs_last = write_scenario_legs(w, scenario_legs_sheets, scenario_runs)
+        if len(scenario_legs_sheets) > 1:
+            info.extra["Scenario legs sheets"] = (f"{', '.join(n for n, _ws in scenario_legs_sheets)}: at "
+                                                  f"most {legs.LEGS_SHEET_ROWS:,} legs a sheet")
         _rows, ship_last = write_scenario_shipments(w, scenario_ships_ws, scenario_runs, scenario_ranges,
                                                     results)
         scenario_rows = write_scenarios(w, sheets["Scenarios"], results, scenario_runs, last_row,
