@@ -143,6 +143,8 @@ HEADER_NOTES = {
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "subtotal + min_charge_uplift",
+    "scenario": "The what-if scenario (Scenarios sheet of the input) these rows cost; the base case is on "
+                "Summary and Legs. Filter on it to see one scenario.",
     "base_total_cost": "The shipment's total_cost on the Summary sheet (the input as given).",
     "delta_vs_base": "total_cost - base_total_cost",
     "route_vs_base": "same or changed: the scenario's route against the Summary's.",
