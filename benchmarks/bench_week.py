@@ -32,6 +32,7 @@ from benchmarks.bench_workbook import make_input
 
 FLOOR_COLUMNS = 15
 SHEET_WRITERS = ("write_legs", "write_vehicle_runs", "write_summary", "write_scenarios",
+                 "write_scenario_legs", "write_scenario_shipments", "write_scenario_vehicle_runs",
                  "write_comparison", "write_tradeoffs", "write_lane_usage", "write_charts", "write_map",
                  "write_problems", "write_run")
 

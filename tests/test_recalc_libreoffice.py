@@ -40,7 +40,8 @@ def test_libreoffice_recalculation_with_legs_on_several_sheets(cli, tmp_path, mo
     monkeypatch.setattr(legs, "LEGS_SHEET_ROWS", 40)
     monkeypatch.chdir(tmp_path)
     assert cli("demo", "-o", "split.xlsx")[0] == 0
-    assert "Legs 2" in openpyxl.load_workbook("split.xlsx").sheetnames
+    names = openpyxl.load_workbook("split.xlsx").sheetnames
+    assert "Legs 2" in names and "Scenario legs 2" in names
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(tmp_path / "split.xlsx"), str(tmp_path / "recalc"))
     assert checked > 1000 and not mismatches, mismatches[:10]

@@ -145,3 +145,35 @@ def test_the_template_prints_in_a_handful_of_pages():
         assert ws.print_area, ws.title
         assert ws.print_title_rows == "$1:$1", ws.title
         assert ws.page_setup.fitToWidth in (1, None) and ws.sheet_properties.pageSetUpPr.fitToPage
+        # one page wide stays readable: the columns fit an A4 page (less 0.7 in margins) at 65 %
+        # or more, 11 pt printing at 7 pt or larger (widths as stored: characters incl. padding,
+        # 7 px each at 96 dpi; common practice, no source)
+        width_pt = sum(d.width * 7 * 0.75 for d in ws.column_dimensions.values() if d.width)
+        page_w = (841.9 if ws.page_setup.orientation == "landscape" else 595.3) - 100.8
+        assert page_w / width_pt >= 0.65, (ws.title, round(page_w / width_pt, 2))
+
+
+def test_template_columns_show_their_headers_and_values_whole():
+    # every header fits beside its filter button (bold, ~1.1 x a regular character, the button
+    # about 2.5 characters: common practice, no source), and the longest allowed value fits
+    wb = openpyxl.load_workbook(COMMITTED)
+    for spec in SHEETS:
+        ws = wb[spec.name]
+        for c, col in enumerate(spec.columns, start=1):
+            width = ws.column_dimensions[get_column_letter(c)].width
+            assert width >= len(col.name) * 1.1 + 2.5, (spec.name, col.name, width)
+            for choice in col.choices:
+                assert width >= len(choice) + 1, (spec.name, col.name, choice)
+    # the Settings notes wrap at whole words in rows tall enough for every line
+    ws = wb["Settings"]
+    note_width = ws.column_dimensions["C"].width
+    for row in ws.iter_rows(min_row=2):
+        note = row[2].value
+        if not note:
+            continue
+        lines, used, room = 1, 0, int(note_width - 2)
+        for word in note.split():
+            if used and used + 1 + len(word) > room:
+                lines, used = lines + 1, 0
+            used += len(word) + (1 if used else 0)
+        assert (ws.row_dimensions[row[0].row].height or 15) >= 15 * lines, (row[0].value, lines)

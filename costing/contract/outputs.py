@@ -6,12 +6,16 @@ workbooks (costing.compare, the tests) find columns by these header names, never
 from __future__ import annotations
 
 # The output sheets, in the order they appear. Legs continue on "Legs 2", "Legs 3", ... at the
-# spreadsheet's row limit; Scenario comparison, Comparison, Trade-offs, Lane usage, Charts and Map
-# appear only when the run has them.
+# spreadsheet's row limit (Scenario legs on "Scenario legs 2", ...); Scenario comparison, Scenario
+# shipments, Scenario legs, Comparison, Trade-offs, Lane usage, Charts and Map appear only when the
+# run has them.
 SUMMARY = "Summary"
 VEHICLE_RUNS = "Vehicle runs"
 SCENARIO_COMPARISON = "Scenario comparison"
 LEGS = "Legs"
+SCENARIO_SHIPMENTS = "Scenario shipments"
+SCENARIO_LEGS = "Scenario legs"
+SCENARIO_VEHICLE_RUNS = "Scenario vehicle runs"
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
@@ -19,8 +23,8 @@ CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
-SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP,
-          PROBLEMS, RUN)
+SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS,
+          SCENARIO_LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -173,7 +177,7 @@ HEADER_NOTES = {
                   "published g CO2e per tonne-km for the mode (see the Run sheet).",
     "co2e_kg": "fuel: vehicles x km x fuel_l_per_100km / 100 x co2e_kg_per_litre; default intensity: "
                "weight_t x km x intensity_g_per_tkm / 1000. Planning estimate.",
-    "subtotal": "Sum of the shipment's leg_cost on the Legs sheet.",
+    "subtotal": "Sum of the shipment's leg_cost on the Legs sheet (a scenario's: on Scenario legs).",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "allocated_cost + empty_return_cost, plus min_charge_uplift when the shipment shares "
@@ -207,6 +211,11 @@ HEADER_NOTES = {
     "fill_pallets": "pallets / (vehicles x pallet_places); blank when the card gives no pallet places.",
     "fill_volume": "volume_m3 / (vehicles x capacity_m3); blank when the card gives no volume.",
     "run_cost": "Sum of the run's cost components for its vehicles; shared among its loads by tonne-km.",
+    "scenario": "The what-if scenario (Scenarios sheet of the input) these rows cost; the base case is on "
+                "Summary and Legs. Filter on it to see one scenario.",
+    "base_total_cost": "The shipment's total_cost on the Summary sheet (the input as given).",
+    "delta_vs_base": "total_cost - base_total_cost",
+    "route_vs_base": "same or changed: the scenario's route against the Summary's.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }
@@ -238,4 +247,36 @@ LANE_COLUMNS = [
 
 
 SCENARIO_COMPONENTS = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
-                       "handling_cost", "trip_cost", "min_charge_uplift", "consolidation_saving"]
+                       "handling_cost", "trip_cost", "min_charge_uplift", "empty_return_alone",
+                       "consolidation_saving"]
+
+
+# Scenario legs: every scenario's legs on one long sheet, keyed by the scenario's name in a first
+# column, then the Legs columns with the same formulas (costing.sheets.legs.write_legs' `key`).
+SCENARIO_KEY = "scenario"
+SCENARIO_LEG_COLUMNS = [(SCENARIO_KEY, 14, "text"), *LEG_COLUMNS]
+
+# Scenario vehicle runs: every scenario's vehicle runs, keyed by the scenario's name in a first
+# column, then the Vehicle runs columns with the same formulas.
+SCENARIO_RUN_COLUMNS = [(SCENARIO_KEY, 14, "text"), *RUN_COLUMNS]
+
+# Scenario shipments: one row per scenario and shipment, its totals summed from its Scenario legs
+# rows by the Summary's formulas (subtotal, min_charge_uplift, standalone_cost, allocated_cost,
+# total_cost, saving), against the base case (its Summary total_cost, the difference, and whether
+# the route is the same or changed).
+SCENARIO_SHIPMENT_COLUMNS = [
+    (SCENARIO_KEY, 14, "text"), ("shipment_id", 12, "text"), ("status", 9, "text"),
+    ("origin", 10, "text"), ("destination", 11, "text"), ("vehicle", 12, "text"), ("vehicles", 8, "int"),
+    ("legs", 6, "int"), ("distance_km", 11, "km"), ("subtotal", 12, "money"), ("min_charge", 10, "money"),
+    ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"), ("standalone_cost", 12, "money"),
+    ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"), ("total_cost", 12, "money"),
+    ("saving", 11, "money"), ("travels_with", 16, "text"), ("base_total_cost", 12, "money"),
+    ("delta_vs_base", 12, "money"), ("route_vs_base", 9, "text"), ("co2e_kg", 10, "kg"),
+    ("route", 40, "text"), ("note", 60, "text"),
+]
+
+# Scenario comparison: the header of the scenario totals (one row per scenario, the base first);
+# what a reader needs first (the change, the total and the difference) before the components.
+# (What each scenario changes is listed below the totals, one change a row.)
+SCENARIO_TOTAL_COLUMNS = (["scenario", "routed", "rerouted", "total_cost", "delta_vs_base", "delta_pct",
+                           "co2e_kg"] + SCENARIO_COMPONENTS)

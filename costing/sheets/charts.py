@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from costing.contract.outputs import SCENARIO_COMPONENTS, SUM, TRADEOFF_COLUMNS
+from costing.contract.outputs import SCENARIO_COMPONENTS, SCENARIO_TOTAL_COLUMNS, SUM, TRADEOFF_COLUMNS
 from costing.sheets.formats import Writer, component
 
 # the charts sit in a grid of two columns beside the first chart's data
@@ -69,7 +69,7 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
         a, b = scenario_rows  # 0-based rows of the scenario totals on "Scenario comparison"
         name = "Scenario comparison"
         bar = w.wb.add_chart({"type": "bar"})
-        total_col = 2 + len(SCENARIO_COMPONENTS)  # columns: scenario, routed, components, total
+        total_col = SCENARIO_TOTAL_COLUMNS.index("total_cost")
         bar.add_series({"name": "total_cost", "categories": [name, a, 0, b, 0],
                         "values": [name, a, total_col, b, total_col],
                         "data_labels": {"value": True, "num_format": "#,##0"}})
@@ -80,9 +80,10 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
         bar.set_size({"width": CHART_W, "height": CHART_H})
         ws.insert_chart(*slots.pop(0), bar)
         stack = w.wb.add_chart({"type": "column", "subtype": "stacked"})
-        for k, comp in enumerate(SCENARIO_COMPONENTS):
+        at = {h: i for i, h in enumerate(SCENARIO_TOTAL_COLUMNS)}
+        for comp in SCENARIO_COMPONENTS:
             stack.add_series({"name": comp, "categories": [name, a, 0, b, 0],
-                              "values": [name, a, 2 + k, b, 2 + k]})
+                              "values": [name, a, at[comp], b, at[comp]]})
         stack.set_title({"name": "Cost by component per scenario"})
         stack.set_y_axis({"name": w.model.settings.currency, "num_format": "#,##0"})
         stack.set_x_axis({"name": "scenario"})

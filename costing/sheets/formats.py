@@ -138,6 +138,8 @@ def component(res: CostedShipment, name: str) -> float:
         return res.total_cost
     if name == "consolidation_saving":
         return -res.saving
+    if name == "empty_return_alone":
+        return res.empty_return_alone
     return shipment_value(res, name)
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import LEG, LEG_COLUMNS, RUN_COL, VEHICLE_RUNS
+from costing.contract.outputs import LEG, LEG_COLUMNS, LEGS, RUN_COL, VEHICLE_RUNS
 from costing.errors import OutputLimitError
 from costing.sheets.formats import MAX_ROWS, Writer, basis, cell_text, leg_value, sheet_ref
 
@@ -79,61 +79,83 @@ LEG_SPEC = [(name, width, kind, *LEG_CELLS[name]) for name, width, kind in LEG_C
 LEGS_SHEET_ROWS = MAX_ROWS - 1
 
 
+# width of the key column of a long sheet of several runs (write_legs' `key`), characters
+KEY_WIDTH = 14
+
+
 # from this many legs on, rows are streamed to disk instead of held in memory
 STREAMING_LEGS = 100_000
 
 
-def legs_sheet_names(results) -> list[str]:
-    """Names of the Legs sheets the results need (Legs, Legs 2, ...), at most LEGS_SHEET_ROWS legs
-    each; a shipment's legs are never split across two sheets."""
-    names, used = ["Legs"], 0
+def legs_sheet_names(results, base: str = LEGS) -> list[str]:
+    """Names of the Legs sheets the results need (Legs, Legs 2, ...; `base`, `base` 2, ... for
+    another long sheet of legs), at most LEGS_SHEET_ROWS legs each; a shipment's legs are never
+    split across two sheets."""
+    names, used = [base], 0
     for res in results:
         n = len(res.legs)
         if n > LEGS_SHEET_ROWS:
             raise OutputLimitError(f"shipment {res.shipment.shipment_id} has {n:,} legs, more than a sheet "
                                    "holds", "check the lanes of this shipment")
         if used + n > LEGS_SHEET_ROWS:
-            names.append(f"Legs {len(names) + 1}")
+            names.append(f"{base} {len(names) + 1}")
             used = 0
         used += n
     return names
 
 
-def write_legs(w: Writer, legs_sheets, results) -> tuple[dict[str, tuple[str, int, int]], dict[str, int]]:
+def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | None = None,
+               runs_sheet: str = VEHICLE_RUNS, run_row=None, runs_shift: int = 0,
+               ) -> tuple[dict, dict[str, int]]:
     """Legs rows, continuing on further sheets at the row limit. Returns shipment id ->
-    (sheet, first row, last row) (1-based) and sheet -> its last data row."""
-    letters = {name: xl_col_to_name(i) for name, i in LEG.items()}
-    runs = sheet_ref(VEHICLE_RUNS)
-    run_letter = {ref: xl_col_to_name(RUN_COL[name]) for ref, name in
+    (sheet, first row, last row) (1-based) and sheet -> its last data row.
+
+    `key` = (header, one text per result) writes a long sheet of several runs (the scenarios):
+    a first column of that header holds each result's key, the Legs columns follow with the same
+    formulas, and the ranges are keyed by (key, shipment id).
+
+    Each leg's share formulas refer to its vehicle run's row on `runs_sheet` (Vehicle runs, whose
+    run R0001 is on row 2; `run_row(key or None, run_id)` gives the row on another such sheet,
+    whose columns start `runs_shift` columns to the right)."""
+    columns = LEG_COLUMNS if key is None else [(key[0], KEY_WIDTH, "text"), *LEG_COLUMNS]
+    shift = len(columns) - len(LEG_COLUMNS)
+    letters = {name: xl_col_to_name(i + shift) for name, i in LEG.items()}
+    runs = sheet_ref(runs_sheet)
+    run_letter = {ref: xl_col_to_name(RUN_COL[name] + runs_shift) for ref, name in
                   (("run_cost", "run_cost"), ("run_tkm", "tonne_km"), ("run_co2e", "co2e_kg"),
                    ("run_loads", "loads"))}
-    ranges: dict[str, tuple[str, int, int]] = {}
+    if run_row is None:
+        def run_row(_key, run_id):
+            return int(run_id[1:]) + 1
+    ranges: dict = {}
     last: dict[str, int] = {}
     k = 0
     name, ws = legs_sheets[0]
-    w.header(ws, LEG_COLUMNS)
+    w.header(ws, columns)
     r = 1
-    for res in results:
+    for i, res in enumerate(results):
         if not res.legs:
             continue
         if r - 1 + len(res.legs) > LEGS_SHEET_ROWS:
-            ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
+            ws.autofilter(0, 0, max(r - 1, 1), len(columns) - 1)
             last[name] = r
             k += 1
             name, ws = legs_sheets[k]
-            w.header(ws, LEG_COLUMNS)
+            w.header(ws, columns)
             r = 1
         first = r
         for leg in res.legs:
             refs = {col_name: f"{col}{r + 1}" for col_name, col in letters.items()}
             refs["d"] = str(w.places)
-            if leg.run_id:  # run R0001 is on row 2 of Vehicle runs
-                rr = int(leg.run_id[1:]) + 1
+            if key is not None:
+                ws.write_string(r, 0, cell_text(key[1][i]))
+            if leg.run_id:
+                rr = run_row(None if key is None else key[1][i], leg.run_id)
                 refs.update({ref: f"{runs}!{col}{rr}" for ref, col in run_letter.items()})
             else:  # not planned: the leg is its own run
                 refs.update(run_cost=refs["leg_cost"], run_tkm=refs["tonne_km"], run_co2e=refs["co2e_kg"],
                             run_loads="1")
-            for c, (_name, _width, kind, value_of, formula) in enumerate(LEG_SPEC):
+            for c, (_name, _width, kind, value_of, formula) in enumerate(LEG_SPEC, start=shift):
                 value = value_of(res, leg)
                 if formula is not None:
                     ws.write_formula(r, c, "=" + formula.format(**refs), w.f[kind], value)
@@ -142,7 +164,8 @@ def write_legs(w: Writer, legs_sheets, results) -> tuple[dict[str, tuple[str, in
                 elif value is not None:
                     ws.write_number(r, c, value)
             r += 1
-        ranges[res.shipment.shipment_id] = (name, first + 1, r)  # 1-based inclusive rows
-    ws.autofilter(0, 0, max(r - 1, 1), len(LEG_COLUMNS) - 1)
+        sid = res.shipment.shipment_id
+        ranges[sid if key is None else (key[1][i], sid)] = (name, first + 1, r)  # 1-based inclusive rows
+    ws.autofilter(0, 0, max(r - 1, 1), len(columns) - 1)
     last[name] = r
     return ranges, last

@@ -1,35 +1,71 @@
-"""The Scenario comparison sheet: totals per scenario and cost component against the base case,
-and per shipment."""
+"""The Scenario comparison sheet: totals per scenario and cost component against the base case
+(per shipment: the Scenario shipments sheet). Every scenario figure is a live formula over the
+scenario's rows on Scenario legs and Scenario shipments (written by costing.sheets.scenario_legs
+and scenario_shipments with the base case's formulas), its value cached; the base row refers to
+the Summary TOTAL row."""
 
 from __future__ import annotations
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import SCENARIO_COMPONENTS, SUM
+from costing.contract.outputs import (
+    SCENARIO_COMPONENTS,
+    SCENARIO_LEG_COLUMNS,
+    SCENARIO_SHIPMENT_COLUMNS,
+    SCENARIO_SHIPMENTS,
+    SCENARIO_TOTAL_COLUMNS,
+    SUM,
+    SUMMED,
+)
 from costing.money import round_money
 from costing.price.cost import ROUTED, CostedShipment
-from costing.sheets.formats import Writer, cell_text, component, route_text
+from costing.sheets.formats import Writer, cell_text, component, route_text, sheet_ref
+
+_LEG_COL = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_LEG_COLUMNS)}
+_SHIP_COL = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
 
 
-def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: int) -> tuple[int, int]:
-    """Totals per scenario and cost component, then per-shipment totals and deltas and which
-    shipments changed route. The base row refers to the Summary TOTAL row; scenario figures are
-    the tool's costing of each scenario's changed inputs (their legs are not in this workbook)."""
+def keyed_sum(sheets: dict[str, int], col: str, key_cell: str) -> str:
+    """Formula text: the sum of column `col` over the rows of `sheets` (name -> last data row,
+    1-based) whose first column (the scenario) equals `key_cell`. An exact comparison inside
+    SUMPRODUCT, not SUMIFS, so a name holding * ? or ~ is not read as a wildcard."""
+    terms = []
+    for name, last in sheets.items():
+        sh, n = sheet_ref(name), max(last, 2)
+        terms.append(f"SUMPRODUCT(({sh}!$A$2:$A${n}={key_cell})*{sh}!${col}$2:${col}${n})")
+    return "+".join(terms) or "0"
+
+
+def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: int, legs_last: dict[str, int],
+                    ship_last: int) -> tuple[int, int]:
+    """Totals per scenario and cost component against the base case, and how many shipments
+    changed route (each shipment's figures are on Scenario shipments). The base row refers to the
+    Summary TOTAL row; a scenario row sums that scenario's rows on Scenario legs (`legs_last`:
+    sheet -> last data row) and Scenario shipments (`ship_last`: its last data row). Returns the
+    first and last rows (0-based) of the scenario totals."""
     f = w.f
-    cur = w.model.settings.currency
     ws.write_string(0, 0, "Scenario totals by cost component. The base row is the Summary TOTAL row; "
-                    "each scenario row is the same shipments costed with that scenario's changes.", f["bold"])
-    head = (["scenario", "routed"] + SCENARIO_COMPONENTS
-            + ["total_cost", "delta_vs_base", "delta_pct", "co2e_kg", "rerouted", "changes"])
+                    "each scenario row is the same shipments costed with that scenario's changes, summed "
+                    "from its legs on the Scenario legs sheet and its shipments on Scenario shipments "
+                    "(each shipment against the base case there).",
+                    f["bold"])
+    head = SCENARIO_TOTAL_COLUMNS
     for c, h in enumerate(head):
         ws.write_string(2, c, h, f["head"])
-    ws.set_column(0, 0, 18)
-    ws.set_column(1, len(head) - 2, 13)
-    ws.set_column(len(head) - 1, len(head) - 1, 70)
     col = {h: i for i, h in enumerate(head)}
     letter = {h: xl_col_to_name(i) for h, i in col.items()}
     pct = w.wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"})
     t = last_row + 2  # Summary TOTAL row, 1-based
+    ships = {SCENARIO_SHIPMENTS: ship_last}
+
+    def scenario_formula(comp: str, key_cell: str) -> str:
+        """A scenario's total of `comp`: its legs' column(s) or its shipments' column, summed."""
+        if comp in ("min_charge_uplift", "total_cost", "empty_return_alone"):
+            return w.round_f(keyed_sum(ships, _SHIP_COL[comp], key_cell))
+        if comp == "consolidation_saving":
+            return w.round_f("-(" + keyed_sum(ships, _SHIP_COL["saving"], key_cell) + ")")
+        expr = "+".join(keyed_sum(legs_last, _LEG_COL[lc], key_cell) for lc in SUMMED[comp])
+        return expr if comp == "co2e_kg" else w.round_f(expr)
 
     def figures(results):
         routed = [r for r in results if r.status == ROUTED]
@@ -41,17 +77,22 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
 
     base_fig = figures(base)
     base_routes = {r.shipment.shipment_id: route_text(r) for r in base}
-    rows = [("base", "(the input as given)", base, base_fig)]
+    rows = [("base", ["(the input as given)"], base, base_fig)]
     for run in runs:
-        rows.append((run.scenario.name, "; ".join(ch.describe() for ch in run.scenario.changes),
+        rows.append((run.scenario.name, [ch.describe() for ch in run.scenario.changes],
                      run.results, figures(run.results)))
     first = 3
-    for i, (name, changes, results, fig) in enumerate(rows):
+    for i, (name, _changes, results, fig) in enumerate(rows):
         r = first + i
         x = r + 1
         ws.write_string(r, col["scenario"], cell_text(name))
-        ws.write_string(r, col["changes"], cell_text(changes))
-        ws.write_number(r, col["routed"], fig["routed"])
+        key_cell = f"$A${x}"
+        if i == 0:
+            ws.write_number(r, col["routed"], fig["routed"])
+        else:
+            sh, n, st = sheet_ref(SCENARIO_SHIPMENTS), max(ship_last, 2), _SHIP_COL["status"]
+            ws.write_formula(r, col["routed"], f"=SUMPRODUCT(({sh}!$A$2:$A${n}={key_cell})"
+                             f'*({sh}!${st}$2:${st}${n}="{ROUTED}"))', f["int"], fig["routed"])
         for comp in SCENARIO_COMPONENTS + ["total_cost", "co2e_kg"]:
             fmt = f["kg"] if comp == "co2e_kg" else f["money"]
             if i == 0:
@@ -59,7 +100,7 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
                        else f"Summary!{xl_col_to_name(SUM[comp])}{t}")
                 ws.write_formula(r, col[comp], "=" + ref, fmt, fig[comp])
             else:
-                ws.write_number(r, col[comp], fig[comp], fmt)
+                ws.write_formula(r, col[comp], "=" + scenario_formula(comp, key_cell), fmt, fig[comp])
         b = first + 1
         tot, dv = letter["total_cost"], letter["delta_vs_base"]
         delta = round_money(fig["total_cost"] - base_fig["total_cost"], w.places)
@@ -69,37 +110,12 @@ def write_scenarios(w: Writer, ws, base: list[CostedShipment], runs, last_row: i
         rerouted = sum(1 for res in results if route_text(res) != base_routes.get(res.shipment.shipment_id))
         ws.write_number(r, col["rerouted"], rerouted)
     last_total = first + len(rows) - 1
-    # per shipment
-    r0 = last_total + 3
-    ws.write_string(r0 - 1, 0, f"Per shipment: total_cost ({cur}) under each scenario, the change from "
-                    "base, and whether the route changed.", f["bold"])
-    heads = ["shipment_id", "base_total"]
-    for run in runs:
-        heads += [f"{run.scenario.name}: total", f"{run.scenario.name}: delta", f"{run.scenario.name}: route"]
-    for c, h in enumerate(heads):
-        ws.write_string(r0, c, cell_text(h)[:255], f["head"])
-    by_id = [{res.shipment.shipment_id: res for res in run.results} for run in runs]
-    summary_row = {res.shipment.shipment_id: i + 2 for i, res in enumerate(base)}
-    tc = xl_col_to_name(SUM["total_cost"])
-    for i, res in enumerate(base):
-        r = r0 + 1 + i
-        x = r + 1
-        sid = res.shipment.shipment_id
-        ws.write_string(r, 0, cell_text(sid))
-        if res.status == ROUTED:
-            ws.write_formula(r, 1, f"=Summary!{tc}{summary_row[sid]}", f["money"], res.total_cost)
-        else:
-            ws.write_string(r, 1, res.status)
-        for k, run_ids in enumerate(by_id):
-            alt = run_ids.get(sid)
-            c = 2 + 3 * k
-            if alt is None or alt.status != ROUTED:
-                ws.write_string(r, c, alt.status if alt else "")
-                continue
-            ws.write_number(r, c, alt.total_cost, f["money"])
-            if res.status == ROUTED:
-                ws.write_formula(r, c + 1, "=" + w.round_f(f"{xl_col_to_name(c)}{x}-B{x}"), f["money"],
-                                 round_money(alt.total_cost - res.total_cost, w.places))
-            ws.write_string(r, c + 2, "changed" if route_text(alt) != base_routes[sid] else "same")
+    # what each scenario changes, a line each below the totals (a cell alone on its row, so a long
+    # list wraps across the columns instead of widening the first)
+    r = last_total + 2
+    ws.write_string(r, 0, "What each scenario changes in the input (the Scenarios sheet):", f["bold"])
+    for name, changes, _results, _fig in rows[1:]:
+        r += 1
+        ws.write_string(r, 0, cell_text(f"{name}: {'; '.join(changes)}"))
     ws.freeze_panes(3, 1)
     return first, last_total

@@ -22,33 +22,43 @@ def _fill(amount: float, vehicles: int, capacity: float | None) -> float | None:
     return amount / (vehicles * capacity)
 
 
-def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, int]]) -> int:
+def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[str]] | None = None) -> int:
     """Write one row per run. `ranges` (from ``write_legs``): shipment id -> (Legs sheet, first
-    row, last row), to refer to each load's Legs row. Returns the last data row (1-based)."""
-    w.header(ws, RUN_COLUMNS)
+    row, last row), to refer to each load's Legs row. With `key` = (header, one text per run) a
+    first column holds each run's key (a scenario's name), the columns follow one to the right,
+    and `ranges` are keyed by (key, shipment id), as ``write_legs`` keys them. Returns the last
+    data row (1-based)."""
+    shift = 0 if key is None else 1
+    columns = RUN_COLUMNS if key is None else [(key[0], 14, "text"), *RUN_COLUMNS]
+    w.header(ws, columns)
     f = w.f
-    R = {name: xl_col_to_name(i) for name, i in RUN_COL.items()}
-    L = {name: xl_col_to_name(i) for name, i in LEG.items()}
+    R = {name: xl_col_to_name(i + shift) for name, i in RUN_COL.items()}
+    L = {name: xl_col_to_name(i + shift) for name, i in LEG.items()}
+    COL = {name: i + shift for name, i in RUN_COL.items()}
     r = 0
     for r, run in enumerate(runs, start=1):
         x = r + 1
+        if key is not None:
+            ws.write_string(r, 0, cell_text(key[1][r - 1]))
+        k = None if key is None else key[1][r - 1]
         g, card = run.leg, run.leg.card
         refs = {name: f"{col}{x}" for name, col in R.items()}
         refs["d"] = str(w.places)
 
-        def legs_sum(col: str, run=run) -> str:
+        def legs_sum(col: str, run=run, k=k) -> str:
             """The loads' Legs cells of column `col`, added in load order."""
-            return "+".join(f"{sheet_ref(ranges[sid][0])}!{L[col]}{ranges[sid][1] + own.seq - 1}"
-                            for sid, own in zip(run.loads, run.load_legs))
+            at = [ranges[sid if k is None else (k, sid)] for sid in run.loads]
+            return "+".join(f"{sheet_ref(a[0])}!{L[col]}{a[1] + own.seq - 1}"
+                            for a, own in zip(at, run.load_legs))
 
         shipments = ", ".join(run.loads) if run.loads else "empty return for " + ", ".join(run.empty_for)
         text = {"run_id": run.run_id, "lane_id": g.use.lane.lane_id, "from_depot": g.use.from_depot,
                 "to_depot": g.use.to_depot, "mode": g.use.lane.mode, "vehicle": card.vehicle,
                 "shipments": shipments, "co2e_basis": g.co2e_basis}
         for name, value in text.items():
-            ws.write_string(r, RUN_COL[name], cell_text(value))
+            ws.write_string(r, COL[name], cell_text(value))
         if run.day is not None:
-            ws.write_datetime(r, RUN_COL["date"], _dt.datetime.combine(run.day, _dt.time()), f["date"])
+            ws.write_datetime(r, COL["date"], _dt.datetime.combine(run.day, _dt.time()), f["date"])
         pallets = sum(run.pallets)
         volume = sum(run.volumes)
         numbers = {"vehicles": run.vehicles, "loads": len(run.loads), "pallets": pallets,
@@ -61,11 +71,11 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, in
             numbers[name] = LEG_CELLS[name][0](None, g)
         for name, value in numbers.items():
             if value is not None:
-                ws.write_number(r, RUN_COL[name], value)
+                ws.write_number(r, COL[name], value)
         if run.loads:
-            ws.write_formula(r, RUN_COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
+            ws.write_formula(r, COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
         else:  # an empty return
-            ws.write_number(r, RUN_COL["tonnes"], 0.0)
+            ws.write_number(r, COL["tonnes"], 0.0)
         fills = (("fill_weight", "tonnes", run.tonnes, card.payload_t),
                  ("fill_pallets", "pallets", pallets, card.pallet_places),
                  ("fill_volume", "volume_m3", volume, card.volume_m3))
@@ -75,26 +85,26 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict[str, tuple[str, int, in
             value = _fill(amount, run.vehicles, cap)
             if value is not None:
                 fill = f"={R[amount_col]}{x}/({R['vehicles']}{x}*{R[cap_col]}{x})"
-                ws.write_formula(r, RUN_COL[name], fill, f["pct"], value)
+                ws.write_formula(r, COL[name], fill, f["pct"], value)
         for name in ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
                      "handling_start_cost", "handling_end_cost", "trip_cost"):
             value, formula = LEG_CELLS[name][0](None, g), LEG_CELLS[name][1]
-            ws.write_formula(r, RUN_COL[name], "=" + formula.format(**refs), f["money"], value)
-        ws.write_formula(r, RUN_COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
+            ws.write_formula(r, COL[name], "=" + formula.format(**refs), f["money"], value)
+        ws.write_formula(r, COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
                          run.run_cost)
         if not run.loads:  # an empty return: no loads, no tonne-km, shared as Summary empty_return_cost
-            ws.write_number(r, RUN_COL["tonne_km"], 0.0)
+            ws.write_number(r, COL["tonne_km"], 0.0)
         else:
             standalone = round_money(run.standalone_cost, w.places)
-            ws.write_formula(r, RUN_COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
+            ws.write_formula(r, COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
                              standalone)
             saving = w.round_f(f"{R['standalone_cost']}{x}-{R['run_cost']}{x}")
-            ws.write_formula(r, RUN_COL["saving"], "=" + saving, f["money"],
+            ws.write_formula(r, COL["saving"], "=" + saving, f["money"],
                              round_money(standalone - run.run_cost, w.places))
-            ws.write_formula(r, RUN_COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
-        ws.write_formula(r, RUN_COL["co2e_kg"],
+            ws.write_formula(r, COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
+        ws.write_formula(r, COL["co2e_kg"],
                          '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*'
                          "{co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),
                          f["kg"], run.co2e_kg)
-    ws.autofilter(0, 0, max(r, 1), len(RUN_COLUMNS) - 1)
+    ws.autofilter(0, 0, max(r, 1), len(columns) - 1)
     return r + 1

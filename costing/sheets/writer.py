@@ -17,7 +17,13 @@ from costing.sheets.legs import legs_sheet_names, write_legs
 from costing.sheets.map_sheet import write_map
 from costing.sheets.problems import write_problems
 from costing.sheets.run import RunInfo, run_time, write_run
+from costing.sheets.scenario_legs import (
+    scenario_legs_sheet_names,
+    write_scenario_legs,
+    write_scenario_vehicle_runs,
+)
 from costing.sheets.scenario_sheet import write_scenarios
+from costing.sheets.scenario_shipments import write_scenario_shipments
 from costing.sheets.summary import write_summary
 from costing.sheets.tradeoffs import write_tradeoffs
 from costing.sheets.vehicle_runs import write_vehicle_runs
@@ -31,7 +37,8 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     """Write the costed workbook. `runs` (costing.plan.week.VehicleRun, ``Costed.runs``) are the
     vehicle runs the results' legs name; `analysis` (costing.plan.analysis.Analysis) adds the
     Comparison, Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
-    (costing.plan.analysis.ScenarioRun) a Scenarios sheet."""
+    (costing.plan.analysis.ScenarioRun) the Scenario comparison, Scenario shipments, Scenario
+    vehicle runs and Scenario legs sheets."""
     named = {leg.run_id for r in results for leg in r.legs if leg.run_id}
     loaded = [run for run in runs if not run.empty_for]  # empty returns carry no legs
     if len(named) != len(loaded) or any(run.run_id not in named for run in loaded):
@@ -41,13 +48,23 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         raise OutputLimitError(f"{len(results):,} shipments do not fit on one Summary sheet "
                                f"({MAX_ROWS:,} rows)", "cost the shipments in batches of under a million")
     n_legs = sum(len(r.legs) for r in results)
-    w = Writer(path, model, info.created, streaming=n_legs >= legs.STREAMING_LEGS)
+    n_scenario_legs = sum(len(r.legs) for run in scenario_runs for r in run.results)
+    if len(scenario_runs) * len(results) + 2 > MAX_ROWS:
+        raise OutputLimitError(f"{len(scenario_runs)} scenarios of {len(results):,} shipments do not fit on "
+                               f"one {out.SCENARIO_SHIPMENTS} sheet ({MAX_ROWS:,} rows)",
+                               "run fewer scenarios at a time, or cost the shipments in smaller batches")
+    w = Writer(path, model, info.created, streaming=n_legs + n_scenario_legs >= legs.STREAMING_LEGS)
     summary = w.wb.add_worksheet(out.SUMMARY)
     sheets = {}
     if scenario_runs:
         sheets["Scenarios"] = w.wb.add_worksheet(out.SCENARIO_COMPARISON)
     runs_ws = w.wb.add_worksheet(out.VEHICLE_RUNS)
     legs_sheets = [(name, w.wb.add_worksheet(name)) for name in legs_sheet_names(results)]
+    if scenario_runs:
+        scenario_ships_ws = w.wb.add_worksheet(out.SCENARIO_SHIPMENTS)
+        scenario_runs_ws = w.wb.add_worksheet(out.SCENARIO_VEHICLE_RUNS)
+        scenario_legs_sheets = [(name, w.wb.add_worksheet(name))
+                                for name in scenario_legs_sheet_names(scenario_runs)]
     if analysis is not None:
         if analysis.alternatives:
             sheets["Comparison"] = w.wb.add_worksheet(out.COMPARISON)
@@ -71,7 +88,15 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     frontier_rows: dict[str, tuple[int, int]] = {}
     scenario_rows = None
     if scenario_runs:
-        scenario_rows = write_scenarios(w, sheets["Scenarios"], results, scenario_runs, last_row)
+        scenario_ranges, scenario_legs_last = write_scenario_legs(w, scenario_legs_sheets, scenario_runs)
+        if len(scenario_legs_sheets) > 1:
+            info.extra["Scenario legs sheets"] = (f"{', '.join(n for n, _ws in scenario_legs_sheets)}: at "
+                                                  f"most {legs.LEGS_SHEET_ROWS:,} legs a sheet")
+        write_scenario_vehicle_runs(w, scenario_runs_ws, scenario_runs, scenario_ranges)
+        _rows, ship_last = write_scenario_shipments(w, scenario_ships_ws, scenario_runs, scenario_ranges,
+                                                    results)
+        scenario_rows = write_scenarios(w, sheets["Scenarios"], results, scenario_runs, last_row,
+                                        scenario_legs_last, ship_last)
     if "Comparison" in sheets:
         write_comparison(w, sheets["Comparison"], results, analysis)
     if "Trade-offs" in sheets:

@@ -1,0 +1,90 @@
+"""The Scenario shipments sheet: one row per scenario and shipment, its totals summed by formula
+from its rows on Scenario legs with the Summary's own formulas (subtotal, min_charge_uplift,
+total_cost), then the base case's total (from the Summary), the difference and whether the route
+changed; values cached. The Scenario comparison sheet adds these rows up."""
+
+from __future__ import annotations
+
+from xlsxwriter.utility import xl_col_to_name
+
+from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COLUMNS, SUM
+from costing.money import round_money
+from costing.price.cost import ROUTED
+from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value
+
+COL = {name: i for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
+KIND = {name: kind for name, _w, kind in SCENARIO_SHIPMENT_COLUMNS}
+
+
+def write_scenario_shipments(w: Writer, ws, runs, ranges, base) -> tuple[dict[tuple[str, str], int], int]:
+    """One row per scenario run (costing.plan.analysis.ScenarioRun) and shipment, in scenario
+    order. `ranges`: (scenario, shipment id) -> (Scenario legs sheet, first row, last row), as
+    costing.sheets.scenario_legs.write_scenario_legs returns; `base`: the base case's results in
+    Summary order (row i + 2), for each shipment's base total and route. Returns (scenario,
+    shipment id) -> its row (1-based) and the last data row (1-based)."""
+    w.header(ws, SCENARIO_SHIPMENT_COLUMNS)
+    f = w.f
+    S = {name: xl_col_to_name(i) for name, i in COL.items()}
+    L = {name: xl_col_to_name(i) for i, (name, _w, _k) in enumerate(SCENARIO_LEG_COLUMNS)}
+    rows: dict[tuple[str, str], int] = {}
+    summary = {res.shipment.shipment_id: (i + 2, res) for i, res in enumerate(base)}
+    base_total = xl_col_to_name(SUM["total_cost"])
+    r = 0
+    for run in runs:
+        name = run.scenario.name
+        for res in run.results:
+            r += 1
+            x = r + 1
+            s = res.shipment
+            rows[(name, s.shipment_id)] = x
+            for col, value in (("scenario", name), ("shipment_id", s.shipment_id), ("status", res.status),
+                               ("origin", s.origin), ("destination", s.destination),
+                               ("vehicle", res.vehicle), ("note", res.message)):
+                ws.write_string(r, COL[col], cell_text(value))
+            if res.status != ROUTED or not res.legs:
+                ws.write_number(r, COL["legs"], 0, f["int"])
+                continue
+            sheet, a, b = ranges[(name, s.shipment_id)]
+            sh = sheet_ref(sheet)
+
+            def over(leg_col: str, sh=sh, a=a, b=b) -> str:
+                return f"{sh}!{L[leg_col]}{a}:{L[leg_col]}{b}"
+
+            ws.write_number(r, COL["vehicles"], res.vehicles, f["int"])
+            ws.write_formula(r, COL["legs"], f"=COUNT({over('seq')})", f["int"], len(res.legs))
+            for col, formula in (("distance_km", f"SUM({over('distance_km')})"),
+                                 ("subtotal", w.round_f(f"SUM({over('leg_cost')})")),
+                                 ("co2e_kg", f"SUM({over('co2e_share')})")):
+                ws.write_formula(r, COL[col], "=" + formula, f[KIND[col]], shipment_value(res, col))
+            ws.write_number(r, COL["min_charge"], res.min_charge, f["money"])
+            ws.write_formula(r, COL["min_charge_uplift"],
+                             "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
+                             f["money"], res.min_charge_uplift)
+            # the Summary's consolidation formulas (costing.sheets.summary)
+            ws.write_number(r, COL["empty_return_alone"], res.empty_return_alone, f["money"])
+            ws.write_number(r, COL["empty_return_cost"], res.empty_return_cost, f["money"])
+            ws.write_string(r, COL["travels_with"], ", ".join(res.shared_with))
+            ws.write_formula(r, COL["standalone_cost"], "=" + w.round_f(
+                f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"),
+                f["money"], res.standalone_cost)
+            ws.write_formula(r, COL["allocated_cost"], "=" + w.round_f(f"SUM({over('cost_share')})"),
+                             f["money"], res.allocated_cost)
+            ws.write_formula(r, COL["total_cost"], "=" + w.round_f(
+                f"{S['allocated_cost']}{x}+{S['empty_return_cost']}{x}"
+                f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
+                f["money"], res.total_cost)
+            saving = w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}")
+            ws.write_formula(r, COL["saving"], "=" + saving, f["money"], res.saving)
+            ws.write_string(r, COL["route"], cell_text(route_text(res)))
+            row, was = summary.get(s.shipment_id, (None, None))
+            if was is None or was.status != ROUTED:
+                continue
+            ws.write_formula(r, COL["base_total_cost"], f"=Summary!{base_total}{row}", f["money"],
+                             was.total_cost)
+            ws.write_formula(r, COL["delta_vs_base"],
+                             "=" + w.round_f(f"{S['total_cost']}{x}-{S['base_total_cost']}{x}"), f["money"],
+                             round_money(res.total_cost - was.total_cost, w.places))
+            same = route_text(res) == route_text(was)
+            ws.write_string(r, COL["route_vs_base"], "same" if same else "changed")
+    ws.autofilter(0, 0, max(r, 1), len(SCENARIO_SHIPMENT_COLUMNS) - 1)
+    return rows, r + 1
