@@ -28,7 +28,7 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
 from costing.contract.inputs import normalise_header
-from costing.contract.outputs import RUN_KEYS
+from costing.contract.outputs import RUN_KEYS, RUN_SETTING_PREFIX
 from costing.errors import CompareError
 from costing.money import minor_unit, round_money
 from costing.workbook.reader import (
@@ -84,6 +84,8 @@ class SummaryRow:
     total_cost: float | None = None
     co2e_kg: float | None = None
     route: str | None = None
+    weight_t: float | None = None
+    standalone_cost: float | None = None  # where the run shares vehicles (consolidation)
 
 
 @dataclass
@@ -103,6 +105,7 @@ class CostedRun:
     run_at: str | None = None
     tool: str | None = None
     warnings: list[str] = field(default_factory=list)
+    settings: dict[str, object] = field(default_factory=dict)  # Run sheet "setting: " rows, as read
 
     @property
     def total_cost(self) -> float | None:
@@ -198,6 +201,11 @@ def _as_number(v: object) -> float | None:
     return x if math.isfinite(x) else None
 
 
+def _money_or_none(v: object, places: int) -> float | None:
+    x = _as_number(v)
+    return None if x is None else round_money(x, places)
+
+
 def _find_sheet(titles: list[str], wanted: str) -> str | None:
     for t in titles:
         if normalise_header(t) == normalise_header(wanted):
@@ -261,7 +269,9 @@ def read_costed(path: str | os.PathLike) -> CostedRun:
                          input_name=_as_text(run.get(RUN_KEYS["input_name"])),
                          input_sha256=_as_text(run.get(RUN_KEYS["input_sha256"])),
                          run_at=_as_text(run.get(RUN_KEYS["run_at"])),
-                         tool=_as_text(run.get(RUN_KEYS["tool"])))
+                         tool=_as_text(run.get(RUN_KEYS["tool"])),
+                         settings={k[len(RUN_SETTING_PREFIX):]: v for k, v in run.items()
+                                   if k.startswith(RUN_SETTING_PREFIX)})
     _fill(run_info, summary_title, index, rows)
     return run_info
 
@@ -334,7 +344,9 @@ def _fill(run: CostedRun, sheet: str, index: dict[str, int], rows: list[tuple[in
             drive_hours=_as_number(get(row, "drive_hours")),
             elapsed_hours=_as_number(get(row, "elapsed_hours")),
             total_cost=None if cost is None else round_money(cost, run.places),
-            co2e_kg=_as_number(get(row, "co2e_kg")), route=_as_text(get(row, "route")))
+            co2e_kg=_as_number(get(row, "co2e_kg")), route=_as_text(get(row, "route")),
+            weight_t=_as_number(get(row, "weight_t")),
+            standalone_cost=_money_or_none(get(row, "standalone_cost"), run.places))
     if total_row is None:
         raise CompareError(f"{name}: the {sheet} sheet has no TOTAL row (shipment_id TOTAL, blank "
                            "status) below the shipments", _COSTED_FIX, run.path)
@@ -570,9 +582,11 @@ def _money_format(currency: str, places: int) -> str:
     return f"#,##0{zeros}{suffix}"
 
 
-def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
-    """Write sheets Changes and Overview. Deltas and totals are live formulas with their values
-    cached; every string from the compared workbooks is written as text."""
+def write_comparison(path: str | os.PathLike, comparison: Comparison, bridge=None) -> None:
+    """Write sheets Changes and Overview, and with a `bridge` (costing.compare.bridge.Bridge)
+    sheets Bridge and Bridge shipments (costing.sheets.bridge). Deltas and totals are live
+    formulas with their values cached; every string from the compared workbooks is written as
+    text."""
     from costing.sheets.formats import install_layout
     from costing.sheets.writer import run_time
 
@@ -614,6 +628,16 @@ def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
     overview_ws = wb.add_worksheet("Overview")
     cols = _write_changes(changes_ws, cmp, f)
     _write_overview(overview_ws, cmp, f, cols)
+    if bridge is not None:
+        from costing.contract.outputs import BRIDGE, BRIDGE_SHIPMENTS
+        from costing.sheets.bridge import BridgeFormats, write_bridge, write_bridge_shipments
+
+        # the Bridge sheet lays itself out (hidden chart columns, a chart): not measured
+        bridge_ws = xlsxwriter.Workbook.add_worksheet(wb, BRIDGE)
+        rows_ws = wb.add_worksheet(BRIDGE_SHIPMENTS)
+        fm = BridgeFormats(wb, bridge.currency, bridge.places)
+        letters = write_bridge_shipments(rows_ws, bridge, fm)
+        write_bridge(wb, bridge_ws, bridge, fm, letters)
     changes_ws.activate()
     wb.close()
 

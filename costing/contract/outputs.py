@@ -170,3 +170,54 @@ LANE_COLUMNS = [
 
 SCENARIO_COMPONENTS = ["km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
                        "handling_cost", "trip_cost", "min_charge_uplift"]
+
+
+# --- costing compare OLD NEW -o DIFF: the comparison workbook ----------------------------------
+# Sheets, in order. Changes and Overview list what changed per shipment; Bridge walks from the
+# OLD total to the NEW total one cause at a time (costing.compare.bridge), Bridge shipments holds
+# each shipment's share of every step, the rows the Bridge formulas add up.
+CHANGES = "Changes"
+OVERVIEW = "Overview"
+BRIDGE = "Bridge"
+BRIDGE_SHIPMENTS = "Bridge shipments"
+COMPARE_SHEETS = (CHANGES, OVERVIEW, BRIDGE, BRIDGE_SHIPMENTS)
+
+# The bridge's steps, in their fixed order (a decomposition depends on its order): (key, label on
+# the chart, what the step holds). The key heads the step's column on Bridge shipments.
+BRIDGE_STEPS = (
+    ("start", "OLD total", "Sum of total_cost of the OLD run's shipments."),
+    ("removed", "Removed", "Shipments in OLD only: minus their OLD cost."),
+    ("added", "Added", "Shipments in NEW only: plus their NEW cost."),
+    ("route_status", "Route lost / found",
+     "Shipments routed in one run only (e.g. a closed lane left no route): NEW cost - OLD cost."),
+    ("rates", "Rates", "Old routes priced at the NEW rate cards, lane charges, handling and settings "
+                       "(OLD fuel price), minus their OLD cost."),
+    ("fuel", "Fuel price", "Old routes at the NEW fuel price, minus the same at the OLD fuel price."),
+    ("load", "Load", "Old routes with the NEW shipment weights, minus the same with the OLD weights."),
+    ("reroute", "Re-routing", "Shipments on other lanes: NEW cost minus their old route at NEW rates "
+                              "and weights."),
+    ("vehicle", "Vehicle / carrier", "Same lanes, another vehicle or rate card: NEW cost minus the "
+                                     "old route at NEW rates and weights."),
+    ("not_separated", "Not separated", "Changes of shipments in both runs whose causes could not be "
+                                       "separated (see the note on the step)."),
+    ("consolidation", "Consolidation", "Change in what shared vehicles save: (NEW cost - NEW "
+                                       "stand-alone) - (OLD cost - OLD stand-alone)."),
+    ("end", "NEW total", "Sum of total_cost of the NEW run's shipments."),
+)
+
+# Bridge sheet table: (header, width, kind); the bar_ columns feed the chart (invisible base,
+# increase, decrease, totals).
+BRIDGE_COLUMNS = [
+    ("step", 14, "text"), ("label", 18, "text"), ("amount", 14, "money"), ("running_total", 14, "money"),
+    ("shipments", 9, "int"), ("what_it_holds", 60, "text"), ("note", 40, "text"),
+    ("bar_base", 12, "money"), ("bar_increase", 12, "money"), ("bar_decrease", 12, "money"),
+    ("bar_total", 12, "money"),
+]
+# Bridge shipments: one row per shipment; one money column per step between the totals (its key).
+BRIDGE_SHIPMENT_COLUMNS = (
+    [("shipment_id", 12, "text"), ("old_total_cost", 13, "money")]
+    + [(key, 12, "money") for key, _l, _m in BRIDGE_STEPS[1:-1]]
+    + [("new_total_cost", 13, "money"), ("check", 9, "money"),
+       ("old_route_new_rates", 14, "money"), ("old_route_new_fuel", 14, "money"),
+       ("old_route_new_load", 14, "money"), ("what_changed", 50, "text")]
+)
