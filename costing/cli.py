@@ -383,8 +383,9 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
     t0 = time.perf_counter()
     try:
+        bridges = _scenario_bridges(model, results, scenario_runs)
         _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
-                                                        scenario_runs))
+                                                        scenario_runs, bridges))
     except OutputLimitError as e:
         print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
         return EXIT_INPUT
@@ -433,6 +434,16 @@ def _compare(args) -> int:
         print("bridge: " + (", ".join(moves) or "no change")
               + (f"; n/a: {', '.join(na)}" if na else ""))
     return EXIT_OK
+
+
+def _scenario_bridges(model, results, scenario_runs) -> list:
+    """(scenario name, Bridge) from the base case to each scenario (costing.compare.bridge), for
+    the Scenario bridge sheets."""
+    from costing.check.scenarios import apply_scenario
+    from costing.compare.bridge import bridge_results
+
+    return [(sr.scenario.name, bridge_results(results, sr.results, model, apply_scenario(model, sr.scenario),
+                                              "base case", sr.scenario.name)) for sr in scenario_runs]
 
 
 def _compare_input(path: str | None, run):

@@ -358,3 +358,47 @@ def test_consolidation_step_from_standalone_cost(weeks, tmp_path):
     b = bridge_workbooks(read_costed(weeks[1][1]), read_costed(new), new_model=loaded(weeks[2][0]))
     assert {s.key: s.units for s in b.steps} == {**HAND, "consolidation": -1220, "end": 107520}
     assert b.step("consolidation").available and b.step("consolidation").top[0][:2] == ("S2", -1220)
+
+
+def test_scenario_bridges_in_the_costed_workbook(cli, tmp_path):
+    """The demo's two scenarios: a fuel price rise (+12 %) and a closed rail line. Expected from
+    what each scenario changes: a fuel price alone moves only the fuel step (rates at the old fuel
+    price are the base rates, so the rates step is exactly 0); closing lanes changes no price, so
+    rates, fuel and load are 0 and the change is re-routing and lost routes. Totals: the oracle is
+    the sum of the Summary's total_cost cells and of each scenario run's totals (pipeline.run on
+    the scenario's Model), plain integer cents."""
+    from costing.check.scenarios import apply_scenario
+
+    out, inp = tmp_path / "demo.xlsx", tmp_path / "demo-input.xlsx"
+    assert cli("demo", "-o", str(out), "--input-copy", str(inp))[0] == 0
+    wb = openpyxl.load_workbook(out, data_only=True)
+    assert "Scenario bridge" in wb.sheetnames and "Scenario bridge shipments" in wb.sheetnames
+    ws = wb["Scenario bridge"]
+    blocks, current = {}, None
+    for row in ws.iter_rows(values_only=True):
+        if row[0] == "scenario" and row[1]:
+            current = blocks.setdefault(row[1], {})
+        elif current is not None and row[0] in STEP_KEYS and isinstance(row[2], (int, float)) \
+                and row[0] not in current:
+            current[row[0]] = round(row[2] * 100)
+    assert set(blocks) == {"fuel_up_12", "blerick_rail_closed"}
+    model = loaded(str(inp))
+    options = pipeline.Options(analyses=False, scenarios=False)
+    base_results = pipeline.run(model, options).results
+    base = sum(round(r.total_cost * 100) for r in base_results if r.status == "routed")
+    for sc in model.scenarios:
+        steps = blocks[sc.name]
+        assert list(steps) == list(STEP_KEYS)
+        new = pipeline.run(apply_scenario(model, sc), options).results
+        total = sum(round(r.total_cost * 100) for r in new if r.status == "routed")
+        assert steps["start"] == base and steps["end"] == total
+        assert sum(steps[k] for k in MOVES) == total - base
+    fuel, rail = blocks["fuel_up_12"], blocks["blerick_rail_closed"]
+    assert fuel["fuel"] > 0 and fuel["rates"] == fuel["load"] == fuel["removed"] == fuel["added"] == 0
+    assert rail["rates"] == rail["fuel"] == rail["load"] == 0
+    assert rail["reroute"] + rail["route_status"] == rail["end"] - rail["start"] != 0
+    # the amounts are live formulas over the shipments sheet, matched by the scenario's name
+    wsf = openpyxl.load_workbook(out)["Scenario bridge"]
+    amounts = [c.value for c in wsf["C"] if isinstance(c.value, str) and "SUMPRODUCT" in c.value]
+    assert len(amounts) == 2 * len(STEP_KEYS)
+    assert all("'Scenario bridge shipments'!" in a for a in amounts)

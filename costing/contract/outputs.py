@@ -6,8 +6,8 @@ workbooks (costing.compare, the tests) find columns by these header names, never
 from __future__ import annotations
 
 # The output sheets, in the order they appear. Legs continue on "Legs 2", "Legs 3", ... at the
-# spreadsheet's row limit; Scenario comparison, Comparison, Trade-offs, Lane usage, Charts and Map
-# appear only when the run has them.
+# spreadsheet's row limit; Scenario comparison, Scenario bridge (and its shipments), Comparison,
+# Trade-offs, Lane usage, Charts and Map appear only when the run has them.
 SUMMARY = "Summary"
 SCENARIO_COMPARISON = "Scenario comparison"
 LEGS = "Legs"
@@ -18,7 +18,10 @@ CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
-SHEETS = (SUMMARY, SCENARIO_COMPARISON, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
+SCENARIO_BRIDGE = "Scenario bridge"  # base case to each scenario, cause by cause (costing.compare.bridge)
+SCENARIO_BRIDGE_SHIPMENTS = "Scenario bridge shipments"  # each shipment's share of every step
+SHEETS = (SUMMARY, SCENARIO_COMPARISON, SCENARIO_BRIDGE, SCENARIO_BRIDGE_SHIPMENTS, LEGS, COMPARISON,
+          TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.

@@ -34,11 +34,14 @@ from costing.contract.outputs import (
     BRIDGE_SHIPMENT_COLUMNS,
     BRIDGE_SHIPMENTS,
     BRIDGE_STEPS,
+    SCENARIO_BRIDGE_SHIPMENTS,
 )
 
 if TYPE_CHECKING:  # the record only; the sheets never call into compare
     from costing.compare.bridge import Bridge
 
+CHART_HEIGHT_PX = 300  # with the table it fits one landscape A4 page at about 80 %
+CHART_ROWS = 17  # rows of 15 pt the chart covers, and one to spare
 TOP = 5  # shipments listed behind each step (costing.compare.bridge keeps as many)
 TOP_HEADER = ("step", "shipment_id", "amount", "share of step", "rank", "what changed")
 
@@ -62,6 +65,7 @@ class BridgeFormats:
                                    "text_wrap": True, "valign": "top", "border": 1}),
             "text": wb.add_format(top),
             "wrap": wb.add_format({"text_wrap": True, "valign": "top"}),
+            "small_wrap": wb.add_format({"text_wrap": True, "valign": "top", "font_size": 9}),
             "bold": wb.add_format({"bold": True, "valign": "top"}),
             "caption": wb.add_format({"bold": True, "font_size": 13}),
             "money": wb.add_format({"num_format": money, **top}),
@@ -78,54 +82,86 @@ def _money(units: int | None, places: int) -> float | None:
     return None if units is None else units / 10 ** places
 
 
+_PRICED = {"old_route_new_rates": "rates_units", "old_route_new_fuel": "fuel_units",
+           "old_route_new_load": "load_units"}
+_SHIPMENT_NOTES = {
+    "check": "ROUND(old_total_cost + the steps - new_total_cost): 0 on every row.",
+    "old_route_new_rates": "The shipment's OLD route, OLD weight, priced at the NEW rates with the "
+                           "OLD fuel price (blank: not priced).",
+    "old_route_new_fuel": "The same at the NEW fuel price.",
+    "old_route_new_load": "The same with the NEW weight.",
+    **{k: meaning for k, _label, meaning in BRIDGE_STEPS[1:-1]},
+}
+
+
+def _shipment_rows(ws, blocks: list[tuple[str | None, Bridge]], fm: BridgeFormats, head: int
+                   ) -> tuple[dict[str, str], int]:
+    """Per-shipment shares of one or more bridges from row `head` down (a header row, then the
+    rows); with a name per bridge, a first column ``scenario`` holds it. Returns the column
+    letters and the last row written (0-based)."""
+    p = fm.places
+    f = fm.f
+    keyed = blocks[0][0] is not None
+    columns = ([("scenario", 14, "text")] if keyed else []) + BRIDGE_SHIPMENT_COLUMNS
+    names = [n for n, _w, _k in columns]
+    at = {n: i for i, n in enumerate(names)}
+    letters = {n: xl_col_to_name(i) for i, n in enumerate(names)}
+    for c, (name, _width, _kind) in enumerate(columns):
+        ws.write_string(head, c, name, f["head"])
+        if name in _SHIPMENT_NOTES:
+            ws.write_comment(head, c, _SHIPMENT_NOTES[name], {"x_scale": 2.5, "y_scale": 1.5})
+    steps = [k for k, _l, _m in BRIDGE_STEPS[1:-1]]
+    first_step, last_step = letters[steps[0]], letters[steps[-1]]
+    r = head
+    for name, bridge in blocks:
+        for row in bridge.contributions.itertuples(index=False):
+            r += 1
+            x = r + 1
+            if keyed:
+                ws.write_string(r, at["scenario"], name, f["text"])
+            ws.write_string(r, at["shipment_id"], str(row.shipment_id), f["text"])
+            ws.write_number(r, at["old_total_cost"], _money(row.old_units, p), f["money"])
+            for k in steps:
+                ws.write_number(r, at[k], _money(int(getattr(row, k)), p), f["delta"])
+            ws.write_number(r, at["new_total_cost"], _money(row.new_units, p), f["money"])
+            check = int(row.old_units) + sum(int(getattr(row, k)) for k in steps) - int(row.new_units)
+            ws.write_formula(r, at["check"],
+                             f"=ROUND({letters['old_total_cost']}{x}+SUM({first_step}{x}:{last_step}{x})"
+                             f"-{letters['new_total_cost']}{x},{p})", f["delta"], _money(check, p))
+            for col, attr in _PRICED.items():
+                v = getattr(row, attr)
+                if not pd.isna(v):
+                    ws.write_number(r, at[col], _money(int(v), p), f["money"])
+            if row.detail:
+                ws.write_string(r, at["what_changed"], str(row.detail),
+                                f["wrap"] if len(str(row.detail)) > 40 else f["text"])
+    return letters, r
+
+
 def write_bridge_shipments(ws, bridge: Bridge, fm: BridgeFormats) -> dict[str, str]:
     """The Bridge shipments sheet: one row per shipment, its share of each step. Returns the
     column letter of each header."""
-    p = fm.places
-    f = fm.f
-    names = [n for n, _w, _k in BRIDGE_SHIPMENT_COLUMNS]
-    letters = {n: xl_col_to_name(i) for i, n in enumerate(names)}
+    letters, last = _shipment_rows(ws, [(None, bridge)], fm, 0)
     for c, (name, width, _kind) in enumerate(BRIDGE_SHIPMENT_COLUMNS):
-        ws.write_string(0, c, name, f["head"])
         ws.set_column(c, c, max(width, len(name) + 2))
-    steps = [k for k, _l, _m in BRIDGE_STEPS[1:-1]]
-    priced = {"old_route_new_rates": "rates_units", "old_route_new_fuel": "fuel_units",
-              "old_route_new_load": "load_units"}
-    first_step, last_step = letters[steps[0]], letters[steps[-1]]
-    for r, row in enumerate(bridge.contributions.itertuples(index=False), start=1):
-        x = r + 1
-        ws.write_string(r, 0, str(row.shipment_id), f["text"])
-        ws.write_number(r, 1, _money(row.old_units, p), f["money"])
-        for k in steps:
-            units = int(getattr(row, k))
-            ws.write_number(r, names.index(k), _money(units, p), f["delta"])
-        c_new = names.index("new_total_cost")
-        ws.write_number(r, c_new, _money(row.new_units, p), f["money"])
-        check = _money(int(row.old_units) + sum(int(getattr(row, k)) for k in steps) - int(row.new_units), p)
-        ws.write_formula(r, names.index("check"),
-                         f"=ROUND({letters['old_total_cost']}{x}+SUM({first_step}{x}:{last_step}{x})"
-                         f"-{letters['new_total_cost']}{x},{p})", f["delta"], check)
-        for col, attr in priced.items():
-            v = getattr(row, attr)
-            if not pd.isna(v):
-                ws.write_number(r, names.index(col), _money(int(v), p), f["money"])
-        if row.detail:
-            ws.write_string(r, names.index("what_changed"), str(row.detail),
-                            f["wrap"] if len(str(row.detail)) > 40 else f["text"])
-    notes = {
-        "check": "ROUND(old_total_cost + the steps - new_total_cost): 0 on every row.",
-        "old_route_new_rates": "The shipment's OLD route, OLD weight, priced at the NEW rates with the "
-                               "OLD fuel price (blank: not priced).",
-        "old_route_new_fuel": "The same at the NEW fuel price.",
-        "old_route_new_load": "The same with the NEW weight.",
-    }
-    for k, _label, meaning in BRIDGE_STEPS[1:-1]:
-        notes[k] = meaning
-    for name, text in notes.items():
-        ws.write_comment(0, names.index(name), text, {"x_scale": 2.5, "y_scale": 1.5})
     ws.freeze_panes(1, 1)
-    ws.autofilter(0, 0, max(len(bridge.contributions), 1), len(names) - 1)
+    ws.autofilter(0, 0, max(last, 1), len(BRIDGE_SHIPMENT_COLUMNS) - 1)
     return letters
+
+
+def _print_setup(ws, last_row: int, last_col: int, breaks: list[int]) -> None:
+    """A4 landscape, one page wide, page breaks before `breaks` (0-based rows)."""
+    ws.set_paper(9)
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)
+    if breaks:
+        ws.set_h_pagebreaks(breaks)
+    ws.print_area(0, 0, last_row, last_col)
+
+
+def _set_bridge_columns(ws) -> None:
+    for c, (name, width, _kind) in enumerate(BRIDGE_COLUMNS):
+        ws.set_column(c, c, width, None, {"hidden": name.startswith("bar_")})
 
 
 def write_bridge(wb, ws, bridge: Bridge, fm: BridgeFormats, letters: dict[str, str],
@@ -135,31 +171,101 @@ def write_bridge(wb, ws, bridge: Bridge, fm: BridgeFormats, letters: dict[str, s
     largest shipments behind each step. Lays itself out for print (A4 landscape, one page wide):
     the bar_ columns the chart reads are hidden, the chart plots them all the same."""
     p = fm.places
-    f = fm.f
-    n = len(bridge.contributions)
-    last = max(n, 1) + 1  # last data row of the shipments sheet, 1-based
+    last = max(len(bridge.contributions), 1) + 1  # last data row of the shipments sheet, 1-based
     ref = _sheet_ref(shipments_sheet)
 
     def col_sum(name: str) -> str:
         c = letters[name]
         return f"ROUND(SUM({ref}!${c}$2:${c}${last}),{p})"
 
+    _set_bridge_columns(ws)
+    end, breaks = _bridge_block(wb, ws, bridge, fm, 0, col_sum,
+                                f"Cost bridge: {bridge.old_label} to {bridge.new_label} ({bridge.currency})",
+                                f"the {shipments_sheet} sheet")
+    ws.freeze_panes(4, 0)
+    _print_setup(ws, end, len([c for c in BRIDGE_COLUMNS if not c[0].startswith("bar_")]) - 1, breaks)
+
+
+def write_scenario_bridge(wb, ws, rows_ws, bridges: list[tuple[str, Bridge]], fm: BridgeFormats,
+                          rows_sheet: str = SCENARIO_BRIDGE_SHIPMENTS) -> None:
+    """The Scenario bridge sheets of a costed workbook: on `ws`, for each scenario the bridge from
+    the base case (steps as live formulas summing the rows of `rows_ws` with that scenario's
+    name), its chart and the largest shipments behind each step; on `rows_ws` (named
+    `rows_sheet`) every shipment's share of every step, per scenario.
+
+    Parameters
+    ----------
+    wb : xlsxwriter.Workbook
+    ws : worksheet
+        Added with xlsxwriter's own add_worksheet: the sheet lays itself out (hidden chart columns).
+    rows_ws : worksheet
+    bridges : list of (scenario name, Bridge)
+        Each from ``costing.compare.bridge.bridge_results`` (base against the scenario).
+    fm : BridgeFormats
+    """
+    if not bridges:
+        return
+    p = fm.places
+    _set_bridge_columns(ws)
+    letters, last_row = _shipment_rows(rows_ws, bridges, fm, 0)
+    rows_ws.freeze_panes(1, 2)
+    rows_ws.autofilter(0, 0, max(last_row, 1), len(letters) - 1)
+    first, last = 2, max(last_row, 1) + 1
+    ref = _sheet_ref(rows_sheet)
+    ws.write_string(0, 0, "Scenario bridges: from the base case to each scenario, one cause at a time "
+                          f"({bridges[0][1].currency})", fm.f["caption"])
+    r, breaks = 2, []
+    for name, bridge in bridges:
+        name_cell = f"$B${r + 3}"  # _bridge_block writes the scenario's name there
+
+        def col_sum(col: str, name_cell=name_cell) -> str:
+            c, k = letters[col], letters["scenario"]
+            # SUMPRODUCT of an equality, not SUMIFS: a name such as "<10%" or "rates*" would be
+            # read as a condition or a wildcard by SUMIFS
+            return (f"ROUND(SUMPRODUCT(({ref}!${k}${first}:${k}${last}={name_cell})"
+                    f"*{ref}!${c}${first}:${c}${last}),{p})")
+
+        if r > 2:
+            breaks.append(r)
+        end, more = _bridge_block(wb, ws, bridge, fm, r, col_sum,
+                                  f"Scenario {name}: base case to {name} ({bridge.currency})",
+                                  f"the {rows_sheet} sheet", scenario=name)
+        breaks += more
+        r = end + 3
+    _print_setup(ws, r, len([c for c in BRIDGE_COLUMNS if not c[0].startswith("bar_")]) - 1, breaks)
+
+
+def _bridge_block(wb, ws, bridge: Bridge, fm: BridgeFormats, r0: int, col_sum, title: str,
+                  where: str, scenario: str | None = None) -> tuple[int, list[int]]:
+    """One bridge from row `r0`: title, the stated order, the steps table (each amount
+    ``=col_sum(column)``), its check row, warnings, chart and the largest shipments per step.
+    For a `scenario`, OLD and NEW read "base" and "scenario". Returns (last row written, page
+    breaks)."""
+    p = fm.places
+    f = fm.f
+
+    def words(text: str) -> str:
+        if scenario is None:
+            return text
+        return re.sub(r"\bOLD\b", "base", re.sub(r"\bNEW\b", "scenario", text))
+
     names = [c for c, _w, _k in BRIDGE_COLUMNS]
     col = {c: i for i, c in enumerate(names)}
     L = {c: xl_col_to_name(i) for c, i in col.items()}
     shown = [c for c in names if not c.startswith("bar_")]
-    cur = bridge.currency
-    ws.write_string(0, 0, f"Cost bridge: {bridge.old_label} to {bridge.new_label} ({cur})", f["caption"])
-    order = ", ".join(label for _k, label, _m in BRIDGE_STEPS)
-    ws.merge_range(1, 0, 1, len(shown) - 1,
+    ws.write_string(r0, 0, title, f["caption"])
+    order = ", ".join(words(label) for _k, label, _m in BRIDGE_STEPS)
+    ws.merge_range(r0 + 1, 0, r0 + 1, len(shown) - 1,
                    f"Steps in this fixed order, each measured after the ones before it: {order}. Each "
-                   f"amount is the sum of its column on the {shipments_sheet} sheet (one row per shipment); "
-                   "the steps add up to the change exactly, to the minor unit.", f["wrap"])
-    ws.set_row(1, 32)
-    head = 3
-    for c, (name, width, _kind) in enumerate(BRIDGE_COLUMNS):
+                   f"amount is the sum of its column in {where} (one row per shipment); the steps add up "
+                   "to the change exactly, to the minor unit.", f["wrap"])
+    ws.set_row(r0 + 1, 32)
+    if scenario is not None:  # the name the SUMIFS formulas match, in B of the next row
+        ws.write_string(r0 + 2, 0, "scenario", f["bold"])
+        ws.write_string(r0 + 2, 1, scenario, f["bold"])
+    head = r0 + 3
+    for c, (name, _width, _kind) in enumerate(BRIDGE_COLUMNS):
         ws.write_string(head, c, name, f["head"])
-        ws.set_column(c, c, width, None, {"hidden": name.startswith("bar_")})
     ws.set_row(head, 18)
     running = 0
     first = head + 1  # 0-based row of the first step
@@ -171,7 +277,7 @@ def write_bridge(wb, ws, bridge: Bridge, fm: BridgeFormats, letters: dict[str, s
         is_total = step.key in ("start", "end")
         amount = step.units
         ws.write_string(r, col["step"], step.key, f["total_text"] if is_total else f["text"])
-        ws.write_string(r, col["label"], step.label, f["total_text"] if is_total else f["bold"])
+        ws.write_string(r, col["label"], words(step.label), f["total_text"] if is_total else f["bold"])
         if step.key == "start":
             running = amount
             ws.write_formula(r, col["amount"], "=" + col_sum("old_total_cost"), f["total"], _money(amount, p))
@@ -200,17 +306,17 @@ def write_bridge(wb, ws, bridge: Bridge, fm: BridgeFormats, letters: dict[str, s
         else:
             ws.write_number(r, col["bar_total"], 0, f["money"])
         ws.write_number(r, col["shipments"], step.shipments, f["int"])
-        ws.write_string(r, col["what_it_holds"], step.meaning, f["wrap"])
+        ws.write_string(r, col["what_it_holds"], words(step.meaning), f["small_wrap"])
         if step.note:
-            ws.write_string(r, col["note"], step.note, f["wrap"])
-        ws.set_row(r, 30)
+            ws.write_string(r, col["note"], words(step.note), f["small_wrap"])
+        ws.set_row(r, 24)  # two lines of the 9 pt text
     end_row = first + len(bridge.steps) - 1
     r = end_row + 1
     e = end_row + 1
     ws.write_string(r, col["label"], "check (must be 0)", f["bold"])
     ws.write_formula(r, col["amount"], f"=ROUND({L['amount']}{e}-{L['running_total']}{e},{p})", f["delta"],
                      _money(bridge.end_units - running, p))
-    ws.write_string(r, col["what_it_holds"], "NEW total minus the running total after the last step.",
+    ws.write_string(r, col["what_it_holds"], words("NEW total minus the running total after the last step."),
                     f["wrap"])
     for w in bridge.warnings:
         r += 1
@@ -221,12 +327,12 @@ def write_bridge(wb, ws, bridge: Bridge, fm: BridgeFormats, letters: dict[str, s
     # the chart: stacked columns on the bar_ columns
     chart_row = r + 2
     _bridge_chart(wb, ws, bridge, fm, L, first, end_row, chart_row)
-    r = chart_row + 23
-    ws.set_h_pagebreaks([r])  # table and chart on the first page, the lists after
+    r = chart_row + CHART_ROWS
+    breaks = [r]  # table and chart on one page, the lists after
 
     # the largest shipments behind each step, in the table's columns
-    ws.write_string(r, 0, f"The largest shipments behind each step (up to {TOP}, by the size "
-                          f"of their share; every shipment is on the {shipments_sheet} sheet)", f["bold"])
+    ws.write_string(r, 0, f"The largest shipments behind each step (up to {TOP}, by the size of their "
+                          f"share; every shipment is in {where})", f["bold"])
     r += 1
     top_cols = ("step", "label", "amount", "running_total", "shipments", "what_it_holds")
     for h, c in zip(TOP_HEADER, top_cols):
@@ -239,22 +345,17 @@ def write_bridge(wb, ws, bridge: Bridge, fm: BridgeFormats, letters: dict[str, s
             ws.write_string(r, col["step"], step.key, f["text"])
             ws.write_string(r, col["label"], sid, f["text"])
             ws.write_number(r, col["amount"], _money(units, p), f["delta"])
-            share = units / step.units if step.units else None
-            if share is not None:
+            if step.units:
                 ws.write_formula(r, col["running_total"],
-                                 f"={L['amount']}{x}/{L['amount']}${step_row[step.key]}", f["pct"], share)
+                                 f"={L['amount']}{x}/{L['amount']}${step_row[step.key]}", f["pct"],
+                                 units / step.units)
             ws.write_number(r, col["shipments"], rank, f["int"])
             if detail:
                 ws.write_string(r, col["what_it_holds"], detail, f["wrap"])
     if r < top_first:
         r += 1
         ws.write_string(r, col["label"], "(no shipment moved)", f["muted"])
-    ws.freeze_panes(head + 1, 0)
-    # print: A4 landscape, one page wide
-    ws.set_paper(9)
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)
-    ws.print_area(0, 0, r, len(shown) - 1)
+    return r, breaks
 
 
 def _nice_floor(x: float) -> float:
@@ -307,16 +408,17 @@ def _bridge_chart(wb, ws, bridge: Bridge, fm: BridgeFormats, L: dict[str, str], 
     if axis_min < low * 0.2:
         axis_min = 0.0
     y = {"num_format": "#,##0", "major_gridlines": {"visible": True, "line": {"color": "#D9D9D9"}},
-         "name": f"{bridge.currency}" + (f" (axis from {axis_min:,.0f})" if axis_min > 0 else ""),
+         "name": bridge.currency,
          "num_font": {"size": 9}, "name_font": {"size": 9, "bold": False}}
     if axis_min > 0:
         y["min"] = axis_min
     chart.set_y_axis(y)
     chart.set_x_axis({"num_font": {"size": 9, "rotation": -30}})
-    chart.set_title({"name": f"Cost bridge: {bridge.old_label} to {bridge.new_label}",
-                     "name_font": {"size": 12}})
+    start = f" (the axis starts at {axis_min:,.0f})" if axis_min > 0 else ""
+    chart.set_title({"name": f"Cost bridge: {bridge.old_label} to {bridge.new_label}{start}",
+                     "name_font": {"size": 11}})
     chart.set_legend({"position": "bottom", "delete_series": [0], "font": {"size": 9}})
-    chart.set_size({"width": 960, "height": 420})
+    chart.set_size({"width": 960, "height": CHART_HEIGHT_PX})
     ws.insert_chart(at_row, 0, chart, {"x_offset": 4, "y_offset": 4})
 
 
