@@ -402,3 +402,48 @@ def test_scenario_bridges_in_the_costed_workbook(cli, tmp_path):
     amounts = [c.value for c in wsf["C"] if isinstance(c.value, str) and "SUMPRODUCT" in c.value]
     assert len(amounts) == 2 * len(STEP_KEYS)
     assert all("'Scenario bridge shipments'!" in a for a in amounts)
+
+
+def _costed(tmp_path, data, name):
+    from costing.cli import main
+    from costing.workbook.template import write_template
+
+    inp, out = str(tmp_path / f"{name}-input.xlsx"), str(tmp_path / f"{name}-costed.xlsx")
+    write_template(inp, data)
+    assert main(["run", inp, "-o", out, "--quiet"]) == 0
+    return inp, out
+
+
+def test_a_lane_the_new_input_dropped_is_priced_as_the_old_run_had_it(weeks, tmp_path):
+    # week 2 with lane L1 deleted instead of closed: the old route over L1 is priced from OLD's
+    # Legs sheet (100 km, 2.0 h, no toll) or from the OLD input: the same steps as by hand
+    data = week(2)
+    data["Lanes"] = [ln for ln in data["Lanes"] if ln["lane_id"] != "L1"]
+    inp, out = _costed(tmp_path, data, "dropped")
+    old = read_costed(weeks[1][1])
+    for old_model in (None, loaded(weeks[1][0])):
+        b = bridge_workbooks(old, read_costed(out), old_model=old_model, new_model=loaded(inp))
+        assert {s.key: s.units for s in b.steps} == HAND
+
+
+def test_a_vehicle_the_new_input_dropped(weeks, tmp_path):
+    # week 2 with the truck renamed "lorry" (same figures, per_km 1.10): the old routes' card is
+    # gone from the new input. With the OLD input the old card (per_km 1.00) prices the old
+    # routes, so the rate rise shows as part of the change of vehicle; by hand:
+    #   rates: S1 L1 100 + 60 = 160.00 (+0); S2 2 x 160.00 = 320.00 (+0)                     0
+    #   fuel:  + 6.00 per vehicle: S1 166.00 (+6.00), S2 332.00 (+12.00)                  +18.00
+    #   load:  S2 3 x 166.00 = 498.00 (+166.00)                                          +166.00
+    #   vehicle: none (the lanes changed too); reroute S1 237.40 - 166.00 = +71.40,
+    #            S2 712.20 - 498.00 = +214.20                                              +285.60
+    data = week(2)
+    data["Rates"][0]["vehicle"] = "lorry"
+    inp, out = _costed(tmp_path, data, "lorry")
+    old, new = read_costed(weeks[1][1]), read_costed(out)
+    b = bridge_workbooks(old, new, old_model=loaded(weeks[1][0]), new_model=loaded(inp))
+    assert {s.key: s.units for s in b.steps} == {**HAND, "rates": 0, "fuel": 1800, "load": 16600,
+                                                  "reroute": 28560}
+    # without the OLD input the old card is unknown: those shipments are not separated, and said so
+    b = bridge_workbooks(old, new, new_model=loaded(inp))
+    assert b.step("not_separated").units == 23740 + 71220 - 16000 - 32000
+    assert any("rate card truck/road is in neither input" in w for w in b.warnings)
+    assert sum(s.units for s in b.steps[1:-1]) == b.end_units - b.start_units
