@@ -447,3 +447,15 @@ def test_a_vehicle_the_new_input_dropped(weeks, tmp_path):
     assert b.step("not_separated").units == 23740 + 71220 - 16000 - 32000
     assert any("rate card truck/road is in neither input" in w for w in b.warnings)
     assert sum(s.units for s in b.steps[1:-1]) == b.end_units - b.start_units
+
+
+def test_a_workbook_without_legs_is_compared_by_its_summary(weeks, tmp_path):
+    wb = openpyxl.load_workbook(weeks[2][1], data_only=True)
+    wb.remove(wb["Legs"])
+    bare = tmp_path / "no-legs.xlsx"
+    wb.save(bare)
+    b = bridge_workbooks(read_costed(weeks[1][1]), read_costed(bare), new_model=loaded(weeks[2][0]))
+    # as without inputs (see above): S1 and S2 changed route, 469.60 not separated
+    assert {s.key: s.units for s in b.steps} == {**HAND, "rates": 0, "fuel": 0, "load": 0, "reroute": 0,
+                                                 "not_separated": 46960}
+    assert any("no Legs sheet" in w for w in b.warnings)

@@ -408,7 +408,8 @@ def compute_bridge(old: dict[str, Side], new: dict[str, Side], *, currency: str,
         elif o.routed:
             c[CONSOLIDATION] = (n.units - n.standalone_units) - (o.units - o.standalone_units)
             change = n.standalone_units - o.standalone_units
-            same_route = o.lanes == n.lanes and o.cards == n.cards
+            # the route text and vehicle too: without a Legs sheet the legs are not known
+            same_route = (o.lanes, o.cards, o.route, o.vehicle) == (n.lanes, n.cards, n.route, n.vehicle)
             same_load = o.weight_t is not None and o.weight_t == n.weight_t
             if pricer_new is None:
                 c[RATES if same_route and same_load else NOT_SEPARATED] = change
@@ -480,7 +481,8 @@ def _assemble(frame: pd.DataFrame, currency: str, places: int, old_label: str, n
         available = not notes.get(key, "").startswith("n/a")
         note = notes.get(key, "")
         if key == CONSOLIDATION and not consolidation:
-            available, note = False, "n/a: neither run shares vehicles (no standalone_cost column)"
+            available, note = False, ("n/a: no shipment shares vehicles in either run (no standalone_cost "
+                                      "column, or it equals total_cost)")
         if key == NOT_SEPARATED and not note and units == 0 and repriced:
             note = "0: every change was separated"
         step = BridgeStep(key, label, meaning, units, count, available, note)

@@ -70,6 +70,8 @@ class BridgeFormats:
             "caption": wb.add_format({"bold": True, "font_size": 13}),
             "money": wb.add_format({"num_format": money, **top}),
             "delta": wb.add_format({"num_format": f"+{money};-{money};{money}", **top}),
+            # a shipment's share of a step: a zero share shows as a dash, so the moves stand out
+            "share": wb.add_format({"num_format": f'+{money};-{money};"-"', "align": "right", **top}),
             "total": wb.add_format({"num_format": money, "bold": True, "top": 1, "bottom": 1, **top}),
             "total_text": wb.add_format({"bold": True, "top": 1, "bottom": 1, **top}),
             "int": wb.add_format({"num_format": "0", **top}),
@@ -122,7 +124,7 @@ def _shipment_rows(ws, blocks: list[tuple[str | None, Bridge]], fm: BridgeFormat
             ws.write_string(r, at["shipment_id"], str(row.shipment_id), f["text"])
             ws.write_number(r, at["old_total_cost"], _money(row.old_units, p), f["money"])
             for k in steps:
-                ws.write_number(r, at[k], _money(int(getattr(row, k)), p), f["delta"])
+                ws.write_number(r, at[k], _money(int(getattr(row, k)), p), f["share"])
             ws.write_number(r, at["new_total_cost"], _money(row.new_units, p), f["money"])
             check = int(row.old_units) + sum(int(getattr(row, k)) for k in steps) - int(row.new_units)
             ws.write_formula(r, at["check"],
