@@ -68,8 +68,9 @@ START, REMOVED, ADDED, ROUTE_STATUS, RATES, FUEL, LOAD, REROUTE, VEHICLE, NOT_SE
 # (key, label on the chart, what the step holds), in the fixed order of the module docstring
 STEPS: tuple[tuple[str, str, str], ...] = BRIDGE_STEPS
 STEP_KEYS = tuple(k for k, _l, _m in STEPS)
-assert STEP_KEYS == (START, REMOVED, ADDED, ROUTE_STATUS, RATES, FUEL, LOAD, REROUTE, VEHICLE, NOT_SEPARATED,
-                     CONSOLIDATION, END)
+if STEP_KEYS != (START, REMOVED, ADDED, ROUTE_STATUS, RATES, FUEL, LOAD, REROUTE, VEHICLE, NOT_SEPARATED,
+                 CONSOLIDATION, END):  # the contract and this module state one order
+    raise ImportError("costing.contract.outputs.BRIDGE_STEPS is not in the order this module computes")
 MOVES = STEP_KEYS[1:-1]  # the steps between the two totals
 TOP = 5  # shipments listed behind each step
 

@@ -3,8 +3,9 @@ in total, written to a new workbook with the deltas as live formulas.
 
 read_costed reads one costed workbook back through its cached values, matching Summary
 columns by header name; compare pairs the shipments by shipment_id and classifies each
-change; write_comparison writes sheets Changes and Overview. Knows openpyxl (through the
-reader's hardened opening) and xlsxwriter; knows nothing of the search.
+change; write_comparison writes sheets Changes and Overview, and with a cost bridge
+(costing.compare.bridge) sheets Bridge and Bridge shipments (costing.sheets.bridge). Knows
+openpyxl (through the reader's hardened opening) and xlsxwriter; knows nothing of the search.
 
 The pairing is a pandas outer join of the two Summary tables on shipment_id; costs are carried
 in integer minor units (they are read rounded to the currency's minor unit), so every delta and
