@@ -716,7 +716,8 @@ def _write_overview(ws, cmp: Comparison, f, letters: dict[str, str]) -> None:
         ws.write_string(r, 0, label, f["bold"])
         for c, v in ((1, a), (2, b)):
             s = _text("(not recorded)" if v is None else v)
-            ws.write_string(r, c, s, f["text"])
+            # a SHA-256 (64 characters) or a long file name wraps in its column, never cut
+            ws.write_string(r, c, s, f["wrap"] if len(s) > 40 else f["text"])
             widths[c] = max(widths[c], min(len(s) + 2, 70))
 
     text_row("costed workbook", old.file_name, new.file_name)
