@@ -471,6 +471,15 @@ def _assemble(frame: pd.DataFrame, currency: str, places: int, old_label: str, n
     """Step totals (pandas sums of integer minor units) and the largest shipments behind each."""
     totals = frame[list(MOVES)].sum()
     counts = (frame[list(MOVES)] != 0).sum()
+    # every non-zero share as a (shipment, step, units) row; the largest TOP of each step, ties in
+    # sheet order (a stable sort on the size)
+    shares = frame.melt(id_vars=["shipment_id", "detail"], value_vars=list(MOVES), var_name="step",
+                        value_name="units")
+    shares = shares[shares["units"] != 0]
+    shares = shares.assign(size=shares["units"].abs()).sort_values("size", ascending=False, kind="stable")
+    top = {step: [(str(sid), int(units), str(detail)) for sid, units, detail in
+                  zip(g["shipment_id"], g["units"], g["detail"])]
+           for step, g in shares.groupby("step", sort=False).head(TOP).groupby("step", sort=False)}
     steps: list[BridgeStep] = []
     for key, label, meaning in STEPS:
         if key == START:
@@ -487,10 +496,7 @@ def _assemble(frame: pd.DataFrame, currency: str, places: int, old_label: str, n
         if key == NOT_SEPARATED and not note and units == 0 and repriced:
             note = "0: every change was separated"
         step = BridgeStep(key, label, meaning, units, count, available, note)
-        if key not in (START, END):
-            moved = frame.loc[frame[key] != 0, ["shipment_id", key, "detail"]]
-            moved = moved.assign(size=moved[key].abs()).sort_values("size", ascending=False, kind="stable")
-            step.top = [(r.shipment_id, int(getattr(r, key)), r.detail) for r in moved.head(TOP).itertuples()]
+        step.top = top.get(key, [])
         steps.append(step)
     bridge = Bridge(old_label, new_label, currency, places, steps, frame, warnings)
     bridge.check()
