@@ -505,3 +505,17 @@ def test_workbook_path_agrees_with_the_pipeline_path_on_the_demo(cli, tmp_path):
     assert {s.key: s.units for s in from_books.steps} == {s.key: s.units for s in from_runs.steps}
     moved = {s.key for s in from_books.steps[1:-1] if s.units}
     assert {"removed", "fuel", "load", "reroute"} <= moved and from_books.step("not_separated").units == 0
+
+
+def test_check_refuses_a_bridge_that_does_not_add_up(weeks):
+    """No step is a balancing entry: a share moved off by one cent is caught, per shipment and in
+    total, rather than absorbed by the last step."""
+    b = bridge_workbooks(read_costed(weeks[1][1]), read_costed(weeks[2][1]), new_model=loaded(weeks[2][0]))
+    b.check()
+    b.contributions.loc[b.contributions.shipment_id == "S1", "fuel"] += 1
+    with pytest.raises(AssertionError, match="S1"):
+        b.check()
+    b.contributions.loc[b.contributions.shipment_id == "S1", "fuel"] -= 1
+    b.step("fuel").units += 1
+    with pytest.raises(AssertionError):
+        b.check()
