@@ -189,6 +189,9 @@ class Bridge:
         per_shipment = c[list(MOVES)].sum(axis=1)
         bad = c[per_shipment != c["new_units"] - c["old_units"]]
         assert bad.empty, f"contributions do not add up for {list(bad['shipment_id'][:5])}"
+        sums = c[list(MOVES)].sum()
+        off = [s.key for s in self.steps[1:-1] if s.units != int(sums[s.key])]
+        assert not off, f"steps {off} differ from the sum of their shipments' shares"
         moved = sum(s.units for s in self.steps[1:-1])
         assert self.start_units + moved == self.end_units, (self.start_units, moved, self.end_units)
 
