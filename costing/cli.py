@@ -74,10 +74,19 @@ def _parser() -> argparse.ArgumentParser:
     m = sub.add_parser("compare", help="compare two costed workbooks (e.g. last week and this week)",
                        description="Match shipments by shipment_id across two costed workbooks written "
                        "by `costing run` and write DIFF: cost, route and status changes, shipments added "
-                       "and removed, and the change in the total.")
+                       "and removed, the change in the total, and a cost bridge (the change step by step: "
+                       "shipments removed and added, routes lost or found, rates, fuel price, loads, "
+                       "re-routing, vehicles, consolidation).")
     m.add_argument("old", metavar="OLD", help="earlier costed workbook")
     m.add_argument("new", metavar="NEW", help="later costed workbook")
     m.add_argument("-o", "--output", metavar="DIFF", required=True, help="comparison workbook to write")
+    m.add_argument("--old-input", metavar="OLD_INPUT", default=None,
+                   help="the input workbook OLD was costed from: OLD weights, fuel price, and lanes or "
+                   "rate cards the new input dropped, for the cost bridge")
+    m.add_argument("--new-input", metavar="NEW_INPUT", default=None,
+                   help="the input workbook NEW was costed from: the bridge prices the old routes at its "
+                   "rates to separate rates, fuel, load, re-routing and vehicle changes (without it "
+                   "those steps are n/a)")
     m.add_argument("--overwrite", action="store_true", help="replace DIFF if it exists")
     m.add_argument("--quiet", action="store_true", help="print only errors")
 
@@ -374,8 +383,9 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
     t0 = time.perf_counter()
     try:
+        bridges = _scenario_bridges(model, results, scenario_runs)
         _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
-                                                        scenario_runs, costed.runs))
+                                                        scenario_runs, costed.runs, bridges))
     except OutputLimitError as e:
         print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
         return EXIT_INPUT
@@ -393,27 +403,71 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
 
 
 def _compare(args) -> int:
+    from costing.compare.bridge import bridge_workbooks
     from costing.compare.diff import CompareError, compare, read_costed, write_comparison
 
-    for path in (args.old, args.new):
-        if not os.path.exists(path):
+    for path in (args.old, args.new, args.old_input, args.new_input):
+        if path is not None and not os.path.exists(path):
             raise UsageError(f"file not found: {path}")
     _check_output_path(args.output, args.old, args.overwrite)
-    if os.path.exists(args.output) and os.path.samefile(args.output, args.new):
-        raise UsageError("DIFF is the NEW workbook; choose another name")
+    for path in (args.new, args.old_input, args.new_input):
+        if path is not None and os.path.exists(args.output) and os.path.samefile(args.output, path):
+            raise UsageError(f"DIFF is {path}; choose another name")
     try:
-        cmp = compare(read_costed(args.old), read_costed(args.new))
+        old, new = read_costed(args.old), read_costed(args.new)
+        cmp = compare(old, new)
+        models = [_compare_input(path, run) for path, run in ((args.old_input, old), (args.new_input, new))]
+        bridge = bridge_workbooks(old, new, old_model=models[0], new_model=models[1])
     except CompareError as e:
         print(f"costing: error: {e.message} ({e.fix})", file=sys.stderr)
         return EXIT_INPUT
-    _atomic_write(args.output, lambda p: write_comparison(p, cmp))
+    _atomic_write(args.output, lambda p: write_comparison(p, cmp, bridge))
     if not args.quiet:
-        for warning in cmp.warnings:
+        for warning in cmp.warnings + bridge.warnings:
             print(f"warning: {warning}", file=sys.stderr)
         counts = ", ".join(f"{n} {k}" for k, n in cmp.counts.items() if n)
         print(f"{counts}; total {cmp.old_total:,.2f} -> {cmp.new_total:,.2f} {cmp.currency} "
               f"({cmp.total_delta:+,.2f}); wrote {args.output}")
+        p = bridge.places
+        moves = [f"{s.label.lower()} {s.units / 10 ** p:+,.{p}f}" for s in bridge.steps[1:-1] if s.units]
+        na = [s.label.lower() for s in bridge.steps[1:-1] if not s.available]
+        print("bridge: " + (", ".join(moves) or "no change")
+              + (f"; n/a: {', '.join(na)}" if na else ""))
     return EXIT_OK
+
+
+def _scenario_bridges(model, results, scenario_runs) -> list:
+    """(scenario name, Bridge) from the base case to each scenario (costing.compare.bridge), for
+    the Scenario bridge sheets."""
+    from costing.check.scenarios import apply_scenario
+    from costing.compare.bridge import bridge_results
+
+    return [(sr.scenario.name, bridge_results(results, sr.results, model, apply_scenario(model, sr.scenario),
+                                              "base case", sr.scenario.name)) for sr in scenario_runs]
+
+
+def _compare_input(path: str | None, run):
+    """The checked Model of the input a costed workbook was costed from, or None without `path`.
+    Raises CompareError when it cannot be read, has errors, or is not that input (SHA-256)."""
+    from costing.compare.diff import CompareError
+    from costing.pipeline import load
+
+    if path is None:
+        return None
+    model, problems, sha = load(path)
+    name = os.path.basename(path)
+    errors = [p for p in problems if p.severity == ERROR]
+    if model is None or errors:
+        first = errors[0] if errors else None
+        raise CompareError(f"{name} cannot be used for the bridge: {first or 'it cannot be read'}",
+                           f"check it with `costing check {path}`", path)
+    if run.input_sha256 and sha and sha != run.input_sha256:
+        raise CompareError(f"{name} is not the input {run.file_name} was costed from (its SHA-256 "
+                           f"{sha[:12]}... differs from {run.input_sha256[:12]}... on {run.file_name}'s "
+                           "Run sheet)", f"give the input workbook "
+                           f"{run.input_name or 'named on the Run sheet'} as it was when costed, or cost "
+                           "it again", path)
+    return model
 
 
 def _addon(args) -> int:

@@ -392,3 +392,25 @@ def test_compare_command(cli, tmp_path, monkeypatch):
     assert code == 2
     code, _, err = cli("compare", "a.xlsx", "b.xlsx", "-o", "a.xlsx", "--overwrite")
     assert code == 2
+
+
+def test_long_routes_wrap_in_their_column(runs, tmp_path):
+    """A route longer than a text column shows (issue 13: routes overlapped their neighbours):
+    its cell wraps, aligned at the top with the rest of its row, in a column at most 60
+    characters wide (the costed workbook's layout rule, costing.sheets.formats.TEXT_CAP)."""
+    import dataclasses
+
+    cmp = compare(read_costed(runs[0]), read_costed(runs[1]))
+    long_route = " > ".join(f"D{k:02d}" for k in range(40))  # 40 depots, 238 characters
+    cmp.changes[0] = dataclasses.replace(cmp.changes[0], new_route=long_route)
+    out = tmp_path / "long.xlsx"
+    write_comparison(str(out), cmp)
+    ws = openpyxl.load_workbook(out)["Changes"]
+    header = [c.value for c in ws[1]]
+    letter = get_column_letter(header.index("new_route") + 1)
+    cell = ws[f"{letter}2"]
+    assert cell.value == long_route
+    assert cell.alignment.wrap_text and cell.alignment.vertical == "top"
+    assert ws["A2"].alignment.vertical == "top"
+    assert 9 <= ws.column_dimensions[letter].width <= 61
+    assert ws.row_dimensions[2].height >= 30  # taller: the route takes several lines

@@ -3,8 +3,15 @@ in total, written to a new workbook with the deltas as live formulas.
 
 read_costed reads one costed workbook back through its cached values, matching Summary
 columns by header name; compare pairs the shipments by shipment_id and classifies each
-change; write_comparison writes sheets Changes and Overview. Knows openpyxl (through the
-reader's hardened opening) and xlsxwriter; knows nothing of the search."""
+change; write_comparison writes sheets Changes and Overview, and with a cost bridge
+(costing.compare.bridge) sheets Bridge and Bridge shipments (costing.sheets.bridge). Knows
+openpyxl (through the reader's hardened opening) and xlsxwriter; knows nothing of the search.
+
+The pairing is a pandas outer join of the two Summary tables on shipment_id; costs are carried
+in integer minor units (they are read rounded to the currency's minor unit), so every delta and
+total is exact and the per-shipment deltas add up to the change of the total, to the unit. The
+Changes and Overview sheets are laid out as the costed workbook is (costing.sheets.formats):
+long text such as routes wraps in its column."""
 
 from __future__ import annotations
 
@@ -15,12 +22,14 @@ import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
+import numpy as np
+import pandas as pd
 import xlsxwriter
 from xlsxwriter.utility import xl_col_to_name
 
 from costing import __version__
 from costing.contract.inputs import normalise_header
-from costing.contract.outputs import RUN_KEYS
+from costing.contract.outputs import RUN_KEYS, RUN_SETTING_PREFIX
 from costing.errors import CompareError
 from costing.money import minor_unit, round_money
 from costing.workbook.reader import (
@@ -76,6 +85,8 @@ class SummaryRow:
     total_cost: float | None = None
     co2e_kg: float | None = None
     route: str | None = None
+    weight_t: float | None = None
+    standalone_cost: float | None = None  # where the run shares vehicles (consolidation)
 
 
 @dataclass
@@ -95,6 +106,7 @@ class CostedRun:
     run_at: str | None = None
     tool: str | None = None
     warnings: list[str] = field(default_factory=list)
+    settings: dict[str, object] = field(default_factory=dict)  # Run sheet "setting: " rows, as read
 
     @property
     def total_cost(self) -> float | None:
@@ -190,6 +202,11 @@ def _as_number(v: object) -> float | None:
     return x if math.isfinite(x) else None
 
 
+def _money_or_none(v: object, places: int) -> float | None:
+    x = _as_number(v)
+    return None if x is None else round_money(x, places)
+
+
 def _find_sheet(titles: list[str], wanted: str) -> str | None:
     for t in titles:
         if normalise_header(t) == normalise_header(wanted):
@@ -253,7 +270,9 @@ def read_costed(path: str | os.PathLike) -> CostedRun:
                          input_name=_as_text(run.get(RUN_KEYS["input_name"])),
                          input_sha256=_as_text(run.get(RUN_KEYS["input_sha256"])),
                          run_at=_as_text(run.get(RUN_KEYS["run_at"])),
-                         tool=_as_text(run.get(RUN_KEYS["tool"])))
+                         tool=_as_text(run.get(RUN_KEYS["tool"])),
+                         settings={k[len(RUN_SETTING_PREFIX):]: v for k, v in run.items()
+                                   if k.startswith(RUN_SETTING_PREFIX)})
     _fill(run_info, summary_title, index, rows)
     return run_info
 
@@ -326,7 +345,9 @@ def _fill(run: CostedRun, sheet: str, index: dict[str, int], rows: list[tuple[in
             drive_hours=_as_number(get(row, "drive_hours")),
             elapsed_hours=_as_number(get(row, "elapsed_hours")),
             total_cost=None if cost is None else round_money(cost, run.places),
-            co2e_kg=_as_number(get(row, "co2e_kg")), route=_as_text(get(row, "route")))
+            co2e_kg=_as_number(get(row, "co2e_kg")), route=_as_text(get(row, "route")),
+            weight_t=_as_number(get(row, "weight_t")),
+            standalone_cost=_money_or_none(get(row, "standalone_cost"), run.places))
     if total_row is None:
         raise CompareError(f"{name}: the {sheet} sheet has no TOTAL row (shipment_id TOTAL, blank "
                            "status) below the shipments", _COSTED_FIX, run.path)
@@ -382,12 +403,6 @@ def _half_unit(places: int) -> float:
     return 0.5 * 10.0 ** -places
 
 
-def _same_number(a: float | None, b: float | None) -> bool:
-    if a is None or b is None:
-        return a is None and b is None
-    return math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-6)
-
-
 def compare(old: CostedRun, new: CostedRun) -> Comparison:
     """Pair the shipments of two runs by shipment_id and classify each change. Raises
     CompareError when the runs are in different currencies (their costs cannot be subtracted)."""
@@ -396,7 +411,6 @@ def compare(old: CostedRun, new: CostedRun) -> Comparison:
                            f"{new.file_name} in {new.currency}; cost differences would be meaningless",
                            "cost both inputs in the same currency (Settings: currency) and compare again")
     places = old.places
-    half = _half_unit(places)
     notes = [*old.warnings, *new.warnings]
     if "elapsed_hours" in old.columns and "elapsed_hours" in new.columns:
         hours_column = "elapsed_hours"
@@ -413,71 +427,112 @@ def compare(old: CostedRun, new: CostedRun) -> Comparison:
     if old.tool and new.tool and old.tool != new.tool:
         notes.append(f"the runs were made by different versions: {old.tool} and {new.tool}")
 
-    ids = list(old.shipments) + [sid for sid in new.shipments if sid not in old.shipments]
-    order = {sid: i for i, sid in enumerate(ids)}
-    changes = [_change(sid, old.shipments.get(sid), new.shipments.get(sid), hours_column, places, half)
-               for sid in ids]
-
-    def sort_key(c: Change):
-        group = 0 if c.kind == STATUS_CHANGED else (1 if abs(c.delta) >= half else 2)
-        return (group, -abs(c.delta) if group < 2 else 0, order[c.shipment_id])
-
-    changes.sort(key=sort_key)
+    table = _pair(old, new, hours_column, places)
+    changes = [_change_of(row) for row in table.itertuples(index=False)]
     counts = {k: 0 for k in KINDS}
-    for c in changes:
-        counts[c.kind] += 1
-    old_total = round_money(sum(s.total_cost or 0.0 for s in old.shipments.values()), places)
-    new_total = round_money(sum(s.total_cost or 0.0 for s in new.shipments.values()), places)
-    return Comparison(old=old, new=new, changes=changes, counts=counts, old_total=old_total,
-                      new_total=new_total, total_delta=round_money(new_total - old_total, places),
+    counts.update(table["kind"].value_counts().to_dict())
+    scale = 10 ** places
+    old_units = int(table["old_units"].sum())
+    new_units = int(table["new_units"].sum())
+    return Comparison(old=old, new=new, changes=changes, counts=counts, old_total=old_units / scale,
+                      new_total=new_units / scale, total_delta=(new_units - old_units) / scale,
                       currency=old.currency, places=places, hours_column=hours_column, warnings=notes)
 
 
-def _change(sid: str, o: SummaryRow | None, n: SummaryRow | None, hours_column: str, places: int,
-            half: float) -> Change:
-    old_cost = o.total_cost if o else None
-    new_cost = n.total_cost if n else None
-    delta = round_money((new_cost or 0.0) - (old_cost or 0.0), places)
-    if abs(delta) < half:
-        delta = 0.0
+_ASPECTS = ("status", "origin", "destination", "route", "vehicle", "objective")
+_ROUTE_ASPECTS = ("origin", "destination", "route", "vehicle")
+_SIDE_FIELDS = ("status", "origin", "destination", "route", "vehicle", "objective", "total_cost",
+                "co2e_kg")
+
+
+def _side(run: CostedRun, hours_column: str, places: int) -> pd.DataFrame:
+    """One run's shipments as a frame indexed by shipment_id (sheet order), with the cost in
+    integer minor units (the costs are already rounded to the minor unit)."""
+    rows = list(run.shipments.values())
+    frame = pd.DataFrame({f: pd.Series([getattr(s, f) for s in rows], dtype=object)
+                          for f in _SIDE_FIELDS})
+    frame["hours"] = pd.Series([getattr(s, hours_column) for s in rows], dtype=object)
+    frame["shipment_id"] = [s.shipment_id for s in rows]
+    cost = pd.to_numeric(frame["total_cost"], errors="coerce")
+    frame["units"] = (cost * 10 ** places).round().fillna(0).astype("int64")
+    frame["present"] = True
+    return frame
+
+
+def _same_numbers(a: pd.Series, b: pd.Series) -> pd.Series:
+    """Elementwise: both None, or both numbers equal within 1e-9 relative or 1e-6 absolute
+    (math.isclose's rule)."""
+    x = pd.to_numeric(a, errors="coerce").to_numpy(dtype=float)
+    y = pd.to_numeric(b, errors="coerce").to_numpy(dtype=float)
+    both = ~np.isnan(x) & ~np.isnan(y)
+    with np.errstate(invalid="ignore"):
+        close = np.abs(x - y) <= np.maximum(1e-9 * np.maximum(np.abs(x), np.abs(y)), 1e-6)
+    return pd.Series((both & close) | (np.isnan(x) & np.isnan(y)), index=a.index)
+
+
+def _pair(old: CostedRun, new: CostedRun, hours_column: str, places: int) -> pd.DataFrame:
+    """Old and new shipments paired by shipment_id (an outer join: old sheet order, then the new
+    run's additions), one row per shipment with its kind, changed aspects and cost delta,
+    sorted: status changes, then largest |delta| first, then the rest (ties in sheet order)."""
+    a = _side(old, hours_column, places)
+    b = _side(new, hours_column, places)
+    t = a.merge(b, on="shipment_id", how="outer", suffixes=("_old", "_new"))
+    # sheet order: the old run's shipments, then those only the new run has, each in its order
+    ids = pd.concat([a["shipment_id"], b["shipment_id"][~b["shipment_id"].isin(a["shipment_id"])]])
+    t = t.set_index("shipment_id").loc[ids.to_numpy()].reset_index()
+    t["present_old"] = t["present_old"].eq(True)
+    t["present_new"] = t["present_new"].eq(True)
+    t["old_units"] = t["units_old"].fillna(0).astype("int64")
+    t["new_units"] = t["units_new"].fillna(0).astype("int64")
+    t["delta_units"] = t["new_units"] - t["old_units"]
+    both = t["present_old"] & t["present_new"]
+    missing = "\0"  # no text read from a cell is NUL: stands for a blank on either side
+    differs = {asp: both & (t[f"{asp}_old"].fillna(missing) != t[f"{asp}_new"].fillna(missing))
+               for asp in _ASPECTS}
+    cost_missing_differs = t["total_cost_old"].isna() != t["total_cost_new"].isna()
+    differs["cost"] = both & ((t["delta_units"] != 0) | cost_missing_differs)
+    differs["hours"] = both & ~_same_numbers(t["hours_old"], t["hours_new"])
+    differs["co2e"] = both & ~_same_numbers(t["co2e_kg_old"], t["co2e_kg_new"])
+    status = differs["status"]
+    kind = np.select(
+        [~t["present_old"], ~t["present_new"], status,
+         np.logical_or.reduce([differs[x] for x in _ROUTE_ASPECTS]), differs["cost"]],
+        [ADDED, REMOVED, STATUS_CHANGED, ROUTE_CHANGED, COST_CHANGED], UNCHANGED)
+    t["kind"] = kind
+    # a status change lists only what adds to it (route, vehicle, hours, CO2e follow from it)
+    order = ("status", "origin", "destination", "route", "vehicle", "objective", "cost", "hours", "co2e")
+    keep_on_status = ("status", "origin", "destination", "cost")
+    t["changed"] = [tuple(x for x, on in zip(order, flags) if on and (not st or x in keep_on_status))
+                    for st, *flags in zip(status, *(differs[x] for x in order))]
+    t["group"] = np.where(t["kind"] == STATUS_CHANGED, 0, np.where(t["delta_units"] != 0, 1, 2))
+    t["sort_size"] = np.where(t["group"] < 2, -t["delta_units"].abs(), 0)
+    t["sheet_order"] = range(len(t))
+    t = t.sort_values(["group", "sort_size", "sheet_order"], kind="stable")
+    t["places"] = places
+    return t.reset_index(drop=True)
+
+
+def _none(v: object) -> object:
+    """pandas' missing value (NaN) back to None."""
+    return None if v is None or (isinstance(v, float) and math.isnan(v)) else v
+
+
+def _change_of(r) -> Change:
+    """One paired row as a Change record."""
+    scale = 10 ** r.places
+    old_cost, new_cost = _none(r.total_cost_old), _none(r.total_cost_new)
+    delta = r.delta_units / scale
     ratio = delta / old_cost if old_cost is not None and new_cost is not None and old_cost != 0 else None
-    old_hours = getattr(o, hours_column) if o else None
-    new_hours = getattr(n, hours_column) if n else None
-    changed: list[str] = []
-    if o is None:
-        kind = ADDED
-    elif n is None:
-        kind = REMOVED
-    else:
-        for aspect in ("status", "origin", "destination", "route", "vehicle", "objective"):
-            if getattr(o, aspect) != getattr(n, aspect):
-                changed.append(aspect)
-        if abs(delta) >= half or (old_cost is None) != (new_cost is None):
-            changed.append("cost")
-        if not _same_number(old_hours, new_hours):
-            changed.append("hours")
-        if not _same_number(o.co2e_kg, n.co2e_kg):
-            changed.append("co2e")
-        if "status" in changed:
-            kind = STATUS_CHANGED
-            # route, vehicle, hours and CO2e follow from the status; list only what adds to it
-            changed = [a for a in changed if a in ("status", "origin", "destination", "cost")]
-        elif any(a in changed for a in ("origin", "destination", "route", "vehicle")):
-            kind = ROUTE_CHANGED
-        elif "cost" in changed:
-            kind = COST_CHANGED
-        else:
-            kind = UNCHANGED
-    either = n or o
+    either = "_new" if r.present_new else "_old"
     return Change(
-        shipment_id=sid, kind=kind, changed=tuple(changed),
-        old_status=o.status if o else None, new_status=n.status if n else None,
+        shipment_id=r.shipment_id, kind=r.kind, changed=r.changed,
+        old_status=_none(r.status_old), new_status=_none(r.status_new),
         old_cost=old_cost, new_cost=new_cost, delta=delta, delta_ratio=ratio,
-        old_route=o.route if o else None, new_route=n.route if n else None,
-        old_vehicle=o.vehicle if o else None, new_vehicle=n.vehicle if n else None,
-        old_hours=old_hours, new_hours=new_hours,
-        old_co2e=o.co2e_kg if o else None, new_co2e=n.co2e_kg if n else None,
-        origin=either.origin if either else None, destination=either.destination if either else None)
+        old_route=_none(r.route_old), new_route=_none(r.route_new),
+        old_vehicle=_none(r.vehicle_old), new_vehicle=_none(r.vehicle_new),
+        old_hours=_none(r.hours_old), new_hours=_none(r.hours_new),
+        old_co2e=_none(r.co2e_kg_old), new_co2e=_none(r.co2e_kg_new),
+        origin=_none(getattr(r, "origin" + either)), destination=_none(getattr(r, "destination" + either)))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -528,9 +583,12 @@ def _money_format(currency: str, places: int) -> str:
     return f"#,##0{zeros}{suffix}"
 
 
-def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
-    """Write sheets Changes and Overview. Deltas and totals are live formulas with their values
-    cached; every string from the compared workbooks is written as text."""
+def write_comparison(path: str | os.PathLike, comparison: Comparison, bridge=None) -> None:
+    """Write sheets Changes and Overview, and with a `bridge` (costing.compare.bridge.Bridge)
+    sheets Bridge and Bridge shipments (costing.sheets.bridge). Deltas and totals are live
+    formulas with their values cached; every string from the compared workbooks is written as
+    text."""
+    from costing.sheets.formats import install_layout
     from costing.sheets.writer import run_time
 
     cmp = comparison
@@ -542,17 +600,23 @@ def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
                                                "strings_to_numbers": False})
     wb.set_properties({"title": "Comparison of two costed runs", "created": run_time(),
                        "comments": f"Written by costing {__version__}"})
+    # the costed workbook's layout: widths from the shown values, text over 60 characters
+    # wrapped (long routes no longer spill over their neighbours), print set-up
+    install_layout(wb, streaming=False)
     money = _money_format(cmp.currency, cmp.places)
     f = {
         "head": wb.add_format({"bold": True, "bg_color": "#1F4E78", "font_color": "#FFFFFF",
                                "text_wrap": True, "valign": "top", "border": 1}),
-        "money": wb.add_format({"num_format": money}),
-        "delta_money": wb.add_format({"num_format": f"+{money};-{money};{money}"}),
-        "pct": wb.add_format({"num_format": "+0.0%;-0.0%;0.0%"}),
-        "hours": wb.add_format({"num_format": "0.00"}),
-        "kg": wb.add_format({"num_format": "#,##0.0"}),
-        "int": wb.add_format({"num_format": "0"}),
-        "bold": wb.add_format({"bold": True}),
+        # every cell aligned at the top: a wrapped route makes its row taller, and the rest
+        # of the row must read on its first line
+        "text": wb.add_format({"valign": "top"}),
+        "money": wb.add_format({"num_format": money, "valign": "top"}),
+        "delta_money": wb.add_format({"num_format": f"+{money};-{money};{money}", "valign": "top"}),
+        "pct": wb.add_format({"num_format": "+0.0%;-0.0%;0.0%", "valign": "top"}),
+        "hours": wb.add_format({"num_format": "0.00", "valign": "top"}),
+        "kg": wb.add_format({"num_format": "#,##0.0", "valign": "top"}),
+        "int": wb.add_format({"num_format": "0", "valign": "top"}),
+        "bold": wb.add_format({"bold": True, "valign": "top"}),
         "wrap": wb.add_format({"text_wrap": True, "valign": "top"}),
         "up": wb.add_format({"font_color": "#9C0006"}),
         "down": wb.add_format({"font_color": "#006100"}),
@@ -565,6 +629,16 @@ def write_comparison(path: str | os.PathLike, comparison: Comparison) -> None:
     overview_ws = wb.add_worksheet("Overview")
     cols = _write_changes(changes_ws, cmp, f)
     _write_overview(overview_ws, cmp, f, cols)
+    if bridge is not None:
+        from costing.contract.outputs import BRIDGE, BRIDGE_SHIPMENTS
+        from costing.sheets.bridge import BridgeFormats, write_bridge, write_bridge_shipments
+
+        # the Bridge sheet lays itself out (hidden chart columns, a chart): not measured
+        bridge_ws = xlsxwriter.Workbook.add_worksheet(wb, BRIDGE)
+        rows_ws = wb.add_worksheet(BRIDGE_SHIPMENTS)
+        fm = BridgeFormats(wb, bridge.currency, bridge.places)
+        letters = write_bridge_shipments(rows_ws, bridge, fm)
+        write_bridge(wb, bridge_ws, bridge, fm, letters)
     changes_ws.activate()
     wb.close()
 
@@ -581,7 +655,9 @@ def _write_changes(ws, cmp: Comparison, f) -> dict[str, str]:
             if kind == "text":
                 if value is not None and value != "":
                     s = _text(value)
-                    ws.write_string(r, col, s)
+                    # routes and other long text wrap within the column (the layout caps text
+                    # columns at 60 characters), never spilling over the neighbouring cells
+                    ws.write_string(r, col, s, f["wrap"] if len(s) > 40 else f["text"])
                     widths[col] = max(widths[col], min(len(s) + 2, 60))
             elif kind == "delta_money":
                 old, new = letters["old_total_cost"], letters["new_total_cost"]
@@ -618,9 +694,6 @@ def _write_changes(ws, cmp: Comparison, f) -> dict[str, str]:
     k = list(letters).index("change")
     ws.conditional_format(1, k, last, k, {"type": "cell", "criteria": "==", "value": f'"{STATUS_CHANGED}"',
                                           "format": f["status"]})
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)
-    ws.repeat_rows(0)
     return letters
 
 
@@ -643,7 +716,8 @@ def _write_overview(ws, cmp: Comparison, f, letters: dict[str, str]) -> None:
         ws.write_string(r, 0, label, f["bold"])
         for c, v in ((1, a), (2, b)):
             s = _text("(not recorded)" if v is None else v)
-            ws.write_string(r, c, s)
+            # a SHA-256 (64 characters) or a long file name wraps in its column, never cut
+            ws.write_string(r, c, s, f["wrap"] if len(s) > 40 else f["text"])
             widths[c] = max(widths[c], min(len(s) + 2, 70))
 
     text_row("costed workbook", old.file_name, new.file_name)
@@ -709,9 +783,7 @@ def _write_overview(ws, cmp: Comparison, f, letters: dict[str, str]) -> None:
     for i, note in enumerate(notes):
         r += 1
         ws.write_string(r, 0, "note" if i < 3 else "warning", f["bold"])
-        ws.write_string(r, 1, _text(note))
+        ws.write_string(r, 1, _text(note), f["wrap"])
     for c, w in enumerate(widths):
         ws.set_column(c, c, w)
     ws.freeze_panes(1, 1)
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)

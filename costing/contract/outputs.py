@@ -7,8 +7,8 @@ from __future__ import annotations
 
 # The output sheets, in the order they appear. Legs continue on "Legs 2", "Legs 3", ... at the
 # spreadsheet's row limit (Scenario legs on "Scenario legs 2", ...); Scenario comparison, Scenario
-# shipments, Scenario legs, Comparison, Trade-offs, Lane usage, Charts and Map appear only when the
-# run has them.
+# bridge (and its shipments), Scenario shipments, Scenario vehicle runs, Scenario legs, Comparison,
+# Trade-offs, Lane usage, Charts and Map appear only when the run has them.
 SUMMARY = "Summary"
 VEHICLE_RUNS = "Vehicle runs"
 SCENARIO_COMPARISON = "Scenario comparison"
@@ -23,8 +23,11 @@ CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
-SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS,
-          SCENARIO_LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
+SCENARIO_BRIDGE = "Scenario bridge"  # base case to each scenario, cause by cause (costing.compare.bridge)
+SCENARIO_BRIDGE_SHIPMENTS = "Scenario bridge shipments"  # each shipment's share of every step
+SHEETS = (SUMMARY, SCENARIO_COMPARISON, SCENARIO_BRIDGE, SCENARIO_BRIDGE_SHIPMENTS, VEHICLE_RUNS, LEGS,
+          SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE,
+          CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -280,3 +283,55 @@ SCENARIO_SHIPMENT_COLUMNS = [
 # (What each scenario changes is listed below the totals, one change a row.)
 SCENARIO_TOTAL_COLUMNS = (["scenario", "routed", "rerouted", "total_cost", "delta_vs_base", "delta_pct",
                            "co2e_kg"] + SCENARIO_COMPONENTS)
+
+
+
+# --- costing compare OLD NEW -o DIFF: the comparison workbook ----------------------------------
+# Sheets, in order. Changes and Overview list what changed per shipment; Bridge walks from the
+# OLD total to the NEW total one cause at a time (costing.compare.bridge), Bridge shipments holds
+# each shipment's share of every step, the rows the Bridge formulas add up.
+CHANGES = "Changes"
+OVERVIEW = "Overview"
+BRIDGE = "Bridge"
+BRIDGE_SHIPMENTS = "Bridge shipments"
+COMPARE_SHEETS = (CHANGES, OVERVIEW, BRIDGE, BRIDGE_SHIPMENTS)
+
+# The bridge's steps, in their fixed order (a decomposition depends on its order): (key, label on
+# the chart, what the step holds). The key heads the step's column on Bridge shipments.
+BRIDGE_STEPS = (
+    ("start", "OLD total", "Sum of total_cost of the OLD run's shipments."),
+    ("removed", "Removed", "Shipments in OLD only: minus their OLD cost."),
+    ("added", "Added", "Shipments in NEW only: plus their NEW cost."),
+    ("route_status", "Route lost / found",
+     "Shipments routed in one run only (e.g. a closed lane left no route): NEW cost - OLD cost."),
+    ("rates", "Rates", "Old routes priced at the NEW rate cards, lane charges, handling and settings "
+                       "(OLD fuel price), minus their OLD cost."),
+    ("fuel", "Fuel price", "Old routes at the NEW fuel price, minus the same at the OLD fuel price."),
+    ("load", "Load", "Old routes with the NEW shipment weights, minus the same with the OLD weights."),
+    ("reroute", "Re-routing", "Shipments on other lanes: NEW cost minus their old route at NEW rates "
+                              "and weights."),
+    ("vehicle", "Vehicle / carrier", "Same lanes, another vehicle or rate card: NEW cost minus the "
+                                     "old route at NEW rates and weights."),
+    ("not_separated", "Not separated", "Changes of shipments in both runs whose causes could not be "
+                                       "separated (see the note on the step)."),
+    ("consolidation", "Consolidation", "Change in what shared vehicles save: (NEW cost - NEW "
+                                       "stand-alone) - (OLD cost - OLD stand-alone)."),
+    ("end", "NEW total", "Sum of total_cost of the NEW run's shipments."),
+)
+
+# Bridge sheet table: (header, width, kind); the bar_ columns feed the chart (invisible base,
+# increase, decrease, totals).
+BRIDGE_COLUMNS = [
+    ("step", 14, "text"), ("label", 18, "text"), ("amount", 14, "money"), ("running_total", 14, "money"),
+    ("shipments", 9, "int"), ("what_it_holds", 60, "text"), ("note", 40, "text"),
+    ("bar_base", 12, "money"), ("bar_increase", 12, "money"), ("bar_decrease", 12, "money"),
+    ("bar_total", 12, "money"),
+]
+# Bridge shipments: one row per shipment; one money column per step between the totals (its key).
+BRIDGE_SHIPMENT_COLUMNS = (
+    [("shipment_id", 12, "text"), ("old_total_cost", 13, "money")]
+    + [(key, 12, "money") for key, _l, _m in BRIDGE_STEPS[1:-1]]
+    + [("new_total_cost", 13, "money"), ("check", 9, "money"),
+       ("old_route_new_rates", 14, "money"), ("old_route_new_fuel", 14, "money"),
+       ("old_route_new_load", 14, "money"), ("what_changed", 50, "text")]
+)

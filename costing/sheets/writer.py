@@ -4,11 +4,14 @@ every string from the input is written as text. Knows xlsxwriter; knows nothing 
 
 from __future__ import annotations
 
+import xlsxwriter
+
 from costing.contract import outputs as out
 from costing.errors import OutputLimitError
 from costing.model import Model, Problem
 from costing.price.cost import CostedShipment
 from costing.sheets import legs
+from costing.sheets.bridge import BridgeFormats, write_scenario_bridge
 from costing.sheets.charts import write_charts
 from costing.sheets.comparison import write_comparison
 from costing.sheets.formats import MAX_ROWS, Writer, fast_formulas
@@ -33,12 +36,13 @@ __all__ = ["OutputLimitError", "RunInfo", "run_time", "write_costed"]
 
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
                  info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=(),
-                 runs=()) -> None:
+                 runs=(), scenario_bridges=()) -> None:
     """Write the costed workbook. `runs` (costing.plan.week.VehicleRun, ``Costed.runs``) are the
     vehicle runs the results' legs name; `analysis` (costing.plan.analysis.Analysis) adds the
     Comparison, Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
     (costing.plan.analysis.ScenarioRun) the Scenario comparison, Scenario shipments, Scenario
-    vehicle runs and Scenario legs sheets."""
+    vehicle runs and Scenario legs sheets; `scenario_bridges` ((scenario name,
+    costing.compare.bridge.Bridge) pairs) the Scenario bridge sheets."""
     named = {leg.run_id for r in results for leg in r.legs if leg.run_id}
     loaded = [run for run in runs if not run.empty_for]  # empty returns carry no legs
     if len(named) != len(loaded) or any(run.run_id not in named for run in loaded):
@@ -58,6 +62,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     sheets = {}
     if scenario_runs:
         sheets["Scenarios"] = w.wb.add_worksheet(out.SCENARIO_COMPARISON)
+    if scenario_bridges:  # the bridge sheet lays itself out (hidden chart columns): not measured
+        sheets["Scenario bridge"] = xlsxwriter.Workbook.add_worksheet(w.wb, out.SCENARIO_BRIDGE)
+        sheets["Scenario bridge shipments"] = w.wb.add_worksheet(out.SCENARIO_BRIDGE_SHIPMENTS)
     runs_ws = w.wb.add_worksheet(out.VEHICLE_RUNS)
     legs_sheets = [(name, w.wb.add_worksheet(name)) for name in legs_sheet_names(results)]
     if scenario_runs:
@@ -97,6 +104,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
                                                     results)
         scenario_rows = write_scenarios(w, sheets["Scenarios"], results, scenario_runs, last_row,
                                         scenario_legs_last, ship_last)
+    if scenario_bridges:
+        write_scenario_bridge(w.wb, sheets["Scenario bridge"], sheets["Scenario bridge shipments"],
+                              list(scenario_bridges), BridgeFormats(w.wb, model.settings.currency, w.places))
     if "Comparison" in sheets:
         write_comparison(w, sheets["Comparison"], results, analysis)
     if "Trade-offs" in sheets:
