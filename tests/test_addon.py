@@ -107,6 +107,15 @@ def test_set_location_refuses_what_cannot_hold_costing_and_blank_clears(tmp_path
     assert outcome.kind == core.OK and value == "" and core.ENV_VAR in outcome.message
 
 
+def test_text_lines_counts_wrapped_lines():
+    # hand-counted: a word longer than the line is cut at the width; explicit breaks kept
+    assert core.text_lines("", 10) == 1
+    assert core.text_lines("x" * 25, 10) == 3
+    assert core.text_lines("one two three four", 10) == 2  # "one two" / "three four"
+    assert core.text_lines("one two three four", 9) == 3  # "one two" / "three" / "four"
+    assert core.text_lines("one\n\ntwo", 10) == 3
+
+
 def _broken_input(make_input) -> str:
     data = base_data()
     data["Lanes"][0]["from_depot"] = "NOWHERE"  # no such depot

@@ -18,6 +18,7 @@ import io
 import os
 import re
 import sys
+import textwrap
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 
@@ -256,6 +257,12 @@ def problem_rows(problems: Sequence) -> list[Row]:
                                                  p.cell) else ""
         rows.append(Row(text, p.severity, sheet, cell))
     return rows
+
+
+def text_lines(text: str, width_chars: int) -> int:
+    """How many lines `text` takes in a dialog, wrapped at word boundaries to `width_chars`
+    characters a line (its own line breaks kept); at least 1."""
+    return max(1, sum(len(textwrap.wrap(line, width_chars)) or 1 for line in text.split("\n")))
 
 
 def _counts(rows: Sequence[Row]) -> str:

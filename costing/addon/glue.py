@@ -43,14 +43,16 @@ def _prop(name, value):
 
 
 class _Pick(unohelper.Base, XItemListener):
-    """Selects the problem's cell in the document when its row is picked."""
+    """When a problem's row is picked: shows its whole text below the list and selects its cell
+    in the document."""
 
-    def __init__(self, rows, select):
-        self.rows, self.select = rows, select
+    def __init__(self, rows, select, detail):
+        self.rows, self.select, self.detail = rows, select, detail
 
     def itemStateChanged(self, event):
         try:
             row = self.rows[event.Selected]
+            self.detail.setText(row.text)
             if row.sheet and row.cell:
                 self.select(row.sheet, row.cell)
         except Exception:
@@ -248,7 +250,7 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
         smgr = self.ctx.ServiceManager
         model = smgr.createInstanceWithContext("com.sun.star.awt.UnoControlDialogModel", self.ctx)
         width = 300
-        model.Width, model.Height = width, 96
+        model.Width, model.Height = width, 84
         model.Title = "Route costing: costing location"
 
         def add(kind, name, x, y, w, h, **props):
@@ -258,14 +260,14 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
                 setattr(control, key, value)
             model.insertByName(name, control)
 
-        add("FixedText", "label", 6, 6, width - 12, 32, MultiLine=True,
+        add("FixedText", "label", 6, 6, width - 12, 30, MultiLine=True, NoLabel=True,
             Label="The folder costing is installed in: its virtual environment (such as ~/.costing) "
                   "or site-packages folder. Several folders are separated by " + repr(os.pathsep) +
                   ". Leave it empty to use LibreOffice's own Python.")
-        add("Edit", "location", 6, 42, width - 64, 14, Text=current or "")
-        add("Button", "browse", width - 54, 42, 48, 14, Label="Folder…")
-        add("Button", "ok", width - 120, 74, 54, 14, Label="OK", PushButtonType=1, DefaultButton=True)
-        add("Button", "cancel", width - 60, 74, 54, 14, Label="Cancel", PushButtonType=2)
+        add("Edit", "location", 6, 40, width - 64, 14, Text=current or "")
+        add("Button", "browse", width - 54, 40, 48, 14, Label="Folder…")
+        add("Button", "ok", width - 120, 64, 54, 14, Label="OK", PushButtonType=1, DefaultButton=True)
+        add("Button", "cancel", width - 60, 64, 54, 14, Label="Cancel", PushButtonType=2)
         dialog = smgr.createInstanceWithContext("com.sun.star.awt.UnoControlDialog", self.ctx)
         dialog.setModel(model)
         dialog.createPeer(smgr.createInstanceWithContext("com.sun.star.awt.Toolkit", self.ctx), None)
@@ -294,7 +296,8 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
             smgr = self.ctx.ServiceManager
             model = smgr.createInstanceWithContext("com.sun.star.awt.UnoControlDialogModel", self.ctx)
             width = 420
-            message_h = 110 if outcome.kind == core.SETUP else 40
+            # about 4 dialog units a character and 9 a line (Calc's default dialog font)
+            message_h = 9 * core.text_lines(outcome.message, (width - 12) // 4) + 4
             list_h = 150 if outcome.rows else 0
             model.Width, model.Height = width, message_h + list_h + 36
             model.Title = outcome.title
@@ -306,11 +309,16 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
                     setattr(control, key, value)
                 model.insertByName(name, control)
 
-            add("FixedText", "message", 6, 6, width - 12, message_h, Label=outcome.message, MultiLine=True)
+            # NoLabel: the text is shown as it is, no letter taken as a keyboard shortcut
+            add("FixedText", "message", 6, 6, width - 12, message_h, Label=outcome.message, MultiLine=True,
+                NoLabel=True)
             texts = tuple(r.text for r in outcome.rows)
             if texts:
-                add("ListBox", "problems", 6, message_h + 10, width - 12, list_h,
-                    StringItemList=texts)
+                add("ListBox", "problems", 6, message_h + 10, width - 12, list_h - 44,
+                    StringItemList=texts, HelpText="Pick a problem to see all of it and go to its cell.")
+                # the picked row in full (a row is often wider than the list), selectable to copy
+                add("Edit", "detail", 6, message_h + list_h - 30, width - 12, 36, MultiLine=True,
+                    ReadOnly=True, VScroll=True, Text=texts[0])
             add("Button", "close", width - 66, model.Height - 20, 60, 14, Label="Close",
                 PushButtonType=1, DefaultButton=True)
             dialog = smgr.createInstanceWithContext("com.sun.star.awt.UnoControlDialog", self.ctx)
@@ -318,9 +326,12 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
             toolkit = smgr.createInstanceWithContext("com.sun.star.awt.Toolkit", self.ctx)
             dialog.createPeer(toolkit, None)
             shown = list(dialog.getControl("problems").getItems()) if texts else []
-            if texts and doc is not None:
-                dialog.getControl("problems").addItemListener(
-                    _Pick(outcome.rows, lambda s, c: self._select(doc, s, c)))
+            if texts:
+                listbox = dialog.getControl("problems")
+                listbox.selectItemPos(0, True)
+                listbox.addItemListener(_Pick(outcome.rows, (lambda s, c: self._select(doc, s, c))
+                                              if doc is not None else (lambda s, c: None),
+                                              dialog.getControl("detail")))
             self.dialogs += 1
             dialog.execute()  # headless: returns at once (LibreOffice cancels dialogs there)
             dialog.dispose()
