@@ -83,7 +83,7 @@ def setup_help(python: str, version: str) -> str:
             f"    sudo {python} -m pip install --break-system-packages /path/to/costing\n"
             "or rebuild the add-on from the Python where costing is installed (it records where "
             "that is):\n"
-            "    costing addon build -o costing.oxt && unopkg add --force costing.oxt\n"
+            "    costing addon build -o costing.oxt --overwrite && unopkg add --force costing.oxt\n"
             "or give the folder costing is installed in (a virtual environment such as ~/.costing, or "
             "its site-packages folder) with Route costing > Set the costing location…, "
             f"or set {ENV_VAR} to the folders holding costing and its dependencies before starting "
