@@ -424,3 +424,23 @@ def test_set_the_costing_location_stores_the_setting_and_check_still_works(offic
     # put the profile's setting back for the other tests
     back = office(str(doc), f"org.costing.addon:setpath?{original}")["commands"][0]["result"]
     assert back["kind"] == core.OK and back["setting"] == os.pathsep.join(core.search_dirs(original, {}))
+
+
+@pytest.mark.needs_soffice
+def test_screenshot_script_finds_the_menu_toolbar_and_dialogs(tmp_path):
+    # tools/addon_screenshots.py on a virtual screen: LibreOffice's accessibility API (the outside
+    # reference here) names what the menu and the toolbar show; the pictures are PNGs (Pillow)
+    reason = _missing() or next((f"{tool} is not installed (apt-get install -y xvfb imagemagick)"
+                                 for tool in ("Xvfb", "import") if not shutil.which(tool)), None)
+    if reason:
+        pytest.skip(reason)
+    done = subprocess.run([sys.executable, os.path.join(ROOT, "tools", "addon_screenshots.py"), "--out",
+                           str(tmp_path)], capture_output=True, text=True, timeout=600)
+    assert done.returncode == 0, done.stdout + done.stderr
+    assert "menu: Check this workbook | Cost this workbook | Set the costing location…" in done.stdout
+    assert "toolbar: Check this workbook | Cost this workbook" in done.stdout
+    for name in ("menu", "problems", "location"):
+        path = tmp_path / f"addon-{name}.png"
+        assert path.stat().st_size < 200 * 1024  # the README's pictures stay small
+        with Image.open(path) as im:
+            assert im.format == "PNG" and im.width > 300 and im.height > 50

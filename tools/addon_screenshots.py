@@ -142,6 +142,9 @@ def main(argv: list[str] | None = None) -> int:
             print(done.stdout + done.stderr, file=sys.stderr)
             return 1
         boxes = json.loads(done.stdout)
+        # what LibreOffice shows, as its accessibility API names it
+        print("menu: " + " | ".join(boxes["found"]["menu"]))
+        print("toolbar: " + " | ".join(boxes["found"]["toolbar"]))
         os.makedirs(args.out, exist_ok=True)
         for name in ("menu", "problems", "location"):
             dest = os.path.join(args.out, f"addon-{name}.png")
@@ -223,8 +226,13 @@ def uno_part(port: int, workbook: str, folder: str) -> dict:
     menu = next(m for m in menus if m.getAccessibleName() == "Route costing")
     menu.doAccessibleAction(0)
     time.sleep(1)
-    items = [screen_box(menu.getAccessibleChild(i).getAccessibleContext())
-             for i in range(menu.getAccessibleChildCount())]
+    entries = [menu.getAccessibleChild(i).getAccessibleContext()
+               for i in range(menu.getAccessibleChildCount())]
+    items = [screen_box(e) for e in entries]
+    found = {"menu": [e.getAccessibleName() for e in entries if e.getAccessibleName()]}
+    toolbar = layout.getElement(TOOLBAR).getRealInterface().getAccessibleContext()
+    found["toolbar"] = [toolbar.getAccessibleChild(i).getAccessibleContext().getAccessibleName()
+                        for i in range(toolbar.getAccessibleChildCount())]
     # the toolbars' docking area: the panel just under the menu bar
     parts = [screen_box(window.getAccessibleContext().getAccessibleChild(i).getAccessibleContext())
              for i in range(window.getAccessibleContext().getAccessibleChildCount())]
@@ -232,7 +240,7 @@ def uno_part(port: int, workbook: str, folder: str) -> dict:
     toolbars = max((p for p in parts if p[1] == menubar[3] and p[2] > p[0]), key=lambda p: p[3])
     capture("menu")
     # from the menu bar (not the window's title bar) down to the menu's or the toolbars' bottom
-    boxes = {"menu": [0, menubar[1], max(b[2] for b in items) + 16,
+    boxes = {"found": found, "menu": [0, menubar[1], max(b[2] for b in items) + 16,
                       max(max(b[3] for b in items) + 6, toolbars[3] + 1)]}
     menu.doAccessibleAction(0)  # closes it again
     time.sleep(1)
