@@ -439,6 +439,9 @@ def test_screenshot_script_finds_the_menu_toolbar_and_dialogs(tmp_path):
     assert done.returncode == 0, done.stdout + done.stderr
     assert "menu: Check this workbook | Cost this workbook | Set the costing location…" in done.stdout
     assert "toolbar: Check this workbook | Cost this workbook" in done.stdout
+    # picking a problem in the dialog (not the goto command) selects its cell and shows the row
+    # in full; LibreOffice reports the selection
+    assert "picked: WARNING  Shipments!D6 -> $Shipments.$D$6; shown in full: True" in done.stdout
     for name in ("menu", "problems", "location"):
         path = tmp_path / f"addon-{name}.png"
         assert path.stat().st_size < 200 * 1024  # the README's pictures stay small

@@ -14,8 +14,9 @@ starts Xvfb on a free display and LibreOffice on it listening on 127.0.0.1, then
 again with LibreOffice's Python (``--uno``), which opens examples/hollowmere-week.xlsx, docks the
 Route costing toolbar, opens the Route costing menu through LibreOffice's accessibility API and
 captures the screen, closes the menu, dispatches ``org.costing.addon:check`` (its dialog is modal,
-so from a second thread), captures the dialog and closes it with its Close button, then the same
-for ``org.costing.addon:setpath`` and its Cancel button. The
+so from a second thread), captures the dialog, picks its second problem (which must select that
+cell in the workbook) and closes it with its Close button, then the same for
+``org.costing.addon:setpath`` and its Cancel button. The
 pictures are cropped with Pillow and saved as PNG with a reduced palette, to stay small.
 """
 
@@ -145,6 +146,9 @@ def main(argv: list[str] | None = None) -> int:
         # what LibreOffice shows, as its accessibility API names it
         print("menu: " + " | ".join(boxes["found"]["menu"]))
         print("toolbar: " + " | ".join(boxes["found"]["toolbar"]))
+        picked = boxes["found"]["picked"]
+        print(f"picked: {picked['row'].split(':')[0]} -> {picked['selection']}; "
+              f"shown in full: {picked['detail']}")
         os.makedirs(args.out, exist_ok=True)
         for name in ("menu", "problems", "location"):
             dest = os.path.join(args.out, f"addon-{name}.png")
@@ -276,6 +280,8 @@ def uno_part(port: int, workbook: str, folder: str) -> dict:
         except subprocess.CalledProcessError:
             capture(name)
             boxes[name] = list(screen_box(dialog))
+        if name == "problems":  # after the picture: pick the second problem, as a user would
+            found["picked"] = _pick(dialog, 1, doc)
         _find(dialog, button).getAccessibleContext().doAccessibleAction(0)
         worker.join(timeout=30)
 
@@ -283,6 +289,31 @@ def uno_part(port: int, workbook: str, folder: str) -> dict:
     dialog_of("org.costing.addon:setpath", "location", "Cancel", typed="~/.costing")
     doc.close(True)
     return boxes
+
+
+def _pick(dialog, index, doc):
+    """Select row `index` of the dialog's problem list through the accessibility API (the list's
+    XAccessibleSelection, which fires the add-on's item listener as a click does); returns the row,
+    the document's selection afterwards and whether the dialog shows the row in full elsewhere."""
+    import uno
+
+    listbox = _find(dialog, role="LIST").getAccessibleContext()
+    row = listbox.getAccessibleChild(index).getAccessibleContext().getAccessibleName()
+    listbox.selectAccessibleChild(index)
+    time.sleep(1)
+    item = uno.getConstantByName("com.sun.star.accessibility.AccessibleRole.LIST_ITEM")
+
+    def names(acc, depth=0):
+        for i in range(acc.getAccessibleChildCount()):
+            c = acc.getAccessibleChild(i).getAccessibleContext()
+            if c.getAccessibleRole() != item:
+                yield c.getAccessibleName()
+            if depth < 6:
+                yield from names(c, depth + 1)
+
+    selection = doc.getCurrentController().getSelection()
+    return {"row": row, "selection": getattr(selection, "AbsoluteName", None),
+            "detail": row in names(dialog)}
 
 
 def _find(acc, name=None, role=None, depth=0):
