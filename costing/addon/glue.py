@@ -84,6 +84,16 @@ class _Browse(unohelper.Base, XActionListener):
         pass
 
 
+def _add(model, kind, name, box, props):
+    """Put a control of `kind` (FixedText, Edit, ListBox, Button) named `name` in the dialog
+    `model` at `box` (x, y, width, height in dialog units), with the model properties `props`."""
+    control = model.createInstance(f"com.sun.star.awt.UnoControl{kind}Model")
+    control.PositionX, control.PositionY, control.Width, control.Height = box
+    for key, value in props.items():
+        setattr(control, key, value)
+    model.insertByName(name, control)
+
+
 def _log(what):
     try:
         with open(LOG, "a", encoding="utf-8") as f:
@@ -254,11 +264,7 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
         model.Title = "Route costing: costing location"
 
         def add(kind, name, x, y, w, h, **props):
-            control = model.createInstance(f"com.sun.star.awt.UnoControl{kind}Model")
-            control.PositionX, control.PositionY, control.Width, control.Height = x, y, w, h
-            for key, value in props.items():
-                setattr(control, key, value)
-            model.insertByName(name, control)
+            _add(model, kind, name, (x, y, w, h), props)
 
         add("FixedText", "label", 6, 6, width - 12, 30, MultiLine=True, NoLabel=True,
             Label="The folder costing is installed in: its virtual environment (such as ~/.costing) "
@@ -303,11 +309,7 @@ class RouteCosting(unohelper.Base, XDispatchProvider, XNotifyingDispatch, XDispa
             model.Title = outcome.title
 
             def add(kind, name, x, y, w, h, **props):
-                control = model.createInstance(f"com.sun.star.awt.UnoControl{kind}Model")
-                control.PositionX, control.PositionY, control.Width, control.Height = x, y, w, h
-                for key, value in props.items():
-                    setattr(control, key, value)
-                model.insertByName(name, control)
+                _add(model, kind, name, (x, y, w, h), props)
 
             # NoLabel: the text is shown as it is, no letter taken as a keyboard shortcut
             add("FixedText", "message", 6, 6, width - 12, message_h, Label=outcome.message, MultiLine=True,
