@@ -316,6 +316,7 @@ def office():
                              f"--accept=socket,host=127.0.0.1,port={port};urp;StarOffice.ComponentContext"],
                             env=env, stdout=log, stderr=log, start_new_session=True)
     python = _uno_python()
+    kept: list[str] = []
 
     def run(workbook: str, *commands: str) -> dict:
         out = subprocess.run([python, DRIVER, str(port), workbook, *commands], capture_output=True,
@@ -323,7 +324,9 @@ def office():
         if out.returncode != 0:
             with open(log.name) as f:
                 said = f.read()
-            pytest.fail(f"driver failed: {out.stderr}\nsoffice (exit {proc.poll()}) said: {said}")
+            kept.append(base)  # the profile and logs, for a look afterwards
+            pytest.fail(f"driver failed: {out.stderr}\nsoffice (exit {proc.poll()}) said: {said}\n"
+                        f"profile and logs kept in {base}")
         return json.loads(out.stdout)
 
     try:
@@ -338,7 +341,7 @@ def office():
             except ProcessLookupError:
                 pass
         log.close()
-        if not os.environ.get("COSTING_KEEP_OFFICE"):
+        if not os.environ.get("COSTING_KEEP_OFFICE") and not kept:
             shutil.rmtree(base, ignore_errors=True)
 
 
