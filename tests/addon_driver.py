@@ -74,8 +74,13 @@ def main(port, workbook, commands):
     smgr = ctx.ServiceManager
     desktop = smgr.createInstanceWithContext("com.sun.star.frame.Desktop", ctx)
     doc, deadline = None, time.monotonic() + 60
-    while doc is None:  # a just-started office may refuse to load for a moment
-        doc = desktop.loadComponentFromURL(uno.systemPathToFileUrl(workbook), "_blank", 0, ())
+    while doc is None:  # a just-started office may refuse to load for a moment, or raise
+        try:
+            doc = desktop.loadComponentFromURL(uno.systemPathToFileUrl(workbook), "_blank", 0, ())
+        except Exception as e:
+            if time.monotonic() > deadline:
+                raise RuntimeError(f"LibreOffice did not open {workbook}: {e!r}") from e
+            print(f"retrying the load after {e!r}", file=sys.stderr)
         if doc is None:
             if time.monotonic() > deadline:
                 raise RuntimeError(f"LibreOffice did not open {workbook}")

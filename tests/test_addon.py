@@ -18,6 +18,7 @@ import signal
 import socket
 import subprocess
 import sys
+import sysconfig
 import tempfile
 import time
 import zipfile
@@ -25,6 +26,7 @@ from xml.etree import ElementTree
 
 import openpyxl
 import pytest
+from PIL import Image
 
 from costing.addon import build as addon_build
 from costing.addon import core
@@ -60,6 +62,58 @@ def test_output_path_beside_document_then_next_free_name_then_temp(tmp_path):
     # an odd window title still gives a plain file name in the chosen folder
     assert core.output_path(None, "a/b:c.ods", temp) == os.path.join(temp, "a_b_c-costed.xlsx")
     assert core.copy_path(str(doc), None, temp) == os.path.join(temp, "week 12.xlsx")
+
+
+def _fake_venv(root, version=(3, 11)):
+    """A virtual environment's layout as the standard library names it: pyvenv.cfg at the root
+    (PEP 405) and the purelib folder of the posix_prefix scheme (sysconfig), holding costing."""
+    (root / "pyvenv.cfg").parent.mkdir(parents=True, exist_ok=True)
+    (root / "pyvenv.cfg").write_text("home = /usr/bin\n")
+    site = sysconfig.get_path("purelib", "posix_prefix", vars={
+        "base": str(root), "platbase": str(root), "py_version_short": "{}.{}".format(*version),
+        "implementation_lower": "python", "abiflags": "", "installed_base": str(root)})
+    os.makedirs(os.path.join(site, "costing"))
+    open(os.path.join(site, "costing", "__init__.py"), "w").close()
+    return site
+
+
+def test_set_location_from_a_venv_root_its_site_packages_or_the_package_folder(tmp_path):
+    site = _fake_venv(tmp_path / "venv")
+    # a virtual environment's root: its site-packages for LibreOffice's Python version
+    outcome, value = core.set_location(str(tmp_path / "venv"), version=(3, 11))
+    assert outcome.kind == core.OK and value == site
+    assert "virtual environment" in outcome.message and site in outcome.message
+    # its site-packages as such, or the costing folder itself (-> the folder above it)
+    assert core.set_location(site, version=(3, 11))[1] == site
+    outcome, value = core.set_location(os.path.join(site, "costing") + os.pathsep + str(tmp_path),
+                                       version=(3, 11))
+    assert value == os.pathsep.join([site, str(tmp_path)]) and "package itself" in outcome.message
+    # costing already imported from elsewhere in this LibreOffice: a restart is needed
+    assert "restart" in core.set_location(site, loaded_from="/elsewhere", version=(3, 11))[0].message
+    assert "restart" not in core.set_location(site, loaded_from=site, version=(3, 11))[0].message
+
+
+def test_set_location_refuses_what_cannot_hold_costing_and_blank_clears(tmp_path):
+    _fake_venv(tmp_path / "venv")
+    # a venv made with another Python version has no site-packages for LibreOffice's
+    outcome, value = core.set_location(str(tmp_path / "venv"), version=(3, 12))
+    assert outcome.kind == core.ERROR and value is None and "3.12" in outcome.message
+    outcome, value = core.set_location(str(tmp_path / "nowhere"))
+    assert outcome.kind == core.ERROR and value is None and "does not exist" in outcome.message
+    (tmp_path / "empty").mkdir()
+    outcome, value = core.set_location(str(tmp_path / "empty"))
+    assert outcome.kind == core.ERROR and value is None and "costing package" in outcome.message
+    outcome, value = core.set_location("  ")
+    assert outcome.kind == core.OK and value == "" and core.ENV_VAR in outcome.message
+
+
+def test_text_lines_counts_wrapped_lines():
+    # hand-counted: a word longer than the line is cut at the width; explicit breaks kept
+    assert core.text_lines("", 10) == 1
+    assert core.text_lines("x" * 25, 10) == 3
+    assert core.text_lines("one two three four", 10) == 2  # "one two" / "three four"
+    assert core.text_lines("one two three four", 9) == 3  # "one two" / "three" / "four"
+    assert core.text_lines("one\n\ntwo", 10) == 3
 
 
 def _broken_input(make_input) -> str:
@@ -150,6 +204,35 @@ def test_built_extension_is_a_complete_package(tmp_path):
             "Cost this workbook" in addons
         values = [e.text for e in ElementTree.fromstring(z.read("Settings.xcu")).iter("value")]
         assert values == [setting]  # the &-escaped path reads back exactly
+        # every file Addons.xcu names by %origin% (the icons) is in the package, and is a square
+        # RGBA PNG of LibreOffice's small (16 px) or large (26 px) toolbar size (read with Pillow)
+        referenced = [e.text[len("%origin%/"):] for e in ElementTree.fromstring(z.read("Addons.xcu")).iter(
+            "value") if e.text and e.text.startswith("%origin%/")]
+        assert len(referenced) == 4 and set(referenced) <= names
+        assert set(addon_build.icon_names()) == set(referenced)
+        for name in referenced:
+            with Image.open(z.open(name)) as im:
+                assert im.format == "PNG" and im.mode == "RGBA" and im.size in ((16, 16), (26, 26))
+                assert im.getextrema()[3][1] == 255  # something is drawn
+        # the images are bound to the commands the menu and toolbar dispatch
+        urls = {e.text for e in ElementTree.fromstring(z.read("Addons.xcu")).iter("value")}
+        assert {"org.costing.addon:check", "org.costing.addon:cost", "org.costing.addon:setpath"} <= urls
+
+
+def test_package_data_ships_every_extension_file():
+    # what setuptools installs is what pyproject's package-data globs match (fnmatch, as setuptools
+    # matches them): every file of oxt/ must be matched, or an installed costing builds a broken .oxt
+    import fnmatch
+
+    tomllib = pytest.importorskip("tomllib")  # Python 3.11+
+    with open(os.path.join(ROOT, "pyproject.toml"), "rb") as f:
+        globs = tomllib.load(f)["tool"]["setuptools"]["package-data"]["costing.addon"]
+    folder = os.path.join(ROOT, "costing", "addon")
+    files = [os.path.relpath(os.path.join(d, f), folder).replace(os.sep, "/")
+             for d, _, fs in os.walk(os.path.join(folder, "oxt")) for f in fs]
+    assert any(f.startswith("oxt/icons/") for f in files)
+    unmatched = [f for f in files if not any(fnmatch.fnmatch(f, g) for g in globs)]
+    assert unmatched == []
 
 
 def test_cli_addon_build(cli, tmp_path):
@@ -233,6 +316,7 @@ def office():
                              f"--accept=socket,host=127.0.0.1,port={port};urp;StarOffice.ComponentContext"],
                             env=env, stdout=log, stderr=log, start_new_session=True)
     python = _uno_python()
+    kept: list[str] = []
 
     def run(workbook: str, *commands: str) -> dict:
         out = subprocess.run([python, DRIVER, str(port), workbook, *commands], capture_output=True,
@@ -240,7 +324,9 @@ def office():
         if out.returncode != 0:
             with open(log.name) as f:
                 said = f.read()
-            pytest.fail(f"driver failed: {out.stderr}\nsoffice (exit {proc.poll()}) said: {said}")
+            kept.append(base)  # the profile and logs, for a look afterwards
+            pytest.fail(f"driver failed: {out.stderr}\nsoffice (exit {proc.poll()}) said: {said}\n"
+                        f"profile and logs kept in {base}")
         return json.loads(out.stdout)
 
     try:
@@ -255,7 +341,7 @@ def office():
             except ProcessLookupError:
                 pass
         log.close()
-        if not os.environ.get("COSTING_KEEP_OFFICE"):
+        if not os.environ.get("COSTING_KEEP_OFFICE") and not kept:
             shutil.rmtree(base, ignore_errors=True)
 
 
@@ -317,3 +403,50 @@ def test_broken_workbook_yields_problems_not_a_crash(office, make_input, tmp_pat
     assert "nothing was costed" in cost["result"]["message"]
     assert not (tmp_path / "broken-costed.xlsx").exists()
     assert goto["selection"] == f"$Lanes.${where[0]}${where[1:]}"
+
+
+def test_set_the_costing_location_stores_the_setting_and_check_still_works(office, tmp_path):
+    doc = tmp_path / "hollowmere-week.xlsx"
+    shutil.copy(EXAMPLE, doc)
+    package = os.path.dirname(os.path.dirname(os.path.abspath(core.__file__)))  # .../costing
+    got = office(str(doc), "org.costing.addon:setpath", "org.costing.addon:setpath?/no/such/folder",
+                 f"org.costing.addon:setpath?{package}", "org.costing.addon:check")
+    asked, missing, stored, check = (c["result"] for c in got["commands"])
+    assert all(c["handled"] for c in got["commands"])
+    original = asked["setting"]
+    # headless, LibreOffice cancels the input dialog at once: nothing changes, no dialog follows
+    assert asked["kind"] == "cancelled" and original
+    # a folder that is not there: said, and the setting kept
+    assert missing["kind"] == core.ERROR and "/no/such/folder" in missing["message"]
+    assert missing["setting"] == original and missing["dialog_rows"] == []
+    # the costing package folder itself: the folder above it is stored, read back from
+    # LibreOffice's configuration
+    assert stored["kind"] == core.OK, stored["message"]
+    assert stored["setting"] == os.path.dirname(package)
+    assert check["kind"] == core.OK, check["message"]
+    # put the profile's setting back for the other tests
+    back = office(str(doc), f"org.costing.addon:setpath?{original}")["commands"][0]["result"]
+    assert back["kind"] == core.OK and back["setting"] == os.pathsep.join(core.search_dirs(original, {}))
+
+
+@pytest.mark.needs_soffice
+def test_screenshot_script_finds_the_menu_toolbar_and_dialogs(tmp_path):
+    # tools/addon_screenshots.py on a virtual screen: LibreOffice's accessibility API (the outside
+    # reference here) names what the menu and the toolbar show; the pictures are PNGs (Pillow)
+    reason = _missing() or next((f"{tool} is not installed (apt-get install -y xvfb imagemagick)"
+                                 for tool in ("Xvfb", "import") if not shutil.which(tool)), None)
+    if reason:
+        pytest.skip(reason)
+    done = subprocess.run([sys.executable, os.path.join(ROOT, "tools", "addon_screenshots.py"), "--out",
+                           str(tmp_path)], capture_output=True, text=True, timeout=600)
+    assert done.returncode == 0, done.stdout + done.stderr
+    assert "menu: Check this workbook | Cost this workbook | Set the costing location…" in done.stdout
+    assert "toolbar: Check this workbook | Cost this workbook" in done.stdout
+    # picking a problem in the dialog (not the goto command) selects its cell and shows the row
+    # in full; LibreOffice reports the selection
+    assert "picked: WARNING  Shipments!D6 -> $Shipments.$D$6; shown in full: True" in done.stdout
+    for name in ("menu", "problems", "location"):
+        path = tmp_path / f"addon-{name}.png"
+        assert path.stat().st_size < 200 * 1024  # the README's pictures stay small
+        with Image.open(path) as im:
+            assert im.format == "PNG" and im.width > 300 and im.height > 50

@@ -1,10 +1,11 @@
 """Build the Route costing extension (.oxt): ``costing addon build [-o PATH]``.
 
-The .oxt is a zip of the files in ``oxt/``, the UNO glue (``glue.py`` as ``route_costing.py``)
-and the plain logic (``core.py`` as ``pythonpath/costing_addon_core.py``, a folder LibreOffice
-puts on the component's ``sys.path``). The extension setting PythonPath defaults to the folders
-this Python imports costing and its dependencies from, so an extension built where costing is
-installed finds it, provided LibreOffice's Python has the same version (see the README).
+The .oxt is a zip of the files in ``oxt/`` (the toolbar icons in ``oxt/icons/`` as they are), the
+UNO glue (``glue.py`` as ``route_costing.py``) and the plain logic (``core.py`` as
+``pythonpath/costing_addon_core.py``, a folder LibreOffice puts on the component's ``sys.path``).
+The extension setting PythonPath defaults to the folders this Python imports costing and its
+dependencies from, so an extension built where costing is installed finds it, provided
+LibreOffice's Python has the same version (see the README).
 """
 
 from __future__ import annotations
@@ -39,6 +40,12 @@ def package_dirs() -> list[str]:
     return dirs
 
 
+def icon_names() -> list[str]:
+    """The toolbar icons shipped, as paths inside the extension (``icons/NAME-SIZE.png``)."""
+    folder = os.path.join(OXT, "icons")
+    return sorted(f"icons/{f}" for f in os.listdir(folder) if f.endswith(".png"))
+
+
 def build(output: str, python_path: str | None = None) -> str:
     """Write the extension to `output`; `python_path` is the PythonPath setting to ship
     (None: `package_dirs` of this Python, "": none). Returns the setting shipped."""
@@ -51,6 +58,8 @@ def build(output: str, python_path: str | None = None) -> str:
                 text = f.read()
             text = text.replace("@VERSION@", __version__).replace("@PYTHONPATH@", escape(setting))
             z.writestr(name, text)
+        for name in icon_names():
+            z.write(os.path.join(OXT, name), name)
         z.write(os.path.join(HERE, "glue.py"), "route_costing.py")
         z.write(os.path.join(HERE, "core.py"), "pythonpath/costing_addon_core.py")
     return setting

@@ -1,5 +1,6 @@
-"""The add-on's logic, plain Python with no UNO: find the costing package, decide what to run,
-turn problems into dialog rows, choose where the costed workbook goes.
+"""The add-on's logic, plain Python with no UNO: find the costing package, check and store the
+location the user gives for it, decide what to run, turn problems into dialog rows, choose where
+the costed workbook goes.
 
 The extension ships this file as ``pythonpath/costing_addon_core.py`` beside its UNO glue
 (``glue.py``, shipped as ``route_costing.py``), so it imports nothing but the standard library
@@ -17,6 +18,7 @@ import io
 import os
 import re
 import sys
+import textwrap
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 
@@ -81,10 +83,11 @@ def setup_help(python: str, version: str) -> str:
             f"    sudo {python} -m pip install --break-system-packages /path/to/costing\n"
             "or rebuild the add-on from the Python where costing is installed (it records where "
             "that is):\n"
-            "    costing addon build -o costing.oxt && unopkg add --force costing.oxt\n"
+            "    costing addon build -o costing.oxt --overwrite && unopkg add --force costing.oxt\n"
+            "or give the folder costing is installed in (a virtual environment such as ~/.costing, or "
+            "its site-packages folder) with Route costing > Set the costing location…, "
             f"or set {ENV_VAR} to the folders holding costing and its dependencies before starting "
-            "LibreOffice (or the extension setting org.costing.addon / Paths / PythonPath in Tools > "
-            "Options > Advanced > Expert Configuration), then restart LibreOffice.")
+            "LibreOffice, then restart LibreOffice.")
 
 
 def locate(setting: str = "", env: Mapping[str, str] | None = None,
@@ -124,6 +127,74 @@ def locate(setting: str = "", env: Mapping[str, str] | None = None,
                        f"be built for the same Python version.\n\n"
                        + setup_help(sys.executable or "python3", sys.version.split()[0]))
     return None
+
+
+# ------------------------------------------------------------------ setting the location
+
+def resolve_location(text: str, version: tuple[int, int] | None = None,
+                     isdir: Callable[[str], bool] = os.path.isdir,
+                     isfile: Callable[[str], bool] = os.path.isfile
+                     ) -> tuple[list[str], list[str], list[str]]:
+    """Turn what the user typed as the costing location into the folders to store.
+
+    `text` holds one or more folders separated by os.pathsep (``~`` expanded). A virtual
+    environment's root (it has ``pyvenv.cfg``) becomes its ``lib/pythonX.Y/site-packages`` for
+    `version` (LibreOffice's Python; default: this one); the ``costing`` package folder itself
+    becomes the folder above it. Returns (folders, notes on what was changed, problems).
+    """
+    major, minor = version or sys.version_info[:2]
+    dirs: list[str] = []
+    notes: list[str] = []
+    problems: list[str] = []
+    for d in search_dirs(text, {}):
+        d = os.path.normpath(os.path.abspath(d))
+        if not isdir(d):
+            problems.append(f"{d} does not exist or is not a folder.")
+            continue
+        if isfile(os.path.join(d, "pyvenv.cfg")):
+            site = os.path.join(d, "lib", f"python{major}.{minor}", "site-packages")
+            if not isdir(site):
+                problems.append(f"{d} is a virtual environment without {site}: it was not made with a "
+                                f"Python {major}.{minor}, the version LibreOffice runs. Make it with "
+                                f"/usr/bin/python3 -m venv.")
+                continue
+            notes.append(f"{d} is a virtual environment: using its {site}.")
+            d = site
+        elif os.path.basename(d) == "costing" and isfile(os.path.join(d, "__init__.py")):
+            notes.append(f"{d} is the costing package itself: using the folder above it.")
+            d = os.path.dirname(d)
+        if d not in dirs:
+            dirs.append(d)
+    return dirs, notes, problems
+
+
+def set_location(text: str, loaded_from: str | None = None, version: tuple[int, int] | None = None,
+                 isdir: Callable[[str], bool] = os.path.isdir,
+                 isfile: Callable[[str], bool] = os.path.isfile) -> tuple[Outcome, str | None]:
+    """What to store as the PythonPath setting for the location the user typed, and the dialog
+    saying so. Returns (Outcome, value to store); the value is None when nothing may be stored
+    (a folder is missing, or none holds the costing package). Blank `text` clears the setting.
+
+    `loaded_from` is the folder costing was already imported from in this LibreOffice session,
+    if any: Python keeps a module once imported, so another location needs a restart.
+    """
+    title = "Route costing: costing location"
+    if not text.strip():
+        return Outcome(OK, title, "The costing location is cleared. Check and Cost now look for costing "
+                       f"in the folders of {ENV_VAR}, if set, then in LibreOffice's own Python."), ""
+    dirs, notes, problems = resolve_location(text, version, isdir, isfile)
+    if problems:
+        return Outcome(ERROR, title, "Nothing was changed. " + " ".join(problems)), None
+    if not any(isfile(os.path.join(d, "costing", "__init__.py")) for d in dirs):
+        return Outcome(ERROR, title, "Nothing was changed: the costing package (a folder costing with "
+                       "__init__.py) is in none of " + ", ".join(dirs) + ". Give the virtual environment "
+                       "costing is installed in (such as ~/.costing) or its site-packages folder."), None
+    value = os.pathsep.join(dirs)
+    message = " ".join(notes + [f"Check and Cost will import costing from {value}."])
+    if loaded_from and os.path.normpath(loaded_from) not in dirs:
+        message += (f" This LibreOffice has already loaded costing from {loaded_from}: restart "
+                    "LibreOffice for the new location to take effect.")
+    return Outcome(OK, title, message), value
 
 
 # ------------------------------------------------------------------ paths
@@ -186,6 +257,12 @@ def problem_rows(problems: Sequence) -> list[Row]:
                                                  p.cell) else ""
         rows.append(Row(text, p.severity, sheet, cell))
     return rows
+
+
+def text_lines(text: str, width_chars: int) -> int:
+    """How many lines `text` takes in a dialog, wrapped at word boundaries to `width_chars`
+    characters a line (its own line breaks kept); at least 1."""
+    return max(1, sum(len(textwrap.wrap(line, width_chars)) or 1 for line in text.split("\n")))
 
 
 def _counts(rows: Sequence[Row]) -> str:
