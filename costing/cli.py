@@ -480,7 +480,7 @@ def _addon(args) -> int:
     setting = build(args.output, args.python_path)
     print(f"extension written: {args.output} (finds costing in: {setting or 'LibreOffice Python only'}; "
           f"built with Python {python_version_note()}, LibreOffice's must match). "
-          f"Install: unopkg add {args.output}")
+          f"Install (or update): unopkg add --force {args.output}")
     return EXIT_OK
 
 

@@ -321,6 +321,12 @@ def office():
     def run(workbook: str, *commands: str) -> dict:
         out = subprocess.run([python, DRIVER, str(port), workbook, *commands], capture_output=True,
                              text=True, env=env, timeout=600)
+        if out.returncode != 0 and proc.poll() is None:
+            # once more: on a busy machine the UNO bridge can drop its first connection while the
+            # office is still starting (the driver's own answer is checked either way)
+            time.sleep(3)
+            out = subprocess.run([python, DRIVER, str(port), workbook, *commands], capture_output=True,
+                                 text=True, env=env, timeout=600)
         if out.returncode != 0:
             with open(log.name) as f:
                 said = f.read()
