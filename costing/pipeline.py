@@ -154,7 +154,8 @@ def run(model: Model, options: Options | None = None) -> Costed:
     times["search and cost"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
-    week = plan_week(model, lambda s: router.route(s, "cost", notes=False), results)
+    week = plan_week(model, lambda s: router.route(s, "cost", notes=False), results,
+                     lambda ships: router.prepare(ships, "cost"))
     results = week.results
     router.problems += week.problems
     times["plan (vehicle runs)"] = time.perf_counter() - t0

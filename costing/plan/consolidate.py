@@ -26,6 +26,11 @@ Method.
    sweep over the pairs, each pair moved (at the plan as it then is) when that lowers the
    total; after a sweep with moves go back to step 2. Stop when neither single nor pair moves lower the total.
 
+Speed. A run of more than ``EXACT_PACKING`` loads is not repacked at every move: its vehicles with
+one more load are estimated as the lower bound (total / capacity in the tightest dimension) plus
+the slack of its current exact packing, from running sums kept as loads join and leave; shares,
+handling maxima and stand-alone sums are kept the same way. The final runs are packed exactly.
+
 Guarantees.
 - Terminates: every move strictly lowers the total, and there are finitely many assignments,
   so no assignment is visited twice.
@@ -35,7 +40,8 @@ Guarantees.
   vehicle per piece), so the start costs at most the sum of the loads' stand-alone cheapest
   costs; moves only lower it.
 - A local optimum with respect to single-load moves (and pair moves, when on): no load (no two
-  loads) can be moved to other candidate routes to lower the total.
+  loads) can be moved to other candidate routes to lower the total (for runs of more than
+  ``EXACT_PACKING`` loads, the total as estimated above).
 - Not globally optimal in general: moving three or more loads together can lower the total when
   no single or pair move does (without pair moves already two: both onto a shared trunk that is
   dearer for either alone), and first-fit decreasing may use more vehicles than the best
@@ -64,6 +70,9 @@ from costing.price.allocate import allocate
 
 _EPS = 1e-9  # size tolerance (49.0 t on 24.5 t payloads is 2 vehicles despite float division)
 _COST_EPS = 1e-7  # a move must lower the total by more than this (currency)
+# runs of up to this many loads are packed exactly at every move; larger ones are estimated during
+# the moves (lower bound plus the current packing's slack) and packed exactly at the end
+EXACT_PACKING = 24
 
 
 @dataclass(frozen=True)
@@ -283,6 +292,11 @@ class _State:
         self.cpv: dict[tuple, float] = {}
         self.extras: dict[tuple, tuple[float, ...]] = {}  # (run key, load index) -> its extras
         self._cache: dict[tuple, int] = {}
+        self._alone_cost: dict[tuple, float] = {}
+        # running aggregates of each run's members (kept by place/remove), for large runs
+        self.size_sums: dict[tuple, list[float]] = {}
+        self.alone_sum: dict[tuple, float] = {}
+        self.extra_counts: dict[tuple, dict[tuple, int]] = {}
         for li, load in enumerate(loads):
             for route in load.routes:
                 for st in route:
@@ -299,6 +313,7 @@ class _State:
                                          f"(load {load.load_id!r}, step {st.key!r})")
 
     def vehicles(self, rk: tuple, members: frozenset[int]) -> int:
+        """First-fit decreasing vehicles of `members` on run `rk` (cached)."""
         key = (rk, members)
         n = self._cache.get(key)
         if n is None:
@@ -307,19 +322,67 @@ class _State:
             self._cache[key] = n
         return n
 
+    def _alone(self, rk: tuple, i: int) -> float:
+        """Load i on run rk with vehicles of its own."""
+        a = self._alone_cost.get((rk, i))
+        if a is None:
+            a = self._alone_cost[(rk, i)] = (self.vehicles(rk, frozenset((i,)))
+                                             * (self.cpv[rk] + sum(self.extras[(rk, i)])))
+        return a
+
+    def _lower_bound(self, rk: tuple, sums: list[float]) -> int:
+        """ceil(total / capacity) in the tightest dimension: no packing needs fewer vehicles."""
+        n = 0
+        for x, c in zip(sums, self.capacities[rk[2]].dims()):
+            if c is not None:
+                n = max(n, math.ceil(x / c - _EPS))
+        return max(n, 1)
+
+    def _estimate(self, rk: tuple, members: set[int], li: int) -> int:
+        """Vehicles of `members` plus load li: exact first-fit decreasing for small runs; for a
+        run of more than EXACT_PACKING loads, its current packing's slack over the lower bound
+        added to the lower bound with li (the final count is always packed exactly)."""
+        m = members | {li}
+        if len(m) <= EXACT_PACKING:
+            return self.vehicles(rk, frozenset(m))
+        base = frozenset(members)
+        slack = self.vehicles(rk, base) - self._lower_bound(rk, self._sums(rk))
+        add = self.loads[li].size()
+        return max(self._lower_bound(rk, [a + b for a, b in zip(self._sums(rk), add)]) + slack, 1)
+
+    def _sums(self, rk: tuple) -> list[float]:
+        return self.size_sums.setdefault(rk, [0.0, 0.0, 0.0])
+
+    def _cost(self, rk: tuple, vehicles: int, members: set[int], li: int | None) -> float:
+        """min(shared, alone) for `members` (the run's current members; plus li when given) with
+        `vehicles` shared vehicles, from the run's running aggregates."""
+        count = len(members) + (li is not None)
+        if not count:
+            return 0.0
+        shared = vehicles * (self.cpv[rk] + sum(self._max_extras(rk, li)))
+        if count == 1:
+            return shared
+        return min(shared, self.alone_sum.get(rk, 0.0) + (self._alone(rk, li) if li is not None else 0.0))
+
+    def _max_extras(self, rk: tuple, li: int | None) -> list[float]:
+        seen = self.extra_counts.get(rk, {})
+        vectors = [v for v, k in seen.items() if k > 0]
+        if li is not None:
+            vectors.append(self.extras[(rk, li)])
+        return [max(col) for col in zip(*vectors)] if vectors else []
+
     def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
         """The cheaper of one shared run (vehicles x (shared cost + the largest extras)) and
         every member on vehicles of its own: loads may always run separately."""
-        m = frozenset(members)
+        m = set(members)
         if not m:
             return 0.0
         cpv = self.cpv[rk]
         own = [self.extras[(rk, i)] for i in m]
-        shared = self.vehicles(rk, m) * (cpv + sum(max(col) for col in zip(*own)))
+        shared = self.vehicles(rk, frozenset(m)) * (cpv + sum(max(col) for col in zip(*own)))
         if len(m) == 1:
             return shared
-        alone = sum(self.vehicles(rk, frozenset((i,))) * (cpv + sum(self.extras[(rk, i)])) for i in m)
-        return min(shared, alone)
+        return min(shared, sum(self._alone(rk, i) for i in m))
 
     def marginal(self, li: int, route: tuple[Step, ...]) -> float:
         """What load `li` adds to the runs of `route`, given every other load where it is."""
@@ -327,17 +390,54 @@ class _State:
         add = 0.0
         for st in route:
             rk = (day, st.key, st.card)
-            others = self.members.get(rk, set()) - {li}
-            add += self.run_cost(rk, others | {li}) - self.run_cost(rk, others)
+            members = self.members.get(rk, set())
+            if li in members:  # evaluate as if it were not there
+                self._leave(rk, li)
+                members.discard(li)
+                try:
+                    add += self._added(rk, members, li)
+                finally:
+                    members.add(li)
+                    self._join(rk, li)
+            else:
+                add += self._added(rk, members, li)
         return add
+
+    def _added(self, rk: tuple, others: set[int], li: int) -> float:
+        """run cost with li - run cost without it (`others`: the run's members, li not among them)."""
+        before = self._cost(rk, self.vehicles(rk, frozenset(others)), others, None) if others else 0.0
+        after = self._cost(rk, self._estimate(rk, others, li), others, li)
+        return after - before
+
+    def _join(self, rk: tuple, li: int) -> None:
+        for k, x in enumerate(self.loads[li].size()):
+            self._sums(rk)[k] += x
+        self.alone_sum[rk] = self.alone_sum.get(rk, 0.0) + self._alone(rk, li)
+        counts = self.extra_counts.setdefault(rk, {})
+        v = self.extras[(rk, li)]
+        counts[v] = counts.get(v, 0) + 1
+
+    def _leave(self, rk: tuple, li: int) -> None:
+        for k, x in enumerate(self.loads[li].size()):
+            self._sums(rk)[k] -= x
+        self.alone_sum[rk] -= self._alone(rk, li)
+        self.extra_counts[rk][self.extras[(rk, li)]] -= 1
 
     def place(self, li: int, route: tuple[Step, ...]) -> None:
         for st in route:
-            self.members.setdefault((self.loads[li].day, st.key, st.card), set()).add(li)
+            rk = (self.loads[li].day, st.key, st.card)
+            m = self.members.setdefault(rk, set())
+            if li not in m:
+                m.add(li)
+                self._join(rk, li)
 
     def remove(self, li: int, route: tuple[Step, ...]) -> None:
         for st in route:
-            self.members[(self.loads[li].day, st.key, st.card)].discard(li)
+            rk = (self.loads[li].day, st.key, st.card)
+            m = self.members[rk]
+            if li in m:
+                m.discard(li)
+                self._leave(rk, li)
 
 
 def _check(loads: Sequence[Load]) -> None:

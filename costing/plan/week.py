@@ -225,7 +225,8 @@ def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str
     return sorted(out, key=lambda h: (h not in used, detour(h), h))[:MAX_HUBS]
 
 
-def _candidates(model: Model, route: Callable, results: list[CostedShipment], day_of) -> list[list]:
+def _candidates(model: Model, route: Callable, results: list[CostedShipment], day_of,
+                prepare: Callable | None = None) -> list[list]:
     """Per result: its candidate routes (CostedShipment), the chosen one first."""
     hub_ids = [d.depot_id for d in model.depots if d.kind == "hub"]
     start = first_day(model)
@@ -238,15 +239,22 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                 for d in (leg.use.from_depot, leg.use.to_depot):
                     if d in hub_ids:
                         per_day_hubs.setdefault(day_of(res.shipment), {}).setdefault(d, set()).add(i)
+    tries: dict[int, list[str]] = {}
+    for i, res in enumerate(results):
+        if res.status == ROUTED and res.objective == "cost" and hub_ids and per_day[day_of(res.shipment)] > 1:
+            day_hubs = per_day_hubs.get(day_of(res.shipment), {})
+            used = {h for h, users in day_hubs.items() if users - {i}}
+            tries[i] = _hubs_near(model, res, hub_ids, used)
+    if prepare is not None:  # the halves searched together, one search per origin where it pays
+        prepare([replace(results[i].shipment, destination=h) for i, hubs in tries.items() for h in hubs]
+                + [replace(results[i].shipment, origin=h) for i, hubs in tries.items() for h in hubs])
     out: list[list] = []
     for i, res in enumerate(results):
         cands = [res]
-        if res.status == ROUTED and res.objective == "cost" and hub_ids and per_day[day_of(res.shipment)] > 1:
+        if i in tries:
             s = res.shipment
-            day_hubs = per_day_hubs.get(day_of(s), {})
-            used = {h for h, users in day_hubs.items() if users - {i}}
             on_time = (late_hours(res, start) or 0.0) == 0.0
-            for h in _hubs_near(model, res, hub_ids, used):
+            for h in tries[i]:
                 a = route(replace(s, destination=h))
                 b = route(replace(s, origin=h))
                 if a.status != ROUTED or b.status != ROUTED:
@@ -375,7 +383,7 @@ def _quota(amount: float, key: float, total_key: float, n: int) -> float:
 
 
 def plan_week(model: Model, route: Callable[..., CostedShipment],
-              results: list[CostedShipment]) -> WeekPlan:
+              results: list[CostedShipment], prepare: Callable | None = None) -> WeekPlan:
     """Turn routed shipments into vehicle runs and price each shipment's share.
 
     Parameters
@@ -387,6 +395,9 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         the cost objective, for candidates through hubs (the pipeline passes the Router's).
     results : list of CostedShipment
         The routing stage's results, in the Model's order.
+    prepare : callable, optional
+        ``prepare(shipments)``: batch the searches of the candidates' halves (the Router's
+        ``prepare``, one one-to-many search per origin and profile); the answers are the same.
 
     Returns
     -------
@@ -407,7 +418,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
     groups: dict[tuple, list[tuple[int, int]]] = {}
     vehicles: dict[tuple, int] = {}
     if consolidate:
-        cands = _candidates(model, route, results, day_of)
+        cands = _candidates(model, route, results, day_of, prepare)
         idx = [i for i, r in enumerate(results) if r.status == ROUTED]
         loads = [_load(i, cands[i], model, day_of(results[i].shipment)) for i in idx]
         capacities = {_card_key(c): Capacity(c.payload_t, c.pallet_places, c.volume_m3) for c in model.rates}
@@ -450,7 +461,9 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             keys = [g.tonne_km for g in part_legs]
             cost_shares = allocate(rl.leg_cost, keys, places) if len(part) > 1 else [rl.leg_cost]
             alone = [g.leg_cost for g in part_legs]
-            cost_shares, cut = cap_at_standalone(cost_shares, alone, places)
+            cut: list[int] = []
+            if len(part) > 1:
+                cost_shares, cut = cap_at_standalone(cost_shares, alone, places)
             for pos, ((i, k), g) in enumerate(zip(part, part_legs)):
                 q = _quota(rl.leg_cost, g.tonne_km, tkm, len(part))
                 legs[(i, k)] = replace(g, run_id=run_id, cost_share=cost_shares[pos],

@@ -1,0 +1,89 @@
+"""The plan stage at scale: a week of shipments costed with Settings consolidate = yes and = no in
+the same run, over the same seeded network, through the one pipeline (costing.pipeline.run).
+
+    python -m benchmarks.bench_consolidation                    # 2,000 depots, 10,000 shipments
+    python -m benchmarks.bench_consolidation --smoke            # a small run that takes seconds
+
+The network is bench_workbook's (depots in a 600 x 600 km region, nearest-neighbour and trunk
+road lanes); 1 depot in 100 is a consolidation hub; shipments leave from 50 origins over five
+days (ready_date), 0.5 to 24 t, some with pallets. Analyses (comparison, trade-offs) are off,
+as a coordinator would run a week this size. Prints the stage times of both runs, the ratio of
+the consolidated run to the other, the vehicles and the saving; asserts nothing about time.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as dt
+import os
+import random
+import resource
+import tempfile
+import time
+from dataclasses import replace
+
+import pandas as pd
+
+from benchmarks.bench_workbook import make_input
+from costing import pipeline
+
+
+def week_model(depots: int, lanes: int, shipments: int, origins: int, seed: int = 11):
+    """The seeded Model: bench_workbook's network and shipments, with hubs, ready days and pallets."""
+    with tempfile.TemporaryDirectory() as tmp:
+        path = os.path.join(tmp, "week.xlsx")
+        make_input(path, depots, lanes, shipments, origins, seed=seed)
+        model, problems, _ = pipeline.load(path)
+    assert model is not None, problems[:3]
+    rng = random.Random(seed)
+    hubs = {d.depot_id for d in rng.sample(list(model.depots), max(1, depots // 100))}
+    monday = dt.date(2026, 12, 7)
+    ships = tuple(replace(s, ready_date=monday + dt.timedelta(days=rng.randrange(5)),
+                          pallets=float(rng.randint(1, 26)) if rng.random() < 0.5 else None)
+                  for s in model.shipments)
+    rates = tuple(replace(r, pallet_places=33.0) for r in model.rates)
+    return replace(model, depots=tuple(replace(d, kind="hub") if d.depot_id in hubs else d
+                                       for d in model.depots), shipments=ships, rates=rates)
+
+
+def run(model, consolidate: str) -> dict:
+    m = replace(model, settings=replace(model.settings, consolidate=consolidate))
+    t0 = time.perf_counter()
+    costed = pipeline.run(m, pipeline.Options(analyses=False, scenarios=False))
+    wall = time.perf_counter() - t0
+    routed = [r for r in costed.results if r.status == "routed"]
+    return {"consolidate": consolidate, "wall s": round(wall, 2),
+            **{f"{k} s": round(v, 2) for k, v in costed.seconds.items()},
+            "runs": len(costed.runs), "vehicles": sum(r.vehicles for r in costed.runs),
+            "shared runs": sum(len(r.loads) > 1 for r in costed.runs),
+            "total": round(sum(r.total_cost for r in routed), 2),
+            "standalone": round(sum(r.standalone_cost for r in routed), 2)}
+
+
+def main(argv=None) -> None:
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--depots", type=int, default=2000)
+    p.add_argument("--lanes", type=int, default=8000)
+    p.add_argument("--shipments", type=int, default=10_000)
+    p.add_argument("--origins", type=int, default=50)
+    p.add_argument("--smoke", action="store_true", help="200 depots, 500 shipments")
+    args = p.parse_args(argv)
+    if args.smoke:
+        args.depots, args.lanes, args.shipments, args.origins = 200, 800, 500, 10
+    t0 = time.perf_counter()
+    model = week_model(args.depots, args.lanes, args.shipments, args.origins)
+    print(f"week: {len(model.depots):,} depots ({sum(d.kind == 'hub' for d in model.depots)} hubs), "
+          f"{len(model.lanes):,} lanes, {len(model.shipments):,} shipments over 5 days "
+          f"(input built and read in {time.perf_counter() - t0:.1f} s)")
+    rows = [run(model, "no"), run(model, "yes")]
+    table = pd.DataFrame(rows).set_index("consolidate").T
+    print(table.to_string())
+    off, on = rows
+    print(f"ratio consolidate=yes / no (wall): {on['wall s'] / off['wall s']:.2f}; vehicles "
+          f"{on['vehicles']:,} instead of {off['vehicles']:,}; week total {on['total']:,.2f} instead of "
+          f"{off['total']:,.2f} ({(off['total'] - on['total']) / off['total']:.1%} less)")
+    print(f"peak memory: {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MB")
+
+
+if __name__ == "__main__":
+    main()
