@@ -269,6 +269,12 @@ def vehicles_for(sizes: Iterable[Sequence[float]], cap: Capacity) -> int:
         items.extend(_pieces(s, cap))
     if not dims:
         return 1 if items else 0
+    if not items:
+        return 0
+    # all of it fits in one vehicle: first-fit decreasing puts every piece in the first (the
+    # same test as the packing below, on the totals), so skip the sort
+    if all(sum(it[i] for it in items) <= c + _EPS * max(1.0, c) for i, c in dims):
+        return 1
     items.sort(key=lambda it: (max(it[i] / c for i, c in dims), tuple(it)), reverse=True)
     bins: list[list[float]] = []
     for it in items:
@@ -297,6 +303,7 @@ class _State:
         self.size_sums: dict[tuple, list[float]] = {}
         self.alone_sum: dict[tuple, float] = {}
         self.extra_counts: dict[tuple, dict[tuple, int]] = {}
+        self._packed_now: dict[tuple, int] = {}
         for li, load in enumerate(loads):
             for route in load.routes:
                 for st in route:
@@ -391,7 +398,9 @@ class _State:
         for st in route:
             rk = (day, st.key, st.card)
             members = self.members.get(rk, set())
-            if li in members:  # evaluate as if it were not there
+            if len(members) + (li not in members) > EXACT_PACKING:
+                add += self._added_big(rk, members, li)
+            elif li in members:  # evaluate as if it were not there
                 self._leave(rk, li)
                 members.discard(li)
                 try:
@@ -403,6 +412,44 @@ class _State:
                 add += self._added(rk, members, li)
         return add
 
+    def _packed(self, rk: tuple) -> int:
+        """Exact first-fit decreasing vehicles of the run's current members (kept until they change)."""
+        n = self._packed_now.get(rk)
+        if n is None:
+            members = self.members[rk]
+            n = self._packed_now[rk] = vehicles_for((self.loads[i].size() for i in sorted(members)),
+                                                    self.capacities[rk[2]])
+        return n
+
+    def _added_big(self, rk: tuple, members: set[int], li: int) -> float:
+        """`_added` for a run of more than EXACT_PACKING loads, without changing the run: the
+        vehicles with and without li are its exact packing and the lower bound plus that
+        packing's slack, the shares from the running aggregates."""
+        cpv, sums, size = self.cpv[rk], self._sums(rk), self.loads[li].size()
+        packed = self._packed(rk)
+        slack = packed - self._lower_bound(rk, sums)
+        alone_all, own = self.alone_sum.get(rk, 0.0), self._alone(rk, li)
+        counts = dict(self.extra_counts.get(rk, {}))
+        vec = self.extras[(rk, li)]
+
+        def cost(n: int, k: int, alone: float) -> float:
+            vectors = [v for v, c in counts.items() if c > 0]
+            shared = n * (cpv + sum(max(col) for col in zip(*vectors))) if vectors else n * cpv
+            return shared if k == 1 else min(shared, alone)
+
+        k = len(members)
+        if li in members:
+            after = cost(packed, k, alone_all)
+            counts[vec] -= 1
+            n = max(self._lower_bound(rk, [a - b for a, b in zip(sums, size)]) + slack, 1)
+            before = cost(n, k - 1, alone_all - own) if k > 1 else 0.0
+        else:
+            before = cost(packed, k, alone_all) if k else 0.0
+            counts[vec] = counts.get(vec, 0) + 1
+            n = max(self._lower_bound(rk, [a + b for a, b in zip(sums, size)]) + slack, 1)
+            after = cost(n, k + 1, alone_all + own)
+        return after - before
+
     def _added(self, rk: tuple, others: set[int], li: int) -> float:
         """run cost with li - run cost without it (`others`: the run's members, li not among them)."""
         before = self._cost(rk, self.vehicles(rk, frozenset(others)), others, None) if others else 0.0
@@ -410,6 +457,7 @@ class _State:
         return after - before
 
     def _join(self, rk: tuple, li: int) -> None:
+        self._packed_now.pop(rk, None)
         for k, x in enumerate(self.loads[li].size()):
             self._sums(rk)[k] += x
         self.alone_sum[rk] = self.alone_sum.get(rk, 0.0) + self._alone(rk, li)
@@ -418,6 +466,7 @@ class _State:
         counts[v] = counts.get(v, 0) + 1
 
     def _leave(self, rk: tuple, li: int) -> None:
+        self._packed_now.pop(rk, None)
         for k, x in enumerate(self.loads[li].size()):
             self._sums(rk)[k] -= x
         self.alone_sum[rk] -= self._alone(rk, li)
