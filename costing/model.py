@@ -93,6 +93,7 @@ class Shipment:
     due_date: _dt.date | None = None
     pallets: float | None = None
     volume_m3: float | None = None
+    loading_metres: float | None = None  # metres of trailer floor, for carrier tariffs
 
 
 @dataclass(frozen=True)
@@ -114,6 +115,8 @@ class Settings:
     compare_objectives: str = "yes"
     frontier_max_routes: float = 6
     consolidate: str = "yes"
+    volumetric_kg_per_m3: float = 333.0  # chargeable kg per m3 (carrier tariffs)
+    kg_per_loading_metre: float = 1750.0  # chargeable kg per loading metre (carrier tariffs)
 
 
 @dataclass(frozen=True)

@@ -565,7 +565,8 @@ def validate(raw: RawWorkbook) -> Model:
                 shipments.append(Shipment(rec["shipment_id"], rec["origin"], rec["destination"],
                                           rec["weight_t"], v, rec["objective"],
                                           bool(rec["hazmat"]), rec["customer"] or "", rr.row,
-                                          ready, due, rec["pallets"], rec["volume_m3"]))
+                                          ready, due, rec["pallets"], rec["volume_m3"],
+                                          loading_metres=rec["loading_metres"]))
                 _split_warning(sh, rr.row, rec, [r for r in rates if v is None or r.vehicle == v],
                                depot_modes)
 

@@ -118,6 +118,15 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "common, up to payload, pallet places and volume, and each pays a tonne-km share of "
                 "the vehicle runs it rides in (Vehicle runs sheet). no: every shipment has vehicles "
                 "of its own.", choices=YES_NO),
+    SettingSpec("volumetric_kg_per_m3", "number", 333.0,
+                "Chargeable kg per m3 of a shipment's volume_m3, for carrier tariffs: chargeable "
+                "weight = the most of the actual kg, volume_m3 x this and loading_metres x "
+                "kg_per_loading_metre. Common practice in road groupage: 333 (1 m3 = 333 kg, "
+                "'measured three times').", minimum=0.0, maximum=10000.0),
+    SettingSpec("kg_per_loading_metre", "number", 1750.0,
+                "Chargeable kg per loading metre (one metre of trailer floor, full width), for "
+                "carrier tariffs. Common practice in road groupage: 1,750 (carriers use 1,750 to "
+                "2,000; from memory).", minimum=0.0, maximum=100000.0),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
@@ -254,6 +263,9 @@ SHEETS: tuple[SheetSpec, ...] = (
                    maximum=100000.0, width=9),
             Column("volume_m3", "number", False, "m3", "Volume of the goods in cubic metres. Blank: "
                    "0 (weight alone decides).", minimum=0.0, maximum=1000000.0, width=10),
+            Column("loading_metres", "number", False, "m", "Metres of trailer floor (full width) the "
+                   "goods take, for carrier tariffs: loading_metres x kg_per_loading_metre counts "
+                   "toward the chargeable weight. Blank: 0.", minimum=0.0, maximum=100000.0, width=11),
         ),
         id_column="shipment_id",
         note="The shipments to cost.",

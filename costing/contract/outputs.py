@@ -102,6 +102,7 @@ SUMMARY_COLUMNS = [
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("tonne_km", 11, "km"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
+    ("chargeable_kg", 11, "kg"),
 ]
 
 
@@ -200,6 +201,8 @@ HEADER_NOTES = {
     "fill_pallets": "pallets / (vehicles x pallet_places); blank when the card gives no pallet places.",
     "fill_volume": "volume_m3 / (vehicles x capacity_m3); blank when the card gives no volume.",
     "run_cost": "Sum of the run's cost components for its vehicles; shared among its loads by tonne-km.",
+    "chargeable_kg": "MAX(weight_t x 1000, volume_m3 x volumetric_kg_per_m3, loading_metres x "
+                     "kg_per_loading_metre) (Settings): the weight a carrier tariff charges, kg.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }

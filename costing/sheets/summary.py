@@ -36,6 +36,7 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
         for col, day in (("ready_date", s.ready_date or w.first_day), ("due_date", s.due_date)):
             if day is not None:
                 ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
+        write_chargeable_kg(w, ws, r, s, S)
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
             continue
@@ -92,3 +93,15 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
                           {"type": "cell", "criteria": "!=", "value": '"routed"',
                            "format": f["warning"]})
     return last
+
+
+def write_chargeable_kg(w: Writer, ws, r: int, s, S: dict) -> None:
+    """Summary chargeable_kg of shipment `s` on 0-based row `r`: MAX(weight_t x 1000, volume_m3 x
+    volumetric_kg_per_m3, loading_metres x kg_per_loading_metre), the input figures and Settings
+    factors written into the formula (costing.price.tariffs.chargeable_kg caches its value)."""
+    from costing.price.tariffs import shipment_chargeable_kg
+
+    st = w.model.settings
+    expr = (f"MAX({S['weight_t']}{r + 1}*1000,{s.volume_m3 or 0:.15g}*{st.volumetric_kg_per_m3:.15g},"
+            f"{s.loading_metres or 0:.15g}*{st.kg_per_loading_metre:.15g})")
+    ws.write_formula(r, SUM["chargeable_kg"], "=" + expr, w.f["kg"], shipment_chargeable_kg(s, st))
