@@ -120,6 +120,27 @@ class Settings:
 
 
 @dataclass(frozen=True)
+class Tariff:
+    """One carrier tariff row: a weight band from one zone to another (Tariffs sheet)."""
+
+    carrier: str
+    from_zone: str
+    to_zone: str
+    min_kg: float
+    max_kg: float | None  # None: no upper end; the band holds min_kg <= kg < max_kg
+    price_per_100kg: float
+    min_charge: float = 0.0
+    currency: str | None = None  # None: the run's currency
+    price_per_consignment: float = 0.0
+    valid_from: _dt.date | None = None
+    valid_to: _dt.date | None = None
+    price_per_pallet: float = 0.0
+    weight_step_kg: float | None = None
+    hazmat_allowed: bool = False
+    row: int = 0
+
+
+@dataclass(frozen=True)
 class Model:
     settings: Settings
     depots: tuple[Depot, ...]
@@ -130,6 +151,12 @@ class Model:
     # where things are in the input: sheet -> (title in the file, column -> letter)
     layout: dict[str, tuple[str, dict[str, str]]] = field(default_factory=dict)
     scenarios: tuple = ()  # costing.check.scenarios.Scenario, each costed beside the base case
+    tariffs: tuple[Tariff, ...] = ()  # carrier tariff rows (Tariffs sheet)
+    zones: dict[str, str] = field(default_factory=dict)  # depot_id -> tariff zone (Zones sheet)
+
+    def zone(self, depot_id: str) -> str:
+        """The tariff zone of a depot: its Zones row, else its own id."""
+        return self.zones.get(depot_id, depot_id)
 
     def cell(self, sheet: str, column: str, row: int) -> tuple[str, str]:
         """(sheet title, cell address) of a value in the input, for problem reports."""

@@ -45,3 +45,141 @@ def test_charged_kg_rounds_up_to_the_step():
     assert charged_kg(1300, 100) == 1300
     assert charged_kg(0.8 * 1000 + 1e-13, 100) == 800
     assert charged_kg(1234.5, None) == 1234.5
+
+
+# ------------------------------------------------------------------ band look-up and price
+import datetime as dt  # noqa: E402
+
+from costing.check.validate import validate  # noqa: E402
+from costing.model import Depot, Model, Settings, Shipment, Tariff  # noqa: E402
+from costing.price.tariffs import price, quote  # noqa: E402
+from costing.workbook.reader import read_workbook  # noqa: E402
+from tests.conftest import base_data  # noqa: E402
+
+DAY = dt.date(2026, 12, 7)
+# invented tariff (inputs only): Brindle Haulage, zone N to zone S, three bands; 5.00 per consignment
+BANDS = (
+    Tariff("Brindle", "N", "S", 0, 500, 12.0, min_charge=45.0, price_per_consignment=5.0, row=2),
+    Tariff("Brindle", "N", "S", 500, 1000, 10.0, min_charge=45.0, price_per_consignment=5.0, row=3),
+    Tariff("Brindle", "N", "S", 1000, None, 8.0, min_charge=45.0, price_per_consignment=5.0, row=4),
+)
+
+
+def _model(tariffs=BANDS, **settings):
+    depots = (Depot("A", "Ashby", None, None), Depot("C", "Corrin", None, None))
+    return Model(Settings(**settings), depots, (), (), (), tariffs=tuple(tariffs),
+                 zones={"A": "N", "C": "S"})
+
+
+def _quote(kg, model=None, day=DAY, **kw):
+    s = Shipment("S1", "A", "C", kg / 1000, ready_date=day, **kw)
+    return quote(model or _model(), s, day)
+
+
+@pytest.mark.parametrize("kg, row, expected", [
+    # hand-worked, band holds min_kg <= w < max_kg (the definition):
+    (499, 2, 64.88),     # 4.99 x 12 = 59.88 > 45; + 5 = 64.88
+    (500, 3, 55.00),     # the edge belongs to the upper band: 5 x 10 = 50; + 5
+    (999.99, 3, 105.00),  # 9.9999 x 10 = 99.999 -> 100.00; + 5
+    (1000, 4, 85.00),    # 10 x 8 = 80; + 5
+    (200, 2, 50.00),     # 2 x 12 = 24 < min_charge 45; 45 + 5
+    (0.001, 2, 50.00),   # the smallest load pays the minimum
+])
+def test_band_edges(kg, row, expected):
+    q = _quote(kg)
+    assert q.tariff.row == row and q.charge == expected and q.currency == "EUR" and q.rate == 1.0
+
+
+def test_weight_step_rounds_up_before_band_and_price():
+    # per started 100 kg: 450.5 kg -> 500 kg, which is in the 500-1000 band: 5 x 10 + 5 = 55.00
+    stepped = [Tariff(t.carrier, t.from_zone, t.to_zone, t.min_kg, t.max_kg, t.price_per_100kg,
+                      t.min_charge, None, t.price_per_consignment, weight_step_kg=100, row=t.row)
+               for t in BANDS]
+    q = _quote(450.5, _model(stepped))
+    assert q.tariff.row == 3 and q.price.charged_kg == 500 and q.charge == 55.00
+
+
+def test_rounding_half_away_from_zero():
+    # 10 kg at 10.25 per 100 kg = 1.025: the spreadsheet ROUND gives 1.03 (half away from
+    # zero; from memory), not the binary float's 1.02
+    t = Tariff("X", "N", "S", 0, None, 10.25)
+    assert price(t, 10, None, 2).freight == 1.03
+
+
+def test_pallets_and_volume():
+    # 300 kg, 2 m3 -> 666 kg chargeable (333 kg/m3, common practice); 6.66 x 12 = 79.92 + 5
+    # + 3 pallets x 4.50 = 13.50 -> 98.42
+    t = [Tariff("B", "N", "S", 0, None, 12.0, 45.0, None, 5.0, price_per_pallet=4.5)]
+    q = _quote(300, _model(t), volume_m3=2.0, pallets=3)
+    assert q.chargeable_kg == pytest.approx(666) and q.price.pallet_charge == 13.5 and q.charge == 98.42
+
+
+def test_cheapest_carrier_valid_on_the_day_and_hazmat():
+    cheap_old = Tariff("Cheap", "N", "S", 0, None, 5.0, valid_to=DAY - dt.timedelta(days=1), row=5)
+    cheap_new = Tariff("Cheap", "N", "S", 0, None, 9.0, valid_from=DAY, row=6)
+    dear = Tariff("Dear", "N", "S", 0, None, 9.5, hazmat_allowed=True, row=7)
+    m = _model([cheap_old, cheap_new, dear])
+    # on DAY the 5.00 row has expired: 9.00 x 10 = 90.00 from Cheap beats 95.00 from Dear
+    assert _quote(1000, m).tariff.row == 6 and _quote(1000, m).charge == 90.0
+    # a day earlier the 5.00 row applies
+    assert _quote(1000, m, day=DAY - dt.timedelta(days=1)).charge == 50.0
+    # dangerous goods: only the row that takes them
+    assert _quote(1000, m, hazmat=True).tariff.carrier == "Dear"
+
+
+def test_no_tariff_for_the_zones():
+    m = _model()
+    s = Shipment("S1", "C", "A", 1.0, ready_date=DAY)  # S to N: no row
+    assert quote(m, s, DAY) is None
+
+
+# ------------------------------------------------------------------ validation of the sheets
+def _problems(make_input, change):
+    d = base_data()
+    d["Zones"] = [{"depot_id": "A", "zone": "NL-1"}, {"depot_id": "C", "zone": "NL-9"}]
+    d["Tariffs"] = [
+        {"carrier": "Brindle", "from_zone": "NL-1", "to_zone": "NL-9", "min_kg": 0, "max_kg": 1000,
+         "price_per_100kg": 12},
+        {"carrier": "Brindle", "from_zone": "NL-1", "to_zone": "NL-9", "min_kg": 1000,
+         "price_per_100kg": 10},
+    ]
+    change(d)
+    m = validate(read_workbook(make_input(d)))
+    return m, [p for p in m.problems if p.sheet in ("Tariffs", "Zones") and p.severity == "error"]
+
+
+def test_good_tariffs_and_zones_are_read(make_input):
+    m, errors = _problems(make_input, lambda d: None)
+    assert not errors and len(m.tariffs) == 2 and m.zone("A") == "NL-1" and m.zone("B") == "B"
+
+
+def test_overlapping_bands_are_an_error(make_input):
+    def change(d):
+        d["Tariffs"][1]["min_kg"] = 900
+    _m, errors = _problems(make_input, change)
+    assert [(p.cell, "overlaps row 2" in p.message) for p in errors] == [("D3", True)]
+
+
+def test_max_not_above_min_is_an_error(make_input):
+    def change(d):
+        d["Tariffs"][0]["max_kg"] = 0
+    _m, errors = _problems(make_input, change)
+    assert errors[0].cell == "E2" and "not above min_kg" in errors[0].message
+
+
+def test_unknown_zone_and_depot_are_errors(make_input):
+    def change(d):
+        d["Tariffs"][0]["to_zone"] = "NL-8"
+        d["Zones"].append({"depot_id": "Q", "zone": "NL-3"})
+    _m, errors = _problems(make_input, change)
+    cells = sorted(p.cell for p in errors)
+    assert cells == ["A4", "C2"], errors
+    assert any("did you mean NL-9" in p.fix for p in errors)
+
+
+def test_dates_the_wrong_way_round_are_an_error(make_input):
+    def change(d):
+        d["Tariffs"][0]["valid_from"] = DAY
+        d["Tariffs"][0]["valid_to"] = DAY - dt.timedelta(days=1)
+    _m, errors = _problems(make_input, change)
+    assert errors[0].cell == "K2" and "before valid_from" in errors[0].message

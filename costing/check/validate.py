@@ -23,7 +23,19 @@ from costing.contract.inputs import (
 )
 from costing.contract.rows import RawRow, RawSheet, RawWorkbook
 from costing.geo import great_circle_km
-from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
+from costing.model import (
+    ERROR,
+    INFO,
+    WARNING,
+    Depot,
+    Lane,
+    Model,
+    Problem,
+    RateCard,
+    Settings,
+    Shipment,
+    Tariff,
+)
 from costing.money import is_known_currency
 
 # A stated lane length this much below the straight line between its depots is flagged.
@@ -576,16 +588,114 @@ def validate(raw: RawWorkbook) -> Model:
     if "Shipments" in raw.sheets and not raw.sheets["Shipments"].rows:
         problems.append(Problem(WARNING, raw.sheets["Shipments"].title, "A2", "no shipments to cost",
                                 "add shipments from row 2"))
+    zones = _zones(raw, problems, depot_ix)
+    tariffs = _tariffs(raw, problems, depot_ix, zones)
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     problems += fuel_rebate_problems(settings, rates, layout)
     model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
-                  tuple(problems), layout)
+                  tuple(problems), layout, tariffs=tuple(tariffs), zones=zones)
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
         changed = apply_scenario(model, sc)
         for p in fuel_rebate_problems(changed.settings, changed.rates, layout):
             more.append(replace(p, message=f"in scenario {sc.name}: {p.message}"))
     return replace(model, problems=tuple(problems) + tuple(more), scenarios=tuple(scenarios))
+
+
+def _zones(raw: RawWorkbook, problems: list[Problem], depot_ix: dict) -> dict[str, str]:
+    """depot_id -> zone from the optional Zones sheet; a depot listed twice or unknown is an error."""
+    zones: dict[str, str] = {}
+    if "Zones" not in raw.sheets:
+        return zones
+    sh = _Sheet(raw.sheets["Zones"], problems)
+    first: dict[str, int] = {}
+    for rr, rec, ok in _records(sh):
+        ok = _known_depots(sh, rr, rec, ("depot_id",), depot_ix) and ok
+        d = rec["depot_id"]
+        if d is not None and d in first:
+            sh.problem(ERROR, "depot_id", rr.row, f"depot {d} is given a zone twice (first in row "
+                       f"{first[d]})", "keep one row per depot")
+            continue
+        if ok and d is not None:
+            first[d] = rr.row
+            zones[d] = rec["zone"]
+    return zones
+
+
+def _tariffs(raw: RawWorkbook, problems: list[Problem], depot_ix: dict,
+             zones: dict[str, str]) -> list[Tariff]:
+    """Tariff rows of the optional Tariffs sheet, checked: a known zone at each end, min_kg below
+    max_kg, valid_from not after valid_to, a well-formed currency, and no two rows of one carrier
+    and zone pair whose bands and validity overlap (the price would be ambiguous)."""
+    out: list[Tariff] = []
+    if "Tariffs" not in raw.sheets:
+        return out
+    sh = _Sheet(raw.sheets["Tariffs"], problems)
+    known = set(zones.values()) | {d for d in depot_ix if d not in zones}
+    for rr, rec, ok in _records(sh):
+        for end in ("from_zone", "to_zone"):
+            z = rec[end]
+            if z is not None and z not in known:
+                hint = did_you_mean(z, known)
+                if z in depot_ix:
+                    hint = f"depot {z} is in zone {zones[z]} (Zones sheet): use the zone; "
+                sh.problem(ERROR, end, rr.row, f"{end} '{_short(z)}' is neither a zone on the Zones sheet "
+                           "nor a depot_id without a zone", hint + "use a zone from Zones or a depot_id")
+                ok = False
+        lo, hi = rec["min_kg"], rec["max_kg"]
+        if lo is not None and hi is not None and hi <= lo:
+            sh.problem(ERROR, "max_kg", rr.row, f"max_kg {hi:g} is not above min_kg {lo:g}: the band "
+                       "holds no weight",
+                       "make max_kg larger than min_kg, or leave it blank for no upper end")
+            ok = False
+        start, end_day = rec["valid_from"], rec["valid_to"]
+        if start is not None and end_day is not None and end_day < start:
+            sh.problem(ERROR, "valid_to", rr.row, f"valid_to {end_day} is before valid_from {start}",
+                       "correct the dates")
+            ok = False
+        cur = rec["currency"]
+        if cur is not None:
+            cur = cur.strip().upper()
+            if not re.fullmatch(r"[A-Z]{3}", cur):
+                sh.problem(ERROR, "currency", rr.row, f"currency '{_short(rec['currency'])}' is not an "
+                           "ISO 4217 code", "type a three-letter code such as EUR, GBP or USD, or leave "
+                           "blank for the run's currency")
+                ok = False
+            elif not is_known_currency(cur):
+                sh.problem(WARNING, "currency", rr.row, f"currency {cur} is not in the tool's list; "
+                           "its amounts are rounded to 2 decimals", "check the ISO 4217 code")
+        step = rec["weight_step_kg"]
+        if not ok:
+            continue
+        t = Tariff(rec["carrier"], rec["from_zone"], rec["to_zone"], lo, hi, rec["price_per_100kg"],
+                   rec["min_charge"] or 0.0, cur, rec["price_per_consignment"] or 0.0, start, end_day,
+                   rec["price_per_pallet"] or 0.0, step or None, bool(rec["hazmat_allowed"]), rr.row)
+        for other in out:
+            if (other.carrier, other.from_zone, other.to_zone) == (t.carrier, t.from_zone, t.to_zone) \
+                    and _overlap(other.min_kg, other.max_kg, t.min_kg, t.max_kg) \
+                    and _days_overlap(other, t):
+                sh.problem(ERROR, "min_kg", rr.row, f"the band {t.min_kg:g} to "
+                           f"{'no limit' if t.max_kg is None else f'{t.max_kg:g}'} kg of {t.carrier} from "
+                           f"{t.from_zone} to {t.to_zone} overlaps row {other.row} "
+                           f"({sh.raw.cell('min_kg', other.row)}): two prices for one weight",
+                           "make the bands meet without overlapping (the next min_kg = this max_kg), "
+                           "or give the rows different valid_from / valid_to dates")
+                break
+        else:
+            out.append(t)
+    return out
+
+
+def _overlap(lo1: float, hi1: float | None, lo2: float, hi2: float | None) -> bool:
+    """Whether [lo1, hi1) and [lo2, hi2) share a weight (None: no upper end)."""
+    return (hi2 is None or lo1 < hi2) and (hi1 is None or lo2 < hi1)
+
+
+def _days_overlap(a: Tariff, b: Tariff) -> bool:
+    """Whether two tariff rows are valid on a common day (blank ends open)."""
+    lo = max((d for d in (a.valid_from, b.valid_from) if d is not None), default=None)
+    hi = min((d for d in (a.valid_to, b.valid_to) if d is not None), default=None)
+    return lo is None or hi is None or lo <= hi
 
 
 def _split_warning(sh, row: int, rec: dict, cards, depot_modes: dict[str, set[str]]) -> None:

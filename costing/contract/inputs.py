@@ -288,6 +288,58 @@ SHEETS: tuple[SheetSpec, ...] = (
         required=False,
         note="Optional what-if scenarios: each is costed beside the base case.",
     ),
+    SheetSpec(
+        "Zones",
+        (
+            Column("depot_id", "depot", True, note="depot_id from the Depots sheet.", width=12),
+            Column("zone", "text", True, note="Tariff zone of the depot, as the carriers' Tariffs rows "
+                   "name it, e.g. NL-5 or BE-South. A depot not listed here is its own zone, named by "
+                   "its depot_id.", width=14),
+        ),
+        required=False,
+        note="Optional: the carrier tariff zone of each depot.",
+    ),
+    SheetSpec(
+        "Tariffs",
+        (
+            Column("carrier", "text", True, note="Name of the carrier (the haulier you buy from).",
+                   width=16),
+            Column("from_zone", "text", True, note="Zone of the origin (Zones sheet), or a depot_id.",
+                   width=12),
+            Column("to_zone", "text", True, note="Zone of the destination (Zones sheet), or a depot_id.",
+                   width=12),
+            Column("min_kg", "number", True, "kg", "Lightest chargeable weight of the band: the row "
+                   "holds weights from min_kg up to but not including max_kg.", minimum=0.0,
+                   maximum=1e7, width=9),
+            Column("max_kg", "number", False, "kg", "End of the band (not included). Blank: no upper "
+                   "end.", minimum=0.0, maximum=1e7, width=9),
+            Column("price_per_100kg", "number", True, "tariff currency per 100 kg", "Freight per 100 "
+                   "kg of chargeable weight, pro rata (see weight_step_kg).", minimum=0.0, width=12),
+            Column("min_charge", "number", False, "tariff currency per consignment", "Least freight "
+                   "charged for one consignment. Blank: 0.", default=0.0, minimum=0.0, width=11),
+            Column("currency", "text", False, note="ISO 4217 code of the row's prices, e.g. EUR. Blank: "
+                   "the run's currency (Settings).", width=9),
+            Column("price_per_consignment", "number", False, "tariff currency per consignment",
+                   "Fixed charge per consignment on top of the freight (paperwork, booking). Blank: 0.",
+                   default=0.0, minimum=0.0, width=12),
+            Column("valid_from", "date", False, "date", "First ready_date the row applies to. Blank: "
+                   "no start.", width=11),
+            Column("valid_to", "date", False, "date", "Last ready_date the row applies to. Blank: no "
+                   "end.", width=11),
+            Column("price_per_pallet", "number", False, "tariff currency per pallet", "Charge per "
+                   "pallet place (the shipment's pallets) on top of the freight. Blank: 0.",
+                   default=0.0, minimum=0.0, width=11),
+            Column("weight_step_kg", "number", False, "kg", "The chargeable weight is rounded up to a "
+                   "multiple of this before pricing and band look-up, e.g. 100 for 'per started 100 "
+                   "kg'. Blank: no rounding (pro rata).", minimum=0.0, maximum=100000.0, width=11),
+            Column("hazmat_allowed", "yesno", False, note="yes: the carrier takes dangerous goods on "
+                   "this row. Blank: no.", choices=YES_NO, default=False, width=10),
+        ),
+        required=False,
+        note="Optional carrier tariffs: what a carrier charges to take a consignment from one zone "
+             "to another, by weight band. Each shipment is priced both ways (own vehicles and the "
+             "cheapest carrier) and the cheaper for the week is chosen.",
+    ),
 )
 
 SHEETS_BY_NAME = {s.name: s for s in SHEETS}

@@ -77,3 +77,140 @@ def charged_kg(kg: float, step: float | None) -> float:
     if not step:
         return kg
     return math.ceil(round(kg / step, 9)) * step
+
+
+def in_band(tariff, kg: float) -> bool:
+    """Whether the tariff row's band holds `kg`: min_kg <= kg < max_kg (blank max_kg: no end)."""
+    return tariff.min_kg <= kg and (tariff.max_kg is None or kg < tariff.max_kg)
+
+
+def valid_on(tariff, day: _dt.date | None) -> bool:
+    """Whether the row applies on `day`: valid_from <= day <= valid_to (blank ends are open; a
+    shipment with no day matches only rows with no dates)."""
+    if day is None:
+        return tariff.valid_from is None and tariff.valid_to is None
+    return ((tariff.valid_from is None or tariff.valid_from <= day)
+            and (tariff.valid_to is None or day <= tariff.valid_to))
+
+
+@dataclass(frozen=True)
+class Price:
+    """A tariff row's price for one consignment, in the row's currency (each amount rounded to
+    its minor unit).
+
+    Attributes
+    ----------
+    charged_kg : float
+        Chargeable kg after the row's weight_step_kg.
+    freight : float
+        ROUND(charged_kg / 100 x price_per_100kg).
+    pallet_charge : float
+        ROUND(pallets x price_per_pallet).
+    price : float
+        ROUND(MAX(min_charge, freight) + price_per_consignment + pallet_charge)."""
+
+    charged_kg: float
+    freight: float
+    pallet_charge: float
+    price: float
+
+
+def price(tariff, kg: float, pallets: float | None, places: int) -> Price:
+    """What one consignment of `kg` chargeable kg and `pallets` pallet places costs on the row,
+    in the row's currency rounded to `places` decimals (module docstring: the formula)."""
+    charged = charged_kg(kg, tariff.weight_step_kg)
+    freight = round_money(charged / 100 * tariff.price_per_100kg, places)
+    pallet_charge = round_money((pallets or 0.0) * tariff.price_per_pallet, places)
+    total = round_money(max(tariff.min_charge, freight) + tariff.price_per_consignment + pallet_charge,
+                        places)
+    return Price(charged, freight, pallet_charge, total)
+
+
+@dataclass(frozen=True)
+class CarrierCharge:
+    """The carrier option of one shipment: the tariff row, its price and the price in the
+    reporting currency.
+
+    Attributes
+    ----------
+    tariff : Tariff
+        The row used.
+    from_zone, to_zone : str
+        The origin's and destination's zones.
+    chargeable_kg : float
+        The shipment's chargeable weight before the row's weight step, kg.
+    price : Price
+        In the row's currency.
+    currency : str
+        The row's currency (the reporting currency when the row gives none).
+    rate : float
+        Units of the reporting currency per unit of `currency` (1 when the same).
+    charge : float
+        ROUND(price x rate) in the reporting currency's minor unit: what the shipment costs when
+        bought."""
+
+    tariff: object
+    from_zone: str
+    to_zone: str
+    chargeable_kg: float
+    price: Price
+    currency: str
+    rate: float
+    charge: float
+
+    @property
+    def carrier(self) -> str:
+        """The carrier's name."""
+        return self.tariff.carrier
+
+
+def convert(amount: float, rate: float, places: int) -> float:
+    """ROUND(amount x rate) to the reporting currency's `places`."""
+    return round_money(amount * rate, places)
+
+
+def quote(model, shipment, day: _dt.date | None,
+          rates: dict[str, float] | None = None) -> CarrierCharge | None:
+    """The cheapest carrier charge for `shipment` leaving on `day`, or None when no tariff row
+    fits (zone pair, validity, band, dangerous goods) or a row's currency has no rate.
+
+    Parameters
+    ----------
+    model : Model
+        Tariffs, zones, Settings (chargeable-weight factors, reporting currency).
+    shipment : Shipment
+    day : datetime.date or None
+        The shipment's ready day.
+    rates : dict, optional
+        ISO 4217 code -> units of the reporting currency per unit (the Currencies sheet).
+        A row in the reporting currency needs none.
+
+    Returns
+    -------
+    CarrierCharge or None
+        Lowest charge in the reporting currency; ties: the carrier first in the Tariffs sheet.
+    """
+    if not model.tariffs:
+        return None
+    rates = rates or {}
+    reporting = model.settings.currency
+    rep_places = minor_unit(reporting)
+    fz, tz = model.zone(shipment.origin), model.zone(shipment.destination)
+    kg = shipment_chargeable_kg(shipment, model.settings)
+    best: CarrierCharge | None = None
+    for t in model.tariffs:
+        if (t.from_zone, t.to_zone) != (fz, tz) or not valid_on(t, day):
+            continue
+        if shipment.hazmat and not t.hazmat_allowed:
+            continue
+        if not in_band(t, charged_kg(kg, t.weight_step_kg)):
+            continue
+        cur = t.currency or reporting
+        rate = 1.0 if cur == reporting else rates.get(cur)
+        if rate is None:
+            continue
+        p = price(t, kg, shipment.pallets, minor_unit(cur))
+        c = CarrierCharge(t, fz, tz, kg, p, cur, rate, convert(p.price, rate, rep_places))
+        if best is None or c.charge < best.charge:
+            best = c
+    return best
