@@ -12,6 +12,7 @@ SUMMARY = "Summary"
 VEHICLE_RUNS = "Vehicle runs"
 SCENARIO_COMPARISON = "Scenario comparison"
 LEGS = "Legs"
+CARRIER_CHARGES = "Carrier charges"
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
@@ -19,8 +20,8 @@ CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
-SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE, CHARTS, MAP,
-          PROBLEMS, RUN)
+SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, CARRIER_CHARGES, COMPARISON, TRADE_OFFS,
+          LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -102,7 +103,8 @@ SUMMARY_COLUMNS = [
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("tonne_km", 11, "km"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
-    ("chargeable_kg", 11, "kg"),
+    ("chargeable_kg", 11, "kg"), ("make_cost", 12, "money"), ("buy_cost", 12, "money"),
+    ("make_or_buy", 8, "text"), ("make_or_buy_why", 50, "text"),
 ]
 
 
@@ -144,6 +146,24 @@ RUN_COLUMNS = [
 
 
 RUN_COL = {name: i for i, (name, _w, _k) in enumerate(RUN_COLUMNS)}
+
+
+# Carrier charges columns: one row per shipment a carrier tariff prices (bought or not); every
+# price a live formula over the row's own cells. "rate" kind: amounts in the tariff's currency.
+CARRIER_COLUMNS = [
+    ("shipment_id", 12, "text"), ("used", 6, "text"), ("carrier", 14, "text"), ("from_zone", 10, "text"),
+    ("to_zone", 10, "text"), ("date", 11, "date"), ("weight_kg", 10, "kg"), ("volume_m3", 9, "plain"),
+    ("volumetric_kg_per_m3", 11, "plain"), ("loading_metres", 9, "plain"),
+    ("kg_per_loading_metre", 11, "plain"),
+    ("chargeable_kg", 11, "kg"), ("weight_step_kg", 9, "plain"), ("charged_kg", 10, "kg"),
+    ("min_kg", 9, "plain"), ("max_kg", 9, "plain"), ("price_per_100kg", 10, "rate"), ("freight", 11, "rate"),
+    ("min_charge", 10, "rate"), ("pallets", 8, "plain"), ("price_per_pallet", 10, "rate"),
+    ("pallet_charge", 10, "rate"), ("price_per_consignment", 12, "rate"), ("price", 11, "rate"),
+    ("currency", 8, "text"), ("rate", 10, "plain"), ("charge", 12, "money"), ("tariff_row", 8, "int"),
+]
+
+
+CARRIER_COL = {name: i for i, (name, _w, _k) in enumerate(CARRIER_COLUMNS)}
 
 
 HEADER_NOTES = {
@@ -203,6 +223,22 @@ HEADER_NOTES = {
     "run_cost": "Sum of the run's cost components for its vehicles; shared among its loads by tonne-km.",
     "chargeable_kg": "MAX(weight_t x 1000, volume_m3 x volumetric_kg_per_m3, loading_metres x "
                      "kg_per_loading_metre) (Settings): the weight a carrier tariff charges, kg.",
+    "make_cost": "On own vehicles: the shipment's total_cost when it rides the own fleet; when bought, "
+                 "what its own route alone would cost (blank: no own route).",
+    "buy_cost": "The cheapest carrier's charge in the run's currency (Carrier charges sheet); blank when "
+                "no tariff fits.",
+    "make_or_buy": "make: own vehicles; buy: the carrier (the cheaper for the week's cost: the planner "
+              "weighs the carrier's price against what the load adds to the own vehicle runs).",
+    "used": "yes: the shipment is bought from this carrier; no: priced for comparison only.",
+    "charged_kg": "chargeable_kg rounded up to a multiple of weight_step_kg (blank step: unchanged); "
+                  "the band holds min_kg <= charged_kg < max_kg.",
+    "freight": "ROUND(charged_kg / 100 x price_per_100kg), in the tariff's currency.",
+    "pallet_charge": "ROUND(pallets x price_per_pallet), in the tariff's currency.",
+    "price": "ROUND(MAX(min_charge, freight) + price_per_consignment + pallet_charge), in the tariff's "
+             "currency.",
+    "rate": "Units of the run's currency per unit of the tariff's currency (Currencies sheet; 1 when the "
+            "same).",
+    "charge": "ROUND(price x rate) in the run's currency: what the shipment costs when bought.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }

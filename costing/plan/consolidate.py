@@ -396,7 +396,7 @@ def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int], days: s
 
 
 def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
-         pair_moves: bool = True, pair_limit: int = 60) -> Plan:
+         pair_moves: bool = True, pair_limit: int = 60, start: dict | None = None) -> Plan:
     """Assign each load a candidate route so that loads leaving together share vehicles.
 
     Parameters
@@ -415,6 +415,10 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     max_sweeps : int
         Safety bound on improvement sweeps (the method terminates on its own; this only caps
         work on very large inputs, and the plan is then still never worse than alone).
+    start : dict, optional
+        load id -> index of the route to start from instead of its cheapest alone (loads not
+        named start from their cheapest alone). The "never worse than alone" guarantee then
+        holds only when the start does: the caller compares.
 
     Returns
     -------
@@ -435,7 +439,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         costs = [sum(vehicles_for([load.size()], capacities[st.card]) * (st.cost_per_vehicle + sum(st.extras))
                      for st in route) for route in load.routes]
         best = min(range(len(costs)), key=lambda r: (costs[r], r))
-        choice.append(best)
+        choice.append(start.get(load.load_id, best) if start else best)
         alone[load.load_id] = costs[best]
         alone_route[load.load_id] = best
     for li, load in enumerate(loads):

@@ -96,6 +96,17 @@ class CostedShipment:
     value_of_time: float = 0.0  # per hour, for the blended objective
     shared_with: tuple[str, ...] = ()  # shipment ids sharing a vehicle run with it (plan stage)
     day: object = None  # the plan's day (ready_date, or the first day of the run)
+    # make or buy (costing.plan.buy): the carrier option and what was chosen
+    quote: object = None  # costing.price.tariffs.CarrierCharge: the cheapest carrier, if a tariff fits
+    bought: bool = False  # True: the shipment goes by carrier at quote.charge (no legs, no runs)
+    make_cost: float | None = None  # on own vehicles: its total when made; alone when bought
+    chosen: str = ""  # "make" or "buy" ("" when no carrier was priced)
+    why: str = ""  # the reason, with both figures
+
+    @property
+    def buy_cost(self) -> float | None:
+        """The carrier's charge in the run's currency (None when no tariff fits)."""
+        return None if self.quote is None else self.quote.charge
 
     @property
     def subtotal(self) -> float:
@@ -110,7 +121,9 @@ class CostedShipment:
     @property
     def standalone_cost(self) -> float:
         """Subtotal plus the minimum-charge uplift, currency: what the route costs the shipment
-        with vehicles of its own."""
+        with vehicles of its own (bought from a carrier: the carrier's charge)."""
+        if self.bought:
+            return self.quote.charge
         return round_money(self.subtotal + self.min_charge_uplift, self.places)
 
     @property
@@ -124,7 +137,9 @@ class CostedShipment:
     def total_cost(self) -> float:
         """What the shipment costs, currency: its allocated share of the vehicle runs, plus the
         minimum-charge uplift when it shares no vehicle (with vehicles of its own this is
-        subtotal + uplift, the stand-alone cost)."""
+        subtotal + uplift, the stand-alone cost); bought from a carrier, the carrier's charge."""
+        if self.bought:
+            return self.quote.charge
         uplift = 0.0 if self.shared_with else self.min_charge_uplift
         return round_money(self.allocated_cost + uplift, self.places)
 

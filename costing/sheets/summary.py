@@ -14,10 +14,12 @@ from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_value
 
 
-def write_summary(w: Writer, ws, results, ranges) -> int:
+def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     """One row per shipment, its totals as SUMs over its Legs rows (`ranges`: shipment id ->
-    (Legs sheet, first row, last row)), and the TOTAL row. Returns the 0-based index of the last
-    shipment row; the TOTAL row follows it."""
+    (Legs sheet, first row, last row)), and the TOTAL row. `carrier_rows` (shipment id -> its
+    1-based row on the Carrier charges sheet) gives buy_cost, and total_cost of a shipment
+    bought from a carrier. Returns the 0-based index of the last shipment row; the TOTAL row
+    follows it."""
     w.header(ws, SUMMARY_COLUMNS)
     c = SUM
     S = {name: xl_col_to_name(i) for name, i in SUM.items()}
@@ -37,8 +39,12 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
             if day is not None:
                 ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
         write_chargeable_kg(w, ws, r, s, S)
+        write_make_or_buy(w, ws, r, res, S, carrier_rows or {})
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
+            continue
+        if res.bought:
+            write_bought(w, ws, r, res, S)
             continue
         sheet, a, b = ranges[s.shipment_id]
         sh = sheet_ref(sheet)
@@ -105,3 +111,37 @@ def write_chargeable_kg(w: Writer, ws, r: int, s, S: dict) -> None:
     expr = (f"MAX({S['weight_t']}{r + 1}*1000,{s.volume_m3 or 0:.15g}*{st.volumetric_kg_per_m3:.15g},"
             f"{s.loading_metres or 0:.15g}*{st.kg_per_loading_metre:.15g})")
     ws.write_formula(r, SUM["chargeable_kg"], "=" + expr, w.f["kg"], shipment_chargeable_kg(s, st))
+
+
+def write_make_or_buy(w: Writer, ws, r: int, res, S: dict, carrier_rows: dict) -> None:
+    """make_cost, buy_cost (a reference to the Carrier charges row), make_or_buy and its why."""
+    from costing.contract.outputs import CARRIER_CHARGES, CARRIER_COL
+
+    if res.quote is None:
+        return
+    f = w.f
+    row = carrier_rows[res.shipment.shipment_id]
+    ref = f"{sheet_ref(CARRIER_CHARGES)}!{xl_col_to_name(CARRIER_COL['charge'])}{row}"
+    ws.write_formula(r, SUM["buy_cost"], "=" + ref, f["money"], res.quote.charge)
+    if res.make_cost is not None:
+        if res.bought:
+            ws.write_number(r, SUM["make_cost"], res.make_cost, f["money"])
+        else:
+            ws.write_formula(r, SUM["make_cost"], f"={S['total_cost']}{r + 1}", f["money"], res.make_cost)
+    ws.write_string(r, SUM["make_or_buy"], res.chosen)
+    ws.write_string(r, SUM["make_or_buy_why"], cell_text(res.why))
+
+
+def write_bought(w: Writer, ws, r: int, res, S: dict) -> None:
+    """A shipment bought from a carrier: no legs; total_cost and standalone_cost are its
+    buy_cost (the Carrier charges row), saving 0."""
+    f = w.f
+    x = r + 1
+    c = SUM
+    ws.write_number(r, c["legs"], 0)
+    ws.write_formula(r, c["total_cost"], f"={S['buy_cost']}{x}", f["money"], res.total_cost)
+    ws.write_formula(r, c["standalone_cost"], f"={S['buy_cost']}{x}", f["money"], res.standalone_cost)
+    ws.write_formula(r, c["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
+                     f["money"], res.saving)
+    s = res.shipment
+    ws.write_string(r, c["route"], cell_text(f"{s.origin} > {s.destination} (carrier {res.vehicle})"))

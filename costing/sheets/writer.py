@@ -9,6 +9,7 @@ from costing.errors import OutputLimitError
 from costing.model import Model, Problem
 from costing.price.cost import CostedShipment
 from costing.sheets import legs
+from costing.sheets.carrier_charges import carrier_rows, write_carrier_charges
 from costing.sheets.charts import write_charts
 from costing.sheets.comparison import write_comparison
 from costing.sheets.formats import MAX_ROWS, Writer, fast_formulas
@@ -47,6 +48,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         sheets["Scenarios"] = w.wb.add_worksheet(out.SCENARIO_COMPARISON)
     runs_ws = w.wb.add_worksheet(out.VEHICLE_RUNS)
     legs_sheets = [(name, w.wb.add_worksheet(name)) for name in legs_sheet_names(results)]
+    quoted = carrier_rows(results)
+    if quoted:
+        sheets["Carrier charges"] = w.wb.add_worksheet(out.CARRIER_CHARGES)
     if analysis is not None:
         if analysis.alternatives:
             sheets["Comparison"] = w.wb.add_worksheet(out.COMPARISON)
@@ -66,7 +70,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
                                      f"{legs.LEGS_SHEET_ROWS:,} legs (the spreadsheet row limit); a "
                                      "shipment's legs are never split across sheets")
     write_vehicle_runs(w, runs_ws, runs, ranges)
-    last_row = write_summary(w, summary, results, ranges)
+    if quoted:
+        write_carrier_charges(w, sheets["Carrier charges"], results)
+    last_row = write_summary(w, summary, results, ranges, quoted)
     frontier_rows: dict[str, tuple[int, int]] = {}
     scenario_rows = None
     if scenario_runs:
@@ -82,6 +88,6 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if map_png:
         write_map(w, sheets["Map"], map_png)
     write_problems(w, problems_ws, problems)
-    write_run(w, run_ws, model, results, problems, info, last_row, n_legs, runs)
+    write_run(w, run_ws, model, results, problems, info, last_row, n_legs, runs, len(quoted))
     summary.activate()
     w.wb.close()
