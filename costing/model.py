@@ -76,6 +76,8 @@ class RateCard:
     tare_t: float = 0.0  # empty weight of one vehicle, for lane weight limits
     pallet_places: float | None = None  # pallets one vehicle carries (None: no limit)
     volume_m3: float | None = None  # load volume of one vehicle, m3 (None: no limit)
+    currency: str | None = None  # the currency the card was given in (None: the run's)
+    fx_rate: float = 1.0  # run currency per unit of `currency`: the money fields are converted
 
 
 @dataclass(frozen=True)
@@ -153,6 +155,8 @@ class Model:
     scenarios: tuple = ()  # costing.check.scenarios.Scenario, each costed beside the base case
     tariffs: tuple[Tariff, ...] = ()  # carrier tariff rows (Tariffs sheet)
     zones: dict[str, str] = field(default_factory=dict)  # depot_id -> tariff zone (Zones sheet)
+    # ISO 4217 code -> units of the run's currency per unit (Currencies sheet)
+    currencies: dict[str, float] = field(default_factory=dict)
 
     def zone(self, depot_id: str) -> str:
         """The tariff zone of a depot: its Zones row, else its own id."""

@@ -426,6 +426,7 @@ def validate(raw: RawWorkbook) -> Model:
         cell and fix. The run may go on only when none is an ERROR (``has_errors``)."""
     problems: list[Problem] = list(raw.problems)
     settings = _settings(raw.sheets.get("Settings"), problems)
+    fx = _currencies(raw, problems, settings)
 
     depots: list[Depot] = []
     if "Depots" in raw.sheets:
@@ -489,14 +490,17 @@ def validate(raw: RawWorkbook) -> Model:
                            "CO2e is reported as 0 and the emissions objective treats it as free",
                            "for an electric vehicle enter its energy's emission factor; otherwise "
                            "enter the fuel figures, or leave both blank to use the default intensity")
+            cur = _row_currency(sh, rr, rec, settings, fx, "Rates")
+            ok = ok and cur is not _MISSING
             if ok:
-                rates.append(RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
-                                      rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
-                                      rec["min_charge"] or 0.0, rr.row,
-                                      fuel_included_at=rec["fuel_included_at"],
-                                      tare_t=rec["tare_t"] or 0.0,
-                                      pallet_places=rec["pallet_places"] or None,
-                                      volume_m3=rec["volume_m3"] or None))
+                card = RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
+                                rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
+                                rec["min_charge"] or 0.0, rr.row,
+                                fuel_included_at=rec["fuel_included_at"],
+                                tare_t=rec["tare_t"] or 0.0,
+                                pallet_places=rec["pallet_places"] or None,
+                                volume_m3=rec["volume_m3"] or None)
+                rates.append(_in_run_currency(card, cur, fx))
     vehicles = {r.vehicle for r in rates}
     rated_modes = {r.mode for r in rates}
 
@@ -589,11 +593,11 @@ def validate(raw: RawWorkbook) -> Model:
         problems.append(Problem(WARNING, raw.sheets["Shipments"].title, "A2", "no shipments to cost",
                                 "add shipments from row 2"))
     zones = _zones(raw, problems, depot_ix)
-    tariffs = _tariffs(raw, problems, depot_ix, zones)
+    tariffs = _tariffs(raw, problems, depot_ix, zones, settings, fx)
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     problems += fuel_rebate_problems(settings, rates, layout)
     model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
-                  tuple(problems), layout, tariffs=tuple(tariffs), zones=zones)
+                  tuple(problems), layout, tariffs=tuple(tariffs), zones=zones, currencies=fx)
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
         changed = apply_scenario(model, sc)
@@ -623,7 +627,8 @@ def _zones(raw: RawWorkbook, problems: list[Problem], depot_ix: dict) -> dict[st
 
 
 def _tariffs(raw: RawWorkbook, problems: list[Problem], depot_ix: dict,
-             zones: dict[str, str]) -> list[Tariff]:
+             zones: dict[str, str], settings: Settings | None = None,
+             fx: dict[str, float] | None = None) -> list[Tariff]:
     """Tariff rows of the optional Tariffs sheet, checked: a known zone at each end, min_kg below
     max_kg, valid_from not after valid_to, a well-formed currency, and no two rows of one carrier
     and zone pair whose bands and validity overlap (the price would be ambiguous)."""
@@ -653,17 +658,10 @@ def _tariffs(raw: RawWorkbook, problems: list[Problem], depot_ix: dict,
             sh.problem(ERROR, "valid_to", rr.row, f"valid_to {end_day} is before valid_from {start}",
                        "correct the dates")
             ok = False
-        cur = rec["currency"]
-        if cur is not None:
-            cur = cur.strip().upper()
-            if not re.fullmatch(r"[A-Z]{3}", cur):
-                sh.problem(ERROR, "currency", rr.row, f"currency '{_short(rec['currency'])}' is not an "
-                           "ISO 4217 code", "type a three-letter code such as EUR, GBP or USD, or leave "
-                           "blank for the run's currency")
-                ok = False
-            elif not is_known_currency(cur):
-                sh.problem(WARNING, "currency", rr.row, f"currency {cur} is not in the tool's list; "
-                           "its amounts are rounded to 2 decimals", "check the ISO 4217 code")
+        cur = _row_currency(sh, rr, rec, settings or Settings(), fx or {}, "Tariffs")
+        if cur is _MISSING:
+            ok = False
+            cur = None
         step = rec["weight_step_kg"]
         if not ok:
             continue
@@ -684,6 +682,80 @@ def _tariffs(raw: RawWorkbook, problems: list[Problem], depot_ix: dict,
         else:
             out.append(t)
     return out
+
+
+def _currencies(raw: RawWorkbook, problems: list[Problem], settings: Settings) -> dict[str, float]:
+    """ISO 4217 code -> units of the run's currency per unit, from the optional Currencies sheet.
+    A malformed code, a rate of 0, a currency given twice, or the run's own currency at a rate
+    other than 1 is an error."""
+    fx: dict[str, float] = {}
+    if "Currencies" not in raw.sheets:
+        return fx
+    sh = _Sheet(raw.sheets["Currencies"], problems)
+    first: dict[str, int] = {}
+    for rr, rec, ok in _records(sh):
+        code = _code(sh, rr, rec["currency"])
+        if code is _MISSING or not ok:
+            continue
+        rate = rec["rate"]
+        if rate == 0:
+            sh.problem(ERROR, "rate", rr.row, f"the rate of {code} is 0",
+                       f"type how many {settings.currency} one {code} is worth")
+            continue
+        if code == settings.currency and rate != 1:
+            sh.problem(ERROR, "rate", rr.row, f"{code} is the run's currency (Settings) but its rate is "
+                       f"{rate:g}, not 1", "delete the row, or type 1")
+            continue
+        if code in first:
+            sh.problem(ERROR, "currency", rr.row, f"{code} is given twice (first in row {first[code]})",
+                       "keep one rate per currency")
+            continue
+        first[code] = rr.row
+        fx[code] = rate
+    return fx
+
+
+def _code(sh: _Sheet, rr: RawRow, value):
+    """An ISO 4217 code from a cell (upper-cased), None when blank, or _MISSING after an error."""
+    if value is None:
+        return None
+    code = value.strip().upper()
+    if not re.fullmatch(r"[A-Z]{3}", code):
+        sh.problem(ERROR, "currency", rr.row, f"currency '{_short(value)}' is not an ISO 4217 code",
+                   "type a three-letter code such as EUR, GBP or USD")
+        return _MISSING
+    if not is_known_currency(code):
+        sh.problem(WARNING, "currency", rr.row, f"currency {code} is not in the tool's list; its "
+                   "amounts are rounded to 2 decimals", "check the ISO 4217 code")
+    return code
+
+
+def _row_currency(sh: _Sheet, rr: RawRow, rec: dict, settings: Settings, fx: dict[str, float], what: str):
+    """The currency of a Rates or Tariffs row: None for the run's own (blank or the same code),
+    the code when the Currencies sheet gives its rate, _MISSING after an error (a missing rate is
+    an error naming the cell)."""
+    code = _code(sh, rr, rec.get("currency"))
+    if code is _MISSING or code is None or code == settings.currency:
+        return None if code == settings.currency else code
+    if code not in fx:
+        sh.problem(ERROR, "currency", rr.row, f"no exchange rate for {code}: this {what} row is in {code} "
+                   f"but the run reports in {settings.currency}",
+                   f"add a Currencies row: currency {code}, rate = {settings.currency} per one {code}")
+        return _MISSING
+    return code
+
+
+def _in_run_currency(card: RateCard, code: str | None, fx: dict[str, float]) -> RateCard:
+    """A rate card given in currency `code`, its money fields (per_km, per_hour, per_trip,
+    min_charge, fuel_included_at) converted into the run's currency at the Currencies rate
+    (unrounded: they are rates; the amounts computed from them are rounded)."""
+    if code is None:
+        return card
+    rate = fx[code]
+    return replace(card, per_km=card.per_km * rate, per_hour=card.per_hour * rate,
+                   per_trip=card.per_trip * rate, min_charge=card.min_charge * rate,
+                   fuel_included_at=None if card.fuel_included_at is None else card.fuel_included_at * rate,
+                   currency=code, fx_rate=rate)
 
 
 def _overlap(lo1: float, hi1: float | None, lo2: float, hi2: float | None) -> bool:

@@ -234,6 +234,9 @@ SHEETS: tuple[SheetSpec, ...] = (
                    minimum=0.0, maximum=10000.0, width=12),
             Column("volume_m3", "number", False, "m3", "Load volume of one vehicle in cubic metres. "
                    "Blank: no volume limit.", minimum=0.0, maximum=100000.0, width=10),
+            Column("currency", "text", False, note="ISO 4217 code of this card's money figures (per_km, "
+                   "per_hour, per_trip, min_charge, fuel_included_at), e.g. USD. They are converted into "
+                   "the run's currency at the Currencies sheet's rate. Blank: the run's currency.", width=9),
         ),
         note="Rate cards: what each vehicle costs on each mode.",
     ),
@@ -339,6 +342,21 @@ SHEETS: tuple[SheetSpec, ...] = (
         note="Optional carrier tariffs: what a carrier charges to take a consignment from one zone "
              "to another, by weight band. Each shipment is priced both ways (own vehicles and the "
              "cheapest carrier) and the cheaper for the week is chosen.",
+    ),
+    SheetSpec(
+        "Currencies",
+        (
+            Column("currency", "text", True, note="ISO 4217 code of a currency that Rates or Tariffs "
+                   "rows use, e.g. USD.", width=9),
+            Column("rate", "number", True, "run currency per unit", "Units of the run's currency "
+                   "(Settings currency) per one unit of this currency, e.g. 0.92 EUR per USD.",
+                   minimum=0.0, width=12),
+            Column("date", "date", False, "date", "Day the rate was taken (for your reference; shown "
+                   "in the Run sheet).", width=11),
+        ),
+        required=False,
+        note="Optional exchange rates into the run's currency, for Rates and Tariffs rows in another "
+             "currency.",
     ),
 )
 

@@ -123,6 +123,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
                             f"{sum(1 for x in results if x.bought)} bought (Carrier charges sheet); each "
                             "shipment goes the way that costs the week less (costing.plan.buy)"
          if model.tariffs else "none: every shipment on own vehicles"),
+        *_currency_rows(model),
         ("problems: errors / warnings / info",
          "{} / {} / {}".format(*(len({(p.sheet, p.cell, p.message) for p in problems if p.severity == k})
                                  for k in (ERROR, WARNING, INFO)))),
@@ -223,6 +224,25 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     ws.write_string(r, 0, "difference (must be 0)")
     ws.write_formula(r, 1, "=" + w.round_f(f"B{runs_row}+B{r - 2}+B{r - 1}-B{r}"), f["money"],
                      round_money(run_total + uplift + bought - total, w.places))
+
+
+def _currency_rows(model: Model) -> list[tuple[str, str]]:
+    """One row per exchange rate of the Currencies sheet: the rate and which input rows use it."""
+    cur = model.settings.currency
+    rows = []
+    for code, rate in model.currencies.items():
+        cards = [str(c.row) for c in model.rates if c.currency == code]
+        tariffs = [str(t.row) for t in model.tariffs if t.currency == code]
+        uses = []
+        if cards:
+            uses.append(f"Rates rows {', '.join(cards)}: per_km, per_hour, per_trip, min_charge and "
+                        f"fuel_included_at converted at input (the Legs and Vehicle runs show them in {cur})")
+        if tariffs:
+            uses.append(f"Tariffs rows {', '.join(tariffs)}: priced in {code}, converted on the Carrier "
+                        f"charges sheet (charge = ROUND(price x rate), {cur}'s minor unit)")
+        rows.append((f"exchange rate: {code}", f"{rate:.10g} {cur} per {code}"
+                     + ("; " + "; ".join(uses) if uses else "; not used")))
+    return rows
 
 
 def _bought_expr(w: Writer, n_carrier: int) -> str:
