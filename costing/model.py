@@ -96,6 +96,8 @@ class Shipment:
     pallets: float | None = None
     volume_m3: float | None = None
     loading_metres: float | None = None  # metres of trailer floor, for carrier tariffs
+    quoted_price: float | None = None  # revenue, run currency
+    invoiced: float | None = None  # the invoice to check against the computed cost, run currency
 
 
 @dataclass(frozen=True)

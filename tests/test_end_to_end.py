@@ -147,9 +147,11 @@ def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_pa
     code, _, err = cli("run", inp, "-o", str(out))
     assert code == 0, err
     # our formulas use only these functions, sheet and cell references, numbers and operators
-    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!|'Vehicle runs'!"
+    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUNDUP|ROUND|SUM|COUNT|IF|OR|MAX|N|Legs!|Summary!"
+                       r"|'Vehicle runs'!|'Carrier charges'!"
                        r'|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
-                       r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"')
+                       r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"'
+                       r'|&quot;(routed|yes)&quot;|"(routed|yes)"')
     with zipfile.ZipFile(out) as z:
         for name in z.namelist():
             if name.startswith("xl/worksheets/sheet"):

@@ -582,7 +582,8 @@ def validate(raw: RawWorkbook) -> Model:
                                           rec["weight_t"], v, rec["objective"],
                                           bool(rec["hazmat"]), rec["customer"] or "", rr.row,
                                           ready, due, rec["pallets"], rec["volume_m3"],
-                                          loading_metres=rec["loading_metres"]))
+                                          loading_metres=rec["loading_metres"],
+                                          quoted_price=rec["quoted_price"], invoiced=rec["invoiced"]))
                 _split_warning(sh, rr.row, rec, [r for r in rates if v is None or r.vehicle == v],
                                depot_modes)
 

@@ -269,6 +269,13 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("loading_metres", "number", False, "m", "Metres of trailer floor (full width) the "
                    "goods take, for carrier tariffs: loading_metres x kg_per_loading_metre counts "
                    "toward the chargeable weight. Blank: 0.", minimum=0.0, maximum=100000.0, width=11),
+            Column("quoted_price", "number", False, "currency per shipment", "What the customer pays "
+                   "for the shipment (revenue), in the run's currency: gives the margin on Summary and "
+                   "Cost per customer. Blank: no margin shown.", minimum=0.0, width=12),
+            Column("invoiced", "number", False, "currency per shipment", "What the shipment was "
+                   "invoiced at (e.g. by the carrier or the fleet's cost centre), in the run's currency: "
+                   "Summary and the Invoice check sheet show the difference from the computed cost. "
+                   "Blank: not checked.", minimum=0.0, width=11),
         ),
         id_column="shipment_id",
         note="The shipments to cost.",

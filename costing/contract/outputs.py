@@ -16,12 +16,14 @@ CARRIER_CHARGES = "Carrier charges"
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
+COST_PER_CUSTOMER = "Cost per customer"
+INVOICE_CHECK = "Invoice check"
 CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
 RUN = "Run"
 SHEETS = (SUMMARY, SCENARIO_COMPARISON, VEHICLE_RUNS, LEGS, CARRIER_CHARGES, COMPARISON, TRADE_OFFS,
-          LANE_USAGE, CHARTS, MAP, PROBLEMS, RUN)
+          LANE_USAGE, COST_PER_CUSTOMER, INVOICE_CHECK, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -104,7 +106,9 @@ SUMMARY_COLUMNS = [
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
     ("chargeable_kg", 11, "kg"), ("make_cost", 12, "money"), ("buy_cost", 12, "money"),
-    ("make_or_buy", 8, "text"), ("make_or_buy_why", 50, "text"),
+    ("make_or_buy", 8, "text"), ("make_or_buy_why", 50, "text"), ("pallets", 8, "plain"),
+    ("quoted_price", 12, "money"), ("margin", 12, "money"), ("invoiced", 12, "money"),
+    ("invoice_difference", 12, "money"),
 ]
 
 
@@ -164,6 +168,31 @@ CARRIER_COLUMNS = [
 
 
 CARRIER_COL = {name: i for i, (name, _w, _k) in enumerate(CARRIER_COLUMNS)}
+
+
+# Cost per customer: one row per customer (Shipments customer; blank is "(no customer)"), every
+# figure a formula over the Summary rows of the customer's routed shipments.
+CUSTOMER_COLUMNS = [
+    ("customer", 22, "text"), ("shipments", 9, "int"), ("routed", 7, "int"), ("tonnes", 9, "plain"),
+    ("pallets", 8, "plain"), ("tonne_km", 11, "km"), ("total_cost", 12, "money"),
+    ("cost_per_tonne", 11, "money"), ("cost_per_pallet", 11, "money"), ("cost_per_shipment", 11, "money"),
+    ("co2e_kg", 10, "kg"), ("quoted_price", 12, "money"), ("margin", 12, "money"), ("margin_pct", 9, "pct"),
+    ("invoiced", 12, "money"), ("invoice_difference", 12, "money"),
+]
+
+
+CUSTOMER_COL = {name: i for i, (name, _w, _k) in enumerate(CUSTOMER_COLUMNS)}
+
+
+# Invoice check: the shipments with an invoiced amount, largest absolute difference first.
+INVOICE_COLUMNS = [
+    ("shipment_id", 12, "text"), ("customer", 20, "text"), ("vehicle", 14, "text"),
+    ("make_or_buy", 8, "text"), ("total_cost", 12, "money"), ("invoiced", 12, "money"),
+    ("invoice_difference", 12, "money"), ("difference_pct", 10, "pct"),
+]
+
+
+INVOICE_COL = {name: i for i, (name, _w, _k) in enumerate(INVOICE_COLUMNS)}
 
 
 HEADER_NOTES = {
@@ -229,6 +258,16 @@ HEADER_NOTES = {
                 "no tariff fits.",
     "make_or_buy": "make: own vehicles; buy: the carrier (the cheaper for the week's cost: the planner "
               "weighs the carrier's price against what the load adds to the own vehicle runs).",
+    "quoted_price": "What the customer pays for the shipment (Shipments quoted_price): revenue.",
+    "margin": "Summary: quoted_price - total_cost. Cost per customer: the sum over the customer's "
+              "shipments with a quoted_price.",
+    "margin_pct": "margin / quoted_price.",
+    "invoiced": "The amount the shipment was invoiced at (Shipments invoiced).",
+    "invoice_difference": "invoiced - total_cost: positive when invoiced more than the computed cost.",
+    "difference_pct": "invoice_difference / total_cost (blank when total_cost is 0).",
+    "cost_per_tonne": "total_cost / tonnes (routed shipments).",
+    "cost_per_pallet": "total_cost / pallets (blank when the shipments give no pallets).",
+    "cost_per_shipment": "total_cost / routed.",
     "used": "yes: the shipment is bought from this carrier; no: priced for comparison only.",
     "charged_kg": "chargeable_kg rounded up to a multiple of weight_step_kg (blank step: unchanged); "
                   "the band holds min_kg <= charged_kg < max_kg.",

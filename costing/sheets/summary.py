@@ -40,6 +40,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
                 ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
         write_chargeable_kg(w, ws, r, s, S)
         write_make_or_buy(w, ws, r, res, S, carrier_rows or {})
+        write_revenue(w, ws, r, res, S)
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
             continue
@@ -94,6 +95,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
             value = round_money(value, w.places)
         fmt = f.get("total_" + kind, f["total_text"])
         ws.write_formula(t, c[col], "=" + expr, fmt, value)
+    write_revenue_totals(w, ws, t, last, results)
     ws.autofilter(0, 0, max(last, 1), len(SUMMARY_COLUMNS) - 1)
     ws.conditional_format(1, c["status"], max(last, 1), c["status"],
                           {"type": "cell", "criteria": "!=", "value": '"routed"',
@@ -145,3 +147,51 @@ def write_bought(w: Writer, ws, r: int, res, S: dict) -> None:
                      f["money"], res.saving)
     s = res.shipment
     ws.write_string(r, c["route"], cell_text(f"{s.origin} > {s.destination} (carrier {res.vehicle})"))
+
+
+def write_revenue(w: Writer, ws, r: int, res, S: dict) -> None:
+    """pallets, quoted_price and margin (routed), invoiced and invoice_difference of one shipment."""
+    f = w.f
+    s = res.shipment
+    x = r + 1
+    if s.pallets is not None:
+        ws.write_number(r, SUM["pallets"], s.pallets)
+    if s.quoted_price is not None:
+        ws.write_number(r, SUM["quoted_price"], s.quoted_price, f["money"])
+        if res.status == ROUTED:
+            ws.write_formula(r, SUM["margin"],
+                             "=" + w.round_f(f"{S['quoted_price']}{x}-{S['total_cost']}{x}"),
+                             f["money"], round_money(s.quoted_price - res.total_cost, w.places))
+    if s.invoiced is not None:
+        ws.write_number(r, SUM["invoiced"], s.invoiced, f["money"])
+        ws.write_formula(r, SUM["invoice_difference"],
+                         "=" + w.round_f(f"{S['invoiced']}{x}-{S['total_cost']}{x}"), f["money"],
+                         invoice_difference(res, w.places))
+
+
+def invoice_difference(res, places: int) -> float:
+    """invoiced - total_cost (0 for a shipment not routed), currency."""
+    total = res.total_cost if res.status == ROUTED else 0.0
+    return round_money(res.shipment.invoiced - total, places)
+
+
+def write_revenue_totals(w: Writer, ws, t: int, last: int, results) -> None:
+    """TOTAL row cells of pallets, quoted_price, margin, invoiced and invoice_difference."""
+    f = w.f
+    routed = [x for x in results if x.status == ROUTED]
+    d = w.places
+    totals = {
+        "pallets": (sum(x.shipment.pallets or 0.0 for x in results), "plain"),
+        "quoted_price": (round_money(sum(x.shipment.quoted_price or 0.0 for x in results), d), "money"),
+        "margin": (round_money(sum(round_money(x.shipment.quoted_price - x.total_cost, d)
+                                   for x in routed if x.shipment.quoted_price is not None), d), "money"),
+        "invoiced": (round_money(sum(x.shipment.invoiced or 0.0 for x in results), w.places), "money"),
+        "invoice_difference": (round_money(sum(invoice_difference(x, w.places) for x in results
+                                               if x.shipment.invoiced is not None), w.places), "money"),
+    }
+    for col, (value, kind) in totals.items():
+        letter = xl_col_to_name(SUM[col])
+        expr = f"SUM({letter}2:{letter}{last + 1})"
+        if kind == "money":
+            expr = w.round_f(expr)
+        ws.write_formula(t, SUM[col], "=" + expr, f.get("total_" + kind, f["total_text"]), value)

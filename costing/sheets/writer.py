@@ -12,7 +12,9 @@ from costing.sheets import legs
 from costing.sheets.carrier_charges import carrier_rows, write_carrier_charges
 from costing.sheets.charts import write_charts
 from costing.sheets.comparison import write_comparison
+from costing.sheets.customers import write_cost_per_customer
 from costing.sheets.formats import MAX_ROWS, Writer, fast_formulas
+from costing.sheets.invoice_check import write_invoice_check
 from costing.sheets.lane_usage import write_lane_usage
 from costing.sheets.legs import legs_sheet_names, write_legs
 from costing.sheets.map_sheet import write_map
@@ -57,6 +59,10 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         if analysis.frontiers:
             sheets["Trade-offs"] = w.wb.add_worksheet(out.TRADE_OFFS)
         sheets["Lane usage"] = w.wb.add_worksheet(out.LANE_USAGE)
+    sheets["Cost per customer"] = w.wb.add_worksheet(out.COST_PER_CUSTOMER)
+    if any(r.shipment.invoiced is not None for r in results):
+        sheets["Invoice check"] = w.wb.add_worksheet(out.INVOICE_CHECK)
+    if analysis is not None:
         sheets["Charts"] = w.wb.add_worksheet(out.CHARTS)
     if map_png:
         sheets["Map"] = w.wb.add_worksheet(out.MAP)
@@ -85,6 +91,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         write_lane_usage(w, sheets["Lane usage"], analysis, len(runs))
         write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows,
                      len(analysis.lanes))
+    write_cost_per_customer(w, sheets["Cost per customer"], results, last_row)
+    if "Invoice check" in sheets:
+        write_invoice_check(w, sheets["Invoice check"], results)
     if map_png:
         write_map(w, sheets["Map"], map_png)
     write_problems(w, problems_ws, problems)
