@@ -145,6 +145,17 @@ class Tariff:
 
 
 @dataclass(frozen=True)
+class FuelBand:
+    """One band of a carrier's fuel surcharge index (Fuel surcharges sheet)."""
+
+    carrier: str
+    fuel_price_from: float
+    fuel_price_to: float | None  # None: no upper end; the band holds from <= price < to
+    surcharge_pct: float  # per cent of the freight charge
+    row: int = 0
+
+
+@dataclass(frozen=True)
 class Model:
     settings: Settings
     depots: tuple[Depot, ...]
@@ -159,6 +170,7 @@ class Model:
     zones: dict[str, str] = field(default_factory=dict)  # depot_id -> tariff zone (Zones sheet)
     # ISO 4217 code -> units of the run's currency per unit (Currencies sheet)
     currencies: dict[str, float] = field(default_factory=dict)
+    fuel_bands: tuple[FuelBand, ...] = ()  # carriers' fuel surcharge index (Fuel surcharges sheet)
 
     def zone(self, depot_id: str) -> str:
         """The tariff zone of a depot: its Zones row, else its own id."""

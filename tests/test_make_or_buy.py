@@ -133,7 +133,15 @@ def test_libreoffice_recomputes_carrier_charges(tmp_path):
     ships = [_ship("S1", 5, volume_m3=20.0), _ship("S2", 0.4, pallets=2, loading_metres=0.8), _ship("S3", 20)]
     stepped = Tariff("Brindle", "A", "C", 0, None, 5.25, min_charge=45.0, price_per_consignment=7.5,
                      price_per_pallet=3.2, weight_step_kg=100, row=2)
-    costed = _run(_model(ships, tariffs=(stepped,)))
+    from dataclasses import replace
+
+    from costing.model import FuelBand
+
+    model = _model(ships, tariffs=(stepped,))
+    model = replace(model, settings=replace(model.settings, fuel_price_per_litre=1.62),
+                    fuel_bands=(FuelBand("Brindle", 1.5, None, 10.5),))
+    costed = _run(model)
+    assert costed.results[0].quote.price.fuel_surcharge > 0
     path = _write(costed, tmp_path)
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(path), str(tmp_path / "recalc"))

@@ -183,3 +183,45 @@ def test_dates_the_wrong_way_round_are_an_error(make_input):
         d["Tariffs"][0]["valid_to"] = DAY - dt.timedelta(days=1)
     _m, errors = _problems(make_input, change)
     assert errors[0].cell == "K2" and "before valid_from" in errors[0].message
+
+
+# ------------------------------------------------------------------ fuel surcharge index
+from dataclasses import replace as _replace  # noqa: E402
+
+from costing.model import FuelBand  # noqa: E402
+
+FUEL = (FuelBand("Brindle", 0.0, 1.5, 8.0, 2), FuelBand("Brindle", 1.5, 1.8, 10.5, 3),
+        FuelBand("Brindle", 1.8, None, 13.0, 4))
+
+
+def _fuel_model(price_per_litre):
+    return _replace(_model(fuel_price_per_litre=price_per_litre), fuel_bands=FUEL)
+
+
+@pytest.mark.parametrize("litre, kg, pct, fuel, total", [
+    # hand-worked: surcharge = ROUND(MAX(min_charge, freight) x pct / 100), on top of the freight
+    (1.62, 499, 10.5, 6.29, 71.17),   # 59.88 x 10.5 % = 6.2874 -> 6.29; 59.88 + 6.29 + 5
+    (1.50, 499, 10.5, 6.29, 71.17),   # the band's lower edge is in it
+    (1.49, 499, 8.0, 4.79, 69.67),    # 59.88 x 8 % = 4.7904 -> 4.79
+    (1.62, 200, 10.5, 4.73, 54.73),   # on the minimum: 45 x 10.5 % = 4.725 -> 4.73 (half away from 0)
+    (1.80, 1000, 13.0, 10.40, 95.40),  # 80 x 13 % = 10.40; 80 + 10.40 + 5
+    (None, 499, 0.0, 0.0, 64.88),     # no fuel price: no surcharge
+])
+def test_fuel_surcharge_bands(litre, kg, pct, fuel, total):
+    q = _quote(kg, _fuel_model(litre))
+    assert (q.price.fuel_pct, q.price.fuel_surcharge, q.charge) == (pct, fuel, total)
+
+
+def test_fuel_bands_checked(make_input):
+    def change(d):
+        d["Fuel surcharges"] = [
+            {"carrier": "Brindle", "fuel_price_from": 1.0, "fuel_price_to": 1.6, "surcharge_pct": 8},
+            {"carrier": "Brindle", "fuel_price_from": 1.5, "surcharge_pct": 10},
+            {"carrier": "Brindel", "fuel_price_from": 2.0, "fuel_price_to": 1.0, "surcharge_pct": 10},
+        ]
+    m, errors = _problems(make_input, change)
+    fuel = [p for p in m.problems if p.sheet == "Fuel surcharges"]
+    assert sorted((p.severity, p.cell) for p in fuel if p.severity == "error") == \
+        [("error", "B3"), ("error", "C4")]
+    # the base data sets no fuel price: Brindle's bands hold none of it
+    assert any(p.severity == "warning" and "no fuel band of Brindle" in p.message for p in fuel)

@@ -28,6 +28,7 @@ from costing.model import (
     INFO,
     WARNING,
     Depot,
+    FuelBand,
     Lane,
     Model,
     Problem,
@@ -595,10 +596,12 @@ def validate(raw: RawWorkbook) -> Model:
                                 "add shipments from row 2"))
     zones = _zones(raw, problems, depot_ix)
     tariffs = _tariffs(raw, problems, depot_ix, zones, settings, fx)
+    fuel_bands = _fuel_bands(raw, problems, tariffs, settings)
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     problems += fuel_rebate_problems(settings, rates, layout)
     model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
-                  tuple(problems), layout, tariffs=tuple(tariffs), zones=zones, currencies=fx)
+                  tuple(problems), layout, tariffs=tuple(tariffs), zones=zones, currencies=fx,
+                  fuel_bands=tuple(fuel_bands))
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
         changed = apply_scenario(model, sc)
@@ -682,6 +685,50 @@ def _tariffs(raw: RawWorkbook, problems: list[Problem], depot_ix: dict,
                 break
         else:
             out.append(t)
+    return out
+
+
+def _fuel_bands(raw: RawWorkbook, problems: list[Problem], tariffs: list[Tariff],
+                settings: Settings) -> list[FuelBand]:
+    """Bands of the optional Fuel surcharges sheet, checked: fuel_price_to above fuel_price_from, no
+    two bands of one carrier overlapping (an error); a carrier with no tariff, or whose bands do
+    not hold the Settings fuel price (no surcharge then), a warning."""
+    out: list[FuelBand] = []
+    if "Fuel surcharges" not in raw.sheets:
+        return out
+    sh = _Sheet(raw.sheets["Fuel surcharges"], problems)
+    carriers = {t.carrier for t in tariffs}
+    for rr, rec, ok in _records(sh):
+        lo, hi = rec["fuel_price_from"], rec["fuel_price_to"]
+        if lo is not None and hi is not None and hi <= lo:
+            sh.problem(ERROR, "fuel_price_to", rr.row, f"fuel_price_to {hi:g} is not above fuel_price_from "
+                       f"{lo:g}", "make fuel_price_to larger, or leave it blank for no upper end")
+            ok = False
+        if not ok:
+            continue
+        band = FuelBand(rec["carrier"], lo, hi, rec["surcharge_pct"], rr.row)
+        clash = next((b for b in out if b.carrier == band.carrier
+                      and _overlap(b.fuel_price_from, b.fuel_price_to, lo, hi)), None)
+        if clash is not None:
+            sh.problem(ERROR, "fuel_price_from", rr.row, f"the fuel band of {band.carrier} overlaps row "
+                       f"{clash.row}: two surcharges for one fuel price",
+                       "make the bands meet without overlapping (the next fuel_price_from = this "
+                       "fuel_price_to)")
+            continue
+        if band.carrier not in carriers:
+            sh.problem(WARNING, "carrier", rr.row, f"carrier '{_short(band.carrier)}' has no Tariffs row; "
+                       "the band is not used", did_you_mean(band.carrier, carriers) +
+                       "use a carrier name from the Tariffs sheet")
+        out.append(band)
+    price = settings.fuel_price_per_litre
+    for carrier in dict.fromkeys(b.carrier for b in out):
+        bands = [b for b in out if b.carrier == carrier]
+        if price is None or not any(_overlap(b.fuel_price_from, b.fuel_price_to, price, price + 1e-9)
+                                    for b in bands):
+            sh.problem(WARNING, "fuel_price_from", bands[0].row,
+                       f"no fuel band of {carrier} holds the fuel price "
+                       f"{'(blank)' if price is None else f'{price:g}'}: no fuel surcharge for {carrier}",
+                       "set Settings fuel_price_per_litre, or add a band that holds it")
     return out
 
 

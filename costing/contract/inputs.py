@@ -365,6 +365,25 @@ SHEETS: tuple[SheetSpec, ...] = (
         note="Optional exchange rates into the run's currency, for Rates and Tariffs rows in another "
              "currency.",
     ),
+    SheetSpec(
+        "Fuel surcharges",
+        (
+            Column("carrier", "text", True, note="Carrier (as on the Tariffs sheet) whose fuel surcharge "
+                   "this band sets.", width=16),
+            Column("fuel_price_from", "number", True, "currency per litre", "Lowest fuel price of the "
+                   "band (Settings fuel_price_per_litre, the run's currency): the band holds prices from "
+                   "fuel_price_from up to but not including fuel_price_to.", minimum=0.0, maximum=100.0,
+                   width=12),
+            Column("fuel_price_to", "number", False, "currency per litre", "End of the band (not "
+                   "included). Blank: no upper end.", minimum=0.0, maximum=100.0, width=12),
+            Column("surcharge_pct", "number", True, "per cent", "Fuel surcharge in per cent of the "
+                   "freight charge (the larger of freight and min_charge), e.g. 12.5. Negative: a "
+                   "rebate.", minimum=-100.0, maximum=1000.0, width=11),
+        ),
+        required=False,
+        note="Optional fuel surcharge index per carrier: at the fuel price of Settings "
+             "fuel_price_per_litre, the band's per cent is added to the carrier's freight charge.",
+    ),
 )
 
 SHEETS_BY_NAME = {s.name: s for s in SHEETS}

@@ -161,7 +161,8 @@ CARRIER_COLUMNS = [
     ("kg_per_loading_metre", 11, "plain"),
     ("chargeable_kg", 11, "kg"), ("weight_step_kg", 9, "plain"), ("charged_kg", 10, "kg"),
     ("min_kg", 9, "plain"), ("max_kg", 9, "plain"), ("price_per_100kg", 10, "rate"), ("freight", 11, "rate"),
-    ("min_charge", 10, "rate"), ("pallets", 8, "plain"), ("price_per_pallet", 10, "rate"),
+    ("min_charge", 10, "rate"), ("fuel_surcharge_pct", 9, "plain"), ("fuel_surcharge", 10, "rate"),
+    ("pallets", 8, "plain"), ("price_per_pallet", 10, "rate"),
     ("pallet_charge", 10, "rate"), ("price_per_consignment", 12, "rate"), ("price", 11, "rate"),
     ("currency", 8, "text"), ("rate", 10, "plain"), ("charge", 12, "money"), ("tariff_row", 8, "int"),
 ]
@@ -273,8 +274,10 @@ HEADER_NOTES = {
                   "the band holds min_kg <= charged_kg < max_kg.",
     "freight": "ROUND(charged_kg / 100 x price_per_100kg), in the tariff's currency.",
     "pallet_charge": "ROUND(pallets x price_per_pallet), in the tariff's currency.",
-    "price": "ROUND(MAX(min_charge, freight) + price_per_consignment + pallet_charge), in the tariff's "
-             "currency.",
+    "price": "ROUND(MAX(min_charge, freight) + fuel_surcharge + price_per_consignment + pallet_charge), "
+             "in the tariff's currency.",
+    "fuel_surcharge_pct": "The carrier's fuel band (Fuel surcharges sheet) holding Settings "
+                          "fuel_price_per_litre; 0 when none does.",
     "rate": "Units of the run's currency per unit of the tariff's currency (Currencies sheet; 1 when the "
             "same).",
     "charge": "ROUND(price x rate) in the run's currency: what the shipment costs when bought.",

@@ -17,9 +17,16 @@ Pure arithmetic on records; no workbooks, no graphs. What it guarantees:
   that currency's minor unit (ISO 4217), in the order of the spreadsheet formula the Carrier
   charges sheet writes::
 
-      freight       = ROUND(charged_kg / 100 x price_per_100kg)
-      pallet_charge = ROUND(pallets x price_per_pallet)
-      price         = ROUND(MAX(min_charge, freight) + price_per_consignment + pallet_charge)
+      freight        = ROUND(charged_kg / 100 x price_per_100kg)
+      fuel_surcharge = ROUND(MAX(min_charge, freight) x surcharge_pct / 100)
+      pallet_charge  = ROUND(pallets x price_per_pallet)
+      price          = ROUND(MAX(min_charge, freight) + fuel_surcharge + price_per_consignment
+                             + pallet_charge)
+
+- **Fuel surcharge** (``surcharge_pct``): the carrier's band (Fuel surcharges sheet) that holds
+  Settings ``fuel_price_per_litre`` (``fuel_price_from <= price < fuel_price_to``) gives a per
+  cent of the freight charge (the larger of freight and min_charge); 0 when the carrier has no
+  band for the price, or no fuel price is set. Per consignment and per pallet charges carry none.
 
 - **Conversion** (``CarrierCharge.charge``): price x rate (units of the reporting currency per
   unit of the tariff's), rounded to the reporting currency's minor unit; rate 1 when the tariff
@@ -107,23 +114,43 @@ class Price:
     pallet_charge : float
         ROUND(pallets x price_per_pallet).
     price : float
-        ROUND(MAX(min_charge, freight) + price_per_consignment + pallet_charge)."""
+        ROUND(MAX(min_charge, freight) + fuel_surcharge + price_per_consignment + pallet_charge).
+    fuel_pct : float
+        Fuel surcharge, per cent of MAX(min_charge, freight).
+    fuel_surcharge : float
+        ROUND(MAX(min_charge, freight) x fuel_pct / 100)."""
 
     charged_kg: float
     freight: float
     pallet_charge: float
     price: float
+    fuel_pct: float = 0.0
+    fuel_surcharge: float = 0.0
 
 
-def price(tariff, kg: float, pallets: float | None, places: int) -> Price:
+def price(tariff, kg: float, pallets: float | None, places: int, fuel_pct: float = 0.0) -> Price:
     """What one consignment of `kg` chargeable kg and `pallets` pallet places costs on the row,
-    in the row's currency rounded to `places` decimals (module docstring: the formula)."""
+    with a fuel surcharge of `fuel_pct` per cent, in the row's currency rounded to `places`
+    decimals (module docstring: the formula)."""
     charged = charged_kg(kg, tariff.weight_step_kg)
     freight = round_money(charged / 100 * tariff.price_per_100kg, places)
+    base = max(tariff.min_charge, freight)
+    fuel = round_money(base * fuel_pct / 100, places)
     pallet_charge = round_money((pallets or 0.0) * tariff.price_per_pallet, places)
-    total = round_money(max(tariff.min_charge, freight) + tariff.price_per_consignment + pallet_charge,
-                        places)
-    return Price(charged, freight, pallet_charge, total)
+    total = round_money(base + fuel + tariff.price_per_consignment + pallet_charge, places)
+    return Price(charged, freight, pallet_charge, total, fuel_pct, fuel)
+
+
+def surcharge_pct(bands, carrier: str, fuel_price: float | None) -> float:
+    """The per cent of `carrier`'s fuel band holding `fuel_price` (fuel_price_from <= price <
+    fuel_price_to); 0 when none does or no price is given."""
+    if fuel_price is None:
+        return 0.0
+    for b in bands:
+        if (b.carrier == carrier and b.fuel_price_from <= fuel_price
+                and (b.fuel_price_to is None or fuel_price < b.fuel_price_to)):
+            return b.surcharge_pct
+    return 0.0
 
 
 @dataclass(frozen=True)
@@ -209,7 +236,8 @@ def quote(model, shipment, day: _dt.date | None,
         rate = 1.0 if cur == reporting else rates.get(cur)
         if rate is None:
             continue
-        p = price(t, kg, shipment.pallets, minor_unit(cur))
+        pct = surcharge_pct(getattr(model, "fuel_bands", ()), t.carrier, model.settings.fuel_price_per_litre)
+        p = price(t, kg, shipment.pallets, minor_unit(cur), pct)
         c = CarrierCharge(t, fz, tz, kg, p, cur, rate, convert(p.price, rate, rep_places))
         if best is None or c.charge < best.charge:
             best = c

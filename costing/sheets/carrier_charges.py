@@ -6,8 +6,10 @@ run's currency is a live formula over the row's own cells, with its value cached
     chargeable_kg = MAX(weight_kg, volume_m3 x volumetric_kg_per_m3, loading_metres x kg_per_loading_metre)
     charged_kg    = chargeable_kg, or ROUNDUP(ROUND(chargeable_kg / weight_step_kg, 9), 0) x weight_step_kg
     freight       = ROUND(charged_kg / 100 x price_per_100kg, d)
+    fuel_surcharge = ROUND(MAX(min_charge, freight) x fuel_surcharge_pct / 100, d)
     pallet_charge = ROUND(pallets x price_per_pallet, d)
-    price         = ROUND(MAX(min_charge, freight) + price_per_consignment + pallet_charge, d)
+    price         = ROUND(MAX(min_charge, freight) + fuel_surcharge + price_per_consignment
+                          + pallet_charge, d)
     charge        = ROUND(price x rate, D)
 
 d is the tariff currency's minor unit, D the run's (ISO 4217).
@@ -69,6 +71,7 @@ def write_carrier_charges(w: Writer, ws, results) -> None:
                    ("price_per_100kg", t.price_per_100kg), ("min_charge", t.min_charge),
                    ("pallets", s.pallets or 0.0), ("price_per_pallet", t.price_per_pallet),
                    ("price_per_consignment", t.price_per_consignment), ("rate", q.rate),
+                   ("fuel_surcharge_pct", p.fuel_pct),
                    ("tariff_row", t.row))
         for col, value in numbers:
             ws.write_number(r, c[col], value)
@@ -83,9 +86,11 @@ def write_carrier_charges(w: Writer, ws, results) -> None:
                            "ROUNDUP(ROUND({chargeable_kg}/{weight_step_kg},9),0)*{weight_step_kg})",
              p.charged_kg, "kg"),
             ("freight", f"ROUND({{charged_kg}}/100*{{price_per_100kg}},{d})", p.freight, "rate"),
+            ("fuel_surcharge", f"ROUND(MAX({{min_charge}},{{freight}})*{{fuel_surcharge_pct}}/100,{d})",
+             p.fuel_surcharge, "rate"),
             ("pallet_charge", f"ROUND({{pallets}}*{{price_per_pallet}},{d})", p.pallet_charge, "rate"),
-            ("price", "ROUND(MAX({min_charge},{freight})+{price_per_consignment}+{pallet_charge},"
-                      f"{d})", p.price, "rate"),
+            ("price", "ROUND(MAX({min_charge},{freight})+{fuel_surcharge}+{price_per_consignment}"
+                      f"+{{pallet_charge}},{d})", p.price, "rate"),
             ("charge", w.round_f("{price}*{rate}"), q.charge, "money"),
         )
         for col, formula, value, kind in formulas:
