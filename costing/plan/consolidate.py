@@ -281,7 +281,10 @@ class _State:
         self.capacities = capacities
         self.members: dict[tuple, set[int]] = {}
         self.cpv: dict[tuple, float] = {}
-        self.extras: dict[tuple, tuple[float, ...]] = {}  # (run key, load index) -> its extras
+        # (run key, load index) -> its extras on the route it is placed on (a step can have
+        # different extras on different candidate routes: unloading where one route ends, none
+        # where another goes on), set by `place` and, for the route tried, by `marginal`
+        self.extras: dict[tuple, tuple[float, ...]] = {}
         self._cache: dict[tuple, int] = {}
         for li, load in enumerate(loads):
             for route in load.routes:
@@ -328,12 +331,18 @@ class _State:
         for st in route:
             rk = (day, st.key, st.card)
             others = self.members.get(rk, set()) - {li}
+            placed = self.extras.get((rk, li))
+            self.extras[(rk, li)] = st.extras  # li's extras on this route's step
             add += self.run_cost(rk, others | {li}) - self.run_cost(rk, others)
+            if placed is not None:
+                self.extras[(rk, li)] = placed
         return add
 
     def place(self, li: int, route: tuple[Step, ...]) -> None:
         for st in route:
-            self.members.setdefault((self.loads[li].day, st.key, st.card), set()).add(li)
+            rk = (self.loads[li].day, st.key, st.card)
+            self.members.setdefault(rk, set()).add(li)
+            self.extras[(rk, li)] = st.extras
 
     def remove(self, li: int, route: tuple[Step, ...]) -> None:
         for st in route:
