@@ -176,6 +176,15 @@ class Model:
         """The tariff zone of a depot: its Zones row, else its own id."""
         return self.zones.get(depot_id, depot_id)
 
+    @cached_property
+    def tariffs_by_zones(self) -> dict[tuple[str, str], tuple[Tariff, ...]]:
+        """(from_zone, to_zone) -> its tariff rows in sheet order, built once per Model (each
+        shipment looks up its own zone pair only)."""
+        out: dict[tuple[str, str], list[Tariff]] = {}
+        for t in self.tariffs:
+            out.setdefault((t.from_zone, t.to_zone), []).append(t)
+        return {k: tuple(v) for k, v in out.items()}
+
     def cell(self, sheet: str, column: str, row: int) -> tuple[str, str]:
         """(sheet title, cell address) of a value in the input, for problem reports."""
         title, letters = self.layout.get(sheet, (sheet, {}))

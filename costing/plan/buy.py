@@ -95,19 +95,28 @@ def carrier_route(res: CostedShipment, index: int) -> tuple[Step, ...]:
 
 
 def replan_from_own(loads, capacities: dict, first):
-    """The better of the planner's plan `first` (each load started from its cheapest alone) and
-    a second plan started with every load on its first candidate, the own fleet's route.
+    """The better of the planner's plan `first` (each load started from its cheapest alone, the
+    carrier included) and a second plan started from the plan of the own fleet alone.
 
-    Why: a carrier cheaper than each load's vehicle alone can be dearer than one shared vehicle
-    for several loads (three loads at 250, 250 and 500 against one vehicle for 776.25); from
-    the cheapest-alone start no single or pair move finds the shared vehicle. With no carrier
-    among the candidates this returns `first` unchanged."""
+    The second: plan the loads without their carrier options (exactly the plan the week would
+    have without tariffs), then plan again with the carriers, starting there; every move lowers
+    the total, so the planned total is never above the own-fleet plan's. Why both: a carrier
+    cheaper than each load's vehicle alone can be dearer than one shared vehicle for several
+    loads (three loads at 250, 250 and 500 against one vehicle for 776.25), which no single or
+    pair move from the cheapest-alone start finds. With no carrier among the candidates this
+    returns `first` unchanged."""
     if not any(isinstance(st.card, CarrierCard) for ld in loads for route in ld.routes for st in route):
         return first
     from costing.plan.consolidate import plan
 
-    second = plan(loads, capacities, start={ld.load_id: 0 for ld in loads})
+    own = [replace(ld, routes=tuple(r for r in ld.routes if not _bought_route(r)) or ld.routes)
+           for ld in loads]  # the carrier is the last candidate, so the others keep their index
+    second = plan(loads, capacities, start=plan(own, capacities).choice)
     return second if second.total < first.total - 1e-7 else first
+
+
+def _bought_route(route) -> bool:
+    return len(route) == 1 and isinstance(route[0].card, CarrierCard)
 
 
 def cheaper_alone(model: Model, results: list[CostedShipment], day_of) -> list[CostedShipment]:

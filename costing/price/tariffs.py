@@ -225,8 +225,8 @@ def quote(model, shipment, day: _dt.date | None,
     fz, tz = model.zone(shipment.origin), model.zone(shipment.destination)
     kg = shipment_chargeable_kg(shipment, model.settings)
     best: CarrierCharge | None = None
-    for t in model.tariffs:
-        if (t.from_zone, t.to_zone) != (fz, tz) or not valid_on(t, day):
+    for t in model.tariffs_by_zones.get((fz, tz), ()):
+        if not valid_on(t, day):
             continue
         if shipment.hazmat and not t.hazmat_allowed:
             continue
