@@ -11,6 +11,7 @@ places are invented inputs.
 from __future__ import annotations
 
 import datetime as dt
+import math
 
 import openpyxl
 import pytest
@@ -58,7 +59,7 @@ def test_alone_the_cheaper_is_chosen():
 def test_one_shared_vehicle_beats_three_carrier_consignments():
     # 5 + 5 + 10 t share one artic for 776.25; the carrier would charge 250 + 250 + 500 = 1000.
     # From the cheapest-alone start (all bought) no single or pair move finds the shared vehicle;
-    # the second start on own vehicles does (costing.plan.buy.replan_from_own).
+    # the start from the own fleet's plan does (costing.plan.buy.plan_with_carriers).
     costed = _run(_model([_ship("S1", 5), _ship("S2", 5), _ship("S3", 10)]))
     assert not any(r.bought for r in costed.results)
     assert sum(r.total_cost for r in costed.results) == 776.25
@@ -146,3 +147,27 @@ def test_libreoffice_recomputes_carrier_charges(tmp_path):
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(path), str(tmp_path / "recalc"))
     assert checked > 50 and not mismatches, mismatches[:10]
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_planned_total_never_above_the_own_fleet_plan(seed):
+    # Seeded random instances (invented inputs) of the planner: loads on shared steps, each also
+    # with a carrier option. What is checked is the stated guarantee, against the planner run on
+    # the same loads without carriers: with them, the planned total is never higher.
+    import random
+
+    from costing.plan.buy import CarrierCard, plan_with_carriers
+    from costing.plan.consolidate import Capacity, Load, Step, plan
+
+    rng = random.Random(seed)
+    per_vehicle = {k: rng.choice([80.0, 120.0, 150.0]) for k in "ABCDE"}  # one cost per step
+    loads = []
+    for i in range(rng.randint(4, 10)):
+        own = tuple(tuple(Step(k, "truck", per_vehicle[k], 50.0, (rng.choice([0.0, 20.0]),))
+                          for k in rng.sample("ABCDE", rng.randint(1, 3))) for _ in range(rng.randint(1, 2)))
+        carrier = (Step(("carrier", "X", i), CarrierCard("X"), rng.uniform(50, 400), 0.0, ()),)
+        loads.append(Load(i, 0, rng.uniform(1, 20), 0.0, 0.0, own + (carrier,)))
+    caps = {"truck": Capacity(24.0), CarrierCard("X"): Capacity(math.inf)}
+    own_only = [Load(ld.load_id, ld.day, ld.weight_t, 0.0, 0.0, ld.routes[:-1]) for ld in loads]
+    best = plan_with_carriers(loads, caps)
+    assert best.total <= plan(own_only, caps).total + 1e-7

@@ -94,25 +94,24 @@ def carrier_route(res: CostedShipment, index: int) -> tuple[Step, ...]:
     return (Step((CARRIER, q.carrier, index), CarrierCard(q.carrier), q.charge, 0.0, ()),)
 
 
-def replan_from_own(loads, capacities: dict, first):
-    """The better of the planner's plan `first` (each load started from its cheapest alone, the
-    carrier included) and a second plan started from the plan of the own fleet alone.
+def plan_with_carriers(loads, capacities: dict):
+    """The week's plan when loads may be bought: first the plan of the own fleet alone (the
+    loads without their carrier options: exactly the plan the week would have without
+    tariffs), then the planner again with the carriers, starting there.
 
-    The second: plan the loads without their carrier options (exactly the plan the week would
-    have without tariffs), then plan again with the carriers, starting there; every move lowers
-    the total, so the planned total is never above the own-fleet plan's. Why both: a carrier
-    cheaper than each load's vehicle alone can be dearer than one shared vehicle for several
-    loads (three loads at 250, 250 and 500 against one vehicle for 776.25), which no single or
-    pair move from the cheapest-alone start finds. With no carrier among the candidates this
-    returns `first` unchanged."""
-    if not any(isinstance(st.card, CarrierCard) for ld in loads for route in ld.routes for st in route):
-        return first
+    Every move lowers the total, so the planned total is never above the own fleet's plan. Why
+    not start from each load's cheapest alone, carrier included: a carrier cheaper than each
+    load's vehicle alone can be dearer than one shared vehicle for several loads (three loads at
+    250, 250 and 500 against one vehicle for 776.25), which no single or pair move from there
+    finds; and starting from the own plan moves only the few loads worth buying (measured:
+    benchmarks/bench_tariffs.py). With no carrier among the candidates this is one plan."""
     from costing.plan.consolidate import plan
 
+    if not any(isinstance(st.card, CarrierCard) for ld in loads for route in ld.routes for st in route):
+        return plan(loads, capacities)
     own = [replace(ld, routes=tuple(r for r in ld.routes if not _bought_route(r)) or ld.routes)
            for ld in loads]  # the carrier is the last candidate, so the others keep their index
-    second = plan(loads, capacities, start=plan(own, capacities).choice)
-    return second if second.total < first.total - 1e-7 else first
+    return plan(loads, capacities, start=plan(own, capacities).choice)
 
 
 def _bought_route(route) -> bool:

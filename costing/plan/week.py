@@ -65,7 +65,7 @@ from costing.plan.buy import (
     carrier_capacities,
     carrier_route,
     cheaper_alone,
-    replan_from_own,
+    plan_with_carriers,
     settle,
 )
 from costing.plan.consolidate import Capacity, Load, Step, plan
@@ -342,7 +342,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         loads = [_load(i, cands[i], model, day_of(results[i].shipment)) for i in idx]
         capacities = {_card_key(c): Capacity(c.payload_t, c.pallet_places, c.volume_m3) for c in model.rates}
         capacities.update(carrier_capacities(model))
-        p = replan_from_own(loads, capacities, plan(loads, capacities))
+        p = plan_with_carriers(loads, capacities) if model.tariffs else plan(loads, capacities)
         notes += p.notes
         moves = p.moves
         for i in idx:
