@@ -4,7 +4,9 @@ Hollowmere runs 36 sites across the Netherlands, Belgium, western Germany and no
 cross-dock hubs at Tilburg, Duisburg and Lille-Lesquin, four rail terminals, two port quays, own
 depots and customer sites. The company, customers and every figure are invented; coordinates sit
 near real towns. The data plants a few faults on purpose (see the comments) so validation and
-no-route reporting have something to show.
+no-route reporting have something to show. Two invented groupage carriers (one pricing in
+pounds sterling) offer tariffs between regional zones, so small loads can be bought instead of
+run on own vehicles; customers have quoted prices and finance has a few invoices to check.
 """
 
 from __future__ import annotations
@@ -25,6 +27,8 @@ _SETTINGS = [
     ("value_of_time_per_hour", 45, "What an hour of transit is worth to Hollowmere's planners."),
     ("driving_rules", "eu_561_2006", "EU driving-time rules as a planning estimate (breaks, daily rest)."),
     ("fuel_price_per_litre", 1.62, "Diesel price per litre, for the fuel surcharge."),
+    ("volumetric_kg_per_m3", 333, "Carriers charge light, bulky goods at 333 kg per m3."),
+    ("kg_per_loading_metre", 1750, "Carriers charge unstackable goods at 1,750 kg per loading metre."),
 ]
 
 _DEPOT_COLUMNS = ("depot_id", "name", "latitude", "longitude", "kind", "handling_cost",
@@ -278,6 +282,16 @@ _SIZES = {"S002": (14, 38.0), "S017": (6, 12.0), "S011": (8, 20.0), "S012": (2, 
           "S034": (10, 26.0), "S041": (4, 9.0), "S022": (4, 11.0), "S037": (2, 6.0)}
 
 
+# loading metres of the unstackable loads (0.4 m of trailer floor per euro pallet)
+_LOADING_METRES = {"S002": 5.6, "S011": 3.2, "S034": 4.0}
+# What Hollowmere quoted its customers (revenue, EUR) and the invoices finance checks this week:
+# carriers' invoices for loads they took, and the fleet cost centre's for S040.
+_QUOTED = {"S001": 340, "S002": 290, "S004": 360, "S011": 240, "S012": 175, "S013": 330, "S014": 270,
+           "S016": 380, "S017": 260, "S019": 420, "S020": 290, "S026": 250, "S031": 280, "S037": 190,
+           "S038": 395, "S040": 430, "S041": 95, "S044": 1150}
+_INVOICED = {"S013": 302.76, "S017": 345.0, "S031": 231.28, "S037": 228.4, "S040": 420.0}
+
+
 def _shipment_rows() -> list[dict]:
     rows = _rows(_SHIPMENT_COLUMNS, _SHIPMENTS)
     for row in rows:
@@ -287,7 +301,57 @@ def _shipment_rows() -> list[dict]:
             row["due_date"] = row["ready_date"] + _dt.timedelta(days=_DUE[sid])
         if sid in _SIZES:
             row["pallets"], row["volume_m3"] = _SIZES[sid]
+        for col, table in (("loading_metres", _LOADING_METRES), ("quoted_price", _QUOTED),
+                           ("invoiced", _INVOICED)):
+            if sid in table:
+                row[col] = table[sid]
     return rows
+
+
+# Carrier tariff zones: Hollowmere's sites by region. Texel (D15), Bremen (D37) and Hamburg (D38)
+# are in no zone, so each is a zone of its own that no tariff serves.
+_ZONES = {
+    "NL-North": ("D11", "D12", "D13", "D14", "D18", "D19"),
+    "NL-South": ("D01", "D02", "D05", "D06", "D09", "D16", "D17", "D20"),
+    "BE": ("D10", "D21", "D22", "D23", "D24", "D34", "D36"),
+    "DE-West": ("D03", "D07", "D25", "D26", "D27", "D28", "D29", "D35"),
+    "FR-North": ("D04", "D08", "D30", "D31", "D32", "D33"),
+}
+
+_TARIFF_COLUMNS = ("carrier", "from_zone", "to_zone", "min_kg", "max_kg", "price_per_100kg", "min_charge",
+                   "currency", "price_per_consignment", "valid_from", "valid_to", "price_per_pallet",
+                   "weight_step_kg")
+_DECEMBER = (_dt.date(2026, 12, 1), _dt.date(2026, 12, 31))
+
+
+def _tariff_rows() -> list[dict]:
+    """Two invented groupage carriers: Marrowby Groupage (EUR, per started 100 kg, a fuel index)
+    in the Netherlands and Belgium, and Tealbrook Freight (GBP, per pallet, December prices, an
+    expired November row) in northern France, Belgium and from NL-North to Belgium."""
+    rows = []
+    marrowby = ((0, 1000, 14.0), (1000, 2500, 9.2), (2500, 5000, 7.4), (5000, 10000, 5.9))
+    for a, b in (("NL-North", "NL-North"), ("NL-South", "NL-South"), ("NL-North", "BE"), ("BE", "NL-South"),
+                 ("NL-South", "BE"), ("NL-South", "DE-West")):
+        for lo, hi, price in marrowby:
+            rows.append(("Marrowby Groupage", a, b, lo, hi, price, 65.0, "EUR", 8.5, None, None, None, 100))
+    tealbrook = {("NL-North", "BE"): ((0, 2500, 8.4), (2500, 10000, 6.9)),
+                 ("FR-North", "FR-North"): ((0, 2500, 8.1), (2500, 10000, 6.6)),
+                 ("FR-North", "BE"): ((0, 5000, 7.0), (5000, 10000, 5.2)),
+                 ("BE", "FR-North"): ((0, 5000, 6.2), (5000, 10000, 3.4))}
+    for (a, b), bands in tealbrook.items():
+        for lo, hi, price in bands:
+            rows.append(("Tealbrook Freight", a, b, lo, hi, price, 55.0, "GBP", 6.0, *_DECEMBER, 2.5, None))
+    # last month's offer, no longer valid this week
+    rows.append(("Tealbrook Freight", "FR-North", "FR-North", 0, 10000, 5.0, 45.0, "GBP", 6.0,
+                 _dt.date(2026, 11, 1), _dt.date(2026, 11, 30), 2.5, None))
+    return _rows(_TARIFF_COLUMNS, rows)
+
+
+# Marrowby's fuel index (diesel price per litre in EUR -> per cent of the freight charge)
+_FUEL_BANDS = [("Marrowby Groupage", 1.4, 1.6, 9.0), ("Marrowby Groupage", 1.6, 1.8, 11.5),
+               ("Marrowby Groupage", 1.8, None, 14.0)]
+# Tealbrook prices in pounds sterling; the rate Hollowmere's bank gave on Friday (invented)
+_CURRENCIES = [("GBP", 1.16, _dt.date(2026, 12, 4))]
 
 
 def example_data() -> dict[str, list[dict]]:
@@ -299,6 +363,11 @@ def example_data() -> dict[str, list[dict]]:
         "Rates": _rows(_RATE_COLUMNS, _RATES),
         "Shipments": _shipment_rows(),
         "Scenarios": _rows(_SCENARIO_COLUMNS, _SCENARIOS),
+        "Zones": [{"depot_id": d, "zone": z} for z, depots in _ZONES.items() for d in depots],
+        "Tariffs": _tariff_rows(),
+        "Currencies": _rows(("currency", "rate", "date"), _CURRENCIES),
+        "Fuel surcharges": _rows(("carrier", "fuel_price_from", "fuel_price_to", "surcharge_pct"),
+                                 _FUEL_BANDS),
     }
 
 

@@ -76,6 +76,8 @@ class RateCard:
     tare_t: float = 0.0  # empty weight of one vehicle, for lane weight limits
     pallet_places: float | None = None  # pallets one vehicle carries (None: no limit)
     volume_m3: float | None = None  # load volume of one vehicle, m3 (None: no limit)
+    currency: str | None = None  # the currency the card was given in (None: the run's)
+    fx_rate: float = 1.0  # run currency per unit of `currency`: the money fields are converted
 
 
 @dataclass(frozen=True)
@@ -93,6 +95,9 @@ class Shipment:
     due_date: _dt.date | None = None
     pallets: float | None = None
     volume_m3: float | None = None
+    loading_metres: float | None = None  # metres of trailer floor, for carrier tariffs
+    quoted_price: float | None = None  # revenue, run currency
+    invoiced: float | None = None  # the invoice to check against the computed cost, run currency
 
 
 @dataclass(frozen=True)
@@ -115,6 +120,40 @@ class Settings:
     frontier_max_routes: float = 6
     consolidate: str = "yes"
     return_empty: str = "no"
+    volumetric_kg_per_m3: float = 333.0  # chargeable kg per m3 (carrier tariffs)
+    kg_per_loading_metre: float = 1750.0  # chargeable kg per loading metre (carrier tariffs)
+
+
+@dataclass(frozen=True)
+class Tariff:
+    """One carrier tariff row: a weight band from one zone to another (Tariffs sheet)."""
+
+    carrier: str
+    from_zone: str
+    to_zone: str
+    min_kg: float
+    max_kg: float | None  # None: no upper end; the band holds min_kg <= kg < max_kg
+    price_per_100kg: float
+    min_charge: float = 0.0
+    currency: str | None = None  # None: the run's currency
+    price_per_consignment: float = 0.0
+    valid_from: _dt.date | None = None
+    valid_to: _dt.date | None = None
+    price_per_pallet: float = 0.0
+    weight_step_kg: float | None = None
+    hazmat_allowed: bool = False
+    row: int = 0
+
+
+@dataclass(frozen=True)
+class FuelBand:
+    """One band of a carrier's fuel surcharge index (Fuel surcharges sheet)."""
+
+    carrier: str
+    fuel_price_from: float
+    fuel_price_to: float | None  # None: no upper end; the band holds from <= price < to
+    surcharge_pct: float  # per cent of the freight charge
+    row: int = 0
 
 
 @dataclass(frozen=True)
@@ -128,6 +167,24 @@ class Model:
     # where things are in the input: sheet -> (title in the file, column -> letter)
     layout: dict[str, tuple[str, dict[str, str]]] = field(default_factory=dict)
     scenarios: tuple = ()  # costing.check.scenarios.Scenario, each costed beside the base case
+    tariffs: tuple[Tariff, ...] = ()  # carrier tariff rows (Tariffs sheet)
+    zones: dict[str, str] = field(default_factory=dict)  # depot_id -> tariff zone (Zones sheet)
+    # ISO 4217 code -> units of the run's currency per unit (Currencies sheet)
+    currencies: dict[str, float] = field(default_factory=dict)
+    fuel_bands: tuple[FuelBand, ...] = ()  # carriers' fuel surcharge index (Fuel surcharges sheet)
+
+    def zone(self, depot_id: str) -> str:
+        """The tariff zone of a depot: its Zones row, else its own id."""
+        return self.zones.get(depot_id, depot_id)
+
+    @cached_property
+    def tariffs_by_zones(self) -> dict[tuple[str, str], tuple[Tariff, ...]]:
+        """(from_zone, to_zone) -> its tariff rows in sheet order, built once per Model (each
+        shipment looks up its own zone pair only)."""
+        out: dict[tuple[str, str], list[Tariff]] = {}
+        for t in self.tariffs:
+            out.setdefault((t.from_zone, t.to_zone), []).append(t)
+        return {k: tuple(v) for k, v in out.items()}
 
     def cell(self, sheet: str, column: str, row: int) -> tuple[str, str]:
         """(sheet title, cell address) of a value in the input, for problem reports."""

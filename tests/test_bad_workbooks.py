@@ -334,6 +334,14 @@ def _merge(title, ref):
     return change
 
 
+def _add_tariffs(bands):
+    """Add a Tariffs sheet with one row per (min_kg, max_kg) band of one carrier and zone pair."""
+    def change(d):
+        d["Tariffs"] = [{"carrier": "Brindle", "from_zone": "A", "to_zone": "C", "min_kg": lo,
+                         "max_kg": hi, "price_per_100kg": 10} for lo, hi in bands]
+    return change
+
+
 def _set(sheet, key_col, key, col, value):
     """Change one value of the base data, in the row whose key_col is key."""
     def change(d):
@@ -578,6 +586,9 @@ CASES: list[Case] = [
          "Settings!B5", ("default_speed_kmh holds the text 'fast'",)),
     Case("no_rate_cards", lambda b: b.data(lambda d: d.update(Rates=[])), "Rates!A2",
          ("no rate cards",)),
+    # ---- carrier tariffs: two prices for one weight
+    Case("tariff_bands_overlap", lambda b: b.data(_add_tariffs([(0, 1000), (900, None)])), "Tariffs!D3",
+         ("overlaps row 2", "without overlapping")),
 ]
 
 

@@ -53,3 +53,12 @@ def test_week_benchmark_smoke(capsys):
     out = capsys.readouterr().out
     assert "ratio end to end / floor" in out and "sheet: comparison" in out
     assert report["counts"]["comparison shipments"] > 0 and report["counts"]["trade-off routes"] > 0
+
+
+def test_tariffs_benchmark_smoke(capsys):
+    # make or buy at scale, small: it runs and prints its table and ratio (no timing asserted)
+    from benchmarks.bench_tariffs import main
+
+    main(["--smoke"])
+    out = capsys.readouterr().out
+    assert "ratio with / without tariffs" in out and "with tariffs" in out

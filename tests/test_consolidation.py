@@ -367,3 +367,14 @@ def test_plan_against_exact_optimum():
     assert sum(gaps[True]) / len(gaps[True]) <= 0.02
     # pair moves only add moves after the single moves stop: never a worse plan on these
     assert all(a <= b + 1e-12 for a, b in zip(gaps[True], gaps[False]))
+
+
+def test_a_step_on_two_routes_keeps_each_routes_extras():
+    # Hand-worked. One load, two candidate routes through the same step X (same key and card):
+    # route 0 ends after X and pays unloading 50 there: 100 + 50 = 150; route 1 goes on to Y
+    # (no unloading on X): 100 + 30 = 130. The plan keeps route 1 at 130: the extras of X are
+    # those of the route tried, not of whichever candidate was read last.
+    r0 = (Step("X", "c", 100.0, 1.0, (0.0, 50.0)),)
+    r1 = (Step("X", "c", 100.0, 1.0, (0.0, 0.0)), Step("Y", "c", 30.0, 1.0, (0.0, 0.0)))
+    p = plan([Load("L", 0, 1.0, 0.0, 0.0, (r0, r1))], {"c": Capacity(24.0)})
+    assert p.choice == {"L": 1} and p.total == 130.0

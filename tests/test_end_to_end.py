@@ -23,7 +23,7 @@ LEG_HEADERS = ["shipment_id", "seq", "from_depot", "to_depot", "vehicles", "dist
                "leg_cost", "run_id", "cost_share", *MONEY]
 SUMMARY_HEADERS = ["shipment_id", "status", "origin", "destination", "objective", "distance_km",
                    "subtotal", "min_charge", "min_charge_uplift", "standalone_cost", "allocated_cost",
-                   "total_cost", "saving", "travels_with", "route"]
+                   "total_cost", "saving", "travels_with", "route", "make_or_buy", "buy_cost"]
 
 
 def header_index(ws, wanted: list[str]) -> dict[str, int]:
@@ -64,6 +64,11 @@ def check_costed_workbook(path):
     total_row = summary[-1]
     assert total_row[0] == "TOTAL"
     summary = summary[:-1]
+    carrier_charges = set()
+    if "Carrier charges" in wb.sheetnames:
+        cc = header_index(wb["Carrier charges"], ["shipment_id", "used", "charge"])
+        carrier_charges = {(r[cc["shipment_id"]], r[cc["used"]], r[cc["charge"]])
+                           for r in wb["Carrier charges"].iter_rows(min_row=2, values_only=True)}
     by_ship: dict[str, list] = {}
     for leg in legs:
         parts = [leg[m] for m in MONEY]
@@ -78,6 +83,13 @@ def check_costed_workbook(path):
         sid, status = row[col["shipment_id"]], row[col["status"]]
         if status != "routed":
             assert sid not in by_ship and row[col["total_cost"]] is None
+            continue
+        if row[col["make_or_buy"]] == "buy":
+            # bought from a carrier (issue 11): no legs; it costs the carrier's charge, its own
+            # Carrier charges row (used = yes)
+            assert sid not in by_ship and row[col["total_cost"]] == row[col["buy_cost"]]
+            assert (sid, "yes", row[col["buy_cost"]]) in carrier_charges
+            grand += _cents(row[col["total_cost"]])
             continue
         ls = by_ship[sid]
         assert [x["seq"] for x in ls] == list(range(1, len(ls) + 1))
@@ -147,9 +159,11 @@ def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_pa
     code, _, err = cli("run", inp, "-o", str(out))
     assert code == 0, err
     # our formulas use only these functions, sheet and cell references, numbers and operators
-    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!|'Vehicle runs'!"
+    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUNDUP|ROUND|SUM|COUNT|IF|OR|MAX|N|Legs!|Summary!"
+                       r"|'Vehicle runs'!|'Carrier charges'!"
                        r'|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
-                       r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"')
+                       r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"'
+                       r'|&quot;(routed|yes)&quot;|"(routed|yes)"')
     with zipfile.ZipFile(out) as z:
         for name in z.namelist():
             if name.startswith("xl/worksheets/sheet"):

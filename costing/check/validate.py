@@ -23,7 +23,20 @@ from costing.contract.inputs import (
 )
 from costing.contract.rows import RawRow, RawSheet, RawWorkbook
 from costing.geo import great_circle_km
-from costing.model import ERROR, INFO, WARNING, Depot, Lane, Model, Problem, RateCard, Settings, Shipment
+from costing.model import (
+    ERROR,
+    INFO,
+    WARNING,
+    Depot,
+    FuelBand,
+    Lane,
+    Model,
+    Problem,
+    RateCard,
+    Settings,
+    Shipment,
+    Tariff,
+)
 from costing.money import is_known_currency
 
 # A stated lane length this much below the straight line between its depots is flagged.
@@ -414,6 +427,7 @@ def validate(raw: RawWorkbook) -> Model:
         cell and fix. The run may go on only when none is an ERROR (``has_errors``)."""
     problems: list[Problem] = list(raw.problems)
     settings = _settings(raw.sheets.get("Settings"), problems)
+    fx = _currencies(raw, problems, settings)
 
     depots: list[Depot] = []
     if "Depots" in raw.sheets:
@@ -477,14 +491,17 @@ def validate(raw: RawWorkbook) -> Model:
                            "CO2e is reported as 0 and the emissions objective treats it as free",
                            "for an electric vehicle enter its energy's emission factor; otherwise "
                            "enter the fuel figures, or leave both blank to use the default intensity")
+            cur = _row_currency(sh, rr, rec, settings, fx, "Rates")
+            ok = ok and cur is not _MISSING
             if ok:
-                rates.append(RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
-                                      rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
-                                      rec["min_charge"] or 0.0, rr.row,
-                                      fuel_included_at=rec["fuel_included_at"],
-                                      tare_t=rec["tare_t"] or 0.0,
-                                      pallet_places=rec["pallet_places"] or None,
-                                      volume_m3=rec["volume_m3"] or None))
+                card = RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
+                                rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
+                                rec["min_charge"] or 0.0, rr.row,
+                                fuel_included_at=rec["fuel_included_at"],
+                                tare_t=rec["tare_t"] or 0.0,
+                                pallet_places=rec["pallet_places"] or None,
+                                volume_m3=rec["volume_m3"] or None)
+                rates.append(_in_run_currency(card, cur, fx))
     vehicles = {r.vehicle for r in rates}
     rated_modes = {r.mode for r in rates}
 
@@ -565,7 +582,9 @@ def validate(raw: RawWorkbook) -> Model:
                 shipments.append(Shipment(rec["shipment_id"], rec["origin"], rec["destination"],
                                           rec["weight_t"], v, rec["objective"],
                                           bool(rec["hazmat"]), rec["customer"] or "", rr.row,
-                                          ready, due, rec["pallets"], rec["volume_m3"]))
+                                          ready, due, rec["pallets"], rec["volume_m3"],
+                                          loading_metres=rec["loading_metres"],
+                                          quoted_price=rec["quoted_price"], invoiced=rec["invoiced"]))
                 _split_warning(sh, rr.row, rec, [r for r in rates if v is None or r.vehicle == v],
                                depot_modes)
 
@@ -575,16 +594,228 @@ def validate(raw: RawWorkbook) -> Model:
     if "Shipments" in raw.sheets and not raw.sheets["Shipments"].rows:
         problems.append(Problem(WARNING, raw.sheets["Shipments"].title, "A2", "no shipments to cost",
                                 "add shipments from row 2"))
+    zones = _zones(raw, problems, depot_ix)
+    tariffs = _tariffs(raw, problems, depot_ix, zones, settings, fx)
+    fuel_bands = _fuel_bands(raw, problems, tariffs, settings)
     layout = {name: (sh.title, sh.letters()) for name, sh in raw.sheets.items()}
     problems += fuel_rebate_problems(settings, rates, layout)
     model = Model(settings, tuple(depots), tuple(lanes), tuple(rates), tuple(shipments),
-                  tuple(problems), layout)
+                  tuple(problems), layout, tariffs=tuple(tariffs), zones=zones, currencies=fx,
+                  fuel_bands=tuple(fuel_bands))
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
         changed = apply_scenario(model, sc)
         for p in fuel_rebate_problems(changed.settings, changed.rates, layout):
             more.append(replace(p, message=f"in scenario {sc.name}: {p.message}"))
     return replace(model, problems=tuple(problems) + tuple(more), scenarios=tuple(scenarios))
+
+
+def _zones(raw: RawWorkbook, problems: list[Problem], depot_ix: dict) -> dict[str, str]:
+    """depot_id -> zone from the optional Zones sheet; a depot listed twice or unknown is an error."""
+    zones: dict[str, str] = {}
+    if "Zones" not in raw.sheets:
+        return zones
+    sh = _Sheet(raw.sheets["Zones"], problems)
+    first: dict[str, int] = {}
+    for rr, rec, ok in _records(sh):
+        ok = _known_depots(sh, rr, rec, ("depot_id",), depot_ix) and ok
+        d = rec["depot_id"]
+        if d is not None and d in first:
+            sh.problem(ERROR, "depot_id", rr.row, f"depot {d} is given a zone twice (first in row "
+                       f"{first[d]})", "keep one row per depot")
+            continue
+        if ok and d is not None:
+            first[d] = rr.row
+            zones[d] = rec["zone"]
+    return zones
+
+
+def _tariffs(raw: RawWorkbook, problems: list[Problem], depot_ix: dict,
+             zones: dict[str, str], settings: Settings | None = None,
+             fx: dict[str, float] | None = None) -> list[Tariff]:
+    """Tariff rows of the optional Tariffs sheet, checked: a known zone at each end, min_kg below
+    max_kg, valid_from not after valid_to, a well-formed currency, and no two rows of one carrier
+    and zone pair whose bands and validity overlap (the price would be ambiguous)."""
+    out: list[Tariff] = []
+    if "Tariffs" not in raw.sheets:
+        return out
+    sh = _Sheet(raw.sheets["Tariffs"], problems)
+    known = set(zones.values()) | {d for d in depot_ix if d not in zones}
+    for rr, rec, ok in _records(sh):
+        for end in ("from_zone", "to_zone"):
+            z = rec[end]
+            if z is not None and z not in known:
+                hint = did_you_mean(z, known)
+                if z in depot_ix:
+                    hint = f"depot {z} is in zone {zones[z]} (Zones sheet): use the zone; "
+                sh.problem(ERROR, end, rr.row, f"{end} '{_short(z)}' is neither a zone on the Zones sheet "
+                           "nor a depot_id without a zone", hint + "use a zone from Zones or a depot_id")
+                ok = False
+        lo, hi = rec["min_kg"], rec["max_kg"]
+        if lo is not None and hi is not None and hi <= lo:
+            sh.problem(ERROR, "max_kg", rr.row, f"max_kg {hi:g} is not above min_kg {lo:g}: the band "
+                       "holds no weight",
+                       "make max_kg larger than min_kg, or leave it blank for no upper end")
+            ok = False
+        start, end_day = rec["valid_from"], rec["valid_to"]
+        if start is not None and end_day is not None and end_day < start:
+            sh.problem(ERROR, "valid_to", rr.row, f"valid_to {end_day} is before valid_from {start}",
+                       "correct the dates")
+            ok = False
+        cur = _row_currency(sh, rr, rec, settings or Settings(), fx or {}, "Tariffs")
+        if cur is _MISSING:
+            ok = False
+            cur = None
+        step = rec["weight_step_kg"]
+        if not ok:
+            continue
+        t = Tariff(rec["carrier"], rec["from_zone"], rec["to_zone"], lo, hi, rec["price_per_100kg"],
+                   rec["min_charge"] or 0.0, cur, rec["price_per_consignment"] or 0.0, start, end_day,
+                   rec["price_per_pallet"] or 0.0, step or None, bool(rec["hazmat_allowed"]), rr.row)
+        for other in out:
+            if (other.carrier, other.from_zone, other.to_zone) == (t.carrier, t.from_zone, t.to_zone) \
+                    and _overlap(other.min_kg, other.max_kg, t.min_kg, t.max_kg) \
+                    and _days_overlap(other, t):
+                sh.problem(ERROR, "min_kg", rr.row, f"the band {t.min_kg:g} to "
+                           f"{'no limit' if t.max_kg is None else f'{t.max_kg:g}'} kg of {t.carrier} from "
+                           f"{t.from_zone} to {t.to_zone} overlaps row {other.row} "
+                           f"({sh.raw.cell('min_kg', other.row)}): two prices for one weight",
+                           "make the bands meet without overlapping (the next min_kg = this max_kg), "
+                           "or give the rows different valid_from / valid_to dates")
+                break
+        else:
+            out.append(t)
+    return out
+
+
+def _fuel_bands(raw: RawWorkbook, problems: list[Problem], tariffs: list[Tariff],
+                settings: Settings) -> list[FuelBand]:
+    """Bands of the optional Fuel surcharges sheet, checked: fuel_price_to above fuel_price_from, no
+    two bands of one carrier overlapping (an error); a carrier with no tariff, or whose bands do
+    not hold the Settings fuel price (no surcharge then), a warning."""
+    out: list[FuelBand] = []
+    if "Fuel surcharges" not in raw.sheets:
+        return out
+    sh = _Sheet(raw.sheets["Fuel surcharges"], problems)
+    carriers = {t.carrier for t in tariffs}
+    for rr, rec, ok in _records(sh):
+        lo, hi = rec["fuel_price_from"], rec["fuel_price_to"]
+        if lo is not None and hi is not None and hi <= lo:
+            sh.problem(ERROR, "fuel_price_to", rr.row, f"fuel_price_to {hi:g} is not above fuel_price_from "
+                       f"{lo:g}", "make fuel_price_to larger, or leave it blank for no upper end")
+            ok = False
+        if not ok:
+            continue
+        band = FuelBand(rec["carrier"], lo, hi, rec["surcharge_pct"], rr.row)
+        clash = next((b for b in out if b.carrier == band.carrier
+                      and _overlap(b.fuel_price_from, b.fuel_price_to, lo, hi)), None)
+        if clash is not None:
+            sh.problem(ERROR, "fuel_price_from", rr.row, f"the fuel band of {band.carrier} overlaps row "
+                       f"{clash.row}: two surcharges for one fuel price",
+                       "make the bands meet without overlapping (the next fuel_price_from = this "
+                       "fuel_price_to)")
+            continue
+        if band.carrier not in carriers:
+            sh.problem(WARNING, "carrier", rr.row, f"carrier '{_short(band.carrier)}' has no Tariffs row; "
+                       "the band is not used", did_you_mean(band.carrier, carriers) +
+                       "use a carrier name from the Tariffs sheet")
+        out.append(band)
+    price = settings.fuel_price_per_litre
+    for carrier in dict.fromkeys(b.carrier for b in out):
+        bands = [b for b in out if b.carrier == carrier]
+        if price is None or not any(_overlap(b.fuel_price_from, b.fuel_price_to, price, price + 1e-9)
+                                    for b in bands):
+            sh.problem(WARNING, "fuel_price_from", bands[0].row,
+                       f"no fuel band of {carrier} holds the fuel price "
+                       f"{'(blank)' if price is None else f'{price:g}'}: no fuel surcharge for {carrier}",
+                       "set Settings fuel_price_per_litre, or add a band that holds it")
+    return out
+
+
+def _currencies(raw: RawWorkbook, problems: list[Problem], settings: Settings) -> dict[str, float]:
+    """ISO 4217 code -> units of the run's currency per unit, from the optional Currencies sheet.
+    A malformed code, a rate of 0, a currency given twice, or the run's own currency at a rate
+    other than 1 is an error."""
+    fx: dict[str, float] = {}
+    if "Currencies" not in raw.sheets:
+        return fx
+    sh = _Sheet(raw.sheets["Currencies"], problems)
+    first: dict[str, int] = {}
+    for rr, rec, ok in _records(sh):
+        code = _code(sh, rr, rec["currency"])
+        if code is _MISSING or not ok:
+            continue
+        rate = rec["rate"]
+        if rate == 0:
+            sh.problem(ERROR, "rate", rr.row, f"the rate of {code} is 0",
+                       f"type how many {settings.currency} one {code} is worth")
+            continue
+        if code == settings.currency and rate != 1:
+            sh.problem(ERROR, "rate", rr.row, f"{code} is the run's currency (Settings) but its rate is "
+                       f"{rate:g}, not 1", "delete the row, or type 1")
+            continue
+        if code in first:
+            sh.problem(ERROR, "currency", rr.row, f"{code} is given twice (first in row {first[code]})",
+                       "keep one rate per currency")
+            continue
+        first[code] = rr.row
+        fx[code] = rate
+    return fx
+
+
+def _code(sh: _Sheet, rr: RawRow, value):
+    """An ISO 4217 code from a cell (upper-cased), None when blank, or _MISSING after an error."""
+    if value is None:
+        return None
+    code = value.strip().upper()
+    if not re.fullmatch(r"[A-Z]{3}", code):
+        sh.problem(ERROR, "currency", rr.row, f"currency '{_short(value)}' is not an ISO 4217 code",
+                   "type a three-letter code such as EUR, GBP or USD")
+        return _MISSING
+    if not is_known_currency(code):
+        sh.problem(WARNING, "currency", rr.row, f"currency {code} is not in the tool's list; its "
+                   "amounts are rounded to 2 decimals", "check the ISO 4217 code")
+    return code
+
+
+def _row_currency(sh: _Sheet, rr: RawRow, rec: dict, settings: Settings, fx: dict[str, float], what: str):
+    """The currency of a Rates or Tariffs row: None for the run's own (blank or the same code),
+    the code when the Currencies sheet gives its rate, _MISSING after an error (a missing rate is
+    an error naming the cell)."""
+    code = _code(sh, rr, rec.get("currency"))
+    if code is _MISSING or code is None or code == settings.currency:
+        return None if code == settings.currency else code
+    if code not in fx:
+        sh.problem(ERROR, "currency", rr.row, f"no exchange rate for {code}: this {what} row is in {code} "
+                   f"but the run reports in {settings.currency}",
+                   f"add a Currencies row: currency {code}, rate = {settings.currency} per one {code}")
+        return _MISSING
+    return code
+
+
+def _in_run_currency(card: RateCard, code: str | None, fx: dict[str, float]) -> RateCard:
+    """A rate card given in currency `code`, its money fields (per_km, per_hour, per_trip,
+    min_charge, fuel_included_at) converted into the run's currency at the Currencies rate
+    (unrounded: they are rates; the amounts computed from them are rounded)."""
+    if code is None:
+        return card
+    rate = fx[code]
+    return replace(card, per_km=card.per_km * rate, per_hour=card.per_hour * rate,
+                   per_trip=card.per_trip * rate, min_charge=card.min_charge * rate,
+                   fuel_included_at=None if card.fuel_included_at is None else card.fuel_included_at * rate,
+                   currency=code, fx_rate=rate)
+
+
+def _overlap(lo1: float, hi1: float | None, lo2: float, hi2: float | None) -> bool:
+    """Whether [lo1, hi1) and [lo2, hi2) share a weight (None: no upper end)."""
+    return (hi2 is None or lo1 < hi2) and (hi1 is None or lo2 < hi1)
+
+
+def _days_overlap(a: Tariff, b: Tariff) -> bool:
+    """Whether two tariff rows are valid on a common day (blank ends open)."""
+    lo = max((d for d in (a.valid_from, b.valid_from) if d is not None), default=None)
+    hi = min((d for d in (a.valid_to, b.valid_to) if d is not None), default=None)
+    return lo is None or hi is None or lo <= hi
 
 
 def _split_warning(sh, row: int, rec: dict, cards, depot_modes: dict[str, set[str]]) -> None:

@@ -399,6 +399,10 @@ def compute_bridge(old: dict[str, Side], new: dict[str, Side], *, currency: str,
 
     rows = []
     unpriced: list[str] = []
+    # a routed shipment without legs in a run whose other shipments have some was bought from a
+    # carrier (a run read without its Legs sheet has none at all)
+    old_has_legs = any(side.legs for side in old.values())
+    new_has_legs = any(side.legs for side in new.values())
     for sid in list(old) + [s for s in new if s not in old]:
         o, n = old.get(sid), new.get(sid)
         c = dict.fromkeys(MOVES, 0)
@@ -415,7 +419,16 @@ def compute_bridge(old: dict[str, Side], new: dict[str, Side], *, currency: str,
             # the route text and vehicle too: without a Legs sheet the legs are not known
             same_route = (o.lanes, o.cards, o.route, o.vehicle) == (n.lanes, n.cards, n.route, n.vehicle)
             same_load = o.weight_t is not None and o.weight_t == n.weight_t
-            if pricer_new is None:
+            if (not o.legs and old_has_legs) or (not n.legs and new_has_legs):
+                # bought from a carrier in one run or both: no own legs where others have some
+                # the same carrier both times: its price moved, with the fuel price when that moved
+                # (its fuel index), else with the tariff or currency rates; make <-> buy or another
+                # carrier: the vehicle/carrier step
+                fuel_moved = (new_model is not None and fuel_known
+                              and old_fuel_price != new_model.settings.fuel_price_per_litre)
+                same_carrier = not o.legs and not n.legs and o.vehicle == n.vehicle
+                c[(FUEL if fuel_moved else RATES) if same_carrier else VEHICLE] = change
+            elif pricer_new is None:
                 c[RATES if same_route and same_load else NOT_SEPARATED] = change
             else:
                 try:

@@ -123,6 +123,15 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "loaded, over the cheapest way back with the same rate card, and the shipments that "
                 "sent them share that cost by tonne-km (rows marked empty on Vehicle runs).",
                 choices=YES_NO),
+    SettingSpec("volumetric_kg_per_m3", "number", 333.0,
+                "Chargeable kg per m3 of a shipment's volume_m3, for carrier tariffs: chargeable "
+                "weight = the most of the actual kg, volume_m3 x this and loading_metres x "
+                "kg_per_loading_metre. Common practice in road groupage: 333 (1 m3 = 333 kg, "
+                "'measured three times').", minimum=0.0, maximum=10000.0),
+    SettingSpec("kg_per_loading_metre", "number", 1750.0,
+                "Chargeable kg per loading metre (one metre of trailer floor, full width), for "
+                "carrier tariffs. Common practice in road groupage: 1,750 (carriers use 1,750 to "
+                "2,000; from memory).", minimum=0.0, maximum=100000.0),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
@@ -230,6 +239,9 @@ SHEETS: tuple[SheetSpec, ...] = (
                    minimum=0.0, maximum=10000.0, width=12),
             Column("volume_m3", "number", False, "m3", "Load volume of one vehicle in cubic metres. "
                    "Blank: no volume limit.", minimum=0.0, maximum=100000.0, width=10),
+            Column("currency", "text", False, note="ISO 4217 code of this card's money figures (per_km, "
+                   "per_hour, per_trip, min_charge, fuel_included_at), e.g. USD. They are converted into "
+                   "the run's currency at the Currencies sheet's rate. Blank: the run's currency.", width=9),
         ),
         note="Rate cards: what each vehicle costs on each mode.",
     ),
@@ -259,6 +271,16 @@ SHEETS: tuple[SheetSpec, ...] = (
                    maximum=100000.0, width=9),
             Column("volume_m3", "number", False, "m3", "Volume of the goods in cubic metres. Blank: "
                    "0 (weight alone decides).", minimum=0.0, maximum=1000000.0, width=10),
+            Column("loading_metres", "number", False, "m", "Metres of trailer floor (full width) the "
+                   "goods take, for carrier tariffs: loading_metres x kg_per_loading_metre counts "
+                   "toward the chargeable weight. Blank: 0.", minimum=0.0, maximum=100000.0, width=11),
+            Column("quoted_price", "number", False, "currency per shipment", "What the customer pays "
+                   "for the shipment (revenue), in the run's currency: gives the margin on Summary and "
+                   "Cost per customer. Blank: no margin shown.", minimum=0.0, width=12),
+            Column("invoiced", "number", False, "currency per shipment", "What the shipment was "
+                   "invoiced at (e.g. by the carrier or the fleet's cost centre), in the run's currency: "
+                   "Summary and the Invoice check sheet show the difference from the computed cost. "
+                   "Blank: not checked.", minimum=0.0, width=11),
         ),
         id_column="shipment_id",
         note="The shipments to cost.",
@@ -280,6 +302,92 @@ SHEETS: tuple[SheetSpec, ...] = (
         ),
         required=False,
         note="Optional what-if scenarios: each is costed beside the base case.",
+    ),
+    SheetSpec(
+        "Zones",
+        (
+            Column("depot_id", "depot", True, note="depot_id from the Depots sheet.", width=12),
+            Column("zone", "text", True, note="Tariff zone of the depot, as the carriers' Tariffs rows "
+                   "name it, e.g. NL-5 or BE-South. A depot not listed here is its own zone, named by "
+                   "its depot_id.", width=14),
+        ),
+        required=False,
+        note="Optional: the carrier tariff zone of each depot.",
+    ),
+    SheetSpec(
+        "Tariffs",
+        (
+            Column("carrier", "text", True, note="Name of the carrier (the haulier you buy from).",
+                   width=16),
+            Column("from_zone", "text", True, note="Zone of the origin (Zones sheet), or a depot_id.",
+                   width=12),
+            Column("to_zone", "text", True, note="Zone of the destination (Zones sheet), or a depot_id.",
+                   width=12),
+            Column("min_kg", "number", True, "kg", "Lightest chargeable weight of the band: the row "
+                   "holds weights from min_kg up to but not including max_kg.", minimum=0.0,
+                   maximum=1e7, width=9),
+            Column("max_kg", "number", False, "kg", "End of the band (not included). Blank: no upper "
+                   "end.", minimum=0.0, maximum=1e7, width=9),
+            Column("price_per_100kg", "number", True, "tariff currency per 100 kg", "Freight per 100 "
+                   "kg of chargeable weight, pro rata (see weight_step_kg).", minimum=0.0, width=12),
+            Column("min_charge", "number", False, "tariff currency per consignment", "Least freight "
+                   "charged for one consignment. Blank: 0.", default=0.0, minimum=0.0, width=11),
+            Column("currency", "text", False, note="ISO 4217 code of the row's prices, e.g. EUR. Blank: "
+                   "the run's currency (Settings).", width=9),
+            Column("price_per_consignment", "number", False, "tariff currency per consignment",
+                   "Fixed charge per consignment on top of the freight (paperwork, booking). Blank: 0.",
+                   default=0.0, minimum=0.0, width=12),
+            Column("valid_from", "date", False, "date", "First ready_date the row applies to. Blank: "
+                   "no start.", width=11),
+            Column("valid_to", "date", False, "date", "Last ready_date the row applies to. Blank: no "
+                   "end.", width=11),
+            Column("price_per_pallet", "number", False, "tariff currency per pallet", "Charge per "
+                   "pallet place (the shipment's pallets) on top of the freight. Blank: 0.",
+                   default=0.0, minimum=0.0, width=11),
+            Column("weight_step_kg", "number", False, "kg", "The chargeable weight is rounded up to a "
+                   "multiple of this before pricing and band look-up, e.g. 100 for 'per started 100 "
+                   "kg'. Blank: no rounding (pro rata).", minimum=0.0, maximum=100000.0, width=11),
+            Column("hazmat_allowed", "yesno", False, note="yes: the carrier takes dangerous goods on "
+                   "this row. Blank: no.", choices=YES_NO, default=False, width=10),
+        ),
+        required=False,
+        note="Optional carrier tariffs: what a carrier charges to take a consignment from one zone "
+             "to another, by weight band. Each shipment is priced both ways (own vehicles and the "
+             "cheapest carrier) and the cheaper for the week is chosen.",
+    ),
+    SheetSpec(
+        "Currencies",
+        (
+            Column("currency", "text", True, note="ISO 4217 code of a currency that Rates or Tariffs "
+                   "rows use, e.g. USD.", width=9),
+            Column("rate", "number", True, "run currency per unit", "Units of the run's currency "
+                   "(Settings currency) per one unit of this currency, e.g. 0.92 EUR per USD.",
+                   minimum=0.0, width=12),
+            Column("date", "date", False, "date", "Day the rate was taken (for your reference; shown "
+                   "in the Run sheet).", width=11),
+        ),
+        required=False,
+        note="Optional exchange rates into the run's currency, for Rates and Tariffs rows in another "
+             "currency.",
+    ),
+    SheetSpec(
+        "Fuel surcharges",
+        (
+            Column("carrier", "text", True, note="Carrier (as on the Tariffs sheet) whose fuel surcharge "
+                   "this band sets.", width=16),
+            Column("fuel_price_from", "number", True, "currency per litre", "Lowest fuel price of the "
+                   "band (Settings fuel_price_per_litre, the run's currency): the band holds prices from "
+                   "fuel_price_from up to but not including fuel_price_to.", minimum=0.0, maximum=100.0,
+                   width=12),
+            Column("fuel_price_to", "number", False, "currency per litre", "End of the band (not "
+                   "included). Blank: no upper end.", minimum=0.0, maximum=100.0, width=12),
+            Column("surcharge_pct", "number", True, "per cent", "Fuel surcharge in per cent of the "
+                   "freight charge (the larger of freight and min_charge), e.g. 12.5. Negative: a "
+                   "rebate.", minimum=-100.0, maximum=1000.0, width=11),
+        ),
+        required=False,
+        note="Optional fuel surcharge index per carrier: at the fuel price of Settings "
+             "fuel_price_per_litre, the band's per cent is added to the carrier's freight charge.",
     ),
 )
 

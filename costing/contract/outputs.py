@@ -16,9 +16,12 @@ LEGS = "Legs"
 SCENARIO_SHIPMENTS = "Scenario shipments"
 SCENARIO_LEGS = "Scenario legs"
 SCENARIO_VEHICLE_RUNS = "Scenario vehicle runs"
+CARRIER_CHARGES = "Carrier charges"
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
+COST_PER_CUSTOMER = "Cost per customer"
+INVOICE_CHECK = "Invoice check"
 CHARTS = "Charts"
 MAP = "Map"
 PROBLEMS = "Problems"
@@ -26,8 +29,8 @@ RUN = "Run"
 SCENARIO_BRIDGE = "Scenario bridge"  # base case to each scenario, cause by cause (costing.compare.bridge)
 SCENARIO_BRIDGE_SHIPMENTS = "Scenario bridge shipments"  # each shipment's share of every step
 SHEETS = (SUMMARY, SCENARIO_COMPARISON, SCENARIO_BRIDGE, SCENARIO_BRIDGE_SHIPMENTS, VEHICLE_RUNS, LEGS,
-          SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS, COMPARISON, TRADE_OFFS, LANE_USAGE,
-          CHARTS, MAP, PROBLEMS, RUN)
+          CARRIER_CHARGES, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS, COMPARISON, TRADE_OFFS,
+          LANE_USAGE, COST_PER_CUSTOMER, INVOICE_CHECK, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -110,6 +113,10 @@ SUMMARY_COLUMNS = [
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("tonne_km", 11, "km"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
+    ("chargeable_kg", 11, "kg"), ("make_cost", 12, "money"), ("buy_cost", 12, "money"),
+    ("make_or_buy", 8, "text"), ("make_or_buy_why", 50, "text"), ("pallets", 8, "plain"),
+    ("quoted_price", 12, "money"), ("margin", 12, "money"), ("invoiced", 12, "money"),
+    ("invoice_difference", 12, "money"),
 ]
 
 
@@ -151,6 +158,50 @@ RUN_COLUMNS = [
 
 
 RUN_COL = {name: i for i, (name, _w, _k) in enumerate(RUN_COLUMNS)}
+
+
+# Carrier charges columns: one row per shipment a carrier tariff prices (bought or not); every
+# price a live formula over the row's own cells. "rate" kind: amounts in the tariff's currency.
+CARRIER_COLUMNS = [
+    ("shipment_id", 12, "text"), ("used", 6, "text"), ("carrier", 14, "text"), ("from_zone", 10, "text"),
+    ("to_zone", 10, "text"), ("date", 11, "date"), ("weight_kg", 10, "kg"), ("volume_m3", 9, "plain"),
+    ("volumetric_kg_per_m3", 11, "plain"), ("loading_metres", 9, "plain"),
+    ("kg_per_loading_metre", 11, "plain"),
+    ("chargeable_kg", 11, "kg"), ("weight_step_kg", 9, "plain"), ("charged_kg", 10, "kg"),
+    ("min_kg", 9, "plain"), ("max_kg", 9, "plain"), ("price_per_100kg", 10, "rate"), ("freight", 11, "rate"),
+    ("min_charge", 10, "rate"), ("fuel_surcharge_pct", 9, "plain"), ("fuel_surcharge", 10, "rate"),
+    ("pallets", 8, "plain"), ("price_per_pallet", 10, "rate"),
+    ("pallet_charge", 10, "rate"), ("price_per_consignment", 12, "rate"), ("price", 11, "rate"),
+    ("currency", 8, "text"), ("rate", 10, "plain"), ("charge", 12, "money"), ("tariff_row", 8, "int"),
+]
+
+
+CARRIER_COL = {name: i for i, (name, _w, _k) in enumerate(CARRIER_COLUMNS)}
+
+
+# Cost per customer: one row per customer (Shipments customer; blank is "(no customer)"), every
+# figure a formula over the Summary rows of the customer's routed shipments.
+CUSTOMER_COLUMNS = [
+    ("customer", 22, "text"), ("shipments", 9, "int"), ("routed", 7, "int"), ("tonnes", 9, "plain"),
+    ("pallets", 8, "plain"), ("tonne_km", 11, "km"), ("total_cost", 12, "money"),
+    ("cost_per_tonne", 11, "money"), ("cost_per_pallet", 11, "money"), ("cost_per_shipment", 11, "money"),
+    ("co2e_kg", 10, "kg"), ("quoted_price", 12, "money"), ("margin", 12, "money"), ("margin_pct", 9, "pct"),
+    ("invoiced", 12, "money"), ("invoice_difference", 12, "money"),
+]
+
+
+CUSTOMER_COL = {name: i for i, (name, _w, _k) in enumerate(CUSTOMER_COLUMNS)}
+
+
+# Invoice check: the shipments with an invoiced amount, largest absolute difference first.
+INVOICE_COLUMNS = [
+    ("shipment_id", 12, "text"), ("customer", 20, "text"), ("vehicle", 14, "text"),
+    ("make_or_buy", 8, "text"), ("total_cost", 12, "money"), ("invoiced", 12, "money"),
+    ("invoice_difference", 12, "money"), ("difference_pct", 10, "pct"),
+]
+
+
+INVOICE_COL = {name: i for i, (name, _w, _k) in enumerate(INVOICE_COLUMNS)}
 
 
 HEADER_NOTES = {
@@ -219,6 +270,36 @@ HEADER_NOTES = {
     "base_total_cost": "The shipment's total_cost on the Summary sheet (the input as given).",
     "delta_vs_base": "total_cost - base_total_cost",
     "route_vs_base": "same or changed: the scenario's route against the Summary's.",
+    "chargeable_kg": "MAX(weight_t x 1000, volume_m3 x volumetric_kg_per_m3, loading_metres x "
+                     "kg_per_loading_metre) (Settings): the weight a carrier tariff charges, kg.",
+    "make_cost": "On own vehicles: the shipment's total_cost when it rides the own fleet; when bought, "
+                 "what its own route alone would cost (blank: no own route).",
+    "buy_cost": "The cheapest carrier's charge in the run's currency (Carrier charges sheet); blank when "
+                "no tariff fits.",
+    "make_or_buy": "make: own vehicles; buy: the carrier (the cheaper for the week's cost: the planner "
+              "weighs the carrier's price against what the load adds to the own vehicle runs).",
+    "quoted_price": "What the customer pays for the shipment (Shipments quoted_price): revenue.",
+    "margin": "Summary: quoted_price - total_cost. Cost per customer: the sum over the customer's "
+              "shipments with a quoted_price.",
+    "margin_pct": "margin / quoted_price.",
+    "invoiced": "The amount the shipment was invoiced at (Shipments invoiced).",
+    "invoice_difference": "invoiced - total_cost: positive when invoiced more than the computed cost.",
+    "difference_pct": "invoice_difference / total_cost (blank when total_cost is 0).",
+    "cost_per_tonne": "total_cost / tonnes (routed shipments).",
+    "cost_per_pallet": "total_cost / pallets (blank when the shipments give no pallets).",
+    "cost_per_shipment": "total_cost / routed.",
+    "used": "yes: the shipment is bought from this carrier; no: priced for comparison only.",
+    "charged_kg": "chargeable_kg rounded up to a multiple of weight_step_kg (blank step: unchanged); "
+                  "the band holds min_kg <= charged_kg < max_kg.",
+    "freight": "ROUND(charged_kg / 100 x price_per_100kg), in the tariff's currency.",
+    "pallet_charge": "ROUND(pallets x price_per_pallet), in the tariff's currency.",
+    "price": "ROUND(MAX(min_charge, freight) + fuel_surcharge + price_per_consignment + pallet_charge), "
+             "in the tariff's currency.",
+    "fuel_surcharge_pct": "The carrier's fuel band (Fuel surcharges sheet) holding Settings "
+                          "fuel_price_per_litre; 0 when none does.",
+    "rate": "Units of the run's currency per unit of the tariff's currency (Currencies sheet; 1 when the "
+            "same).",
+    "charge": "ROUND(price x rate) in the run's currency: what the shipment costs when bought.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
               "rejected (nothing to route).",
 }

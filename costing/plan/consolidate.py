@@ -329,12 +329,13 @@ class _State:
             self._cache[key] = n
         return n
 
-    def _alone(self, rk: tuple, i: int) -> float:
-        """Load i on run rk with vehicles of its own."""
-        a = self._alone_cost.get((rk, i))
+    def _alone(self, rk: tuple, i: int, extras: tuple[float, ...] | None = None) -> float:
+        """Load i on run rk with vehicles of its own (with `extras`, else those of the route it
+        is placed on)."""
+        ex = self.extras[(rk, i)] if extras is None else extras
+        a = self._alone_cost.get((rk, i, ex))
         if a is None:
-            a = self._alone_cost[(rk, i)] = (self.vehicles(rk, frozenset((i,)))
-                                             * (self.cpv[rk] + sum(self.extras[(rk, i)])))
+            a = self._alone_cost[(rk, i, ex)] = self.vehicles(rk, frozenset((i,))) * (self.cpv[rk] + sum(ex))
         return a
 
     def _lower_bound(self, rk: tuple, sums: list[float]) -> int:
@@ -360,22 +361,25 @@ class _State:
     def _sums(self, rk: tuple) -> list[float]:
         return self.size_sums.setdefault(rk, [0.0, 0.0, 0.0])
 
-    def _cost(self, rk: tuple, vehicles: int, members: set[int], li: int | None) -> float:
-        """min(shared, alone) for `members` (the run's current members; plus li when given) with
-        `vehicles` shared vehicles, from the run's running aggregates."""
+    def _cost(self, rk: tuple, vehicles: int, members: set[int], li: int | None,
+              tried: tuple[float, ...] = ()) -> float:
+        """min(shared, alone) for `members` (the run's current members; plus li with extras
+        `tried` when given) with `vehicles` shared vehicles, from the run's running aggregates."""
         count = len(members) + (li is not None)
         if not count:
             return 0.0
-        shared = vehicles * (self.cpv[rk] + sum(self._max_extras(rk, li)))
+        shared = vehicles * (self.cpv[rk] + sum(self._max_extras(rk, tried if li is not None else None)))
         if count == 1:
             return shared
-        return min(shared, self.alone_sum.get(rk, 0.0) + (self._alone(rk, li) if li is not None else 0.0))
+        alone = self.alone_sum.get(rk, 0.0) + (self._alone(rk, li, tried) if li is not None else 0.0)
+        return min(shared, alone)
 
-    def _max_extras(self, rk: tuple, li: int | None) -> list[float]:
+    def _max_extras(self, rk: tuple, extra: tuple[float, ...] | None) -> list[float]:
+        """The largest of each extra over the run's members (and `extra`, when given)."""
         seen = self.extra_counts.get(rk, {})
         vectors = [v for v, k in seen.items() if k > 0]
-        if li is not None:
-            vectors.append(self.extras[(rk, li)])
+        if extra is not None:
+            vectors.append(extra)
         return [max(col) for col in zip(*vectors)] if vectors else []
 
     def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
@@ -399,17 +403,17 @@ class _State:
             rk = (day, st.key, st.card)
             members = self.members.get(rk, set())
             if len(members) + (li not in members) > EXACT_PACKING:
-                add += self._added_big(rk, members, li)
+                add += self._added_big(rk, members, li, st.extras)
             elif li in members:  # evaluate as if it were not there
                 self._leave(rk, li)
                 members.discard(li)
                 try:
-                    add += self._added(rk, members, li)
+                    add += self._added(rk, members, li, st.extras)
                 finally:
                     members.add(li)
                     self._join(rk, li)
             else:
-                add += self._added(rk, members, li)
+                add += self._added(rk, members, li, st.extras)
         return add
 
     def _packed(self, rk: tuple) -> int:
@@ -421,16 +425,15 @@ class _State:
                                                     self.capacities[rk[2]])
         return n
 
-    def _added_big(self, rk: tuple, members: set[int], li: int) -> float:
+    def _added_big(self, rk: tuple, members: set[int], li: int, tried: tuple[float, ...]) -> float:
         """`_added` for a run of more than EXACT_PACKING loads, without changing the run: the
         vehicles with and without li are its exact packing and the lower bound plus that
         packing's slack, the shares from the running aggregates."""
         cpv, sums, size = self.cpv[rk], self._sums(rk), self.loads[li].size()
         packed = self._packed(rk)
         slack = packed - self._lower_bound(rk, sums)
-        alone_all, own = self.alone_sum.get(rk, 0.0), self._alone(rk, li)
+        alone_all, own = self.alone_sum.get(rk, 0.0), self._alone(rk, li, tried)
         counts = dict(self.extra_counts.get(rk, {}))
-        vec = self.extras[(rk, li)]
 
         def cost(n: int, k: int, alone: float) -> float:
             vectors = [v for v, c in counts.items() if c > 0]
@@ -438,22 +441,26 @@ class _State:
             return shared if k == 1 else min(shared, alone)
 
         k = len(members)
-        if li in members:
-            after = cost(packed, k, alone_all)
-            counts[vec] -= 1
+        if li in members:  # placed here with its route's extras; tried with `tried`
+            placed = self.extras[(rk, li)]
+            counts[placed] -= 1
+            rest = alone_all - self._alone(rk, li)
             n = max(self._lower_bound(rk, [a - b for a, b in zip(sums, size)]) + slack, 1)
-            before = cost(n, k - 1, alone_all - own) if k > 1 else 0.0
+            before = cost(n, k - 1, rest) if k > 1 else 0.0
+            counts[tried] = counts.get(tried, 0) + 1
+            after = cost(packed, k, rest + own)
         else:
             before = cost(packed, k, alone_all) if k else 0.0
-            counts[vec] = counts.get(vec, 0) + 1
+            counts[tried] = counts.get(tried, 0) + 1
             n = max(self._lower_bound(rk, [a + b for a, b in zip(sums, size)]) + slack, 1)
             after = cost(n, k + 1, alone_all + own)
         return after - before
 
-    def _added(self, rk: tuple, others: set[int], li: int) -> float:
-        """run cost with li - run cost without it (`others`: the run's members, li not among them)."""
+    def _added(self, rk: tuple, others: set[int], li: int, tried: tuple[float, ...]) -> float:
+        """run cost with li (its extras `tried`) - run cost without it (`others`: the run's
+        members, li not among them)."""
         before = self._cost(rk, self.vehicles(rk, frozenset(others)), others, None) if others else 0.0
-        after = self._cost(rk, self._estimate(rk, others, li), others, li)
+        after = self._cost(rk, self._estimate(rk, others, li), others, li, tried)
         return after - before
 
     def _join(self, rk: tuple, li: int) -> None:
@@ -473,12 +480,18 @@ class _State:
         self.extra_counts[rk][self.extras[(rk, li)]] -= 1
 
     def place(self, li: int, route: tuple[Step, ...]) -> None:
+        """Put load li on `route`: it joins each run with that route's extras on the step (a
+        step can have different extras on different candidate routes: unloading where one ends,
+        none where another goes on)."""
         for st in route:
             rk = (self.loads[li].day, st.key, st.card)
             m = self.members.setdefault(rk, set())
-            if li not in m:
+            if li in m:
+                self._leave(rk, li)
+            else:
                 m.add(li)
-                self._join(rk, li)
+            self.extras[(rk, li)] = st.extras
+            self._join(rk, li)
 
     def remove(self, li: int, route: tuple[Step, ...]) -> None:
         for st in route:
@@ -545,7 +558,7 @@ def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int], days: s
 
 
 def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
-         pair_moves: bool = True, pair_limit: int = 60) -> Plan:
+         pair_moves: bool = True, pair_limit: int = 60, start: dict | None = None) -> Plan:
     """Assign each load a candidate route so that loads leaving together share vehicles.
 
     Parameters
@@ -564,6 +577,10 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     max_sweeps : int
         Safety bound on improvement sweeps (the method terminates on its own; this only caps
         work on very large inputs, and the plan is then still never worse than alone).
+    start : dict, optional
+        load id -> index of the route to start from instead of its cheapest alone (loads not
+        named start from their cheapest alone). The "never worse than alone" guarantee then
+        holds only when the start does: the caller compares.
 
     Returns
     -------
@@ -584,7 +601,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         costs = [sum(vehicles_for([load.size()], capacities[st.card]) * (st.cost_per_vehicle + sum(st.extras))
                      for st in route) for route in load.routes]
         best = min(range(len(costs)), key=lambda r: (costs[r], r))
-        choice.append(best)
+        choice.append(start.get(load.load_id, best) if start else best)
         alone[load.load_id] = costs[best]
         alone_route[load.load_id] = best
     for li, load in enumerate(loads):

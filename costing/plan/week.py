@@ -60,6 +60,14 @@ from dataclasses import dataclass, field, replace
 from costing.geo import great_circle_km
 from costing.model import WARNING, Model, Problem, RateCard
 from costing.money import minor_unit, round_money
+from costing.plan.buy import (
+    add_buy_options,
+    carrier_capacities,
+    carrier_route,
+    cheaper_alone,
+    plan_with_carriers,
+    settle,
+)
 from costing.plan.consolidate import Capacity, Load, Step, plan
 from costing.price.allocate import allocate, cap_at_standalone
 from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg
@@ -275,6 +283,9 @@ def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load
     routes = []
     places = minor_unit(model.settings.currency)
     for res in res_list:
+        if res.bought:  # the carrier option (costing.plan.buy): a fixed price for this load alone
+            routes.append(carrier_route(res, index))
+            continue
         steps = []
         for g in res.legs:
             one = reprice_leg(model, g, 1)
@@ -418,17 +429,20 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
     groups: dict[tuple, list[tuple[int, int]]] = {}
     vehicles: dict[tuple, int] = {}
     if consolidate:
-        cands = _candidates(model, route, results, day_of, prepare)
-        idx = [i for i, r in enumerate(results) if r.status == ROUTED]
+        cands = add_buy_options(model, results, _candidates(model, route, results, day_of, prepare), day_of)
+        idx = [i for i, c in enumerate(cands) if c[0].status == ROUTED]
         loads = [_load(i, cands[i], model, day_of(results[i].shipment)) for i in idx]
         capacities = {_card_key(c): Capacity(c.payload_t, c.pallet_places, c.volume_m3) for c in model.rates}
-        p = plan(loads, capacities)
+        capacities.update(carrier_capacities(model))
+        p = plan_with_carriers(loads, capacities) if model.tariffs else plan(loads, capacities)
         notes += p.notes
         moves = p.moves
         for i in idx:
             chosen[i] = cands[i][p.choice[i]]
         for run in p.runs:
             vehicles[(run.day, run.key[0], run.card)] = run.vehicles
+    else:
+        chosen = cheaper_alone(model, results, day_of)
     for i, res in enumerate(chosen):
         for k, g in enumerate(res.legs):
             key = (day_of(res.shipment), _step_key(g), _card_key(g.card))
@@ -487,7 +501,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
     out: list[CostedShipment] = []
     problems: list[Problem] = []
     for i, res in enumerate(chosen):
-        if res.status != ROUTED:
+        if res.status != ROUTED or res.bought:
             out.append(replace(res, day=day_of(res.shipment)))
             continue
         new_legs = tuple(legs[(i, k)] for k in range(len(res.legs)))
@@ -521,4 +535,5 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
                                     "allow a later due_date, an earlier ready_date, or a faster objective "
                                     "for it (objective = time)"))
         out.append(new)
+    out = settle(model, out, results, day_of, places)
     return WeekPlan(out, runs, consolidate, problems, notes, moves)

@@ -98,6 +98,17 @@ class CostedShipment:
     day: object = None  # the plan's day (ready_date, or the first day of the run)
     empty_return_cost: float = 0.0  # its share of empty returns (Settings return_empty), currency
     empty_return_alone: float = 0.0  # its own vehicles' empty return alone, currency
+    # make or buy (costing.plan.buy): the carrier option and what was chosen
+    quote: object = None  # costing.price.tariffs.CarrierCharge: the cheapest carrier, if a tariff fits
+    bought: bool = False  # True: the shipment goes by carrier at quote.charge (no legs, no runs)
+    make_cost: float | None = None  # on own vehicles: its total when made; alone when bought
+    chosen: str = ""  # "make" or "buy" ("" when no carrier was priced)
+    why: str = ""  # the reason, with both figures
+
+    @property
+    def buy_cost(self) -> float | None:
+        """The carrier's charge in the run's currency (None when no tariff fits)."""
+        return None if self.quote is None else self.quote.charge
 
     @property
     def subtotal(self) -> float:
@@ -112,7 +123,10 @@ class CostedShipment:
     @property
     def standalone_cost(self) -> float:
         """Subtotal plus the minimum-charge uplift (plus its own empty return, when Settings
-        return_empty is yes), currency: what the route costs the shipment with vehicles of its own."""
+        return_empty is yes), currency: what the route costs the shipment with vehicles of its own
+        (bought from a carrier: the carrier's charge)."""
+        if self.bought:
+            return self.quote.charge
         return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone, self.places)
 
     @property
@@ -126,7 +140,10 @@ class CostedShipment:
     def total_cost(self) -> float:
         """What the shipment costs, currency: its allocated share of the vehicle runs and of
         their empty returns, plus the minimum-charge uplift when it shares no vehicle (with
-        vehicles of its own this is the stand-alone cost)."""
+        vehicles of its own this is the stand-alone cost); bought from a carrier, the carrier's
+        charge."""
+        if self.bought:
+            return self.quote.charge
         uplift = 0.0 if self.shared_with else self.min_charge_uplift
         return round_money(self.allocated_cost + self.empty_return_cost + uplift, self.places)
 

@@ -72,12 +72,13 @@ def bound_rows(bounds: dict[str, str]) -> list[tuple[str, str]]:
 
 
 def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, last: int,
-               n_legs: int, runs=()) -> None:
+               n_legs: int, runs=(), n_carrier: int = 0) -> None:
     """The Run sheet: tool, time, input SHA-256, every setting used, statistics, cautions, and
     the reconciliation as live formulas: the vehicle runs' costs equal the legs' shares
-    (difference 0), and runs + minimum-charge uplifts of shipments sharing no vehicle equal the
-    Summary TOTAL (difference 0). `last` is the 0-based index of the last Summary shipment row
-    (`write_summary`), `n_legs` the number of legs, `runs` the vehicle runs."""
+    (difference 0), and runs + minimum-charge uplifts of shipments sharing no vehicle + the
+    Carrier charges of shipments bought from carriers equal the Summary TOTAL (difference 0).
+    `last` is the 0-based index of the last Summary shipment row (`write_summary`), `n_legs` the
+    number of legs, `runs` the vehicle runs, `n_carrier` the number of Carrier charges rows."""
     ws.fit_to_pages(1, 0)  # one page wide, as many long as it takes
     ws.set_column(0, 0, 36)
     ws.set_column(1, 1, 90, w.f["wrap"])
@@ -118,6 +119,11 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
                           "places and volume; each pays a tonne-km share of its runs, never more than its "
                           "leg alone (costing.plan.week)" if s.consolidate == "yes" else
                           "off: every shipment has vehicles of its own"),
+        ("carrier tariffs", f"{len(model.tariffs)} tariff rows; {n_carrier} shipments priced by a carrier, "
+                            f"{sum(1 for x in results if x.bought)} bought (Carrier charges sheet); each "
+                            "shipment goes the way that costs the week less (costing.plan.buy)"
+         if model.tariffs else "none: every shipment on own vehicles"),
+        *_currency_rows(model),
         ("problems: errors / warnings / info",
          "{} / {} / {}".format(*(len({(p.sheet, p.cell, p.message) for p in problems if p.severity == k})
                                  for k in (ERROR, WARNING, INFO)))),
@@ -182,6 +188,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     share_total = round_money(sum(leg_value(leg, "cost_share") for x in routed for leg in x.legs)
                               + sum(x.empty_return_cost for x in routed), w.places)
     uplift = round_money(sum(x.min_charge_uplift for x in routed if not x.shared_with), w.places)
+    bought = round_money(sum(x.total_cost for x in routed if x.bought), w.places)
     total = round_money(sum(x.total_cost for x in routed), w.places)
     r += 2
     ws.write_string(r, 0, "reconciliation", f["bold"])
@@ -208,6 +215,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ("plus min_charge_uplift of shipments sharing no vehicle",
          w.round_f(f"SUMPRODUCT((Summary!{S['travels_with']}2:{S['travels_with']}{n_summary}=\"\")*"
                    f"(Summary!{S['min_charge_uplift']}2:{S['min_charge_uplift']}{n_summary}))"), uplift),
+        ("plus Carrier charges of shipments bought from carriers", _bought_expr(w, n_carrier), bought),
         ("equals Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),
     ]
     for k, expr, value in recon:
@@ -216,5 +224,35 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ws.write_formula(r, 1, "=" + expr, f["money"], value)
     r += 1
     ws.write_string(r, 0, "difference (must be 0)")
-    ws.write_formula(r, 1, "=" + w.round_f(f"B{runs_row}+B{r - 1}-B{r}"), f["money"],
-                     round_money(run_total + uplift - total, w.places))
+    ws.write_formula(r, 1, "=" + w.round_f(f"B{runs_row}+B{r - 2}+B{r - 1}-B{r}"), f["money"],
+                     round_money(run_total + uplift + bought - total, w.places))
+
+
+def _currency_rows(model: Model) -> list[tuple[str, str]]:
+    """One row per exchange rate of the Currencies sheet: the rate and which input rows use it."""
+    cur = model.settings.currency
+    rows = []
+    for code, rate in model.currencies.items():
+        cards = [str(c.row) for c in model.rates if c.currency == code]
+        tariffs = [str(t.row) for t in model.tariffs if t.currency == code]
+        uses = []
+        if cards:
+            uses.append(f"Rates rows {', '.join(cards)}: per_km, per_hour, per_trip, min_charge and "
+                        f"fuel_included_at converted at input (the Legs and Vehicle runs show them in {cur})")
+        if tariffs:
+            uses.append(f"Tariffs rows {', '.join(tariffs)}: priced in {code}, converted on the Carrier "
+                        f"charges sheet (charge = ROUND(price x rate), {cur}'s minor unit)")
+        rows.append((f"exchange rate: {code}", f"{rate:.10g} {cur} per {code}"
+                     + ("; " + "; ".join(uses) if uses else "; not used")))
+    return rows
+
+
+def _bought_expr(w: Writer, n_carrier: int) -> str:
+    """ROUND(SUMIFS(charge, used, "yes")) over the Carrier charges rows; 0 without the sheet."""
+    if not n_carrier:
+        return w.round_f("0")
+    cc = sheet_ref(out.CARRIER_CHARGES)
+    col = {name: xl_col_to_name(i) for name, i in out.CARRIER_COL.items()}
+    last = n_carrier + 1
+    return w.round_f(f"SUMIFS({cc}!{col['charge']}2:{col['charge']}{last},"
+                     f"{cc}!{col['used']}2:{col['used']}{last},\"yes\")")

@@ -41,6 +41,16 @@ def write_scenario_shipments(w: Writer, ws, runs, ranges, base) -> tuple[dict[tu
                                ("origin", s.origin), ("destination", s.destination),
                                ("vehicle", res.vehicle), ("note", res.message)):
                 ws.write_string(r, COL[col], cell_text(value))
+            if res.status == ROUTED and getattr(res, "bought", False):
+                # bought from a carrier in this scenario: its charge (Carrier charges prices the
+                # base case's; a scenario's tariff figures are in its note)
+                ws.write_number(r, COL["legs"], 0, f["int"])
+                for col in ("standalone_cost", "total_cost"):
+                    ws.write_number(r, COL[col], res.total_cost, f["money"])
+                ws.write_number(r, COL["saving"], 0.0, f["money"])
+                route = f"{s.origin} > {s.destination} (carrier {res.vehicle})"
+                ws.write_string(r, COL["route"], cell_text(route))
+                continue
             if res.status != ROUTED or not res.legs:
                 ws.write_number(r, COL["legs"], 0, f["int"])
                 continue

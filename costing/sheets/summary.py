@@ -14,10 +14,12 @@ from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_value
 
 
-def write_summary(w: Writer, ws, results, ranges) -> int:
+def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     """One row per shipment, its totals as SUMs over its Legs rows (`ranges`: shipment id ->
-    (Legs sheet, first row, last row)), and the TOTAL row. Returns the 0-based index of the last
-    shipment row; the TOTAL row follows it."""
+    (Legs sheet, first row, last row)), and the TOTAL row. `carrier_rows` (shipment id -> its
+    1-based row on the Carrier charges sheet) gives buy_cost, and total_cost of a shipment
+    bought from a carrier. Returns the 0-based index of the last shipment row; the TOTAL row
+    follows it."""
     w.header(ws, SUMMARY_COLUMNS)
     c = SUM
     S = {name: xl_col_to_name(i) for name, i in SUM.items()}
@@ -36,8 +38,14 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
         for col, day in (("ready_date", s.ready_date or w.first_day), ("due_date", s.due_date)):
             if day is not None:
                 ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
+        write_chargeable_kg(w, ws, r, s, S)
+        write_make_or_buy(w, ws, r, res, S, carrier_rows or {})
+        write_revenue(w, ws, r, res, S)
         if res.status != ROUTED:
             ws.write_number(r, c["legs"], 0)
+            continue
+        if res.bought:
+            write_bought(w, ws, r, res, S)
             continue
         sheet, a, b = ranges[s.shipment_id]
         sh = sheet_ref(sheet)
@@ -92,8 +100,103 @@ def write_summary(w: Writer, ws, results, ranges) -> int:
             value = round_money(value, w.places)
         fmt = f.get("total_" + kind, f["total_text"])
         ws.write_formula(t, c[col], "=" + expr, fmt, value)
+    write_revenue_totals(w, ws, t, last, results)
     ws.autofilter(0, 0, max(last, 1), len(SUMMARY_COLUMNS) - 1)
     ws.conditional_format(1, c["status"], max(last, 1), c["status"],
                           {"type": "cell", "criteria": "!=", "value": '"routed"',
                            "format": f["warning"]})
     return last
+
+
+def write_chargeable_kg(w: Writer, ws, r: int, s, S: dict) -> None:
+    """Summary chargeable_kg of shipment `s` on 0-based row `r`: MAX(weight_t x 1000, volume_m3 x
+    volumetric_kg_per_m3, loading_metres x kg_per_loading_metre), the input figures and Settings
+    factors written into the formula (costing.price.tariffs.chargeable_kg caches its value)."""
+    from costing.price.tariffs import shipment_chargeable_kg
+
+    st = w.model.settings
+    expr = (f"MAX({S['weight_t']}{r + 1}*1000,{s.volume_m3 or 0:.15g}*{st.volumetric_kg_per_m3:.15g},"
+            f"{s.loading_metres or 0:.15g}*{st.kg_per_loading_metre:.15g})")
+    ws.write_formula(r, SUM["chargeable_kg"], "=" + expr, w.f["kg"], shipment_chargeable_kg(s, st))
+
+
+def write_make_or_buy(w: Writer, ws, r: int, res, S: dict, carrier_rows: dict) -> None:
+    """make_cost, buy_cost (a reference to the Carrier charges row), make_or_buy and its why."""
+    from costing.contract.outputs import CARRIER_CHARGES, CARRIER_COL
+
+    if res.quote is None:
+        return
+    f = w.f
+    row = carrier_rows[res.shipment.shipment_id]
+    ref = f"{sheet_ref(CARRIER_CHARGES)}!{xl_col_to_name(CARRIER_COL['charge'])}{row}"
+    ws.write_formula(r, SUM["buy_cost"], "=" + ref, f["money"], res.quote.charge)
+    if res.make_cost is not None:
+        if res.bought:
+            ws.write_number(r, SUM["make_cost"], res.make_cost, f["money"])
+        else:
+            ws.write_formula(r, SUM["make_cost"], f"={S['total_cost']}{r + 1}", f["money"], res.make_cost)
+    ws.write_string(r, SUM["make_or_buy"], res.chosen)
+    ws.write_string(r, SUM["make_or_buy_why"], cell_text(res.why))
+
+
+def write_bought(w: Writer, ws, r: int, res, S: dict) -> None:
+    """A shipment bought from a carrier: no legs; total_cost and standalone_cost are its
+    buy_cost (the Carrier charges row), saving 0."""
+    f = w.f
+    x = r + 1
+    c = SUM
+    ws.write_number(r, c["legs"], 0)
+    ws.write_formula(r, c["total_cost"], f"={S['buy_cost']}{x}", f["money"], res.total_cost)
+    ws.write_formula(r, c["standalone_cost"], f"={S['buy_cost']}{x}", f["money"], res.standalone_cost)
+    ws.write_formula(r, c["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
+                     f["money"], res.saving)
+    s = res.shipment
+    ws.write_string(r, c["route"], cell_text(f"{s.origin} > {s.destination} (carrier {res.vehicle})"))
+
+
+def write_revenue(w: Writer, ws, r: int, res, S: dict) -> None:
+    """pallets, quoted_price and margin (routed), invoiced and invoice_difference of one shipment."""
+    f = w.f
+    s = res.shipment
+    x = r + 1
+    if s.pallets is not None:
+        ws.write_number(r, SUM["pallets"], s.pallets)
+    if s.quoted_price is not None:
+        ws.write_number(r, SUM["quoted_price"], s.quoted_price, f["money"])
+        if res.status == ROUTED:
+            ws.write_formula(r, SUM["margin"],
+                             "=" + w.round_f(f"{S['quoted_price']}{x}-{S['total_cost']}{x}"),
+                             f["money"], round_money(s.quoted_price - res.total_cost, w.places))
+    if s.invoiced is not None:
+        ws.write_number(r, SUM["invoiced"], s.invoiced, f["money"])
+        ws.write_formula(r, SUM["invoice_difference"],
+                         "=" + w.round_f(f"{S['invoiced']}{x}-{S['total_cost']}{x}"), f["money"],
+                         invoice_difference(res, w.places))
+
+
+def invoice_difference(res, places: int) -> float:
+    """invoiced - total_cost (0 for a shipment not routed), currency."""
+    total = res.total_cost if res.status == ROUTED else 0.0
+    return round_money(res.shipment.invoiced - total, places)
+
+
+def write_revenue_totals(w: Writer, ws, t: int, last: int, results) -> None:
+    """TOTAL row cells of pallets, quoted_price, margin, invoiced and invoice_difference."""
+    f = w.f
+    routed = [x for x in results if x.status == ROUTED]
+    d = w.places
+    totals = {
+        "pallets": (sum(x.shipment.pallets or 0.0 for x in results), "plain"),
+        "quoted_price": (round_money(sum(x.shipment.quoted_price or 0.0 for x in results), d), "money"),
+        "margin": (round_money(sum(round_money(x.shipment.quoted_price - x.total_cost, d)
+                                   for x in routed if x.shipment.quoted_price is not None), d), "money"),
+        "invoiced": (round_money(sum(x.shipment.invoiced or 0.0 for x in results), w.places), "money"),
+        "invoice_difference": (round_money(sum(invoice_difference(x, w.places) for x in results
+                                               if x.shipment.invoiced is not None), w.places), "money"),
+    }
+    for col, (value, kind) in totals.items():
+        letter = xl_col_to_name(SUM[col])
+        expr = f"SUM({letter}2:{letter}{last + 1})"
+        if kind == "money":
+            expr = w.round_f(expr)
+        ws.write_formula(t, SUM[col], "=" + expr, f.get("total_" + kind, f["total_text"]), value)

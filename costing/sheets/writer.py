@@ -12,9 +12,12 @@ from costing.model import Model, Problem
 from costing.price.cost import CostedShipment
 from costing.sheets import legs
 from costing.sheets.bridge import BridgeFormats, write_scenario_bridge
+from costing.sheets.carrier_charges import carrier_rows, write_carrier_charges
 from costing.sheets.charts import write_charts
 from costing.sheets.comparison import write_comparison
+from costing.sheets.customers import write_cost_per_customer
 from costing.sheets.formats import MAX_ROWS, Writer, fast_formulas
+from costing.sheets.invoice_check import write_invoice_check
 from costing.sheets.lane_usage import write_lane_usage
 from costing.sheets.legs import legs_sheet_names, write_legs
 from costing.sheets.map_sheet import write_map
@@ -67,6 +70,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         sheets["Scenario bridge shipments"] = w.wb.add_worksheet(out.SCENARIO_BRIDGE_SHIPMENTS)
     runs_ws = w.wb.add_worksheet(out.VEHICLE_RUNS)
     legs_sheets = [(name, w.wb.add_worksheet(name)) for name in legs_sheet_names(results)]
+    quoted = carrier_rows(results)
+    if quoted:
+        sheets["Carrier charges"] = w.wb.add_worksheet(out.CARRIER_CHARGES)
     if scenario_runs:
         scenario_ships_ws = w.wb.add_worksheet(out.SCENARIO_SHIPMENTS)
         scenario_runs_ws = w.wb.add_worksheet(out.SCENARIO_VEHICLE_RUNS)
@@ -78,6 +84,10 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         if analysis.frontiers:
             sheets["Trade-offs"] = w.wb.add_worksheet(out.TRADE_OFFS)
         sheets["Lane usage"] = w.wb.add_worksheet(out.LANE_USAGE)
+    sheets["Cost per customer"] = w.wb.add_worksheet(out.COST_PER_CUSTOMER)
+    if any(r.shipment.invoiced is not None for r in results):
+        sheets["Invoice check"] = w.wb.add_worksheet(out.INVOICE_CHECK)
+    if analysis is not None:
         sheets["Charts"] = w.wb.add_worksheet(out.CHARTS)
     if map_png:
         sheets["Map"] = w.wb.add_worksheet(out.MAP)
@@ -91,7 +101,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
                                      f"{legs.LEGS_SHEET_ROWS:,} legs (the spreadsheet row limit); a "
                                      "shipment's legs are never split across sheets")
     write_vehicle_runs(w, runs_ws, runs, ranges)
-    last_row = write_summary(w, summary, results, ranges)
+    if quoted:
+        write_carrier_charges(w, sheets["Carrier charges"], results)
+    last_row = write_summary(w, summary, results, ranges, quoted)
     frontier_rows: dict[str, tuple[int, int]] = {}
     scenario_rows = None
     if scenario_runs:
@@ -115,9 +127,12 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
         write_lane_usage(w, sheets["Lane usage"], analysis, len(runs))
         write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows,
                      len(analysis.lanes))
+    write_cost_per_customer(w, sheets["Cost per customer"], results, last_row)
+    if "Invoice check" in sheets:
+        write_invoice_check(w, sheets["Invoice check"], results)
     if map_png:
         write_map(w, sheets["Map"], map_png)
     write_problems(w, problems_ws, problems)
-    write_run(w, run_ws, model, results, problems, info, last_row, n_legs, runs)
+    write_run(w, run_ws, model, results, problems, info, last_row, n_legs, runs, len(quoted))
     summary.activate()
     w.wb.close()

@@ -185,11 +185,14 @@ def write_template(path: str, data: dict[str, list[dict]] | None = None) -> None
         ws.repeat_rows(0)
         ws.set_paper(9)
         # A4, portrait when the measured columns fit across it (7 px a character and 5 px
-        # padding), else landscape; one page wide (the widest sheet prints at about 75 %)
+        # padding), else landscape; as few pages wide as keep the print at 65 % or more
+        # (11 pt type at 7 pt or larger)
         width_pt = sum((int(w * 7 + 0.5) + 5) * 0.75 for w in widths)
-        if width_pt > 595.3 - 100.8:  # A4 portrait less 0.7 in margins, points
+        page_w = 595.3 - 100.8  # A4 portrait less 0.7 in margins, points
+        if width_pt > page_w:
             ws.set_landscape()
-        ws.fit_to_pages(1, 0)
+            page_w = 841.9 - 100.8
+        ws.fit_to_pages(max(1, math.ceil(width_pt * 0.66 / page_w)), 0)
         if spec.name == "Settings" and "Settings" not in data:
             top = wb.add_format({"valign": "top"})  # beside the first line of a wrapped note
             top_text = wb.add_format({"valign": "top", "num_format": "@"})
