@@ -23,12 +23,16 @@ from costing import pipeline
 from costing.network.pareto import FrontierNetwork
 from tests.listed_cases import digest, medium_model, snapshot
 
-# seed, driving rules, depots, shipments -> (trade-offs digest, comparison digest), captured at 25a3be9
+# seed, driving rules, depots, shipments -> (trade-offs digest, comparison digest), captured at 25a3be9.
+# The comparison digests were re-captured when ties of the objective started to go to the lower
+# cost, then the fewer legs (issue 12): of the 840 (shipment, objective) routes, 24 changed, each
+# with the same objective value and a lower total cost (checked by script against the previous
+# commit); the trade-offs digests are unchanged.
 SNAPSHOTS = {
-    (1, "eu_561_2006", 45, 36): ("144c8707e80d843f", "7e9869c6c406e389"),
-    (2, "none", 45, 36): ("c9df36acc90c848f", "996f73a982619fe6"),
-    (3, "us_49cfr395", 45, 36): ("86dff57ad5ba04f7", "04bf901a5bd24dcf"),
-    (4, "none", 90, 60): ("cbc182969e1603ad", "5eac846a17c6db2c"),
+    (1, "eu_561_2006", 45, 36): ("144c8707e80d843f", "c3204ea6ad59871d"),
+    (2, "none", 45, 36): ("c9df36acc90c848f", "5d5d7c26d3fb01d2"),
+    (3, "us_49cfr395", 45, 36): ("86dff57ad5ba04f7", "64d09774ff8f03dc"),
+    (4, "none", 90, 60): ("cbc182969e1603ad", "df276a37efab61bb"),
 }
 
 

@@ -22,6 +22,7 @@ import numpy as np
 from costing.geo import great_circle_km, great_circle_km_many
 from costing.model import Depot, Lane, LaneUse, Model, RateCard
 from costing.money import minor_unit
+from costing.network.lex import Lex, primary
 from costing.network.search import Arcs
 from costing.objectives import objective
 from costing.price.rates import charge, co2e_kg, lane_charges
@@ -75,6 +76,9 @@ class Profile:
     cards: tuple[tuple[str, str, int], ...]  # (vehicle, mode, vehicles needed)
     blocked: frozenset[tuple[str, int]] = frozenset()  # (lane id, card index) not allowed
     weight_t: float = 0.0  # only set when emissions weights need tonnes; else 0
+    # weights are Lex(objective, cost in minor units, lane steps): equal objective values are
+    # broken toward the lower cost, then the fewer legs (costing.network.lex)
+    tie_break: bool = False
 
     @property
     def vehicles(self) -> tuple[str, ...]:
@@ -108,9 +112,21 @@ def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
     return model.cards_for(vehicle)[mode]
 
 
-def _weigh(model: Model, profile: Profile, quantity_weight) -> float:
-    """The profile's objective as the weighted sum of quantity weights (costing.objectives)."""
-    return objective(profile.objective).combine(quantity_weight, lambda c: getattr(model.settings, c))
+def _weigh(model: Model, profile: Profile, quantity_weight, legs: int = 0):
+    """The profile's objective as the weighted sum of quantity weights (costing.objectives).
+
+    With ``profile.tie_break`` the weight is ``Lex(objective, cost, legs)``: the same objective
+    weight, then the cost weight in minor currency units (an exact integer: every cost weight is
+    a sum of amounts rounded to the minor unit) and the lane steps it adds (1 for a lane, 0 for a
+    start, exit or transfer). Summed along a route these are its objective value, its cost
+    before breaks and the minimum charge, and its number of legs, so the search returns, among
+    the routes of least objective, one of least cost, and among those one of fewest legs
+    (costing.network.lex: the core's proof holds for such weights)."""
+    w = objective(profile.objective).combine(quantity_weight, lambda c: getattr(model.settings, c))
+    if not profile.tie_break:
+        return w
+    cost_minor = round(quantity_weight("cost") * 10 ** minor_unit(model.settings.currency))
+    return Lex(w, cost_minor, legs)
 
 
 def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: int) -> float:
@@ -174,7 +190,7 @@ def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: 
             return co2e_kg(use.km, card, n, profile.weight_t)[0]
         raise ValueError(f"unknown quantity {q}")
 
-    return _weigh(model, profile, weight)
+    return _weigh(model, profile, weight, legs=1)
 
 
 @dataclass
@@ -261,7 +277,7 @@ def _layer(model: Model, graph: nx.MultiDiGraph, profile: Profile, k: int, place
     Shipments that need the same number of vehicles on a card share it, so it is cached."""
     vehicle, mode, n = profile.cards[k]
     blocked = frozenset(lane for lane, kk in profile.blocked if kk == k)
-    key = (vehicle, mode, n, profile.objective, profile.weight_t, blocked)
+    key = (vehicle, mode, n, profile.objective, profile.weight_t, blocked, profile.tie_break)
     if cache is not None and key in cache:
         return cache[key]
     _ids, _index, depots, _lats, _lons, rows = _edge_table(graph)
@@ -271,8 +287,8 @@ def _layer(model: Model, graph: nx.MultiDiGraph, profile: Profile, k: int, place
             continue
         w = lane_weight(model, profile, k, use, depots[j], places)
         if w < 0:  # validation refuses such rates; a model built in code could still hold them
-            raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight ({w:g}) "
-                             f"for {vehicle}: a fuel rebate larger than per_km?")
+            raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight "
+                             f"({primary(w):g}) for {vehicle}: a fuel rebate larger than per_km?")
         weights[e] = w
     if cache is not None:
         cache[key] = weights
@@ -301,7 +317,7 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile,
                 a, b = depot_ids[i], depot_ids[j]
                 missing_coords = missing_coords or (a if math.isnan(lats[i]) or math.isnan(lons[i]) else b)
             elif gc > 0:
-                r_min = min(r_min, w / gc)
+                r_min = min(r_min, primary(w) / gc)
             eid = len(steps)
             steps.append(Step(k, use=use))
             adj[i * K + k].append((j * K + k, w, eid))

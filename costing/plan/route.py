@@ -73,7 +73,8 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
         c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None for c in cards)
     return Profile(objective,
                    tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
-                   frozenset(blocked), s.weight_t if needs_tonnes else 0.0)
+                   frozenset(blocked), s.weight_t if needs_tonnes else 0.0,
+                   tie_break=objective != "cost")
 
 
 def loaded_weight(s: Shipment, card: RateCard) -> float:
@@ -191,8 +192,8 @@ class Router:
 
     def _engine(self, profile: Profile, cn: CompactNetwork):
         """The array engine for a large one-card network (built once per profile), else None."""
-        if cn.n_cards != 1 or len(cn.depot_ids) < ENGINE_MIN_DEPOTS:
-            return None
+        if cn.n_cards != 1 or len(cn.depot_ids) < ENGINE_MIN_DEPOTS or profile.tie_break:
+            return None  # tie-broken weights are triples: the pure-Python core searches them
         engine = self._engines.get(profile)
         if engine is None:
             from costing.network.engine import CSRGraph, SearchEngine
@@ -207,14 +208,22 @@ class Router:
 
     def candidates(self, s: Shipment, objective: str) -> list[list[RateCard]]:
         """Sets of rate cards to search. A minimum charge is not additive lane by lane (a route
-        pays the largest min_charge of the cards it uses), so for the cost objective one search
-        is run per distinct min_charge t over the cards with min_charge <= t, and the best total
-        wins. That is exact: the best route r* with largest card minimum t* is a candidate of
-        the search at t*, whose result has subtotal <= r*'s and minimum <= t*, so its total
-        max(subtotal, minimum) is no more than r*'s. Other objectives ignore the minimum."""
+        pays the largest min_charge of the cards it uses), so one search is run per distinct
+        min_charge t over the cards with min_charge <= t, and the best wins (`better`). For
+        the cost objective that is exact: the best route r* with largest card minimum t* is a
+        candidate of the search at t*, whose result has subtotal <= r*'s and minimum <= t*, so
+        its total max(subtotal, minimum) is no more than r*'s.
+
+        The other objectives break ties of their value toward the lower total cost, then the
+        fewer legs, and need the same levels for the cost part: let r* be the best route by
+        (objective, total cost, legs) and t* its largest card minimum. The search at t* reaches
+        the least objective value (r* is in it) and, its weights being Lex(objective, cost,
+        legs) (`costing.network.build._weigh`), returns a route of that value whose cost
+        before the minimum (its subtotal without break pay) is <= r*'s, with minimum <= t*:
+        its total is no more than r*'s. Legs are the last key among routes of equal subtotal;
+        two routes whose subtotals differ but are both lifted to the same minimum charge are
+        equal in total and the search does not compare their legs (stated approximation)."""
         pool = self.pool(s)
-        if not _uses(objective, "cost"):
-            return [pool]
         levels = sorted({c.min_charge for c in pool})
         return [[c for c in pool if c.min_charge <= t] for t in levels]
 
@@ -316,7 +325,7 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
         if not res.found:
             continue
         costed = cost_route(model, s, obj, _runs(model, cn, res))
-        if best is None or costed.objective_value < best.objective_value - 1e-9:
+        if best is None or better(costed, best):
             best, best_vs = costed, vs
     if best is None:
         msg = _why_no_route(router, s, obj, candidates[-1]) if with_notes else "no route"
@@ -346,6 +355,17 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
     if not s.vehicle and len(router.vehicles) > 1:
         notes.append(f"vehicle chosen by {obj}")
     return replace(best, message="; ".join(notes), settled=settled, pushed=pushed)
+
+
+def better(a: CostedShipment, b: CostedShipment) -> bool:
+    """Whether route `a` beats route `b`: a lower objective value (by more than 1e-9 of its unit,
+    float noise), or an equal one and then a lower total cost, then fewer legs. Deterministic:
+    on a full tie the route found first is kept."""
+    if a.objective_value < b.objective_value - 1e-9:
+        return True
+    if a.objective_value > b.objective_value + 1e-9:
+        return False
+    return (a.total_cost, len(a.legs)) < (b.total_cost, len(b.legs))
 
 
 def _run_modes(c: CostedShipment) -> list[str]:
