@@ -172,17 +172,21 @@ _LANES = [
 ]
 
 _RATE_COLUMNS = ("vehicle", "mode", "per_km", "per_hour", "per_trip", "payload_t", "fuel_l_per_100km",
-                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t")
-# Invented but plausible rates in EUR. Road fuel is diesel at 2.51 kg CO2e per litre. The per_km
-# rates include fuel at 1.45 per litre; the Settings price of 1.62 adds a fuel surcharge.
-# tare_t is the empty weight, checked with the load against lane weight limits (L028, L031).
-# rail_wagon fuel is one wagon's share of a diesel-hauled train (about 8.6 litres per 100 km),
-# so rail emissions and the fuel surcharge are computed on the same diesel basis as road.
+                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t",
+                 "fuel_empty_l_per_100km", "wtw_co2e_kg_per_litre")
+# Invented but plausible rates in EUR. Road fuel is diesel: 2.57082 kg CO2e per litre tank-to-wheel
+# and 3.19747 well-to-wheel (UK DESNZ 2025, diesel with its average biofuel blend). Fuel use runs
+# from empty to fully laden as in the DEFRA 2007 load-dependent table (Hansard, 4 June 2007):
+# articulated 31.1 to 44.8 l/100 km, rigid 23.6 to 34.0; the van's 9.0 to 10.5 is invented. The
+# per_km rates include fuel at 1.45 per litre; the Settings price of 1.62 adds a fuel surcharge
+# (on fuel_l_per_100km). tare_t is the empty weight, checked with the load against lane weight
+# limits (L028, L031). The rail wagon has no fuel figures of its own: its emissions use the rail
+# default intensity (see the Run sheet), and its rate includes fuel (no surcharge).
 _RATES = [
-    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0, 1.45, 14.5),
-    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0, 1.45, 8.5),
-    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0, 1.45, 2.3),
-    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0, 1.45, 23.0),
+    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 44.8, 2.57082, 180.0, 1.45, 14.5, 31.1, 3.19747),
+    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 34.0, 2.57082, 120.0, 1.45, 8.5, 23.6, 3.19747),
+    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.57082, 65.0, 1.45, 2.3, 9.0, 3.19747),
+    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, None, None, 250.0, None, 23.0, None, None),
 ]
 
 _SHIPMENT_COLUMNS = ("shipment_id", "origin", "destination", "weight_t", "vehicle", "objective",

@@ -73,6 +73,8 @@ class RateCard:
     row: int = 0
     fuel_included_at: float | None = None  # fuel price per litre the per_km rate includes
     tare_t: float = 0.0  # empty weight of one vehicle, for lane weight limits
+    fuel_empty_l_per_100km: float | None = None  # fuel use running empty (then fuel_l_per_100km is laden)
+    wtw_co2e_kg_per_litre: float | None = None  # well-to-wheel factor; None: TTW + diesel well-to-tank
 
 
 @dataclass(frozen=True)

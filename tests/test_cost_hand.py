@@ -43,8 +43,13 @@ def test_hand_worked_costs(make_input):
     assert s1.subtotal == 370.00
     assert s1.min_charge == 300.00 and s1.min_charge_uplift == 0.0
     assert s1.total_cost == 370.00
-    # co2e: 190 km x 30 l/100 km / 100 x 2.5 kg/l = 142.5 kg
-    assert s1.co2e_kg == pytest.approx(142.5)
+    # co2e tank-to-wheel: 190 km x 30 l/100 km / 100 x 2.5 kg/l = 142.5 kg; well-to-wheel adds the
+    # well-to-tank of diesel, 0.62665 kg CO2e/l (UK DESNZ 2025, [V-2ND] in references.md 4.1):
+    # 57 l x 3.12665 = 178.21905 kg; tonne-km 10 x 190 = 1900
+    assert s1.co2e_ttw_kg == pytest.approx(142.5)
+    assert s1.co2e_kg == pytest.approx(178.21905)
+    assert s1.tonne_km == pytest.approx(1900.0)
+    assert s1.co2e_g_per_tkm == pytest.approx(178.21905 * 1000 / 1900)
 
     s2 = res["S2"]
     # S2: 50 t on 24 t payloads -> ceil(2.083) = 3 trucks.

@@ -138,7 +138,7 @@ def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_pa
     code, _, err = cli("run", inp, "-o", str(out))
     assert code == 0, err
     # our formulas use only these functions, sheet and cell references, numbers and operators
-    token = re.compile(r'SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|Legs!|Summary!'
+    token = re.compile(r'SUMPRODUCT|SUMIFS|COUNTIF|ROUND|SUM|COUNT|IF|OR|MAX|MIN|Legs!|Summary!'
                        r'|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
                        r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"')
     with zipfile.ZipFile(out) as z:

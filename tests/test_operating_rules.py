@@ -201,15 +201,19 @@ def test_emissions_fuel_based_and_default_intensity():
     fuel_card = RateCard("artic", "road", 1.0, 30.0, 24.0, fuel_l_per_100km=31.0, co2e_kg_per_litre=2.57082)
     model = Model(Settings(), depots, lanes, (fuel_card,), (Shipment("S", "A", "B", 10.0),))
     res, _ = run(model)
-    # litres = 100 km x 31 / 100 x 1 vehicle = 31 l; CO2e = 31 x 2.57082 = 79.69542 kg
-    assert res["S"].co2e_kg == pytest.approx(79.69542)
+    # litres = 100 km x 31 / 100 x 1 vehicle = 31 l; CO2e tank-to-wheel = 31 x 2.57082 = 79.69542 kg;
+    # well-to-wheel 31 x 3.19747 (DESNZ 2025 WTW, 2.57082 + 0.62665 WTT) = 99.12157 kg
+    assert res["S"].co2e_ttw_kg == pytest.approx(79.69542)
+    assert res["S"].co2e_kg == pytest.approx(99.12157)
     assert res["S"].legs[0].co2e_basis == "fuel"
     bare = RateCard("artic", "road", 1.0, 30.0, 24.0)
     model = Model(Settings(), depots, lanes, (bare,), (Shipment("S", "A", "B", 10.0),))
     res, _ = run(model)
     # 2012 Defra/DECC GHG conversion factors, Annex 7 Table 7e, articulated HGV > 33 t, UK average
-    # load: 102.73 g CO2e per tonne-km ([V-DOC], references.md 4.3): 10 t x 100 km -> 102.73 kg
+    # load: 102.73 g CO2e per tonne-km well-to-wheel, 84.73 direct ([V-DOC], references.md 4.3):
+    # 10 t x 100 km -> 102.73 kg WTW, 84.73 kg TTW
     assert res["S"].co2e_kg == pytest.approx(102.73)
+    assert res["S"].co2e_ttw_kg == pytest.approx(84.73)
     assert res["S"].legs[0].co2e_basis == "default intensity"
     assert "default intensities" in res["S"].message
 
@@ -221,9 +225,11 @@ def test_emissions_objective_uses_fuel_figures():
     card = RateCard("artic", "road", 1.0, 30.0, 24.0, fuel_l_per_100km=30.0, co2e_kg_per_litre=2.5)
     model = Model(Settings(objective="emissions"), depots, lanes, (card,), (Shipment("S", "A", "B", 5.0),))
     res, _ = run(model)
-    # 90 km x 0.30 l/km x 2.5 = 67.5 kg beats 100 km -> 75 kg, although it is slower and dearer
+    # 90 km x 0.30 l/km x 2.5 = 67.5 kg TTW beats 100 km -> 75 kg, although it is slower and
+    # dearer (well-to-wheel both x (2.5 + 0.62665) / 2.5: 27 l x 3.12665 = 84.41955 kg)
     assert [leg.use.lane.lane_id for leg in res["S"].legs] == ["SHORT"]
-    assert res["S"].co2e_kg == pytest.approx(67.5)
+    assert res["S"].co2e_ttw_kg == pytest.approx(67.5)
+    assert res["S"].co2e_kg == pytest.approx(84.41955)
 
 
 def test_fuel_surcharge_hand_calculation():

@@ -55,7 +55,13 @@ MINOR_UNITS = {"EUR": 2, "GBP": 2, "JPY": 0, "KWD": 3}
 # Default intensities (g CO2e per tonne-km) for a card without fuel figures, references.md 4.3
 # [V-DOC]: road = 2012 Defra/DECC GHG factors, Annex 7 Table 7e, articulated HGV > 33 t, UK
 # average load, 102.73; rail = DEFRA 2007 freight factors (Hansard, 4 June 2007), 30.
-DEFAULT_G_PER_TKM = {"road": Decimal("102.73"), "rail": Decimal("30")}
+# well-to-wheel g CO2e per tonne-km: road 102.73 (Defra 2012 Table 7e, artic >33 t [V-DOC]); rail
+# 30 g CO2/tkm tank-to-wheel (DEFRA 2007, Hansard [V-DOC]) on the WTW basis x 102.73 / 84.73 (the
+# road table's WTW / direct ratio), to 2 decimals as documented in costing/price/rates.py
+DEFAULT_G_PER_TKM = {"road": Decimal("102.73"),
+                     "rail": (Decimal(30) * Decimal("102.73") / Decimal("84.73")).quantize(Decimal("0.01"))}
+# well-to-tank of diesel added to a tank-to-wheel factor per litre: UK DESNZ 2025 [V-2ND]
+DIESEL_WTT = Decimal("0.62665")
 TRANSFER_KINDS = ("terminal", "port")  # design: a vehicle run changes only at a terminal or port
 # Speeds for estimated hours. With km in tenths, km / v never lands on a half-hundredth for
 # v in 65, 70, 75 (so the unspecified half-rounding mode of the hours cannot matter).
@@ -188,7 +194,9 @@ class Oracle:
         if objective == "distance":
             return km
         if card.fuel_l_per_100km is not None and card.co2e_kg_per_litre is not None:
-            return n * km * dec(card.fuel_l_per_100km) / 100 * dec(card.co2e_kg_per_litre)
+            wtw = (dec(card.wtw_co2e_kg_per_litre) if card.wtw_co2e_kg_per_litre is not None
+                   else dec(card.co2e_kg_per_litre) + DIESEL_WTT)
+            return n * km * dec(card.fuel_l_per_100km) / 100 * wtw
         return dec(self.weight_t) * km * DEFAULT_G_PER_TKM[lane.mode] / 1000
 
     def _start(self, objective, depot: str, mode: str) -> Decimal:

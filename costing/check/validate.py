@@ -453,12 +453,24 @@ def validate(raw: RawWorkbook) -> Model:
                            "CO2e is reported as 0 and the emissions objective treats it as free",
                            "for an electric vehicle enter its energy's emission factor; otherwise "
                            "enter the fuel figures, or leave both blank to use the default intensity")
+            empty = rec["fuel_empty_l_per_100km"]
+            if empty is not None and fuel is not None and empty > fuel:
+                sh.problem(WARNING, "fuel_empty_l_per_100km", rr.row,
+                           f"fuel use empty ({empty:g} l/100 km) is above fuel use laden "
+                           f"({fuel:g} l/100 km): emissions would fall as the load grows",
+                           "check the two figures: fuel_l_per_100km is the fully laden one")
+            elif empty is not None and fuel is None:
+                sh.problem(WARNING, "fuel_empty_l_per_100km", rr.row,
+                           "fuel_empty_l_per_100km is given without fuel_l_per_100km, so it is not used",
+                           "fill in fuel_l_per_100km (fully laden) too, or clear this cell")
             if ok:
                 rates.append(RateCard(rec["vehicle"], rec["mode"], rec["per_km"], rec["per_hour"],
                                       rec["payload_t"], rec["per_trip"] or 0.0, fuel, factor,
                                       rec["min_charge"] or 0.0, rr.row,
                                       fuel_included_at=rec["fuel_included_at"],
-                                      tare_t=rec["tare_t"] or 0.0))
+                                      tare_t=rec["tare_t"] or 0.0,
+                                      fuel_empty_l_per_100km=rec["fuel_empty_l_per_100km"],
+                                      wtw_co2e_kg_per_litre=rec["wtw_co2e_kg_per_litre"]))
     vehicles = {r.vehicle for r in rates}
     rated_modes = {r.mode for r in rates}
 

@@ -201,10 +201,11 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("payload_t", "number", True, "tonnes", "Most a vehicle may carry, in tonnes. "
                    "A heavier shipment is split over several vehicles.", minimum=0.0, width=10),
             Column("fuel_l_per_100km", "number", False, "litres per 100 km", "Fuel use of one "
-                   "vehicle. Blank: no emissions are computed for this card.", minimum=0.0,
+                   "vehicle (fully laden when fuel_empty_l_per_100km is given). Blank: emissions use "
+                   "the mode's default intensity (see the Run sheet).", minimum=0.0,
                    maximum=10000.0, width=14),
             Column("co2e_kg_per_litre", "number", False, "kg CO2e per litre", "Emission factor of "
-                   "the fuel, e.g. diesel about 2.5 to 2.7 tank-to-wheel.", minimum=0.0,
+                   "the fuel, tank-to-wheel (burning only), e.g. diesel about 2.5 to 2.7.", minimum=0.0,
                    maximum=10.0, width=14),
             Column("min_charge", "number", False, "currency per shipment", "Least a shipment "
                    "using this card is charged. Blank: 0.", default=0.0, minimum=0.0, width=11),
@@ -215,6 +216,16 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("tare_t", "number", False, "tonnes", "Empty weight of one vehicle, added to its "
                    "load when checking a lane's max_weight_t. Blank: 0 (load only).", default=0.0,
                    minimum=0.0, maximum=1000.0, width=9),
+            Column("fuel_empty_l_per_100km", "number", False, "litres per 100 km", "Fuel use of one "
+                   "vehicle running empty. With it, fuel_l_per_100km is read as fully laden (at "
+                   "payload_t) and emissions use the fuel on the straight line between the two at "
+                   "each leg's load, as load-dependent published tables do. Blank: "
+                   "fuel_l_per_100km at every load. The fuel surcharge always uses fuel_l_per_100km.",
+                   minimum=0.0, maximum=10000.0, width=14),
+            Column("wtw_co2e_kg_per_litre", "number", False, "kg CO2e per litre", "Well-to-wheel "
+                   "emission factor of the fuel (production and burning), e.g. diesel about 3.1 to "
+                   "3.3. Blank: co2e_kg_per_litre plus the well-to-tank of diesel (0.62665, UK DESNZ "
+                   "2025).", minimum=0.0, maximum=10.0, width=14),
         ),
         note="Rate cards: what each vehicle costs on each mode.",
     ),

@@ -74,6 +74,16 @@ LEG_COLUMNS = [
     ("co2e_basis", 15, "text"),
     ("intensity_g_per_tkm", 11, "plain"),
     ("co2e_kg", 10, "kg"),
+    # emissions on a stated basis (issue 12): co2e_kg is well-to-wheel, its tank-to-wheel part beside
+    ("payload_t", 9, "plain"),
+    ("load_factor", 9, "plain"),
+    ("fuel_empty_l_per_100km", 10, "plain"),
+    ("fuel_used_l_per_100km", 10, "plain"),
+    ("wtw_co2e_kg_per_litre", 10, "plain"),
+    ("ttw_intensity_g_per_tkm", 11, "plain"),
+    ("co2e_ttw_kg", 10, "kg"),
+    ("tonne_km", 11, "km"),
+    ("co2e_g_per_tkm", 10, "plain"),
 ]
 
 
@@ -95,6 +105,11 @@ SUMMARY_COLUMNS = [
     ("route", 40, "text"), ("note", 60, "text"),
 ]
 
+# emissions on a stated basis (issue 12), after co2e_kg (well-to-wheel)
+_AT = [name for name, _w, _k in SUMMARY_COLUMNS].index("co2e_kg") + 1
+SUMMARY_COLUMNS[_AT:_AT] = [("co2e_ttw_kg", 10, "kg"), ("tonne_km", 11, "km"),
+                            ("co2e_g_per_tkm", 10, "plain")]
+
 
 SUM = {name: i for i, (name, _w, _k) in enumerate(SUMMARY_COLUMNS)}
 
@@ -108,6 +123,12 @@ SUMMED = {
     "stop_cost": ["stop_cost"], "handling_cost": ["handling_start_cost", "handling_end_cost"],
     "trip_cost": ["trip_cost"], "subtotal": ["leg_cost"], "co2e_kg": ["co2e_kg"],
 }
+
+SUMMED.update({"co2e_ttw_kg": ["co2e_ttw_kg"], "tonne_km": ["tonne_km"]})
+
+# Summary column -> (numerator column, denominator column, factor): a ratio of two Summary columns,
+# 0 where the denominator is 0 (the TOTAL row takes the ratio of its totals)
+RATIOS = {"co2e_g_per_tkm": ("co2e_kg", "tonne_km", 1000)}
 
 
 HEADER_NOTES = {
@@ -133,8 +154,22 @@ HEADER_NOTES = {
     "leg_cost": "Sum of the leg's cost components.",
     "co2e_basis": "fuel: from the rate card's fuel figures; default intensity: tonnes x km x a "
                   "published g CO2e per tonne-km for the mode (see the Run sheet).",
-    "co2e_kg": "fuel: vehicles x km x fuel_l_per_100km / 100 x co2e_kg_per_litre; default intensity: "
-               "weight_t x km x intensity_g_per_tkm / 1000. Planning estimate.",
+    "co2e_kg": "Well-to-wheel CO2e (ISO 14083 basis). fuel: vehicles x km x fuel_used_l_per_100km / "
+               "100 x wtw_co2e_kg_per_litre; default intensity: weight_t x km x intensity_g_per_tkm / "
+               "1000. Planning estimate, not compliance advice.",
+    "co2e_ttw_kg": "Tank-to-wheel part of co2e_kg (burning only): co2e_kg_per_litre in place of the "
+                   "WTW factor, or the mode's TTW intensity. Planning estimate.",
+    "tonne_km": "weight_t x distance_km",
+    "co2e_g_per_tkm": "co2e_kg x 1000 / tonne_km (well-to-wheel g CO2e per tonne-km).",
+    "load_factor": "MIN(1, weight_t / vehicles / payload_t): how full each vehicle is by weight.",
+    "fuel_used_l_per_100km": "Fuel use per vehicle at this load: fuel_empty_l_per_100km + "
+                             "(fuel_l_per_100km - fuel_empty_l_per_100km) x load_factor, or "
+                             "fuel_l_per_100km without an empty figure; 0 without fuel figures.",
+    "wtw_co2e_kg_per_litre": "Well-to-wheel factor used: the rate card's, or co2e_kg_per_litre + "
+                             "the well-to-tank of diesel (see the Run sheet).",
+    "intensity_g_per_tkm": "Default well-to-wheel intensity of the mode (default intensity basis; "
+                           "source on the Run sheet).",
+    "ttw_intensity_g_per_tkm": "Default tank-to-wheel intensity of the mode (default intensity basis).",
     "subtotal": "Sum of the shipment's leg_cost on the Legs sheet.",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",

@@ -70,7 +70,8 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
                         loaded_weight(s, card) > lane.max_weight_t + 1e-9:
                     blocked.add((lane.lane_id, k))
     needs_tonnes = _uses(objective, "co2e") and any(
-        c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None for c in cards)
+        c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None
+        or c.fuel_empty_l_per_100km is not None for c in cards)  # default intensity, or fuel by load
     return Profile(objective,
                    tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
                    frozenset(blocked), s.weight_t if needs_tonnes else 0.0,

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
 from costing.objectives import objective
-from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges, vehicles_needed
+from costing.price.rates import charge, emissions, fuel_surcharge_rate, lane_charges, vehicles_needed
 from costing.price.rules import rules_for, stops_for_run
 
 ROUTED, NO_ROUTE, REJECTED = "routed", "no_route", "rejected"
@@ -54,11 +54,23 @@ class Leg:
     paid_stop_hours: float
     stop_cost: float
     leg_cost: float
-    co2e_kg: float
+    co2e_kg: float  # well-to-wheel
     co2e_basis: str  # "fuel" or "default intensity"
-    intensity_g_per_tkm: float | None  # the default intensity used, if any
+    intensity_g_per_tkm: float | None  # the default (well-to-wheel) intensity used, if any
     weight_t: float
     fuel_price: float | None  # the fuel price used for the surcharge, if any
+    # emissions on a stated basis (price/rates.py `emissions`): co2e_kg above is well-to-wheel
+    co2e_ttw_kg: float = 0.0  # its tank-to-wheel part
+    tonne_km: float = 0.0  # weight_t x km
+    load_factor: float = 0.0  # load per vehicle / payload_t, at most 1
+    fuel_used_l_per_100km: float | None = None  # per vehicle at that load (fuel basis)
+    wtw_kg_per_litre: float | None = None  # the WTW factor used (fuel basis)
+    ttw_intensity_g_per_tkm: float | None = None  # the default TTW intensity used (default basis)
+
+    @property
+    def co2e_g_per_tkm(self) -> float:
+        """Well-to-wheel g CO2e per tonne-km of the leg (0 when it carries no tonne-km)."""
+        return self.co2e_kg * 1000 / self.tonne_km if self.tonne_km else 0.0
 
     @property
     def handling_cost(self) -> float:
@@ -140,6 +152,22 @@ class CostedShipment:
         """Emissions of the route, kg CO2e (sum of the legs)."""
         return sum(leg.co2e_kg for leg in self.legs)
 
+    @property
+    def co2e_ttw_kg(self) -> float:
+        """The tank-to-wheel part of the route's emissions, kg CO2e (sum of the legs)."""
+        return sum(leg.co2e_ttw_kg for leg in self.legs)
+
+    @property
+    def tonne_km(self) -> float:
+        """Tonne-km of the route: weight_t x km summed over the legs."""
+        return sum(leg.tonne_km for leg in self.legs)
+
+    @property
+    def co2e_g_per_tkm(self) -> float:
+        """Well-to-wheel g CO2e per tonne-km of the route (0 without tonne-km)."""
+        tkm = self.tonne_km
+        return self.co2e_kg * 1000 / tkm if tkm else 0.0
+
     def component(self, name: str) -> float:
         """One cost component (a Leg field such as ``km_cost``) summed over the legs and rounded
         to the currency's minor unit."""
@@ -198,12 +226,15 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
             sh_cost, eh_cost = charge(n, start_rate, places), charge(n, end_rate, places)
             trip_cost = charge(n, trip_rate, places)
             leg_cost = round_money(lc.total + stop_cost + sh_cost + eh_cost + trip_cost, places)
-            kg, basis, intensity = co2e_kg(use.km, card, n, shipment.weight_t)
+            em = emissions(use.km, card, n, shipment.weight_t)
             legs.append(Leg(len(legs) + 1, use, card, n, start_rate, end_rate, hours, trip_rate,
                             lc.km_cost, lc.hour_cost, lc.toll_cost, lc.fixed_cost, lc.fuel_surcharge,
-                            sh_cost, eh_cost, trip_cost, brk, rest, paid, stop_cost, leg_cost, kg, basis,
-                            intensity, shipment.weight_t,
-                            settings.fuel_price_per_litre if surcharge_rate is not None else None))
+                            sh_cost, eh_cost, trip_cost, brk, rest, paid, stop_cost, leg_cost, em.wtw_kg,
+                            em.basis, em.wtw_g_per_tkm, shipment.weight_t,
+                            settings.fuel_price_per_litre if surcharge_rate is not None else None,
+                            co2e_ttw_kg=em.ttw_kg, tonne_km=em.tonne_km, load_factor=em.load_factor,
+                            fuel_used_l_per_100km=em.l_per_100km, wtw_kg_per_litre=em.wtw_kg_per_litre,
+                            ttw_intensity_g_per_tkm=em.ttw_g_per_tkm))
     min_charge = max((card.min_charge for card, _u in runs), default=0.0)
     vehicle = ", ".join(dict.fromkeys(card.vehicle for card, _u in runs))
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,

@@ -58,8 +58,22 @@ LEG_CELLS = {
     "co2e_basis": (lambda r, g: g.co2e_basis, None),
     "intensity_g_per_tkm": (lambda r, g: g.intensity_g_per_tkm, None),
     "co2e_kg": (lambda r, g: g.co2e_kg,
-        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*{co2e_kg_per_litre},'
-        "{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
+        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
+        "{wtw_co2e_kg_per_litre},{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
+    # emissions on a stated basis (issue 12)
+    "payload_t": (lambda r, g: g.card.payload_t, None),
+    "load_factor": (lambda r, g: g.load_factor, "MIN(1,{weight_t}/{vehicles}/{payload_t})"),
+    "fuel_empty_l_per_100km": (lambda r, g: g.card.fuel_empty_l_per_100km, None),
+    "fuel_used_l_per_100km": (lambda r, g: g.fuel_used_l_per_100km or 0.0,
+        'IF({co2e_basis}="fuel",IF({fuel_empty_l_per_100km}="",{fuel_l_per_100km},'
+        "{fuel_empty_l_per_100km}+({fuel_l_per_100km}-{fuel_empty_l_per_100km})*{load_factor}),0)"),
+    "wtw_co2e_kg_per_litre": (lambda r, g: g.wtw_kg_per_litre, None),
+    "ttw_intensity_g_per_tkm": (lambda r, g: g.ttw_intensity_g_per_tkm, None),
+    "co2e_ttw_kg": (lambda r, g: g.co2e_ttw_kg,
+        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
+        "{co2e_kg_per_litre},{weight_t}*{distance_km}*{ttw_intensity_g_per_tkm}/1000)"),
+    "tonne_km": (lambda r, g: g.tonne_km, "{weight_t}*{distance_km}"),
+    "co2e_g_per_tkm": (lambda r, g: g.co2e_g_per_tkm, "IF({tonne_km}=0,0,{co2e_kg}*1000/{tonne_km})"),
 }
 LEG_SPEC = [(name, width, kind, *LEG_CELLS[name]) for name, width, kind in LEG_COLUMNS]
 

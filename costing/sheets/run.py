@@ -113,7 +113,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
          "{} / {} / {}".format(*(len({(p.sheet, p.cell, p.message) for p in problems if p.severity == k})
                                  for k in (ERROR, WARNING, INFO)))),
     ]
-    from costing.price.rates import DEFAULT_INTENSITY
+    from costing.price.rates import DEFAULT_FACTORS, DIESEL_WTT_KG_PER_LITRE, DIESEL_WTT_SOURCE
     from costing.price.rules import rules_for
 
     rules = rules_for(s)
@@ -129,9 +129,23 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ]
     else:
         rows.append(("driving rules", "none: hours are driving plus handling, no breaks or rests"))
-    if any(leg.co2e_basis != "fuel" for x in results for leg in x.legs):
-        for mode, (g, source) in DEFAULT_INTENSITY.items():
-            rows.append((f"default CO2e intensity: {mode}", f"{g:g} g CO2e per tonne-km; {source}"))
+    rows += [
+        ("emissions basis", "well-to-wheel (WTW) CO2e, as ISO 14083:2023 and the GLEC Framework ask, "
+                            "with its tank-to-wheel (TTW) part beside it (co2e_kg, co2e_ttw_kg), per "
+                            "leg and shipment, with tonne-km (weight_t x km) and g CO2e per tonne-km. "
+                            "Planning estimate, not compliance advice."),
+        ("emissions: fuel basis", "litres = vehicles x km x fuel use at the leg's load / 100 (straight "
+                                  "line from fuel_empty_l_per_100km empty to fuel_l_per_100km fully "
+                                  "laden, as the DEFRA 2007 load-dependent road table is); TTW = litres "
+                                  "x co2e_kg_per_litre, WTW = litres x wtw_co2e_kg_per_litre"),
+        ("emissions: well-to-tank of diesel", "used where a rate card's wtw_co2e_kg_per_litre is blank: "
+                                              f"co2e_kg_per_litre + {DIESEL_WTT_KG_PER_LITRE:g} kg CO2e "
+                                              f"per litre; {DIESEL_WTT_SOURCE}"),
+    ]
+    for mode, fct in DEFAULT_FACTORS.items():
+        rows.append((f"default CO2e intensity: {mode}",
+                     f"{fct.wtw:g} g CO2e per tonne-km WTW ({fct.ttw:g} TTW); source: {fct.source}; "
+                     f"year: {fct.year}; basis: {fct.basis}"))
     st = info.stats
     rows += [
         ("searches (A*)", st.searches),
