@@ -47,6 +47,9 @@ EXPECTED_KINDS = {
 
 def old_data() -> dict:
     d = base_data()
+    # a dearer L1 keeps A > C direct the cheaper route while L3 is open (a truck driving through
+    # hub B pays no handling there, so with the base toll A > B > C would already win)
+    d["Lanes"][0]["toll"] = 50
     d["Depots"].append({"depot_id": "E", "name": "Echo", "latitude": 52.2, "longitude": 4.6})
     d["Lanes"].append({"lane_id": "L5", "from_depot": "A", "to_depot": "E", "mode": "road",
                        "distance_km": 60, "drive_hours": 0.9})

@@ -163,8 +163,9 @@ class Oracle:
                 continue
             for m1 in self.cards:
                 for m2 in self.cards:
-                    if m1 != m2:
-                        w = self.start(d.depot_id, m2)
+                    if m1 != m2:  # unload the arriving vehicles, load the leaving ones
+                        w = self._weight(lambda o, d=d.depot_id, m1=m1, m2=m2:
+                                         self._end(o, d, m1) + self._start(o, d, m2), objective)
                         self.steps[("change", d.depot_id, m1, m2)] = ((d.depot_id, m1), (d.depot_id, m2), w)
         g = nx.DiGraph()
         g.add_nodes_from((d, m) for d in self.depots for m in self.cards)
@@ -179,8 +180,8 @@ class Oracle:
         return float(fn(objective))
 
     def _lane(self, objective, lane, km, hours, b) -> Decimal:
-        card, n, end = self.cards[lane.mode], self.n[lane.mode], self.depots[b]
-        hub, p, s = end.kind == "hub", self.places, self.model.settings
+        card, n = self.cards[lane.mode], self.n[lane.mode]
+        p, s = self.places, self.model.settings
         if objective == "cost":
             w = (rnd(n * km * dec(card.per_km), p) + rnd(n * hours * dec(card.per_hour), p)
                  + rnd(n * dec(lane.toll), p) + rnd(n * dec(lane.fixed_cost), p))
@@ -188,9 +189,9 @@ class Oracle:
                     and card.fuel_l_per_100km is not None):
                 w += rnd(n * km * dec(card.fuel_l_per_100km) / 100
                          * (dec(s.fuel_price_per_litre) - dec(card.fuel_included_at)), p)
-            return w + (rnd(n * dec(end.handling_cost), p) if hub else 0)
+            return w  # driving through a hub: no handling (handled only where loads change vehicle)
         if objective == "time":
-            return hours + (dec(end.handling_hours) if hub else 0)
+            return hours
         if objective == "distance":
             return km
         if card.fuel_l_per_100km is not None and card.co2e_kg_per_litre is not None:
@@ -209,8 +210,6 @@ class Oracle:
 
     def _end(self, objective, depot: str, mode: str) -> Decimal:
         d, n = self.depots[depot], self.n[mode]
-        if d.kind == "hub":
-            return Decimal(0)
         if objective == "cost":
             return rnd(n * dec(d.handling_cost), self.places)
         if objective == "time":

@@ -143,13 +143,16 @@ SHEETS: tuple[SheetSpec, ...] = (
                    "-180 to 180 (east positive).", minimum=-180.0, maximum=180.0, width=11,
                    allow_blank=True),
             Column("kind", "choice", False, note="depot, hub, terminal, customer or port. "
-                   "Handling is charged at a hub the route passes through. Blank: depot.",
+                   "A load may change vehicle at a hub (cross-dock, same mode) and change mode at a "
+                   "terminal or port; a vehicle driving through pays no handling. Blank: depot.",
                    choices=DEPOT_KINDS, default="depot", width=10),
             Column("handling_cost", "number", False, "currency per vehicle", "Cost of handling one "
-                   "vehicle here (loading, unloading or cross-dock), charged where a route starts, "
-                   "ends, or passes through a hub. Blank: 0.", default=0.0, minimum=0.0, width=14),
+                   "vehicle here (loading or unloading), charged per vehicle where a route starts "
+                   "and ends and, at a change of vehicle, for the vehicles arriving and those "
+                   "leaving. Blank: 0.", default=0.0, minimum=0.0, width=14),
             Column("handling_hours", "number", False, "hours", "Hours one vehicle spends being "
-                   "handled here. Blank: 0.", default=0.0, minimum=0.0, maximum=240.0, width=14),
+                   "loaded or unloaded here (both at a change of vehicle). Blank: 0.", default=0.0,
+                   minimum=0.0, maximum=240.0, width=14),
         ),
         id_column="depot_id",
         note="Places: depots, hubs, terminals, ports and customers.",

@@ -148,8 +148,10 @@ HEADER_NOTES = {
                       "0 without a fuel price or fuel_included_at.",
     "stop_cost": "ROUND(vehicles x paid_stop_hours x per_hour)",
     "handling_start_cost": "ROUND(vehicles x handling where a vehicle run starts: the origin, or a "
-                           "terminal or port where the shipment changes vehicle).",
-    "handling_end_cost": "ROUND(vehicles x handling at to_depot) where it is a hub or the destination.",
+                           "hub, terminal or port where the shipment changes vehicle).",
+    "handling_end_cost": "ROUND(vehicles x handling at to_depot) where the vehicle run ends: the "
+                         "destination, or a hub, terminal or port where the shipment changes "
+                         "vehicle. Nothing where a vehicle drives through a hub.",
     "trip_cost": "ROUND(vehicles x per_trip) on the first leg of each vehicle run.",
     "leg_cost": "Sum of the leg's cost components.",
     "co2e_basis": "fuel: from the rate card's fuel figures; default intensity: tonnes x km x a "

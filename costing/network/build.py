@@ -86,7 +86,8 @@ class Profile:
         return tuple(dict.fromkeys(v for v, _m, _n in self.cards))
 
 
-TRANSFER_KINDS = ("terminal", "port")
+TRANSFER_KINDS = ("terminal", "port")  # a load changes mode here
+HUB_KINDS = ("hub",)  # a load changes vehicle (same mode) here: a cross-dock
 
 
 @dataclass(frozen=True)
@@ -145,10 +146,8 @@ def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: 
 
 
 def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, places: int) -> float:
-    """Weight of ending at `destination` on card k: its handling, unless it is a hub (a hub's
-    handling is already in the weight of the lane that enters it)."""
-    if destination.kind == "hub":
-        return 0.0
+    """Weight of ending at `destination` on card k: its handling of the card's vehicles (unloading;
+    a hub too: a hub charges where loads are handled, not where vehicles drive through)."""
     n = profile.cards[k][2]
 
     def weight(q: str) -> float:
@@ -161,29 +160,32 @@ def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, plac
     return _weigh(model, profile, weight)
 
 
-def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places: int) -> float:
-    """Changing onto card k at a terminal or port: the depot's handling for the new vehicles
-    and the new card's trip charge (as if starting there)."""
-    return start_weight(model, profile, k, depot, places)
+def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places: int,
+                    from_k: int | None = None):
+    """Changing onto card k at a terminal, port or hub: the depot's handling for the new vehicles
+    and the new card's trip charge (as if starting there) and, given the card `from_k` the load
+    arrives on, the depot's handling of the arriving vehicles (as if ending there): each unit is
+    lifted off at the end of one vehicle run and on at the start of the next."""
+    w = start_weight(model, profile, k, depot, places)
+    if from_k is None:
+        return w
+    return exit_weight(model, profile, from_k, depot, places) + w
 
 
 def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: Depot,
                 places: int) -> float:
     """The weight of one lane step on card k. Cost uses the rounded leg amounts the output
-    shows (price/rates.py), so a route's weight is exactly what its legs add up to."""
+    shows (price/rates.py), so a route's weight is exactly what its legs add up to. `to_depot`
+    adds nothing: handling is in the start, exit and transfer weights, where loads are handled."""
     vehicle, mode, n = profile.cards[k]
     card = card_of(model, vehicle, mode)
-    hub = to_depot.kind == "hub"
 
     def weight(q: str) -> float:
-        if q == "cost":
-            w = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
-                             model.settings, places).total
-            if hub:
-                w += charge(n, to_depot.handling_cost, places)
-            return w
+        if q == "cost":  # no handling: a vehicle driving through a hub is not handled there
+            return lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
+                                model.settings, places).total
         if q == "hours":
-            return use.hours + (to_depot.handling_hours if hub else 0.0)
+            return use.hours
         if q == "km":
             return use.km
         if q == "co2e":
@@ -321,17 +323,20 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile,
             eid = len(steps)
             steps.append(Step(k, use=use))
             adj[i * K + k].append((j * K + k, w, eid))
-    # transfers between cards of different modes at terminals and ports
+    # transfers: between cards of different modes at terminals and ports, between cards of the
+    # same mode (another vehicle) at hubs (cross-docks)
     for i, d in enumerate(depots):
-        if d.kind not in TRANSFER_KINDS or K < 2:
+        if (d.kind not in TRANSFER_KINDS and d.kind not in HUB_KINDS) or K < 2:
             continue
         for k1 in range(K):
             for k2 in range(K):
-                if profile.cards[k1][1] == profile.cards[k2][1]:
+                same_mode = profile.cards[k1][1] == profile.cards[k2][1]
+                if k1 == k2 or same_mode != (d.kind in HUB_KINDS):
                     continue
                 eid = len(steps)
                 steps.append(Step(k2, transfer=Transfer(d.depot_id, k1, k2)))
-                adj[i * K + k1].append((i * K + k2, transfer_weight(model, profile, k2, d, places), eid))
+                adj[i * K + k1].append((i * K + k2, transfer_weight(model, profile, k2, d, places, k1),
+                                        eid))
     if r_min is math.inf:
         r_min = 0.0
     if missing_coords is not None:

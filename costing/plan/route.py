@@ -348,6 +348,11 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
     modes = list(dict.fromkeys(leg.use.lane.mode for leg in best.legs))
     if len(modes) > 1:
         notes.append("intermodal: " + " > ".join(_run_modes(best)))
+    crossdocks = [f"{a.card.vehicle} > {b.card.vehicle} at {a.use.to_depot}"
+                  for a, b in zip(best.legs, best.legs[1:])
+                  if a.card.mode == b.card.mode and a.card.vehicle != b.card.vehicle]
+    if crossdocks:
+        notes.append("vehicle changed (cross-dock): " + "; ".join(crossdocks))
     if best.break_hours or best.rest_hours:
         notes.append(f"driving rules: {best.break_hours:g} h of breaks and {best.rest_hours:g} h of rest "
                      "added to the chosen route (route chosen on driving hours)")

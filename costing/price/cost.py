@@ -9,10 +9,14 @@ Per leg, with n = vehicles needed on that leg's rate card (ceil(weight / payload
     fuel_surcharge = ROUND(n x km x l/100 km / 100 x (fuel price - fuel_included_at))
     stop_cost      = ROUND(n x paid break and rest hours x per_hour)   (driving rules)
     handling_start_cost = ROUND(n x handling where a vehicle run starts: origin or a transfer)
-    handling_end_cost   = ROUND(n x handling at to_depot when it is a hub or the destination)
+    handling_end_cost   = ROUND(n x handling where a vehicle run ends: destination or a transfer)
     trip_cost      = ROUND(n x per_trip), on the first leg of each vehicle run
     leg_cost       = the sum of the above
-A vehicle run is a stretch of legs on one rate card; it changes only at a terminal or port.
+A vehicle run is a stretch of legs on one rate card; it changes only at a terminal or port (to
+another mode) or at a hub (to another vehicle of the same mode). Handling is charged where loads
+are handled: per vehicle at both ends of each vehicle run (loading, unloading: every unit lifted
+off and on at a transfer), never where a vehicle only drives through a hub. Handling hours
+likewise: per vehicle (in parallel) at each end of each run.
 Per shipment: subtotal = sum of leg_cost; min_charge_uplift = max(0, min_charge - subtotal)
 with min_charge the largest of the rate cards used; total_cost = subtotal + uplift.
 ROUND is half away from zero to the currency's minor unit, as the spreadsheet ROUND does.
@@ -202,17 +206,15 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     depots: dict[str, Depot] = model.depot_index
     rules = rules_for(settings)
     legs: list[Leg] = []
-    total_steps = sum(len(uses) for _c, uses in runs)
     for card, uses in runs:
         n = vehicles_needed(shipment.weight_t, card.payload_t)
         stops = (stops_for_run([u.hours for u in uses], rules) if rules and card.mode == "road"
                  else [(0.0, 0.0)] * len(uses))
         surcharge_rate = fuel_surcharge_rate(card, settings)
         for i, use in enumerate(uses):
-            last = len(legs) + 1 == total_steps
             start = depots[use.from_depot] if i == 0 else None
             end = depots[use.to_depot]
-            end_counts = last or end.kind == "hub"
+            end_counts = i == len(uses) - 1  # the run ends here: its vehicles are unloaded
             start_rate = start.handling_cost if start else 0.0
             end_rate = end.handling_cost if end_counts else 0.0
             hours = (start.handling_hours if start else 0.0) + (end.handling_hours if end_counts else 0.0)
