@@ -129,8 +129,8 @@ _LANES = [
     ("L041", "D17", "D03", "road", 90.3, 1.2, 27, 0, True, None, True, True),
     ("L042", "D03", "D07", "road", 71.7, 1.12, 22, 0, True, None, True, True),
     ("L043", "D10", "D22", "road", 50.0, 0.7, 10, 0, True, None, True, True),
-    # under the Scheldt by tunnel: no dangerous goods
-    ("L044", "D10", "D21", "road", 59.0, 0.82, 12, 0, True, None, False, True),
+    # under the Scheldt by tunnel: ADR tunnel category D (see _LANE_EXTRA), closed to S004's load
+    ("L044", "D10", "D21", "road", 59.0, 0.82, 12, 0, True, None, True, True),
     ("L045", "D21", "D22", "road", 61.7, 0.86, 12, 0, True, None, True, True),
     ("L046", "D22", "D24", "road", 75.6, 1.01, 15, 0, True, None, True, True),
     ("L047", "D24", "D23", "road", 49.7, 0.71, 10, 0, True, None, True, True),
@@ -196,7 +196,8 @@ _SHIPMENTS = [
     ("S002", "D02", "D10", 6.5, None, None, False, "Saltmarrow Seafood"),
     # dangerous goods: must avoid the tunnel lane L005
     ("S003", "D09", "D12", 8.0, None, None, True, "Kettlewick Chemicals"),
-    # dangerous goods: must avoid the tunnel lane L044
+    # dangerous goods with ADR tunnel code D/E (a tanker: D applies): must avoid the category D
+    # tunnel of lane L044 (see _SHIPMENT_EXTRA)
     ("S004", "D10", "D21", 14.0, None, None, True, "Velvetash Coatings"),
     # heavier than one artic: 38 t over 2 artics
     ("S005", "D10", "D03", 38.0, "artic_40t", None, False, "Umberfield Steel"),
@@ -263,8 +264,17 @@ _SCENARIOS = [
 ]
 
 
+# Columns added with issue 12, per row id: ADR tunnel categories on lanes, tunnel codes on shipments.
+_LANE_EXTRA = {"L044": {"tunnel_category": "D"}}
+_SHIPMENT_EXTRA = {"S004": {"tunnel_code": "D/E"}}
+
+
 def _rows(columns: tuple[str, ...], table: list[tuple]) -> list[dict]:
     return [dict(zip(columns, row, strict=True)) for row in table]
+
+
+def _with_extra(rows: list[dict], key: str, extra: dict[str, dict]) -> list[dict]:
+    return [{**r, **extra.get(r[key], {})} for r in rows]
 
 
 def example_data() -> dict[str, list[dict]]:
@@ -272,9 +282,9 @@ def example_data() -> dict[str, list[dict]]:
     return {
         "Settings": _rows(("setting", "value", "note"), _SETTINGS),
         "Depots": _rows(_DEPOT_COLUMNS, _DEPOTS),
-        "Lanes": _rows(_LANE_COLUMNS, _LANES),
+        "Lanes": _with_extra(_rows(_LANE_COLUMNS, _LANES), "lane_id", _LANE_EXTRA),
         "Rates": _rows(_RATE_COLUMNS, _RATES),
-        "Shipments": _rows(_SHIPMENT_COLUMNS, _SHIPMENTS),
+        "Shipments": _with_extra(_rows(_SHIPMENT_COLUMNS, _SHIPMENTS), "shipment_id", _SHIPMENT_EXTRA),
         "Scenarios": _rows(_SCENARIO_COLUMNS, _SCENARIOS),
     }
 

@@ -57,6 +57,9 @@ class Lane:
     hazmat_allowed: bool = True
     open: bool = True
     row: int = 0
+    toll_medium: float | None = None  # toll of a medium vehicle (over 3.5 t to 12 t); None: toll
+    toll_light: float | None = None  # toll of a light vehicle (up to 3.5 t); None: 0 (exempt)
+    tunnel_category: str | None = None  # ADR tunnel category A to E; None: no tunnel
 
 
 @dataclass(frozen=True)
@@ -75,6 +78,7 @@ class RateCard:
     tare_t: float = 0.0  # empty weight of one vehicle, for lane weight limits
     fuel_empty_l_per_100km: float | None = None  # fuel use running empty (then fuel_l_per_100km is laden)
     wtw_co2e_kg_per_litre: float | None = None  # well-to-wheel factor; None: TTW + diesel well-to-tank
+    toll_class: str | None = None  # light | medium | heavy; None: from tare_t + payload_t
 
 
 @dataclass(frozen=True)
@@ -88,6 +92,7 @@ class Shipment:
     hazmat: bool = False
     customer: str = ""
     row: int = 0
+    tunnel_code: str | None = None  # ADR tunnel restriction code, e.g. D/E; implies hazmat
 
 
 @dataclass(frozen=True)
@@ -139,9 +144,10 @@ class Model:
 
     @cached_property
     def restricted_lanes(self) -> tuple[Lane, ...]:
-        """Lanes with a hazmat ban or a weight limit: usually few, so each shipment's profile
-        looks at these only, not at every lane."""
-        return tuple(ln for ln in self.lanes if not ln.hazmat_allowed or ln.max_weight_t is not None)
+        """Lanes with a hazmat ban, a weight limit or a restricted ADR tunnel category: usually few,
+        so each shipment's profile looks at these only, not at every lane."""
+        return tuple(ln for ln in self.lanes if not ln.hazmat_allowed or ln.max_weight_t is not None
+                     or ln.tunnel_category not in (None, "A"))
 
     def vehicles(self) -> list[str]:
         """Vehicle names of the rate cards, each once, in the order first seen."""

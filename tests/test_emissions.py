@@ -156,3 +156,9 @@ def test_empty_fuel_above_laden_is_a_warning(cli, make_input, tmp_path):
     code, _o, err = cli("run", make_input(data), "-o", str(tmp_path / "o.xlsx"))
     assert code == 0, err
     assert "fuel use empty (40 l/100 km) is above fuel use laden (30 l/100 km)" in err
+
+
+def test_closing_line_keeps_the_caution(cli, make_input, tmp_path):
+    code, out, err = cli("run", make_input(), "-o", str(tmp_path / "o.xlsx"))
+    assert code == 0, err
+    assert "planning estimates, not legal or compliance advice" in out.strip().splitlines()[-1]

@@ -84,6 +84,7 @@ LEG_COLUMNS = [
     ("co2e_ttw_kg", 10, "kg"),
     ("tonne_km", 11, "km"),
     ("co2e_g_per_tkm", 10, "plain"),
+    ("toll_class", 9, "text"),  # which of the lane's tolls the vehicle pays (issue 12)
 ]
 
 
@@ -143,10 +144,15 @@ HEADER_NOTES = {
     "km_cost": "ROUND(vehicles x distance_km x per_km)",
     "hour_cost": "ROUND(vehicles x drive_hours x per_hour)",
     "toll_cost": "ROUND(vehicles x toll)",
+    "toll": "Toll per vehicle of the rate card's toll_class on this lane (light: toll_light, blank = 0, "
+            "the usual van exemption; medium: toll_medium, blank = toll; heavy: toll).",
+    "toll_class": "light (up to 3.5 t), medium (to 12 t) or heavy: the rate card's, or from its "
+                  "tare_t + payload_t.",
     "fixed_cost": "ROUND(vehicles x fixed cost per vehicle)",
     "fuel_surcharge": "ROUND(vehicles x km x fuel_l_per_100km / 100 x (fuel_price - fuel_included_at)); "
                       "0 without a fuel price or fuel_included_at.",
-    "stop_cost": "ROUND(vehicles x paid_stop_hours x per_hour)",
+    "stop_cost": "Driver time at driving-time breaks and daily rests (not an extra-drop or "
+                 "stop-off fee): ROUND(vehicles x paid_stop_hours x per_hour).",
     "handling_start_cost": "ROUND(vehicles x handling where a vehicle run starts: the origin, or a "
                            "hub, terminal or port where the shipment changes vehicle).",
     "handling_end_cost": "ROUND(vehicles x handling at to_depot) where the vehicle run ends: the "

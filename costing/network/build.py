@@ -25,7 +25,7 @@ from costing.money import minor_unit
 from costing.network.lex import Lex, primary
 from costing.network.search import Arcs
 from costing.objectives import objective
-from costing.price.rates import charge, co2e_kg, lane_charges
+from costing.price.rates import charge, co2e_kg, lane_charges, toll_for
 
 # Keeps floating-point error in gc * r_min from pushing the bound a hair above the truth.
 BOUND_SAFETY = 1.0 - 1e-9
@@ -182,8 +182,8 @@ def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: 
 
     def weight(q: str) -> float:
         if q == "cost":  # no handling: a vehicle driving through a hub is not handled there
-            return lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
-                                model.settings, places).total
+            return lane_charges(use.km, use.hours, toll_for(use.lane, card), use.lane.fixed_cost, card,
+                                n, model.settings, places).total
         if q == "hours":
             return use.hours
         if q == "km":

@@ -9,6 +9,7 @@ from dataclasses import dataclass, field, replace
 
 import networkx as nx
 
+from costing.contract.inputs import tunnel_forbids, tunnel_letter
 from costing.model import WARNING, Model, Problem, RateCard, Shipment
 from costing.money import minor_unit
 from costing.network.build import (
@@ -66,6 +67,8 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
                     continue
                 if s.hazmat and not lane.hazmat_allowed:
                     blocked.add((lane.lane_id, k))
+                elif s.hazmat and tunnel_forbids(hazmat_tunnel_letter(s), lane.tunnel_category):
+                    blocked.add((lane.lane_id, k))
                 elif lane.max_weight_t is not None and \
                         loaded_weight(s, card) > lane.max_weight_t + 1e-9:
                     blocked.add((lane.lane_id, k))
@@ -76,6 +79,15 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
                    tuple((c.vehicle, c.mode, vehicles_needed(s.weight_t, c.payload_t)) for c in cards),
                    frozenset(blocked), s.weight_t if needs_tonnes else 0.0,
                    tie_break=objective != "cost")
+
+
+def hazmat_tunnel_letter(s: Shipment) -> str | None:
+    """The ADR tunnel category from which dangerous goods `s` are kept out (to E): its
+    tunnel_code's letter (costing.contract.inputs.tunnel_letter), or B, the most restrictive,
+    for dangerous goods without a code (the safe reading of the yes/no case); None otherwise."""
+    if not s.hazmat:
+        return None
+    return tunnel_letter(s.tunnel_code) or "B"
 
 
 def loaded_weight(s: Shipment, card: RateCard) -> float:
@@ -396,6 +408,11 @@ def _blocked_reasons(model: Model, s: Shipment, cn: CompactNetwork, res, profile
         v, m, _n = cn.profile.cards[step.card]
         if s.hazmat and not lane.hazmat_allowed:
             reasons.append(f"{lane.lane_id} does not allow dangerous goods")
+        elif s.hazmat and tunnel_forbids(hazmat_tunnel_letter(s), lane.tunnel_category):
+            code = (f"tunnel code {s.tunnel_code}" if s.tunnel_code
+                    else "dangerous goods without a tunnel code")
+            reasons.append(f"{lane.lane_id} has a category {lane.tunnel_category} tunnel, closed to "
+                           f"{code}")
         else:
             reasons.append(f"{lane.lane_id} allows at most {lane.max_weight_t:g} t per vehicle, "
                            f"a loaded {v} weighs {loaded_weight(s, card_of(model, v, m)):g} t")

@@ -4,7 +4,7 @@ Knows nothing of graphs' internals or workbooks.
 Per leg, with n = vehicles needed on that leg's rate card (ceil(weight / payload)):
     km_cost        = ROUND(n x distance_km x per_km)
     hour_cost      = ROUND(n x drive_hours x per_hour)
-    toll_cost      = ROUND(n x toll)
+    toll_cost      = ROUND(n x toll of the card's toll class on the lane)
     fixed_cost     = ROUND(n x fixed_cost)
     fuel_surcharge = ROUND(n x km x l/100 km / 100 x (fuel price - fuel_included_at))
     stop_cost      = ROUND(n x paid break and rest hours x per_hour)   (driving rules)
@@ -29,7 +29,15 @@ from dataclasses import dataclass
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
 from costing.objectives import objective
-from costing.price.rates import charge, emissions, fuel_surcharge_rate, lane_charges, vehicles_needed
+from costing.price.rates import (
+    charge,
+    emissions,
+    fuel_surcharge_rate,
+    lane_charges,
+    toll_class,
+    toll_for,
+    vehicles_needed,
+)
 from costing.price.rules import rules_for, stops_for_run
 
 ROUTED, NO_ROUTE, REJECTED = "routed", "no_route", "rejected"
@@ -70,6 +78,8 @@ class Leg:
     fuel_used_l_per_100km: float | None = None  # per vehicle at that load (fuel basis)
     wtw_kg_per_litre: float | None = None  # the WTW factor used (fuel basis)
     ttw_intensity_g_per_tkm: float | None = None  # the default TTW intensity used (default basis)
+    toll_rate: float = 0.0  # the toll per vehicle of the card's toll class on this lane
+    toll_class: str = "heavy"
 
     @property
     def co2e_g_per_tkm(self) -> float:
@@ -219,8 +229,8 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
             end_rate = end.handling_cost if end_counts else 0.0
             hours = (start.handling_hours if start else 0.0) + (end.handling_hours if end_counts else 0.0)
             trip_rate = card.per_trip if i == 0 else 0.0
-            lc = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n, settings,
-                              places)
+            toll = toll_for(use.lane, card)  # by the card's toll class
+            lc = lane_charges(use.km, use.hours, toll, use.lane.fixed_cost, card, n, settings, places)
             brk, rest = stops[i]
             paid = (brk if settings.break_hours_paid == "yes" else 0.0) + \
                 (rest if settings.rest_hours_paid == "yes" else 0.0)
@@ -236,7 +246,8 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
                             settings.fuel_price_per_litre if surcharge_rate is not None else None,
                             co2e_ttw_kg=em.ttw_kg, tonne_km=em.tonne_km, load_factor=em.load_factor,
                             fuel_used_l_per_100km=em.l_per_100km, wtw_kg_per_litre=em.wtw_kg_per_litre,
-                            ttw_intensity_g_per_tkm=em.ttw_g_per_tkm))
+                            ttw_intensity_g_per_tkm=em.ttw_g_per_tkm, toll_rate=toll,
+                            toll_class=toll_class(card)))
     min_charge = max((card.min_charge for card, _u in runs), default=0.0)
     vehicle = ", ".join(dict.fromkeys(card.vehicle for card, _u in runs))
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from costing.model import RateCard, Settings
+from costing.model import Lane, RateCard, Settings
 from costing.money import round_money
 
 # Emissions are reported on one basis, as ISO 14083:2023 and the GLEC Framework ask: well-to-wheel
@@ -84,6 +84,29 @@ DEFAULT_FACTORS: dict[str, ModeFactor] = {
 # mode -> (WTW g CO2e per tonne-km, source): the defaults as the Run sheet and earlier readers list them
 DEFAULT_INTENSITY: dict[str, tuple[float, str]] = {
     mode: (f.wtw, f"{f.source} ({f.year}); {f.basis}") for mode, f in DEFAULT_FACTORS.items()}
+
+
+def toll_class(card: RateCard) -> str:
+    """The card's toll class: its own, or from its maximum weight tare_t + payload_t: light up to
+    3.5 t, medium to 12 t, heavy above (the EU road-charging lines, from memory)."""
+    if card.toll_class:
+        return card.toll_class
+    gross = card.tare_t + card.payload_t
+    if gross <= 3.5 + 1e-9:
+        return "light"
+    return "medium" if gross <= 12.0 + 1e-9 else "heavy"
+
+
+def toll_for(lane: Lane, card: RateCard) -> float:
+    """The toll one vehicle of `card` pays on `lane`, by its toll class: heavy pays ``toll``;
+    medium ``toll_medium`` (blank: ``toll``); light ``toll_light`` (blank: 0, the usual exemption
+    of vans below 3.5 t from truck tolls; common practice, no source)."""
+    cls = toll_class(card)
+    if cls == "light":
+        return lane.toll_light if lane.toll_light is not None else 0.0
+    if cls == "medium" and lane.toll_medium is not None:
+        return lane.toll_medium
+    return lane.toll
 
 
 def charge(n: int, rate: float, places: int) -> float:

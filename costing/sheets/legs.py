@@ -32,7 +32,7 @@ LEG_CELLS = {
     "paid_stop_hours": (lambda r, g: g.paid_stop_hours, None),
     "per_km": (lambda r, g: g.card.per_km, None),
     "per_hour": (lambda r, g: g.card.per_hour, None),
-    "toll": (lambda r, g: g.use.lane.toll, None),
+    "toll": (lambda r, g: g.toll_rate, None),  # of the card's toll class
     "fixed_cost_rate": (lambda r, g: g.use.lane.fixed_cost, None),
     "fuel_l_per_100km": (lambda r, g: g.card.fuel_l_per_100km, None),
     "fuel_price": (lambda r, g: g.fuel_price, None),
@@ -74,6 +74,7 @@ LEG_CELLS = {
         "{co2e_kg_per_litre},{weight_t}*{distance_km}*{ttw_intensity_g_per_tkm}/1000)"),
     "tonne_km": (lambda r, g: g.tonne_km, "{weight_t}*{distance_km}"),
     "co2e_g_per_tkm": (lambda r, g: g.co2e_g_per_tkm, "IF({tonne_km}=0,0,{co2e_kg}*1000/{tonne_km})"),
+    "toll_class": (lambda r, g: g.toll_class, None),
 }
 LEG_SPEC = [(name, width, kind, *LEG_CELLS[name]) for name, width, kind in LEG_COLUMNS]
 
