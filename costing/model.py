@@ -113,6 +113,7 @@ class Settings:
     rest_hours_paid: str = "no"
     compare_objectives: str = "yes"
     frontier_max_routes: float = 6
+    driving_clock_in_search: str = "yes"
 
 
 @dataclass(frozen=True)

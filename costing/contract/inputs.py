@@ -118,6 +118,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("frontier_max_routes", "number", 6,
                 "Most cost-time trade-off routes listed per shipment on the Trade-offs sheet; "
                 "0 leaves the sheet out.", minimum=0, maximum=100),
+    SettingSpec("driving_clock_in_search", "choice", "yes",
+                "yes: with driving_rules, the route search carries the driving clock, so the time, "
+                "cost and blended objectives choose routes with their breaks and rests (and their "
+                "pay); no: routes are chosen on driving hours and the stops added afterwards. "
+                "Planning estimate, not compliance advice.", choices=YES_NO),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}

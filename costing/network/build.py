@@ -21,7 +21,7 @@ import numpy as np
 
 from costing.geo import great_circle_km, great_circle_km_many
 from costing.model import Depot, Lane, LaneUse, Model, RateCard
-from costing.money import minor_unit
+from costing.money import minor_unit, round_money
 from costing.network.lex import Lex, primary
 from costing.network.search import Arcs
 from costing.objectives import objective
@@ -193,6 +193,26 @@ def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: 
         raise ValueError(f"unknown quantity {q}")
 
     return _weigh(model, profile, weight, legs=1)
+
+
+def stop_weight(model: Model, profile: Profile, k: int, break_hours: float, rest_hours: float,
+                places: int):
+    """The weight of the driving-time stops taken on one lane step on card k: their hours, and
+    their pay as the legs charge it (stop_cost = ROUND(n x paid hours x per_hour), break and rest
+    hours paid as Settings say), combined as the profile's objective (costing.network.clock)."""
+    vehicle, mode, n = profile.cards[k]
+    s = model.settings
+
+    def weight(q: str) -> float:
+        if q == "cost":
+            paid = (break_hours if s.break_hours_paid == "yes" else 0.0) + \
+                (rest_hours if s.rest_hours_paid == "yes" else 0.0)
+            return round_money(n * paid * card_of(model, vehicle, mode).per_hour, places)
+        if q == "hours":
+            return break_hours + rest_hours
+        return 0.0
+
+    return _weigh(model, profile, weight)
 
 
 @dataclass

@@ -25,6 +25,7 @@ from costing.network.search import astar
 from costing.objectives import objective
 from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
 from costing.price.rates import vehicles_needed
+from costing.price.rules import rules_for
 
 
 @dataclass
@@ -118,6 +119,8 @@ class Router:
         self._layers: dict = {}  # per-card lane weights shared by profiles
         self._batched: dict = {}  # (profile, origin, destination) -> (network, search result)
         self._engines: dict = {}  # profile -> costing.network.engine.SearchEngine
+        self.rules = rules_for(model.settings)  # driving-time rules, or None
+        self.clock_fallbacks: set[str] = set()  # shipments searched without the clock (too many labels)
 
     def network(self, profile: Profile) -> CompactNetwork:
         """The compact network of `profile`, built once and cached (its build time is recorded)."""
@@ -155,8 +158,8 @@ class Router:
                 groups.setdefault((make_profile(self.model, s, obj, cards), s.origin), []).append(s)
         for (profile, origin), members in groups.items():
             dests = list(dict.fromkeys(m.destination for m in members))
-            if len(members) < BATCH_MIN:
-                continue
+            if len(members) < BATCH_MIN or self.clocked(profile):
+                continue  # few, or searched with the driving clock (one search each)
             cn = self.network(profile)
             sources, _exits = self._ends(members[0], profile, cn)
             targets = [self._ends(Shipment("", origin, d, 0.0), profile, cn)[1] for d in dests]
@@ -188,7 +191,9 @@ class Router:
         cn = self.network(profile)
         sources, exits = self._ends(s, profile, cn)
         engine = self._engine(profile, cn)
-        if engine is not None:
+        if self.clocked(profile):
+            res = self._clock_search(s, profile, cn, sources, exits)
+        elif engine is not None:
             d = cn.node(s.destination, 0)
             res = _with_ends(engine.astar(sources[0][0], d, lower_bound=cn.bound(cn.index[s.destination])),
                              sources[0][1], exits[d])
@@ -198,6 +203,30 @@ class Router:
         self.stats.settled += res.stats.settled
         self.stats.pushed += res.stats.pushed
         return cn, res
+
+    def clocked(self, profile: Profile) -> bool:
+        """Whether the search of `profile` carries the driving clock (costing.network.clock):
+        driving rules on, the setting on, an objective that weighs cost or hours (stops add both),
+        and a road card."""
+        st = self.model.settings
+        return (self.rules is not None and st.driving_clock_in_search == "yes"
+                and (_uses(profile.objective, "cost") or _uses(profile.objective, "hours"))
+                and any(m == "road" for _v, m, _n in profile.cards))
+
+    def _clock_search(self, s: Shipment, profile: Profile, cn: CompactNetwork, sources, exits):
+        """The clock-labelled search of `s`; on too many labels, the plain search (noted)."""
+        from costing.network.build import stop_weight
+        from costing.network.clock import ClockLimit, clock_astar
+
+        model, places = self.model, self.places
+        try:
+            return clock_astar(cn, sources, exits, cn.bound(cn.index[s.destination]), self.rules,
+                               lambda k: profile.cards[k][1] == "road",
+                               lambda k, b, r: stop_weight(model, profile, k, b, r, places),
+                               cap=max(20_000, 40 * len(cn.adj)))
+        except ClockLimit:
+            self.clock_fallbacks.add(s.shipment_id)
+            return astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
 
     def pool(self, s: Shipment) -> list[RateCard]:
         """The rate cards a shipment may use: its named vehicle's, or every card."""
@@ -366,8 +395,15 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
     if crossdocks:
         notes.append("vehicle changed (cross-dock): " + "; ".join(crossdocks))
     if best.break_hours or best.rest_hours:
+        clocked = router.clocked(make_profile(model, s, obj, best_vs))
+        if clocked and s.shipment_id not in router.clock_fallbacks:
+            how = "route chosen with them in the search"
+        elif s.shipment_id in router.clock_fallbacks:
+            how = "route chosen on driving hours: too many clock labels for the search"
+        else:
+            how = "route chosen on driving hours"
         notes.append(f"driving rules: {best.break_hours:g} h of breaks and {best.rest_hours:g} h of rest "
-                     "added to the chosen route (route chosen on driving hours)")
+                     f"on the chosen route ({how}; planning estimate)")
     if any(leg.co2e_basis != "fuel" for leg in best.legs):
         notes.append("CO2e partly from default intensities (see Legs)")
     if not s.vehicle and len(router.vehicles) > 1:

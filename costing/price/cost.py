@@ -110,6 +110,7 @@ class CostedShipment:
     pushed: int = 0
     places: int = 2
     value_of_time: float = 0.0  # per hour, for the blended objective
+    stops_in_hours: bool = False  # the hours quantity includes breaks and rests (clock in search)
 
     @property
     def subtotal(self) -> float:
@@ -189,10 +190,13 @@ class CostedShipment:
 
     def quantity(self, name: str) -> float:
         """A route quantity of costing.objectives: cost (total, currency), hours (driving and
-        handling), km, co2e (kg CO2e)."""
+        handling, and breaks and rests when the driving clock is in the search), km, co2e (kg
+        CO2e, well-to-wheel)."""
         if name == "cost":
             return self.total_cost
         if name == "hours":
+            if self.stops_in_hours:  # the driving clock is in the search: elapsed hours
+                return self.elapsed_hours
             return self.drive_hours + self.handling_hours
         if name == "km":
             return self.distance_km
@@ -252,7 +256,8 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     vehicle = ", ".join(dict.fromkeys(card.vehicle for card, _u in runs))
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,
                           settled=settled, pushed=pushed, places=places,
-                          value_of_time=settings.value_of_time_per_hour)
+                          value_of_time=settings.value_of_time_per_hour,
+                          stops_in_hours=rules is not None and settings.driving_clock_in_search == "yes")
 
 
 def unrouted(model: Model, shipment: Shipment, status: str, objective: str, message: str,

@@ -124,8 +124,14 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
              f"daily rest of {rules.daily_rest:g} h after {rules.daily_driving:g} h driving "
              "(road legs; one driver per vehicle)"),
             ("driving rules: source", rules.source),
-            ("driving rules: route choice", "routes are chosen on driving and handling hours; breaks and "
-                                            "rests are then added to the chosen route and costed"),
+            ("driving rules: route choice",
+             "the search carries the driving clock (driving since the last break, driving today): "
+             "the time, cost and blended objectives choose routes with their breaks and rests and "
+             "their pay, exact under the stop model above; distance, emissions and the trade-offs "
+             "do not carry it. Planning estimate, not compliance advice."
+             if s.driving_clock_in_search == "yes" else
+             "routes are chosen on driving and handling hours; breaks and rests are then added to "
+             "the chosen route and costed"),
         ]
     else:
         rows.append(("driving rules", "none: hours are driving plus handling, no breaks or rests"))
