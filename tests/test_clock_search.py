@@ -20,30 +20,62 @@ import pytest
 from costing.model import Depot, Lane, Model, RateCard, Settings, Shipment
 from tests.pipeline_helpers import route_all
 
-EU = dict(break_after=4.5, break_hours=0.75, daily=9.0, rest=11.0)
+EU = dict(break_after=4.5, break_hours=0.75, daily=9.0, longer=10.0, longer_days=2, rest=11.0,
+          reduced=9.0, reduced_rests=3)
+FRESH = (0.0, 0.0, 9.0, 0, 0)  # since break, today, today's limit, longer days used, reduced rests used
 
 
 def stops(clock, hours):
-    """(stop hours, new clock) for `hours` of driving from clock (since break, today): a stop
-    only when its limit is reached and driving remains (our own implementation for the oracle)."""
-    sb, td = clock
+    """(stop hours, new clock) for `hours` of driving from clock: a stop only when its limit is
+    reached and driving remains; a 10 h day when 9 h are reached (twice), then rests of 9 h
+    (three times), then 11 h (our own implementation for the oracle)."""
+    sb, td, limit, longer, reduced = clock
     total, left = 0.0, hours
     while True:
-        room = min(EU["break_after"] - sb, EU["daily"] - td)
+        room = min(EU["break_after"] - sb, limit - td)
         if left <= room + 1e-9:
-            return total, (round(sb + left, 9), round(td + left, 9))
+            return total, (round(sb + left, 9), round(td + left, 9), limit, longer, reduced)
         sb, td, left = sb + room, td + room, left - room
-        if td >= EU["daily"] - 1e-9:
-            total, sb, td = total + EU["rest"], 0.0, 0.0
+        if td >= limit - 1e-9 and limit < EU["longer"] and longer < EU["longer_days"]:
+            limit, longer = EU["longer"], longer + 1
+            if sb >= EU["break_after"] - 1e-9:
+                total, sb = total + EU["break_hours"], 0.0
+        elif td >= limit - 1e-9:
+            rest = EU["reduced"] if reduced < EU["reduced_rests"] else EU["rest"]
+            total, reduced = total + rest, reduced + (rest == EU["reduced"])
+            sb, td, limit = 0.0, 0.0, EU["daily"]
         else:
             total, sb = total + EU["break_hours"], 0.0
 
 
+US = dict(break_after=8.0, break_hours=0.5, daily=11.0, window=14.0, off=10.0)
+
+
+def us_stops(clock, hours):
+    """The same for 49 CFR 395.3 (references.md 3.2): clock (since break, today, on duty); no
+    driving past 11 h or the 14th hour on duty, a 30-minute break after 8 h unless the window
+    would close first, then 10 h off (our own implementation for the oracle)."""
+    sb, td, duty = clock
+    total, left = 0.0, hours
+    while True:
+        room = max(0.0, min(US["break_after"] - sb, US["daily"] - td, US["window"] - duty))
+        if left <= room + 1e-9:
+            return total, (round(sb + left, 9), round(td + left, 9), round(duty + left, 9))
+        sb, td, duty, left = sb + room, td + room, duty + room, left - room
+        if td >= US["daily"] - 1e-9 or duty >= US["window"] - 1e-9 or \
+                duty + US["break_hours"] >= US["window"] - 1e-9:
+            total, sb, td, duty = total + US["off"], 0.0, 0.0, 0.0
+        else:
+            total, sb, duty = total + US["break_hours"], 0.0, duty + US["break_hours"]
+
+
 def test_the_oracle_stops_match_the_regulation_numbers():
     # 9 h day: 4.5 + 0.75 + 4.5 = 9.75 h elapsed (references.md 3.1, our arithmetic)
-    assert stops((0.0, 0.0), 9.0)[0] == 0.75
-    # 11.25 h (900 km at 80 km/h): 4.5 + 0.75 + 4.5, rest 11, 2.25 -> 11.75 h of stops
-    assert stops((0.0, 0.0), 11.25)[0] == 11.75
+    assert stops(FRESH, 9.0)[0] == 0.75
+    # 10 h day: 4.5 + 0.75 + 4.5 + 0.75 + 1.0 = 11.5 h elapsed (references.md 3.1)
+    assert stops(FRESH, 10.0)[0] == 1.5
+    # 11.25 h (900 km at 80 km/h): the 10 h day, a reduced 9 h rest, 1.25 h -> 10.5 h of stops
+    assert stops(FRESH, 11.25)[0] == 10.5
 
 
 def _settings(objective, **kw):
@@ -88,29 +120,38 @@ def test_break_pay_is_in_the_cost_search():
     assert [g.use.lane.lane_id for g in res.legs] == ["AD"] and res.total_cost == 514.00
 
 
-def _random_case(seed):
+def _random_case(seed, rules="eu_561_2006"):
     rng = random.Random(seed)
     n = rng.randint(5, 9)
     depots = tuple(Depot(f"D{i}", "", 50 + rng.random() * 2, 4 + rng.random() * 4,
-                         rng.choice(["depot", "hub"]), 10.0, rng.choice([0.0, 0.25]))
+                         rng.choice(["depot", "hub"]), 10.0, rng.choice([0.0, 0.25, 3.0]))
                    for i in range(n))
     lanes = []
     for k in range(rng.randint(n + 2, 3 * n)):
         a, b = rng.sample(range(n), 2)
         hours = rng.choice([1.0, 2.5, 3.25, 4.0, 4.75, 5.5, 6.25])
+        if rules == "us_49cfr395":  # longer lanes, so the 11 h and 14 h limits bind
+            hours = rng.choice([2.5, 4.0, 5.5, 6.25, 7.5, 8.75])
         lanes.append(Lane(f"L{k}", depots[a].depot_id, depots[b].depot_id, "road", hours * 70, hours,
                           two_way=rng.random() < 0.7))
     rates = (RateCard("artic", "road", 1.0, 30.0, 24.0), RateCard("rigid", "road", 0.8, 30.0, 9.0))
     pairs = rng.sample([(a, b) for a in range(n) for b in range(n) if a != b], 4)
     ships = tuple(Shipment(f"S{i}", depots[a].depot_id, depots[b].depot_id, 5.0)
                   for i, (a, b) in enumerate(pairs))
-    return Model(_settings("time"), depots, tuple(lanes), rates, ships)
+    settings = Settings(objective="time", driving_rules=rules)
+    return Model(settings, depots, tuple(lanes), rates, ships)
 
 
 def oracle_elapsed(model, s):
     """Least elapsed hours (driving + handling + stops) from s.origin to s.destination on a
     (depot, vehicle, clock) graph expanded breadth-first here; networkx Dijkstra."""
     dep = {d.depot_id: d for d in model.depots}
+    us = model.settings.driving_rules == "us_49cfr395"
+    step = us_stops if us else stops
+
+    def fresh(depot):  # a rested driver, on duty for the loading at `depot` (US window)
+        return (0.0, 0.0, dep[depot].handling_hours) if us else FRESH
+
     out = {d: [] for d in dep}
     for ln in model.lanes:
         out[ln.from_depot].append((ln.to_depot, ln.drive_hours))
@@ -120,20 +161,20 @@ def oracle_elapsed(model, s):
     g = nx.DiGraph()
     todo = []
     for c in cards:
-        g.add_edge("src", (s.origin, c, (0.0, 0.0)), weight=dep[s.origin].handling_hours)
-        todo.append((s.origin, c, (0.0, 0.0)))
+        g.add_edge("src", (s.origin, c, fresh(s.origin)), weight=dep[s.origin].handling_hours)
+        todo.append((s.origin, c, fresh(s.origin)))
     seen = set(todo)
     while todo:
         u = todo.pop()
         d, c, clock = u
         nxt = []
         for v, hours in out[d]:
-            extra, clk = stops(clock, hours)
+            extra, clk = step(clock, hours)
             nxt.append(((v, c, clk), hours + extra))
         if dep[d].kind == "hub":  # change of vehicle: unload and load, a rested driver
             for c2 in cards:
                 if c2 != c:
-                    nxt.append(((d, c2, (0.0, 0.0)), 2 * dep[d].handling_hours))
+                    nxt.append(((d, c2, fresh(d)), 2 * dep[d].handling_hours))
         if d == s.destination:
             g.add_edge(u, "dst", weight=dep[d].handling_hours)
         for v, w in nxt:
@@ -148,9 +189,10 @@ def oracle_elapsed(model, s):
         return None
 
 
+@pytest.mark.parametrize("rules", ["eu_561_2006", "us_49cfr395"])
 @pytest.mark.parametrize("seed", range(25))
-def test_time_objective_matches_the_expanded_graph_oracle(seed):
-    model = _random_case(seed)
+def test_time_objective_matches_the_expanded_graph_oracle(seed, rules):
+    model = _random_case(seed, rules)
     results, _st, _p = route_all(model)
     for res in results:
         want = oracle_elapsed(model, res.shipment)
@@ -171,6 +213,27 @@ def test_the_random_cases_have_stops_and_crossdocks():
             stopped += bool(r.break_hours or r.rest_hours)
             changed += any(a.card.vehicle != b.card.vehicle for a, b in zip(r.legs, r.legs[1:]))
     assert stopped >= routed // 3 and changed >= 3, (routed, stopped, changed)
+
+
+def test_the_us_window_sends_a_loaded_long_run_over_a_crossdock():
+    # issue 12's case: 4 h loading + 11 h driving. Direct A -> D, 11 h: on duty 4 + 8 + 0.5 (break)
+    # + 1.5 = 14 h (395.3(a)(2)), 10 h off, 1.5 h -> 4 + 11 + 0.5 + 10 = 25.5 h elapsed.
+    # A -> H -> D, 5.5 + 5.5 h, a change of vehicle at hub H (0.5 h unloading + 0.5 h loading):
+    # each driver inside 14 h and 8 h -> 4 + 5.5 + 1.0 + 5.5 = 16.0 h. Without the window the
+    # direct lane would look better (4 + 11 + 0.5 = 15.5 h).
+    depots = (Depot("A", "A", 40.0, -90.0, "depot", 0.0, 4.0), Depot("H", "H", 40.0, -85.0, "hub", 10.0, 0.5),
+              Depot("D", "D", 40.0, -80.0))
+    lanes = (Lane("AD", "A", "D", "road", 850.0, 11.0), Lane("AH", "A", "H", "road", 430.0, 5.5),
+             Lane("HD", "H", "D", "road", 430.0, 5.5))
+    rates = (RateCard("tractor", "road", 1.0, 30.0, 20.0), RateCard("straight", "road", 0.9, 30.0, 9.0))
+    settings = Settings(objective="time", driving_rules="us_49cfr395")
+    (res,), _st, _p = route_all(Model(settings, depots, lanes, rates, (Shipment("S", "A", "D", 5.0),)))
+    assert [g.use.lane.lane_id for g in res.legs] == ["AH", "HD"]
+    assert res.objective_value == pytest.approx(16.0) and res.rest_hours == 0
+    direct = Model(settings, depots, lanes[:1], rates, (Shipment("S", "A", "D", 5.0),))
+    (res,), _st, _p = route_all(direct)
+    assert (res.break_hours, res.rest_hours) == (0.5, 10.0)
+    assert res.objective_value == pytest.approx(25.5)
 
 
 def test_label_cap_is_reported():

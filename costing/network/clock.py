@@ -3,14 +3,16 @@ since the last break and the day's driving, so the weight of a route includes th
 rests its driving calls for and the route found is optimal with them.
 
 How. The search core is unchanged: it runs on an implicit expanded network whose nodes are
-(state of the compact network, driving since the last break, driving today), made as the search
-first reaches them (`Arcs` loads rows lazily). An arc of the compact network from state u, read
-from clock c, leads to (v, c') where c' and the stops taken on the way come from
+(state of the compact network, the driving clock of `costing.price.rules`: driving since the
+last break, driving today, time on duty, today's limit, longer days and reduced rests used),
+made as the search first reaches them (`Arcs` loads rows lazily). An arc of the compact network
+from state u, read from clock c, leads to (v, c') where c' and the stops taken on the way come from
 `costing.price.rules.advance` (the same step the legs are priced with); its weight is the lane's
 weight plus the weight of those stops (`costing.network.build.stop_weight`: their hours for the
 time objective, their pay for cost, both for blended). A change of vehicle starts a rested driver
-(clock 0, 0), as the legs assume; non-road steps leave the clock alone (no stops off the road).
-The exits are joined to one sink node, the single exit of the core's "exit" mode.
+(`start_clock`, on duty for the loading there), as the legs assume; non-road steps leave the
+clock alone (no stops off the road). The exits are joined to one sink node, the single exit of
+the core's "exit" mode.
 
 What is exact. The expanded network's arc weights are non-negative and a route's weight is the
 sum of its lane, start, exit and transfer weights plus the weights of exactly the stops its legs
@@ -20,8 +22,8 @@ only when more driving follows). The straight-line bound of the compact network 
 stops only add weight.
 
 What is approximated (stated, not hidden). The stop model itself is the planning model of
-`costing.price.rules` (its docstring: one driver, breaks and rests taken as soon as due; weekly
-limits, extended days, reduced rests, split breaks and the US 14-hour window are not modelled);
+`costing.price.rules` (its docstring: one driver, stops as soon as due, longer days used when
+reached, reduced rests first; weekly limits and the EU 24-hour period are not modelled);
 the cost-time trade-offs and the distance and emissions objectives do not carry the clock (stops
 do not change distance or emissions; the trade-offs compare driving plus handling hours). The
 number of clock labels is capped (`cap`); a search that would pass it raises `ClockLimit` and the
@@ -33,7 +35,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping, Sequence
 
 from costing.network.search import Arcs, SearchResult, astar
-from costing.price.rules import DrivingRules, advance
+from costing.price.rules import DrivingRules, advance, start_clock
 
 
 class ClockLimit(Exception):
@@ -43,7 +45,7 @@ class ClockLimit(Exception):
 def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, object],
                 bound: Sequence[float] | None, rules: DrivingRules,
                 road: Callable[[int], bool], stop_weight: Callable[[int, float, float], object],
-                cap: int = 200_000) -> SearchResult:
+                cap: int = 200_000, on_duty: Callable[[int], float] = lambda state: 0.0) -> SearchResult:
     """Least-weight route of the compact network `cn` with the driving clock in the labels.
 
     Parameters
@@ -61,6 +63,8 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
         The weight the stops on one step add.
     cap : int
         Most labels (expanded nodes).
+    on_duty : callable state -> hours
+        Hours on duty (loading) before a vehicle run starting at that state drives.
 
     Returns
     -------
@@ -75,13 +79,13 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
     """
     sink = cap
     n = cap + 1
-    keys: list[tuple[int, float, float]] = []
-    ids: dict[tuple[int, float, float], int] = {}
+    keys: list[tuple] = []  # (state, *clock)
+    ids: dict[tuple, int] = {}
     heads: list = [None] * n
     weights: list = [None] * n
     edges: list = [None] * n
 
-    def node(key: tuple[int, float, float]) -> int:
+    def node(key: tuple) -> int:
         x = ids.get(key)
         if x is None:
             if len(keys) >= cap:
@@ -94,20 +98,19 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
         if x == sink:
             heads[x], weights[x], edges[x] = (), (), ()
             return ()
-        u, since_break, today = keys[x]
+        u, clock = keys[x][0], keys[x][1:]
         hs, ws, es = [], [], []
         for v, w, e in cn.adj[u]:
             step = cn.steps[e]
             if step.transfer is not None:
-                clock = (0.0, 0.0)  # a new vehicle run: a rested driver
+                after = start_clock(rules, on_duty(v))  # a new vehicle run: a rested driver
             elif road(step.card) and step.use.hours > 0:
-                brk, rest, sb, td = advance(since_break, today, step.use.hours, rules)
-                clock = (sb, td)
+                brk, rest, after = advance(clock, step.use.hours, rules)
                 if brk or rest:
                     w = w + stop_weight(step.card, brk, rest)
             else:
-                clock = (since_break, today)
-            hs.append(node((v, *clock)))
+                after = clock
+            hs.append(node((v, *after)))
             ws.append(w)
             es.append(e)
         if u in exits:
@@ -123,7 +126,7 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
     def h(x: int) -> float:
         return 0.0 if x == sink or bound is None else bound[keys[x][0]]
 
-    starts = [(node((s, 0.0, 0.0)), g0) for s, g0 in sources]
+    starts = [(node((s, *start_clock(rules, on_duty(s)))), g0) for s, g0 in sources]
     res = astar(Arcs(n, heads, weights, load, edge), starts, {sink: 0.0}, h)
     if not res.found:
         return res

@@ -223,7 +223,8 @@ class Router:
             return clock_astar(cn, sources, exits, cn.bound(cn.index[s.destination]), self.rules,
                                lambda k: profile.cards[k][1] == "road",
                                lambda k, b, r: stop_weight(model, profile, k, b, r, places),
-                               cap=max(20_000, 40 * len(cn.adj)))
+                               cap=max(20_000, 40 * len(cn.adj)),
+                               on_duty=lambda state: model.depot(cn.depot_of(state)).handling_hours)
         except ClockLimit:
             self.clock_fallbacks.add(s.shipment_id)
             return astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))

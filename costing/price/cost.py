@@ -222,7 +222,8 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     legs: list[Leg] = []
     for card, uses in runs:
         n = vehicles_needed(shipment.weight_t, card.payload_t)
-        stops = (stops_for_run([u.hours for u in uses], rules) if rules and card.mode == "road"
+        on_duty = depots[uses[0].from_depot].handling_hours  # loading before the run's driving
+        stops = (stops_for_run([u.hours for u in uses], rules, on_duty) if rules and card.mode == "road"
                  else [(0.0, 0.0)] * len(uses))
         surcharge_rate = fuel_surcharge_rate(card, settings)
         for i, use in enumerate(uses):

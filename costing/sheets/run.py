@@ -121,8 +121,15 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         rows += [
             ("driving rules",
              f"{rules.name}: break of {rules.break_hours:g} h after {rules.break_after:g} h driving; "
-             f"daily rest of {rules.daily_rest:g} h after {rules.daily_driving:g} h driving "
-             "(road legs; one driver per vehicle)"),
+             f"daily rest of {rules.daily_rest:g} h after {rules.daily_driving:g} h driving"
+             + (f", {rules.extended_driving:g} h on at most {rules.extended_days} days"
+                if rules.extended_driving else "")
+             + (f"; rests of {rules.reduced_rest:g} h at most {rules.reduced_rests} times"
+                if rules.reduced_rest else "")
+             + (f"; no driving after {rules.duty_window:g} h on duty (loading, driving and breaks "
+                "count)" if rules.duty_window else "")
+             + " (road legs; one driver per vehicle, rested at each change of vehicle; stops as "
+               "soon as due; weekly limits not modelled)"),
             ("driving rules: source", rules.source),
             ("driving rules: route choice",
              "the search carries the driving clock (driving since the last break, driving today): "
