@@ -21,6 +21,10 @@ show, so the core's proof (costing.network.search) makes the route optimal under
 only when more driving follows). The straight-line bound of the compact network stays consistent:
 stops only add weight.
 
+The caller (costing.plan.route) first runs the plain search: stops only add weight, so its
+optimum is a lower bound, and when that route needs no stop it is optimal with the clock too and
+this search is not needed.
+
 What is approximated (stated, not hidden). The stop model itself is the planning model of
 `costing.price.rules` (its docstring: one driver, stops as soon as due, longer days used when
 reached, reduced rests first; weekly limits and the EU 24-hour period are not modelled);

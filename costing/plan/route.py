@@ -101,6 +101,9 @@ BATCH_MIN = 3
 # from this many depots on, a one-card profile is searched by the array engine (landmark bound,
 # compiled one-to-all searches) instead of the pure-Python search
 ENGINE_MIN_DEPOTS = 20_000
+# the driving clock is carried in the search of networks up to this many (depot, card) states;
+# larger ones choose on driving hours and add the stops after (a note says so)
+CLOCK_MAX_STATES = 50_000
 ENGINE_LANDMARKS = 24  # 16 settled 4.5-5.5 % of Dijkstra's nodes at 100k, 24 about 3.6 %
 
 
@@ -211,7 +214,8 @@ class Router:
         st = self.model.settings
         return (self.rules is not None and st.driving_clock_in_search == "yes"
                 and (_uses(profile.objective, "cost") or _uses(profile.objective, "hours"))
-                and any(m == "road" for _v, m, _n in profile.cards))
+                and any(m == "road" for _v, m, _n in profile.cards)
+                and len(self.model.depots) * len(profile.cards) <= CLOCK_MAX_STATES)
 
     def _clock_search(self, s: Shipment, profile: Profile, cn: CompactNetwork, sources, exits):
         """The clock-labelled search of `s`; on too many labels, the plain search (noted)."""
@@ -219,15 +223,46 @@ class Router:
         from costing.network.clock import ClockLimit, clock_astar
 
         model, places = self.model, self.places
+        memo: dict = {}
+
+        def stops(k: int, b: float, r: float):
+            w = memo.get((k, b, r))
+            if w is None:
+                w = memo[(k, b, r)] = stop_weight(model, profile, k, b, r, places)
+            return w
+
+        # exact shortcut: stops only add weight, so the plain search's optimum is a lower bound;
+        # when its route needs no stop, its weight with the clock is that bound: it is optimal
+        plain = astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
+        if not plain.found or self._stop_free(profile, cn, plain):
+            return plain
         try:
             return clock_astar(cn, sources, exits, cn.bound(cn.index[s.destination]), self.rules,
-                               lambda k: profile.cards[k][1] == "road",
-                               lambda k, b, r: stop_weight(model, profile, k, b, r, places),
+                               lambda k: profile.cards[k][1] == "road", stops,
                                cap=max(20_000, 40 * len(cn.adj)),
                                on_duty=lambda state: model.depot(cn.depot_of(state)).handling_hours)
         except ClockLimit:
             self.clock_fallbacks.add(s.shipment_id)
             return astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
+
+    def _stop_free(self, profile: Profile, cn: CompactNetwork, res) -> bool:
+        """Whether the route `res` needs no break or rest under the driving rules (its runs
+        clocked as the legs are: costing.price.rules.advance from a rested driver)."""
+        from costing.price.rules import advance, start_clock
+
+        def loading(state: int) -> float:
+            return self.model.depot(cn.depot_of(state)).handling_hours
+
+        clock = start_clock(self.rules, loading(res.nodes[0]))
+        for i, e in enumerate(res.edges):
+            step = cn.steps[e]
+            if step.transfer is not None:
+                clock = start_clock(self.rules, loading(res.nodes[i + 1]))
+            elif profile.cards[step.card][1] == "road":
+                brk, rest, clock = advance(clock, step.use.hours, self.rules)
+                if brk or rest:
+                    return False
+        return True
 
     def pool(self, s: Shipment) -> list[RateCard]:
         """The rate cards a shipment may use: its named vehicle's, or every card."""

@@ -134,8 +134,9 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
             ("driving rules: route choice",
              "the search carries the driving clock (driving since the last break, driving today): "
              "the time, cost and blended objectives choose routes with their breaks and rests and "
-             "their pay, exact under the stop model above; distance, emissions and the trade-offs "
-             "do not carry it. Planning estimate, not compliance advice."
+             "their pay, exact under the stop model above (on networks of up to 50,000 depot and "
+             "vehicle states; larger ones choose on driving hours); distance, emissions and the "
+             "trade-offs do not carry it. Planning estimate, not compliance advice."
              if s.driving_clock_in_search == "yes" else
              "routes are chosen on driving and handling hours; breaks and rests are then added to "
              "the chosen route and costed"),
