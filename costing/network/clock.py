@@ -17,9 +17,9 @@ the core's "exit" mode.
 What is exact. The expanded network's arc weights are non-negative and a route's weight is the
 sum of its lane, start, exit and transfer weights plus the weights of exactly the stops its legs
 show, so the core's proof (costing.network.search) makes the route optimal under the stop model of
-`costing.price.rules` (a break when due, a daily rest when the day's driving is reached, taken
-only when more driving follows). The straight-line bound of the compact network stays consistent:
-stops only add weight.
+`costing.price.rules`. Any bound consistent for the compact network's weights stays consistent
+here, as stops only add weight: the caller passes the least remaining weight without stops (a
+reverse search from the exits), much closer than the straight line.
 
 The caller (costing.plan.route) first runs the plain search: stops only add weight, so its
 optimum is a lower bound, and when that route needs no stop it is optimal with the clock too and

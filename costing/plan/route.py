@@ -21,7 +21,7 @@ from costing.network.build import (
     explain_no_route,
     start_weight,
 )
-from costing.network.search import astar
+from costing.network.search import astar, dijkstra_all
 from costing.objectives import objective
 from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
 from costing.price.rates import vehicles_needed
@@ -124,6 +124,7 @@ class Router:
         self._engines: dict = {}  # profile -> costing.network.engine.SearchEngine
         self.rules = rules_for(model.settings)  # driving-time rules, or None
         self.clock_fallbacks: set[str] = set()  # shipments searched without the clock (too many labels)
+        self._reverse: dict = {}  # profile -> reversed rows of its compact network (clock bounds)
 
     def network(self, profile: Profile) -> CompactNetwork:
         """The compact network of `profile`, built once and cached (its build time is recorded)."""
@@ -236,8 +237,18 @@ class Router:
         plain = astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
         if not plain.found or self._stop_free(profile, cn, plain):
             return plain
+        # the bound: the least remaining weight without stops (a reverse search from the exits);
+        # stops only add weight, so it is consistent for the clock labels too, and much closer
+        # than the straight line
+        rev = self._reverse.get(profile)
+        if rev is None:
+            rev = self._reverse[profile] = [[] for _ in cn.adj]
+            for u, row in enumerate(cn.adj):
+                for v, w, e in row:
+                    rev[v].append((u, w, e))
+        remaining = dijkstra_all(rev, list(exits.items()))
         try:
-            return clock_astar(cn, sources, exits, cn.bound(cn.index[s.destination]), self.rules,
+            return clock_astar(cn, sources, exits, remaining, self.rules,
                                lambda k: profile.cards[k][1] == "road", stops,
                                cap=max(20_000, 40 * len(cn.adj)),
                                on_duty=lambda state: model.depot(cn.depot_of(state)).handling_hours)
