@@ -398,7 +398,8 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         extra = f" ({unrouted} not routed: see the note on the Summary sheet)" if unrouted else ""
         scen = f"; {len(scenario_runs)} scenario(s) on the Scenario comparison sheet" if scenario_runs else ""
         print(f"{routed} of {len(results)} shipments routed{extra}; total {total:,.2f} "
-              f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s")
+              f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s; "
+              "hours and CO2e are planning estimates, not legal or compliance advice")
     return EXIT_OK
 
 

@@ -135,8 +135,8 @@ _LANES = [
     ("L041", "D17", "D03", "road", 90.3, 1.2, 27, 0, True, None, True, True),
     ("L042", "D03", "D07", "road", 71.7, 1.12, 22, 0, True, None, True, True),
     ("L043", "D10", "D22", "road", 50.0, 0.7, 10, 0, True, None, True, True),
-    # under the Scheldt by tunnel: no dangerous goods
-    ("L044", "D10", "D21", "road", 59.0, 0.82, 12, 0, True, None, False, True),
+    # under the Scheldt by tunnel: ADR tunnel category D (see _LANE_EXTRA), closed to S004's load
+    ("L044", "D10", "D21", "road", 59.0, 0.82, 12, 0, True, None, True, True),
     ("L045", "D21", "D22", "road", 61.7, 0.86, 12, 0, True, None, True, True),
     ("L046", "D22", "D24", "road", 75.6, 1.01, 15, 0, True, None, True, True),
     ("L047", "D24", "D23", "road", 49.7, 0.71, 10, 0, True, None, True, True),
@@ -178,19 +178,22 @@ _LANES = [
 ]
 
 _RATE_COLUMNS = ("vehicle", "mode", "per_km", "per_hour", "per_trip", "payload_t", "fuel_l_per_100km",
-                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t", "pallet_places",
-                 "volume_m3")
-# Invented but plausible rates in EUR. Road fuel is diesel at 2.51 kg CO2e per litre. The per_km
-# rates include fuel at 1.45 per litre; the Settings price of 1.62 adds a fuel surcharge.
-# tare_t is the empty weight, checked with the load against lane weight limits (L028, L031).
-# rail_wagon fuel is one wagon's share of a diesel-hauled train (about 8.6 litres per 100 km),
-# so rail emissions and the fuel surcharge are computed on the same diesel basis as road.
+                 "co2e_kg_per_litre", "min_charge", "fuel_included_at", "tare_t",
+                 "fuel_empty_l_per_100km", "wtw_co2e_kg_per_litre", "pallet_places", "volume_m3")
+# Invented but plausible rates in EUR. Road fuel is diesel: 2.57082 kg CO2e per litre tank-to-wheel
+# and 3.19747 well-to-wheel (UK DESNZ 2025, diesel with its average biofuel blend). Fuel use runs
+# from empty to fully laden as in the DEFRA 2007 load-dependent table (Hansard, 4 June 2007):
+# articulated 31.1 to 44.8 l/100 km, rigid 23.6 to 34.0; the van's 9.0 to 10.5 is invented. The
+# per_km rates include fuel at 1.45 per litre; the Settings price of 1.62 adds a fuel surcharge
+# (on fuel_l_per_100km). tare_t is the empty weight, checked with the load against lane weight
+# limits (L028, L031). The rail wagon has no fuel figures of its own: its emissions use the rail
+# default intensity (see the Run sheet), and its rate includes fuel (no surcharge).
 # Pallet places and volumes: a 13.6 m curtainsider, a 7.5 m rigid box, a 3.5 t panel van.
 _RATES = [
-    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 31.0, 2.51, 180.0, 1.45, 14.5, 33, 90),
-    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 22.0, 2.51, 120.0, 1.45, 8.5, 15, 40),
-    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.51, 65.0, 1.45, 2.3, 3, 12),
-    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, 8.6, 2.51, 250.0, 1.45, 23.0, None, None),
+    ("artic_40t", "road", 1.05, 38.0, 45.0, 24.5, 44.8, 2.57082, 180.0, 1.45, 14.5, 31.1, 3.19747, 33, 90),
+    ("rigid_18t", "road", 0.82, 34.0, 35.0, 9.0, 34.0, 2.57082, 120.0, 1.45, 8.5, 23.6, 3.19747, 15, 40),
+    ("van_3t5", "road", 0.48, 30.0, 20.0, 1.1, 10.5, 2.57082, 65.0, 1.45, 2.3, 9.0, 3.19747, 3, 12),
+    ("rail_wagon", "rail", 0.55, 20.0, 120.0, 60.0, None, None, 250.0, None, 23.0, None, None, None, None),
 ]
 
 _SHIPMENT_COLUMNS = ("shipment_id", "origin", "destination", "weight_t", "vehicle", "objective",
@@ -200,7 +203,8 @@ _SHIPMENTS = [
     ("S002", "D02", "D10", 6.5, None, None, False, "Saltmarrow Seafood"),
     # dangerous goods: must avoid the tunnel lane L005
     ("S003", "D09", "D12", 8.0, None, None, True, "Kettlewick Chemicals"),
-    # dangerous goods: must avoid the tunnel lane L044
+    # dangerous goods with ADR tunnel code D/E (a tanker: D applies): must avoid the category D
+    # tunnel of lane L044 (see _SHIPMENT_EXTRA)
     ("S004", "D10", "D21", 14.0, None, None, True, "Velvetash Coatings"),
     # heavier than one artic: 38 t over 2 artics
     ("S005", "D10", "D03", 38.0, "artic_40t", None, False, "Umberfield Steel"),
@@ -267,13 +271,18 @@ _SCENARIOS = [
 ]
 
 
+# Columns added with issue 12, per row id: ADR tunnel categories on lanes, tunnel codes on shipments.
+_LANE_EXTRA = {"L044": {"tunnel_category": "D"}}
+_SHIPMENT_EXTRA = {"S004": {"tunnel_code": "D/E"}}
+
+
 def _rows(columns: tuple[str, ...], table: list[tuple]) -> list[dict]:
     return [dict(zip(columns, row, strict=True)) for row in table]
 
 
 # The week: Monday 7 to Wednesday 9 December 2026. Shipments ready on the same day may share
 # vehicles; a blank ready_date is Monday (the first day). S045, the long haul, is due the same
-# day and arrives late; the others are due within two or three days.
+# day (it makes it with little to spare); the others are due within two or three days.
 _MONDAY = _dt.date(2026, 12, 7)
 _READY = {"S001": 1, "S016": 1, "S026": 1, "S038": 1, "S044": 1, "S008": 2, "S010": 2, "S027": 2}
 _DUE = {"S045": 0, "S002": 1, "S017": 1, "S034": 2, "S041": 2, "S022": 1, "S015": 1}
@@ -354,14 +363,18 @@ _FUEL_BANDS = [("Marrowby Groupage", 1.4, 1.6, 9.0), ("Marrowby Groupage", 1.6, 
 _CURRENCIES = [("GBP", 1.16, _dt.date(2026, 12, 4))]
 
 
+def _with_extra(rows: list[dict], key: str, extra: dict[str, dict]) -> list[dict]:
+    return [{**r, **extra.get(r[key], {})} for r in rows]
+
+
 def example_data() -> dict[str, list[dict]]:
     """The demo workbook's rows: sheet name -> list of row dicts keyed by column name."""
     return {
         "Settings": _rows(("setting", "value", "note"), _SETTINGS),
         "Depots": _rows(_DEPOT_COLUMNS, _DEPOTS),
-        "Lanes": _rows(_LANE_COLUMNS, _LANES),
+        "Lanes": _with_extra(_rows(_LANE_COLUMNS, _LANES), "lane_id", _LANE_EXTRA),
         "Rates": _rows(_RATE_COLUMNS, _RATES),
-        "Shipments": _shipment_rows(),
+        "Shipments": _with_extra(_shipment_rows(), "shipment_id", _SHIPMENT_EXTRA),
         "Scenarios": _rows(_SCENARIO_COLUMNS, _SCENARIOS),
         "Zones": [{"depot_id": d, "zone": z} for z, depots in _ZONES.items() for d in depots],
         "Tariffs": _tariff_rows(),

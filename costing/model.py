@@ -58,6 +58,9 @@ class Lane:
     hazmat_allowed: bool = True
     open: bool = True
     row: int = 0
+    toll_medium: float | None = None  # toll of a medium vehicle (over 3.5 t to 12 t); None: toll
+    toll_light: float | None = None  # toll of a light vehicle (up to 3.5 t); None: 0 (exempt)
+    tunnel_category: str | None = None  # ADR tunnel category A to E; None: no tunnel
 
 
 @dataclass(frozen=True)
@@ -78,6 +81,9 @@ class RateCard:
     volume_m3: float | None = None  # load volume of one vehicle, m3 (None: no limit)
     currency: str | None = None  # the currency the card was given in (None: the run's)
     fx_rate: float = 1.0  # run currency per unit of `currency`: the money fields are converted
+    fuel_empty_l_per_100km: float | None = None  # fuel use running empty (then fuel_l_per_100km is laden)
+    wtw_co2e_kg_per_litre: float | None = None  # well-to-wheel factor; None: TTW + diesel well-to-tank
+    toll_class: str | None = None  # light | medium | heavy; None: from tare_t + payload_t
 
 
 @dataclass(frozen=True)
@@ -98,6 +104,7 @@ class Shipment:
     loading_metres: float | None = None  # metres of trailer floor, for carrier tariffs
     quoted_price: float | None = None  # revenue, run currency
     invoiced: float | None = None  # the invoice to check against the computed cost, run currency
+    tunnel_code: str | None = None  # ADR tunnel restriction code, e.g. D/E; implies hazmat
 
 
 @dataclass(frozen=True)
@@ -122,6 +129,7 @@ class Settings:
     return_empty: str = "no"
     volumetric_kg_per_m3: float = 333.0  # chargeable kg per m3 (carrier tariffs)
     kg_per_loading_metre: float = 1750.0  # chargeable kg per loading metre (carrier tariffs)
+    driving_clock_in_search: str = "yes"
 
 
 @dataclass(frozen=True)
@@ -203,9 +211,10 @@ class Model:
 
     @cached_property
     def restricted_lanes(self) -> tuple[Lane, ...]:
-        """Lanes with a hazmat ban or a weight limit: usually few, so each shipment's profile
-        looks at these only, not at every lane."""
-        return tuple(ln for ln in self.lanes if not ln.hazmat_allowed or ln.max_weight_t is not None)
+        """Lanes with a hazmat ban, a weight limit or a restricted ADR tunnel category: usually few,
+        so each shipment's profile looks at these only, not at every lane."""
+        return tuple(ln for ln in self.lanes if not ln.hazmat_allowed or ln.max_weight_t is not None
+                     or ln.tunnel_category not in (None, "A"))
 
     def vehicles(self) -> list[str]:
         """Vehicle names of the rate cards, each once, in the order first seen."""

@@ -15,7 +15,8 @@ emissions  kg CO2e                         kg CO2e
 blended    cost + value_of_time x hours    the run's currency (incl. value of time)
 =========  ==============================  ========================================
 
-Quantities: ``cost`` (money, rounded as the legs are), ``hours`` (driving and handling),
+Quantities: ``cost`` (money, rounded as the legs are), ``hours`` (driving and handling, and
+breaks and rests when driving rules are on with the driving clock in the search),
 ``km`` and ``co2e`` (kg CO2e). A term's coefficient is 1 or a named Setting, so
 ``blended = 1 x cost + value_of_time_per_hour x hours``.
 

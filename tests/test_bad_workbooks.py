@@ -517,6 +517,11 @@ CASES: list[Case] = [
     Case("huge_integer_in_xml", _sentinel("Rates", "vehicle", "truck", "per_trip", 987654.25,
                                           "1" + "0" * 400),
          "Rates!E2", ("far too large (401 digits)",)),
+    # ---- ADR tunnel restrictions (issue 12): codes per ADR 8.6, categories A to E (1.9.5) [V-2ND]
+    Case("tunnel_code_f", lambda b: b.data(_set("Shipments", "shipment_id", "S1", "tunnel_code", "F")),
+         "Shipments!P2", ("not an ADR tunnel restriction code", "D/E")),
+    Case("tunnel_category_f", lambda b: b.data(_set("Lanes", "lane_id", "L1", "tunnel_category", "F")),
+         "Lanes!O2", ("tunnel_category 'F' is not one of A, B, C, D, E",)),
     # ---- numbers out of range
     Case("negative_distance", lambda b: b.data(_set("Lanes", "lane_id", "L1", "distance_km", -80)),
          "Lanes!E2", ("negative", "at least 0")),

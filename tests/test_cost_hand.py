@@ -30,30 +30,40 @@ def test_hand_worked_costs(make_input):
     # S1: 10 t, one truck (10 / 24 -> 1). Direct lane L3: 190 km, 2.6 h.
     #   km   190 x 1.10 = 209.00;  hours 2.6 x 35 = 91.00;  toll 0;  fixed 0
     #   handling: start A 20.00, end C 10.00;  per trip 40.00      -> 370.00
-    # Via hub B (L1 + L2):
-    #   L1: 80 x 1.10 = 88.00, 1.2 x 35 = 42.00, toll 5.00, hub B handling 40.00 -> 175.00
+    # Through hub B (L1 + L2), the truck driving through: nothing is handled at B
+    #   L1: 80 x 1.10 = 88.00, 1.2 x 35 = 42.00, toll 5.00                        -> 135.00
     #   L2: 85 x 1.10 = 93.50, 1.3 x 35 = 45.50                                  -> 139.00
-    #   + start 20 + end 10 + trip 40                                            -> 384.00
-    # So the least-cost route is the direct lane at 370.00.
-    assert [leg.use.lane.lane_id for leg in s1.legs] == ["L3"]
+    #   + start 20 + end 10 + trip 40                                            -> 344.00
+    # So the least-cost route runs through the hub at 344.00 (before issue 12 the hub charged
+    # 40.00 for the truck driving through, 384.00, and the direct lane won).
+    assert [leg.use.lane.lane_id for leg in s1.legs] == ["L1", "L2"]
     assert s1.vehicles == 1
     leg = s1.legs[0]
-    assert (leg.km_cost, leg.hour_cost, leg.toll_cost, leg.fixed_cost) == (209.00, 91.00, 0.0, 0.0)
-    assert (leg.start_handling_cost, leg.end_handling_cost, leg.trip_cost) == (20.00, 10.00, 40.00)
-    assert s1.subtotal == 370.00
+    assert (leg.km_cost, leg.hour_cost, leg.toll_cost, leg.fixed_cost) == (88.00, 42.00, 5.00, 0.0)
+    assert (leg.start_handling_cost, leg.end_handling_cost, leg.trip_cost) == (20.00, 0.0, 40.00)
+    assert leg.handling_hours == 0.5  # at A only: B is driven through
+    assert (s1.legs[1].start_handling_cost, s1.legs[1].end_handling_cost) == (0.0, 10.00)
+    assert s1.subtotal == 344.00
     assert s1.min_charge == 300.00 and s1.min_charge_uplift == 0.0
-    assert s1.total_cost == 370.00
-    # co2e: 190 km x 30 l/100 km / 100 x 2.5 kg/l = 142.5 kg
-    assert s1.co2e_kg == pytest.approx(142.5)
+    assert s1.total_cost == 344.00
+    assert s1.distance_km == 165
+    # co2e tank-to-wheel: 165 km x 30 l/100 km / 100 x 2.5 kg/l = 123.75 kg; well-to-wheel adds the
+    # well-to-tank of diesel, 0.62665 kg CO2e/l (UK DESNZ 2025, [V-2ND] in references.md 4.1):
+    # 49.5 l x 3.12665 = 154.769175 kg; tonne-km 10 x 165 = 1650
+    assert s1.co2e_ttw_kg == pytest.approx(123.75)
+    assert s1.co2e_kg == pytest.approx(154.769175)
+    assert s1.tonne_km == pytest.approx(1650.0)
+    assert s1.co2e_g_per_tkm == pytest.approx(154.769175 * 1000 / 1650)
 
     s2 = res["S2"]
     # S2: 50 t on 24 t payloads -> ceil(2.083) = 3 trucks.
     #   direct: 3 x 190 x 1.1 = 627.00; 3 x 2.6 x 35 = 273.00; handling 3 x 20 + 3 x 10 = 90.00;
     #           trips 3 x 40 = 120.00                                         -> 1110.00
-    #   via B:  264.00 + 126.00 + 15.00 + 120.00 + 280.50 + 136.50 + 90 + 120 -> 1152.00
+    #   via B:  264.00 + 126.00 + 15.00 + 280.50 + 136.50 + 90 + 120           -> 1032.00
+    #           (before issue 12 also 3 x 40 = 120.00 at B for driving through: 1152.00)
     assert s2.vehicles == 3
-    assert [leg.use.lane.lane_id for leg in s2.legs] == ["L3"]
-    assert s2.total_cost == 1110.00
+    assert [leg.use.lane.lane_id for leg in s2.legs] == ["L1", "L2"]
+    assert s2.total_cost == 1032.00
     assert any("split over 3 vehicles" in p.message and p.cell == "D3" for p in problems)
 
     # S3: the only lane into D (L4) is closed.
@@ -66,9 +76,11 @@ def test_objectives_pick_different_routes(make_input):
     res, _ = _run(make_input(), "distance")
     assert [leg.use.lane.lane_id for leg in res["S1"].legs] == ["L1", "L2"]
     assert res["S1"].distance_km == 165
-    # time: direct 2.6 h (+ 0.5 start handling) vs 1.2 + 1.0 (hub) + 1.3 = 3.5 h -> direct
+    # time: direct 2.6 h vs 1.2 + 1.3 = 2.5 h through hub B (no handling hour there: nothing is
+    # handled) -> via B; with a cross-dock at B (a change of vehicle) it would pay B's hour twice
     res, _ = _run(make_input(), "time")
-    assert [leg.use.lane.lane_id for leg in res["S1"].legs] == ["L3"]
+    assert [leg.use.lane.lane_id for leg in res["S1"].legs] == ["L1", "L2"]
+    assert res["S1"].objective_value == pytest.approx(2.5 + 0.5)  # + A's handling hour
 
 
 def test_min_charge_uplift(make_input):
@@ -78,8 +90,8 @@ def test_min_charge_uplift(make_input):
     data["Rates"][0]["min_charge"] = 500
     res, _ = _run(make_input(data))
     s1 = res["S1"]
-    # subtotal 370.00 (above) is under the 500.00 minimum: uplift 130.00, total 500.00
-    assert s1.subtotal == 370.00 and s1.min_charge_uplift == 130.00 and s1.total_cost == 500.00
+    # subtotal 344.00 (above) is under the 500.00 minimum: uplift 156.00, total 500.00
+    assert s1.subtotal == 344.00 and s1.min_charge_uplift == 156.00 and s1.total_cost == 500.00
 
 
 def _sphere_km(lat1: float, lon1: float, lat2: float, lon2: float) -> float:

@@ -159,7 +159,7 @@ def test_every_formula_is_ours_and_input_text_stays_text(cli, make_input, tmp_pa
     code, _, err = cli("run", inp, "-o", str(out))
     assert code == 0, err
     # our formulas use only these functions, sheet and cell references, numbers and operators
-    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUNDUP|ROUND|SUM|COUNT|IF|OR|MAX|N|Legs!|Summary!"
+    token = re.compile(r"SUMPRODUCT|SUMIFS|COUNTIF|ROUNDUP|ROUND|SUM|COUNT|IF|OR|MAX|MIN|N|Legs!|Summary!"
                        r"|'Vehicle runs'!|'Carrier charges'!"
                        r'|\$?[A-Z]{1,3}\$?\d+|\d+(\.\d+)?'
                        r'|[-+*/(),:=<>]|""|&quot;&quot;|&quot;fuel&quot;|"fuel"'

@@ -115,6 +115,9 @@ def _scenario_data():
     data = base_data()
     data["Settings"].append({"setting": "fuel_price_per_litre", "value": 1.50})
     data["Rates"][0].update({"fuel_included_at": 1.50})
+    # a toll of 50 on L1 keeps the direct lane L3 the cheaper route (a truck driving through hub B
+    # pays no handling there, so with the base toll of 5 A > B > C would already win)
+    data["Lanes"][0]["toll"] = 50
     data["Scenarios"] = [
         {"scenario": "fuel_up", "sheet": "Settings", "key": "fuel_price_per_litre", "column": "value",
          "change": "+12%"},
@@ -140,11 +143,11 @@ def test_scenarios_end_to_end(cli, make_input, tmp_path):
     assert rows["fuel_up"][fuel] == pytest.approx(41.04)
     assert rows["fuel_up"][delta] == pytest.approx(41.04)
     assert rows["fuel_up"][rerouted] == 0
-    # L3 closed: both shipments go A > B > C. S1: 384.00 instead of 370.00 (test_cost_hand.py);
-    # S2: 1152.00 instead of 1110.00 -> +56.00
-    assert rows["L3_closed"][delta] == pytest.approx(56.00)
+    # L3 closed: both shipments go A > B > C. S1: 344.00 (test_cost_hand.py) + toll 45 more = 389.00
+    # instead of 370.00; S2: 1032.00 + 3 x 45 = 1167.00 instead of 1110.00 -> +19 + 57 = +76.00
+    assert rows["L3_closed"][delta] == pytest.approx(76.00)
     assert rows["L3_closed"][rerouted] == 2
-    assert rows["L3_closed"][total] == pytest.approx(rows["base"][total] + 56.00)
+    assert rows["L3_closed"][total] == pytest.approx(rows["base"][total] + 76.00)
 
 
 def test_lane_usage_and_pictures_present(cli, tmp_path, monkeypatch):

@@ -46,12 +46,17 @@ def test_road_rail_road_beats_road():
     s1 = res["S1"]
     # Road all the way: 640 x 1.2 = 768 + 8.5 x 40 = 340 + trip 50 + handling A 20 + B 20 = 1198.
     # Road-rail-road: truck A-T1 36 + 20 + trip 50 + handling A 20             = 126
-    #   change at T1: handling 80 + wagon trip 100; rail 300 + 10 x 15 = 150    = 630
-    #   change at T2: handling 80 + truck trip 50; road 36 + 20; handling B 20  = 206
-    #   total                                                                    = 962
+    #   change at T1: truck unloaded 80, wagon loaded 80 + wagon trip 100;
+    #                 rail 300 + 10 x 15 = 150                                   = 710
+    #   change at T2: wagon unloaded 80, truck loaded 80 + truck trip 50;
+    #                 road 36 + 20; handling B 20                                = 286
+    #   total                                                                    = 1122
+    # (handling per vehicle at both ends of each vehicle run: each unit lifted off and on)
     assert [leg.use.lane.lane_id for leg in s1.legs] == ["R1", "X1", "R2"]
     assert [leg.card.vehicle for leg in s1.legs] == ["truck", "wagon", "truck"]
-    assert s1.total_cost == 962.00
+    assert [(leg.start_handling_cost, leg.end_handling_cost) for leg in s1.legs] == [
+        (20.0, 80.0), (80.0, 80.0), (80.0, 20.0)]
+    assert s1.total_cost == 1122.00
     assert "intermodal" in s1.message
     # the change happens only at terminals and ports: at plain depots the truck drives through
     depots, lanes = corridor("depot")
@@ -110,7 +115,7 @@ def oracle_cost(model: Model, s: Shipment) -> float | None:
         key = (card.vehicle, card.mode)
         add("src", (s.origin, key), r2(n * dep[s.origin].handling_cost) + r2(n * card.per_trip))
         d = dep[s.destination]
-        add((s.destination, key), "dst", 0.0 if d.kind == "hub" else r2(n * d.handling_cost))
+        add((s.destination, key), "dst", r2(n * d.handling_cost))  # unloading, at a hub too
         for lane in model.lanes:
             if not lane.open or lane.mode != card.mode:
                 continue
@@ -119,17 +124,17 @@ def oracle_cost(model: Model, s: Shipment) -> float | None:
             for a, b in ends:
                 w = (r2(n * lane.distance_km * card.per_km) + r2(n * lane.drive_hours * card.per_hour)
                      + r2(n * lane.toll) + r2(n * lane.fixed_cost))
-                if dep[b].kind == "hub":
-                    w += r2(n * dep[b].handling_cost)
-                add((a, key), (b, key), w)
+                add((a, key), (b, key), w)  # driving through a hub: no handling
         for other in model.rates:
-            if other.mode == card.mode:
+            if other is card:
                 continue
             m = n_of(other)
             for d in model.depots:
-                if d.kind in ("terminal", "port"):
+                # another mode at a terminal or port; another vehicle of the same mode at a hub
+                if (d.kind in ("terminal", "port")) == (other.mode != card.mode) and \
+                        d.kind in ("terminal", "port", "hub"):
                     add((d.depot_id, key), (d.depot_id, (other.vehicle, other.mode)),
-                        r2(m * d.handling_cost) + r2(m * other.per_trip))
+                        r2(n * d.handling_cost) + r2(m * d.handling_cost) + r2(m * other.per_trip))
     try:
         return nx.dijkstra_path_length(g, "src", "dst")
     except (nx.NetworkXNoPath, nx.NodeNotFound):
@@ -148,11 +153,12 @@ def test_intermodal_against_expanded_graph_oracle(seed):
         else:
             assert got.status == "routed"
             assert got.subtotal == pytest.approx(expected, abs=1e-6)
-            # every change of vehicle happens at a terminal or port and changes mode
+            # a change of mode happens at a terminal or port, a change of vehicle within a mode at a hub
             for a, b in zip(got.legs, got.legs[1:]):
                 if a.card != b.card:
-                    assert model.depot(a.use.to_depot).kind in ("terminal", "port")
-                    assert a.card.mode != b.card.mode
+                    kind = model.depot(a.use.to_depot).kind
+                    assert kind == ("hub" if a.card.mode == b.card.mode else kind)
+                    assert kind in (("hub",) if a.card.mode == b.card.mode else ("terminal", "port"))
 
 
 def _restricted():
@@ -203,15 +209,19 @@ def test_emissions_fuel_based_and_default_intensity():
     fuel_card = RateCard("artic", "road", 1.0, 30.0, 24.0, fuel_l_per_100km=31.0, co2e_kg_per_litre=2.57082)
     model = Model(Settings(), depots, lanes, (fuel_card,), (Shipment("S", "A", "B", 10.0),))
     res, _ = run(model)
-    # litres = 100 km x 31 / 100 x 1 vehicle = 31 l; CO2e = 31 x 2.57082 = 79.69542 kg
-    assert res["S"].co2e_kg == pytest.approx(79.69542)
+    # litres = 100 km x 31 / 100 x 1 vehicle = 31 l; CO2e tank-to-wheel = 31 x 2.57082 = 79.69542 kg;
+    # well-to-wheel 31 x 3.19747 (DESNZ 2025 WTW, 2.57082 + 0.62665 WTT) = 99.12157 kg
+    assert res["S"].co2e_ttw_kg == pytest.approx(79.69542)
+    assert res["S"].co2e_kg == pytest.approx(99.12157)
     assert res["S"].legs[0].co2e_basis == "fuel"
     bare = RateCard("artic", "road", 1.0, 30.0, 24.0)
     model = Model(Settings(), depots, lanes, (bare,), (Shipment("S", "A", "B", 10.0),))
     res, _ = run(model)
     # 2012 Defra/DECC GHG conversion factors, Annex 7 Table 7e, articulated HGV > 33 t, UK average
-    # load: 102.73 g CO2e per tonne-km ([V-DOC], references.md 4.3): 10 t x 100 km -> 102.73 kg
+    # load: 102.73 g CO2e per tonne-km well-to-wheel, 84.73 direct ([V-DOC], references.md 4.3):
+    # 10 t x 100 km -> 102.73 kg WTW, 84.73 kg TTW
     assert res["S"].co2e_kg == pytest.approx(102.73)
+    assert res["S"].co2e_ttw_kg == pytest.approx(84.73)
     assert res["S"].legs[0].co2e_basis == "default intensity"
     assert "default intensities" in res["S"].message
 
@@ -223,9 +233,11 @@ def test_emissions_objective_uses_fuel_figures():
     card = RateCard("artic", "road", 1.0, 30.0, 24.0, fuel_l_per_100km=30.0, co2e_kg_per_litre=2.5)
     model = Model(Settings(objective="emissions"), depots, lanes, (card,), (Shipment("S", "A", "B", 5.0),))
     res, _ = run(model)
-    # 90 km x 0.30 l/km x 2.5 = 67.5 kg beats 100 km -> 75 kg, although it is slower and dearer
+    # 90 km x 0.30 l/km x 2.5 = 67.5 kg TTW beats 100 km -> 75 kg, although it is slower and
+    # dearer (well-to-wheel both x (2.5 + 0.62665) / 2.5: 27 l x 3.12665 = 84.41955 kg)
     assert [leg.use.lane.lane_id for leg in res["S"].legs] == ["SHORT"]
-    assert res["S"].co2e_kg == pytest.approx(67.5)
+    assert res["S"].co2e_ttw_kg == pytest.approx(67.5)
+    assert res["S"].co2e_kg == pytest.approx(84.41955)
 
 
 def test_fuel_surcharge_hand_calculation():

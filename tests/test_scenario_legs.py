@@ -19,6 +19,9 @@ def _scenario_data():
     data = base_data()
     data["Settings"].append({"setting": "fuel_price_per_litre", "value": 1.50})
     data["Rates"][0].update({"fuel_included_at": 1.50})
+    # a dearer L1 keeps A > C direct the cheaper route while L3 is open (a truck driving through
+    # hub B pays no handling there, so with the base toll A > B > C would already win)
+    data["Lanes"][0]["toll"] = 50
     data["Scenarios"] = [
         {"scenario": "fuel_up", "sheet": "Settings", "key": "fuel_price_per_litre", "column": "value",
          "change": "+12%"},
@@ -71,11 +74,11 @@ def test_scenario_legs_hold_each_scenarios_rates_and_hand_worked_surcharges(cli,
                 if (g["scenario"], g["shipment_id"]) == (s["scenario"], s["shipment_id"])]
         assert s["subtotal"] == pytest.approx(sum(mine), abs=0.005)
         assert s["total_cost"] == pytest.approx(s["subtotal"] + s["min_charge_uplift"], abs=0.005)
-    # against the base case (hand-worked in tests/test_cost_hand.py and test_finance_sheets.py):
-    # with L3 closed S1 costs 384.00 instead of 370.00 and S2 1152.00 instead of 1110.00
+    # against the base case (hand-worked in tests/test_finance_sheets.py, with L1's toll of 50):
+    # with L3 closed S1 goes A > B > C for 19.00 more, S2 (three trucks) for 57.00 more
     per = {(s["scenario"], s["shipment_id"]): s for s in ships}
-    assert per[("L3_closed", "S1")]["delta_vs_base"] == pytest.approx(14.00)
-    assert per[("L3_closed", "S2")]["delta_vs_base"] == pytest.approx(42.00)
+    assert per[("L3_closed", "S1")]["delta_vs_base"] == pytest.approx(19.00)
+    assert per[("L3_closed", "S2")]["delta_vs_base"] == pytest.approx(57.00)
     assert per[("L3_closed", "S1")]["route_vs_base"] == "changed"
     assert per[("fuel_up", "S1")]["delta_vs_base"] == pytest.approx(10.26)
     assert per[("fuel_up", "S2")]["route_vs_base"] == "same"
@@ -133,7 +136,7 @@ def test_libreoffice_recalculates_the_scenario_sheets_to_the_cached_values(cli, 
     totals = _totals_block(fresh["Scenario comparison"])
     # recalculated from the legs: the hand-worked fuel_up surcharge, 10.26 + 30.78 = 41.04
     assert totals["fuel_up"]["fuel_surcharge"] == pytest.approx(41.04, abs=0.005)
-    assert totals["L3_closed"]["delta_vs_base"] == pytest.approx(56.00, abs=0.005)
+    assert totals["L3_closed"]["delta_vs_base"] == pytest.approx(76.00, abs=0.005)
     formulas = openpyxl.load_workbook(out)
     scenario_formulas = sum(1 for name in ("Scenario comparison", "Scenario shipments", "Scenario legs")
                             for row in formulas[name].iter_rows() for c in row if c.data_type == "f")

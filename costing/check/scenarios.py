@@ -350,6 +350,8 @@ def _set_value(target: _Target, raw, model: Model) -> tuple[object, str, str]:
         s = normalise_header(text)
         if s in target.choices:
             return s, "", ""
+        if s.upper() in target.choices:  # upper-case codes (ADR tunnel categories A to E)
+            return s.upper(), "", ""
         return None, f"={_short(text)} is not one of {', '.join(target.choices)} ({name})", (
             did_you_mean(s, target.choices, 0.5) + "type = and one of them, e.g. ="
             + target.choices[0])

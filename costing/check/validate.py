@@ -16,10 +16,12 @@ from costing.contract.inputs import (
     SETTINGS_BY_NAME,
     SHEETS_BY_NAME,
     SPREADSHEET_ERRORS,
+    TUNNEL_CODE_FORMAT,
     Column,
     closest,
     did_you_mean,
     normalise_header,
+    tunnel_letter,
 )
 from costing.contract.rows import RawRow, RawSheet, RawWorkbook
 from costing.geo import great_circle_km
@@ -206,6 +208,8 @@ class _Sheet:
         s = normalise_header(v)
         if s in col.choices:
             return s
+        if s.upper() in col.choices:  # upper-case codes (ADR tunnel categories A to E)
+            return s.upper()
         hint = did_you_mean(s, col.choices, cutoff=0.5)
         self.problem(ERROR, col.name, rr.row, f"{col.name} '{_short(v)}' is not one of "
                      + ", ".join(col.choices), f"{hint}pick a value from the list")
@@ -491,6 +495,16 @@ def validate(raw: RawWorkbook) -> Model:
                            "CO2e is reported as 0 and the emissions objective treats it as free",
                            "for an electric vehicle enter its energy's emission factor; otherwise "
                            "enter the fuel figures, or leave both blank to use the default intensity")
+            empty = rec["fuel_empty_l_per_100km"]
+            if empty is not None and fuel is not None and empty > fuel:
+                sh.problem(WARNING, "fuel_empty_l_per_100km", rr.row,
+                           f"fuel use empty ({empty:g} l/100 km) is above fuel use laden "
+                           f"({fuel:g} l/100 km): emissions would fall as the load grows",
+                           "check the two figures: fuel_l_per_100km is the fully laden one")
+            elif empty is not None and fuel is None:
+                sh.problem(WARNING, "fuel_empty_l_per_100km", rr.row,
+                           "fuel_empty_l_per_100km is given without fuel_l_per_100km, so it is not used",
+                           "fill in fuel_l_per_100km (fully laden) too, or clear this cell")
             cur = _row_currency(sh, rr, rec, settings, fx, "Rates")
             ok = ok and cur is not _MISSING
             if ok:
@@ -500,7 +514,10 @@ def validate(raw: RawWorkbook) -> Model:
                                 fuel_included_at=rec["fuel_included_at"],
                                 tare_t=rec["tare_t"] or 0.0,
                                 pallet_places=rec["pallet_places"] or None,
-                                volume_m3=rec["volume_m3"] or None)
+                                volume_m3=rec["volume_m3"] or None,
+                                fuel_empty_l_per_100km=rec["fuel_empty_l_per_100km"],
+                                wtw_co2e_kg_per_litre=rec["wtw_co2e_kg_per_litre"],
+                                toll_class=rec["toll_class"])
                 rates.append(_in_run_currency(card, cur, fx))
     vehicles = {r.vehicle for r in rates}
     rated_modes = {r.mode for r in rates}
@@ -550,7 +567,9 @@ def validate(raw: RawWorkbook) -> Model:
             lanes.append(Lane(rec["lane_id"], a.depot_id, b.depot_id, rec["mode"], km, hours,
                               rec["toll"] or 0.0, rec["fixed_cost"] or 0.0,
                               bool(rec["two_way"]), rec["max_weight_t"],
-                              bool(rec["hazmat_allowed"]), bool(rec["open"]), rr.row))
+                              bool(rec["hazmat_allowed"]), bool(rec["open"]), rr.row,
+                              toll_medium=rec["toll_medium"], toll_light=rec["toll_light"],
+                              tunnel_category=rec["tunnel_category"]))
 
     shipments: list[Shipment] = []
     depot_modes: dict[str, set[str]] = {}  # modes of the open lanes at each depot
@@ -573,6 +592,19 @@ def validate(raw: RawWorkbook) -> Model:
             if rec["weight_t"] == 0:
                 sh.problem(WARNING, "weight_t", rr.row, "weight_t is 0; costed as one vehicle",
                            "enter the weight in tonnes")
+            code = rec["tunnel_code"]
+            try:
+                letter = tunnel_letter(code)
+            except ValueError:
+                sh.problem(ERROR, "tunnel_code", rr.row, f"tunnel_code '{_short(str(code))}' is not an "
+                           "ADR tunnel restriction code",
+                           f"enter {TUNNEL_CODE_FORMAT} (ADR Table A, column 15), or leave blank")
+                ok = False
+                letter = None
+            if letter is not None and not rec["hazmat"] and rr.values.get("hazmat") is not None:
+                sh.problem(WARNING, "hazmat", rr.row, f"hazmat is no but tunnel_code is {code}: a "
+                           "tunnel code is only given for dangerous goods, so it is costed as "
+                           "dangerous goods", "set hazmat to yes, or clear tunnel_code")
             ready, due = rec["ready_date"], rec["due_date"]
             if ready is not None and due is not None and due < ready:
                 sh.problem(ERROR, "due_date", rr.row, f"due_date {due} is before ready_date {ready}",
@@ -581,10 +613,12 @@ def validate(raw: RawWorkbook) -> Model:
             if ok:
                 shipments.append(Shipment(rec["shipment_id"], rec["origin"], rec["destination"],
                                           rec["weight_t"], v, rec["objective"],
-                                          bool(rec["hazmat"]), rec["customer"] or "", rr.row,
+                                          bool(rec["hazmat"]) or letter is not None,
+                                          rec["customer"] or "", rr.row,
                                           ready, due, rec["pallets"], rec["volume_m3"],
                                           loading_metres=rec["loading_metres"],
-                                          quoted_price=rec["quoted_price"], invoiced=rec["invoiced"]))
+                                          quoted_price=rec["quoted_price"], invoiced=rec["invoiced"],
+                                          tunnel_code=str(code).strip() if letter is not None else None))
                 _split_warning(sh, rr.row, rec, [r for r in rates if v is None or r.vehicle == v],
                                depot_modes)
 

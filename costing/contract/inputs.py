@@ -15,6 +15,11 @@ MODES = ("road", "rail", "sea", "inland_water", "air")
 DEPOT_KINDS = ("depot", "hub", "terminal", "customer", "port")
 YES_NO = ("yes", "no")
 DRIVING_RULES = ("none", "eu_561_2006", "us_49cfr395")
+# Toll classes of a rate card: light up to 3.5 t maximum weight, medium over 3.5 t to 12 t, heavy
+# over 12 t (the 3.5 t line of EU road charging, Directive 1999/62/EC as amended; from memory)
+TOLL_CLASSES = ("light", "medium", "heavy")
+# ADR tunnel categories, A (no restriction) to E (most restrictive); ADR 1.9.5 [V-2ND]
+TUNNEL_CATEGORIES = ("A", "B", "C", "D", "E")
 
 
 @dataclass(frozen=True)
@@ -132,6 +137,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Chargeable kg per loading metre (one metre of trailer floor, full width), for "
                 "carrier tariffs. Common practice in road groupage: 1,750 (carriers use 1,750 to "
                 "2,000; from memory).", minimum=0.0, maximum=100000.0),
+    SettingSpec("driving_clock_in_search", "choice", "yes",
+                "yes: with driving_rules, the route search carries the driving clock, so the time, "
+                "cost and blended objectives choose routes with their breaks and rests (and their "
+                "pay); no: routes are chosen on driving hours and the stops added afterwards. "
+                "Planning estimate, not compliance advice.", choices=YES_NO),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
@@ -162,13 +172,16 @@ SHEETS: tuple[SheetSpec, ...] = (
                    "-180 to 180 (east positive).", minimum=-180.0, maximum=180.0, width=11,
                    allow_blank=True),
             Column("kind", "choice", False, note="depot, hub, terminal, customer or port. "
-                   "Handling is charged at a hub the route passes through. Blank: depot.",
+                   "A load may change vehicle at a hub (cross-dock, same mode) and change mode at a "
+                   "terminal or port; a vehicle driving through pays no handling. Blank: depot.",
                    choices=DEPOT_KINDS, default="depot", width=10),
             Column("handling_cost", "number", False, "currency per vehicle", "Cost of handling one "
-                   "vehicle here (loading, unloading or cross-dock), charged where a route starts, "
-                   "ends, or passes through a hub. Blank: 0.", default=0.0, minimum=0.0, width=14),
+                   "vehicle here (loading or unloading), charged per vehicle where a route starts "
+                   "and ends and, at a change of vehicle, for the vehicles arriving and those "
+                   "leaving. Blank: 0.", default=0.0, minimum=0.0, width=14),
             Column("handling_hours", "number", False, "hours", "Hours one vehicle spends being "
-                   "handled here. Blank: 0.", default=0.0, minimum=0.0, maximum=240.0, width=14),
+                   "loaded or unloaded here (both at a change of vehicle). Blank: 0.", default=0.0,
+                   minimum=0.0, maximum=240.0, width=14),
         ),
         id_column="depot_id",
         note="Places: depots, hubs, terminals, ports and customers.",
@@ -200,6 +213,18 @@ SHEETS: tuple[SheetSpec, ...] = (
                    "lane. Blank: yes.", choices=YES_NO, default=True, width=14),
             Column("open", "yesno", False, note="no: the lane is closed and never used. Blank: yes.",
                    choices=YES_NO, default=True, width=8),
+            Column("toll_medium", "number", False, "currency per vehicle", "Toll per vehicle of "
+                   "toll_class medium (over 3.5 t to 12 t). Blank: the toll.", minimum=0.0,
+                   width=11),
+            Column("toll_light", "number", False, "currency per vehicle", "Toll per vehicle of "
+                   "toll_class light (up to 3.5 t). Blank: 0, the usual exemption of vans from "
+                   "truck tolls (common practice, no source; check the road's own rules).",
+                   minimum=0.0, width=10),
+            Column("tunnel_category", "choice", False, note="ADR tunnel category of a tunnel on the "
+                   "lane, A (no restriction) to E (most restrictive): a shipment whose "
+                   "tunnel_code forbids it does not use the lane. Blank: no tunnel. "
+                   "hazmat_allowed no still closes the lane to all dangerous goods.",
+                   choices=TUNNEL_CATEGORIES, width=10),
         ),
         id_column="lane_id",
         note="Legs that vehicles can run between two depots.",
@@ -220,10 +245,11 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("payload_t", "number", True, "tonnes", "Most a vehicle may carry, in tonnes. "
                    "A heavier shipment is split over several vehicles.", minimum=0.0, width=10),
             Column("fuel_l_per_100km", "number", False, "litres per 100 km", "Fuel use of one "
-                   "vehicle. Blank: no emissions are computed for this card.", minimum=0.0,
+                   "vehicle (fully laden when fuel_empty_l_per_100km is given). Blank: emissions use "
+                   "the mode's default intensity (see the Run sheet).", minimum=0.0,
                    maximum=10000.0, width=14),
             Column("co2e_kg_per_litre", "number", False, "kg CO2e per litre", "Emission factor of "
-                   "the fuel, e.g. diesel about 2.5 to 2.7 tank-to-wheel.", minimum=0.0,
+                   "the fuel, tank-to-wheel (burning only), e.g. diesel about 2.5 to 2.7.", minimum=0.0,
                    maximum=10.0, width=14),
             Column("min_charge", "number", False, "currency per shipment", "Least a shipment "
                    "using this card is charged. Blank: 0.", default=0.0, minimum=0.0, width=11),
@@ -242,6 +268,20 @@ SHEETS: tuple[SheetSpec, ...] = (
             Column("currency", "text", False, note="ISO 4217 code of this card's money figures (per_km, "
                    "per_hour, per_trip, min_charge, fuel_included_at), e.g. USD. They are converted into "
                    "the run's currency at the Currencies sheet's rate. Blank: the run's currency.", width=9),
+            Column("fuel_empty_l_per_100km", "number", False, "litres per 100 km", "Fuel use of one "
+                   "vehicle running empty. With it, fuel_l_per_100km is read as fully laden (at "
+                   "payload_t) and emissions use the fuel on the straight line between the two at "
+                   "each leg's load, as load-dependent published tables do. Blank: "
+                   "fuel_l_per_100km at every load. The fuel surcharge always uses fuel_l_per_100km.",
+                   minimum=0.0, maximum=10000.0, width=14),
+            Column("wtw_co2e_kg_per_litre", "number", False, "kg CO2e per litre", "Well-to-wheel "
+                   "emission factor of the fuel (production and burning), e.g. diesel about 3.1 to "
+                   "3.3. Blank: co2e_kg_per_litre plus the well-to-tank of diesel (0.62665, UK DESNZ "
+                   "2025).", minimum=0.0, maximum=10.0, width=14),
+            Column("toll_class", "choice", False, note="light (up to 3.5 t maximum weight), medium "
+                   "(over 3.5 t to 12 t) or heavy (over 12 t): which of a lane's tolls the vehicle "
+                   "pays (toll_light, toll_medium, toll). Blank: from tare_t + payload_t.",
+                   choices=TOLL_CLASSES, width=10),
         ),
         note="Rate cards: what each vehicle costs on each mode.",
     ),
@@ -281,6 +321,12 @@ SHEETS: tuple[SheetSpec, ...] = (
                    "invoiced at (e.g. by the carrier or the fleet's cost centre), in the run's currency: "
                    "Summary and the Invoice check sheet show the difference from the computed cost. "
                    "Blank: not checked.", minimum=0.0, width=11),
+            Column("tunnel_code", "text", False, note="ADR tunnel restriction code of the load "
+                   "(Table A, column 15), e.g. D/E: code X keeps it out of tunnels of category X "
+                   "to E. Split codes X/Y: X (carriage in tanks) is applied, the safe reading; "
+                   "enter Y alone for packages. Codes like B1000C: B. A code implies hazmat yes; "
+                   "hazmat yes without a code: kept out of categories B to E. Blank: none.",
+                   width=11),
         ),
         id_column="shipment_id",
         note="The shipments to cost.",
@@ -392,6 +438,45 @@ SHEETS: tuple[SheetSpec, ...] = (
 )
 
 SHEETS_BY_NAME = {s.name: s for s in SHEETS}
+
+
+TUNNEL_CODE_FORMAT = "B, C, D or E, a split code such as D/E or C/D, B1000C, or - for none"
+
+
+def tunnel_letter(code: str | None) -> str | None:
+    """The ADR tunnel category letter from which a load with tunnel restriction `code` is kept
+    out (that category and every later one, to E), or None for no restriction.
+
+    ADR 8.6 / 1.9.5 ([V-2ND] in ../shared/references.md 8.1): code X forbids tunnels of category X
+    to E; a split code X/Y applies X to carriage in tanks and Y to other carriage, and X is the
+    letter used here (the safe reading when the sheet does not say which); codes such as B1000C
+    switch at a net explosive mass, and their first letter (the stricter) is used.
+
+    Raises
+    ------
+    ValueError
+        `code` is not one of these forms (the message says what is allowed).
+    """
+    if code is None:
+        return None
+    c = str(code).strip().upper().replace(" ", "").strip("()")
+    if c in ("", "-"):
+        return None
+    import re
+
+    m = re.fullmatch(r"([BCDE])(?:1000C)?(?:/([BCDE]))?", c)
+    if not m:
+        raise ValueError(f"tunnel_code {code!r} is not an ADR tunnel restriction code; use "
+                         + TUNNEL_CODE_FORMAT)
+    return m.group(1)
+
+
+def tunnel_forbids(letter: str | None, category: str | None) -> bool:
+    """Whether a load kept out from category `letter` on may not use a tunnel of `category`
+    (category A, or no tunnel, restricts nothing)."""
+    if letter is None or category is None or category == "A":
+        return False
+    return TUNNEL_CATEGORIES.index(category) >= TUNNEL_CATEGORIES.index(letter)
 
 
 def closest(value: str, known, cutoff: float = 0.6) -> str | None:

@@ -86,8 +86,18 @@ LEG_COLUMNS = [
     ("co2e_basis", 15, "text"),
     ("intensity_g_per_tkm", 11, "plain"),
     ("co2e_kg", 10, "kg"),
-    ("run_id", 8, "text"),
+    # emissions on a stated basis (issue 12): co2e_kg is well-to-wheel, its tank-to-wheel part beside
+    ("payload_t", 9, "plain"),
+    ("load_factor", 9, "plain"),
+    ("fuel_empty_l_per_100km", 10, "plain"),
+    ("fuel_used_l_per_100km", 10, "plain"),
+    ("wtw_co2e_kg_per_litre", 10, "plain"),
+    ("ttw_intensity_g_per_tkm", 11, "plain"),
+    ("co2e_ttw_kg", 10, "kg"),
     ("tonne_km", 11, "km"),
+    ("co2e_g_per_tkm", 10, "plain"),
+    ("toll_class", 9, "text"),  # which of the lane's tolls the vehicle pays (issue 12)
+    ("run_id", 8, "text"),
     ("cost_share", 11, "money"),
     ("share_adjust", 9, "money"),
     ("co2e_share", 10, "kg"),
@@ -110,7 +120,7 @@ SUMMARY_COLUMNS = [
     ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"),
     ("standalone_cost", 12, "money"), ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"),
     ("total_cost", 12, "money"), ("saving", 11, "money"),
-    ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("tonne_km", 11, "km"), ("customer", 18, "text"),
+    ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
     ("chargeable_kg", 11, "kg"), ("make_cost", 12, "money"), ("buy_cost", 12, "money"),
@@ -118,6 +128,11 @@ SUMMARY_COLUMNS = [
     ("quoted_price", 12, "money"), ("margin", 12, "money"), ("invoiced", 12, "money"),
     ("invoice_difference", 12, "money"),
 ]
+
+# emissions on a stated basis (issue 12), after co2e_kg (well-to-wheel)
+_AT = [name for name, _w, _k in SUMMARY_COLUMNS].index("co2e_kg") + 1
+SUMMARY_COLUMNS[_AT:_AT] = [("co2e_ttw_kg", 10, "kg"), ("tonne_km", 11, "km"),
+                            ("co2e_g_per_tkm", 10, "plain")]
 
 
 SUM = {name: i for i, (name, _w, _k) in enumerate(SUMMARY_COLUMNS)}
@@ -133,6 +148,12 @@ SUMMED = {
     "trip_cost": ["trip_cost"], "subtotal": ["leg_cost"], "co2e_kg": ["co2e_share"],
     "allocated_cost": ["cost_share"], "tonne_km": ["tonne_km"],
 }
+
+SUMMED.update({"co2e_ttw_kg": ["co2e_ttw_kg"], "tonne_km": ["tonne_km"]})
+
+# Summary column -> (numerator column, denominator column, factor): a ratio of two Summary columns,
+# 0 where the denominator is 0 (the TOTAL row takes the ratio of its totals)
+RATIOS = {"co2e_g_per_tkm": ("co2e_kg", "tonne_km", 1000)}
 
 
 # Vehicle runs columns: (header, width, kind). One row per vehicle run: vehicles of one rate card
@@ -153,7 +174,9 @@ RUN_COLUMNS = [
     ("handling_start_cost", 12, "money"), ("handling_end_cost", 12, "money"), ("trip_cost", 10, "money"),
     ("run_cost", 12, "money"), ("standalone_cost", 12, "money"), ("saving", 11, "money"),
     ("tonne_km", 11, "km"), ("co2e_kg_per_litre", 10, "plain"), ("co2e_basis", 15, "text"),
-    ("intensity_g_per_tkm", 11, "plain"), ("co2e_kg", 10, "kg"),
+    ("intensity_g_per_tkm", 11, "plain"), ("load_factor", 9, "plain"),
+    ("fuel_empty_l_per_100km", 10, "plain"), ("fuel_used_l_per_100km", 10, "plain"),
+    ("wtw_co2e_kg_per_litre", 10, "plain"), ("co2e_kg", 10, "kg"),
 ]
 
 
@@ -218,19 +241,39 @@ HEADER_NOTES = {
     "km_cost": "ROUND(vehicles x distance_km x per_km)",
     "hour_cost": "ROUND(vehicles x drive_hours x per_hour)",
     "toll_cost": "ROUND(vehicles x toll)",
+    "toll": "Toll per vehicle of the rate card's toll_class on this lane (light: toll_light, blank = 0, "
+            "the usual van exemption; medium: toll_medium, blank = toll; heavy: toll).",
+    "toll_class": "light (up to 3.5 t), medium (to 12 t) or heavy: the rate card's, or from its "
+                  "tare_t + payload_t.",
     "fixed_cost": "ROUND(vehicles x fixed cost per vehicle)",
     "fuel_surcharge": "ROUND(vehicles x km x fuel_l_per_100km / 100 x (fuel_price - fuel_included_at)); "
                       "0 without a fuel price or fuel_included_at.",
-    "stop_cost": "ROUND(vehicles x paid_stop_hours x per_hour)",
+    "stop_cost": "Driver time at driving-time breaks and daily rests (not an extra-drop or "
+                 "stop-off fee): ROUND(vehicles x paid_stop_hours x per_hour).",
     "handling_start_cost": "ROUND(vehicles x handling where a vehicle run starts: the origin, or a "
-                           "terminal or port where the shipment changes vehicle).",
-    "handling_end_cost": "ROUND(vehicles x handling at to_depot) where it is a hub or the destination.",
+                           "hub, terminal or port where the shipment changes vehicle).",
+    "handling_end_cost": "ROUND(vehicles x handling at to_depot) where the vehicle run ends: the "
+                         "destination, or a hub, terminal or port where the shipment changes "
+                         "vehicle. Nothing where a vehicle drives through a hub.",
     "trip_cost": "ROUND(vehicles x per_trip) on the first leg of each vehicle run.",
     "leg_cost": "Sum of the leg's cost components.",
     "co2e_basis": "fuel: from the rate card's fuel figures; default intensity: tonnes x km x a "
                   "published g CO2e per tonne-km for the mode (see the Run sheet).",
-    "co2e_kg": "fuel: vehicles x km x fuel_l_per_100km / 100 x co2e_kg_per_litre; default intensity: "
-               "weight_t x km x intensity_g_per_tkm / 1000. Planning estimate.",
+    "co2e_kg": "Well-to-wheel CO2e (ISO 14083 basis). fuel: vehicles x km x fuel_used_l_per_100km / "
+               "100 x wtw_co2e_kg_per_litre; default intensity: weight_t x km x intensity_g_per_tkm / "
+               "1000. Planning estimate, not compliance advice.",
+    "co2e_ttw_kg": "Tank-to-wheel part of co2e_kg (burning only): co2e_kg_per_litre in place of the "
+                   "WTW factor, or the mode's TTW intensity. Planning estimate.",
+    "co2e_g_per_tkm": "co2e_kg x 1000 / tonne_km (well-to-wheel g CO2e per tonne-km).",
+    "load_factor": "MIN(1, weight_t / vehicles / payload_t): how full each vehicle is by weight.",
+    "fuel_used_l_per_100km": "Fuel use per vehicle at this load: fuel_empty_l_per_100km + "
+                             "(fuel_l_per_100km - fuel_empty_l_per_100km) x load_factor, or "
+                             "fuel_l_per_100km without an empty figure; 0 without fuel figures.",
+    "wtw_co2e_kg_per_litre": "Well-to-wheel factor used: the rate card's, or co2e_kg_per_litre + "
+                             "the well-to-tank of diesel (see the Run sheet).",
+    "intensity_g_per_tkm": "Default well-to-wheel intensity of the mode (default intensity basis; "
+                           "source on the Run sheet).",
+    "ttw_intensity_g_per_tkm": "Default tank-to-wheel intensity of the mode (default intensity basis).",
     "subtotal": "Sum of the shipment's leg_cost on the Legs sheet (a scenario's: on Scenario legs).",
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",

@@ -21,10 +21,11 @@ import numpy as np
 
 from costing.geo import great_circle_km, great_circle_km_many
 from costing.model import Depot, Lane, LaneUse, Model, RateCard
-from costing.money import minor_unit
+from costing.money import minor_unit, round_money
+from costing.network.lex import Lex, primary
 from costing.network.search import Arcs
 from costing.objectives import objective
-from costing.price.rates import charge, co2e_kg, lane_charges
+from costing.price.rates import charge, co2e_kg, lane_charges, toll_for
 
 # Keeps floating-point error in gc * r_min from pushing the bound a hair above the truth.
 BOUND_SAFETY = 1.0 - 1e-9
@@ -75,6 +76,9 @@ class Profile:
     cards: tuple[tuple[str, str, int], ...]  # (vehicle, mode, vehicles needed)
     blocked: frozenset[tuple[str, int]] = frozenset()  # (lane id, card index) not allowed
     weight_t: float = 0.0  # only set when emissions weights need tonnes; else 0
+    # weights are Lex(objective, cost in minor units, lane steps): equal objective values are
+    # broken toward the lower cost, then the fewer legs (costing.network.lex)
+    tie_break: bool = False
 
     @property
     def vehicles(self) -> tuple[str, ...]:
@@ -82,7 +86,8 @@ class Profile:
         return tuple(dict.fromkeys(v for v, _m, _n in self.cards))
 
 
-TRANSFER_KINDS = ("terminal", "port")
+TRANSFER_KINDS = ("terminal", "port")  # a load changes mode here
+HUB_KINDS = ("hub",)  # a load changes vehicle (same mode) here: a cross-dock
 
 
 @dataclass(frozen=True)
@@ -108,9 +113,21 @@ def card_of(model: Model, vehicle: str, mode: str) -> RateCard:
     return model.cards_for(vehicle)[mode]
 
 
-def _weigh(model: Model, profile: Profile, quantity_weight) -> float:
-    """The profile's objective as the weighted sum of quantity weights (costing.objectives)."""
-    return objective(profile.objective).combine(quantity_weight, lambda c: getattr(model.settings, c))
+def _weigh(model: Model, profile: Profile, quantity_weight, legs: int = 0):
+    """The profile's objective as the weighted sum of quantity weights (costing.objectives).
+
+    With ``profile.tie_break`` the weight is ``Lex(objective, cost, legs)``: the same objective
+    weight, then the cost weight in minor currency units (an exact integer: every cost weight is
+    a sum of amounts rounded to the minor unit) and the lane steps it adds (1 for a lane, 0 for a
+    start, exit or transfer). Summed along a route these are its objective value, its cost
+    before breaks and the minimum charge, and its number of legs, so the search returns, among
+    the routes of least objective, one of least cost, and among those one of fewest legs
+    (costing.network.lex: the core's proof holds for such weights)."""
+    w = objective(profile.objective).combine(quantity_weight, lambda c: getattr(model.settings, c))
+    if not profile.tie_break:
+        return w
+    cost_minor = round(quantity_weight("cost") * 10 ** minor_unit(model.settings.currency))
+    return Lex(w, cost_minor, legs)
 
 
 def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: int) -> float:
@@ -129,10 +146,8 @@ def start_weight(model: Model, profile: Profile, k: int, origin: Depot, places: 
 
 
 def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, places: int) -> float:
-    """Weight of ending at `destination` on card k: its handling, unless it is a hub (a hub's
-    handling is already in the weight of the lane that enters it)."""
-    if destination.kind == "hub":
-        return 0.0
+    """Weight of ending at `destination` on card k: its handling of the card's vehicles (unloading;
+    a hub too: a hub charges where loads are handled, not where vehicles drive through)."""
     n = profile.cards[k][2]
 
     def weight(q: str) -> float:
@@ -145,34 +160,57 @@ def exit_weight(model: Model, profile: Profile, k: int, destination: Depot, plac
     return _weigh(model, profile, weight)
 
 
-def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places: int) -> float:
-    """Changing onto card k at a terminal or port: the depot's handling for the new vehicles
-    and the new card's trip charge (as if starting there)."""
-    return start_weight(model, profile, k, depot, places)
+def transfer_weight(model: Model, profile: Profile, k: int, depot: Depot, places: int,
+                    from_k: int | None = None):
+    """Changing onto card k at a terminal, port or hub: the depot's handling for the new vehicles
+    and the new card's trip charge (as if starting there) and, given the card `from_k` the load
+    arrives on, the depot's handling of the arriving vehicles (as if ending there): each unit is
+    lifted off at the end of one vehicle run and on at the start of the next."""
+    w = start_weight(model, profile, k, depot, places)
+    if from_k is None:
+        return w
+    return exit_weight(model, profile, from_k, depot, places) + w
 
 
 def lane_weight(model: Model, profile: Profile, k: int, use: LaneUse, to_depot: Depot,
                 places: int) -> float:
     """The weight of one lane step on card k. Cost uses the rounded leg amounts the output
-    shows (price/rates.py), so a route's weight is exactly what its legs add up to."""
+    shows (price/rates.py), so a route's weight is exactly what its legs add up to. `to_depot`
+    adds nothing: handling is in the start, exit and transfer weights, where loads are handled."""
     vehicle, mode, n = profile.cards[k]
     card = card_of(model, vehicle, mode)
-    hub = to_depot.kind == "hub"
 
     def weight(q: str) -> float:
-        if q == "cost":
-            w = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n,
-                             model.settings, places).total
-            if hub:
-                w += charge(n, to_depot.handling_cost, places)
-            return w
+        if q == "cost":  # no handling: a vehicle driving through a hub is not handled there
+            return lane_charges(use.km, use.hours, toll_for(use.lane, card), use.lane.fixed_cost, card,
+                                n, model.settings, places).total
         if q == "hours":
-            return use.hours + (to_depot.handling_hours if hub else 0.0)
+            return use.hours
         if q == "km":
             return use.km
         if q == "co2e":
             return co2e_kg(use.km, card, n, profile.weight_t)[0]
         raise ValueError(f"unknown quantity {q}")
+
+    return _weigh(model, profile, weight, legs=1)
+
+
+def stop_weight(model: Model, profile: Profile, k: int, break_hours: float, rest_hours: float,
+                places: int):
+    """The weight of the driving-time stops taken on one lane step on card k: their hours, and
+    their pay as the legs charge it (stop_cost = ROUND(n x paid hours x per_hour), break and rest
+    hours paid as Settings say), combined as the profile's objective (costing.network.clock)."""
+    vehicle, mode, n = profile.cards[k]
+    s = model.settings
+
+    def weight(q: str) -> float:
+        if q == "cost":
+            paid = (break_hours if s.break_hours_paid == "yes" else 0.0) + \
+                (rest_hours if s.rest_hours_paid == "yes" else 0.0)
+            return round_money(n * paid * card_of(model, vehicle, mode).per_hour, places)
+        if q == "hours":
+            return break_hours + rest_hours
+        return 0.0
 
     return _weigh(model, profile, weight)
 
@@ -261,7 +299,7 @@ def _layer(model: Model, graph: nx.MultiDiGraph, profile: Profile, k: int, place
     Shipments that need the same number of vehicles on a card share it, so it is cached."""
     vehicle, mode, n = profile.cards[k]
     blocked = frozenset(lane for lane, kk in profile.blocked if kk == k)
-    key = (vehicle, mode, n, profile.objective, profile.weight_t, blocked)
+    key = (vehicle, mode, n, profile.objective, profile.weight_t, blocked, profile.tie_break)
     if cache is not None and key in cache:
         return cache[key]
     _ids, _index, depots, _lats, _lons, rows = _edge_table(graph)
@@ -271,8 +309,8 @@ def _layer(model: Model, graph: nx.MultiDiGraph, profile: Profile, k: int, place
             continue
         w = lane_weight(model, profile, k, use, depots[j], places)
         if w < 0:  # validation refuses such rates; a model built in code could still hold them
-            raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight ({w:g}) "
-                             f"for {vehicle}: a fuel rebate larger than per_km?")
+            raise ValueError(f"lane {use.lane.lane_id} has a negative {profile.objective} weight "
+                             f"({primary(w):g}) for {vehicle}: a fuel rebate larger than per_km?")
         weights[e] = w
     if cache is not None:
         cache[key] = weights
@@ -301,21 +339,24 @@ def compact(graph: nx.MultiDiGraph, model: Model, profile: Profile,
                 a, b = depot_ids[i], depot_ids[j]
                 missing_coords = missing_coords or (a if math.isnan(lats[i]) or math.isnan(lons[i]) else b)
             elif gc > 0:
-                r_min = min(r_min, w / gc)
+                r_min = min(r_min, primary(w) / gc)
             eid = len(steps)
             steps.append(Step(k, use=use))
             adj[i * K + k].append((j * K + k, w, eid))
-    # transfers between cards of different modes at terminals and ports
+    # transfers: between cards of different modes at terminals and ports, between cards of the
+    # same mode (another vehicle) at hubs (cross-docks)
     for i, d in enumerate(depots):
-        if d.kind not in TRANSFER_KINDS or K < 2:
+        if (d.kind not in TRANSFER_KINDS and d.kind not in HUB_KINDS) or K < 2:
             continue
         for k1 in range(K):
             for k2 in range(K):
-                if profile.cards[k1][1] == profile.cards[k2][1]:
+                same_mode = profile.cards[k1][1] == profile.cards[k2][1]
+                if k1 == k2 or same_mode != (d.kind in HUB_KINDS):
                     continue
                 eid = len(steps)
                 steps.append(Step(k2, transfer=Transfer(d.depot_id, k1, k2)))
-                adj[i * K + k1].append((i * K + k2, transfer_weight(model, profile, k2, d, places), eid))
+                adj[i * K + k1].append((i * K + k2, transfer_weight(model, profile, k2, d, places, k1),
+                                        eid))
     if r_min is math.inf:
         r_min = 0.0
     if missing_coords is not None:

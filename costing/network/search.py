@@ -15,6 +15,11 @@ are its special cases, and the array engine (`costing.network.engine`) calls it 
 
 Units. Weights, start weights, exit weights and the bound are all in one unit, the caller's
 (the objective's: currency, hours, km or kg CO2e); the routine only adds and compares them.
+So weights may be any values that add and compare like numbers under a total order compatible
+with addition, with the float 0 and infinity at the ends: `costing.network.lex.Lex` triples
+(lexicographic, with a bound on their first part) are such values, and the argument below holds
+for them word for word (that module says why); ties of the first part are then broken by the
+others.
 
 Correctness
 -----------

@@ -9,6 +9,7 @@ from dataclasses import dataclass, field, replace
 
 import networkx as nx
 
+from costing.contract.inputs import tunnel_forbids, tunnel_letter
 from costing.model import WARNING, Model, Problem, RateCard, Shipment
 from costing.money import minor_unit
 from costing.network.build import (
@@ -20,10 +21,11 @@ from costing.network.build import (
     explain_no_route,
     start_weight,
 )
-from costing.network.search import astar
+from costing.network.search import astar, dijkstra_all
 from costing.objectives import objective
 from costing.price.cost import NO_ROUTE, REJECTED, CostedShipment, cost_route, unrouted
 from costing.price.rates import load_vehicles
+from costing.price.rules import rules_for
 
 
 @dataclass
@@ -66,15 +68,28 @@ def make_profile(model: Model, s: Shipment, objective: str, cards: list[RateCard
                     continue
                 if s.hazmat and not lane.hazmat_allowed:
                     blocked.add((lane.lane_id, k))
+                elif s.hazmat and tunnel_forbids(hazmat_tunnel_letter(s), lane.tunnel_category):
+                    blocked.add((lane.lane_id, k))
                 elif lane.max_weight_t is not None and \
                         loaded_weight(s, card) > lane.max_weight_t + 1e-9:
                     blocked.add((lane.lane_id, k))
     needs_tonnes = _uses(objective, "co2e") and any(
-        c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None for c in cards)
+        c.fuel_l_per_100km is None or c.co2e_kg_per_litre is None
+        or c.fuel_empty_l_per_100km is not None for c in cards)  # default intensity, or fuel by load
     return Profile(objective,
                    tuple((c.vehicle, c.mode, load_vehicles(s.weight_t, c, s.pallets, s.volume_m3))
                          for c in cards),
-                   frozenset(blocked), s.weight_t if needs_tonnes else 0.0)
+                   frozenset(blocked), s.weight_t if needs_tonnes else 0.0,
+                   tie_break=objective != "cost")
+
+
+def hazmat_tunnel_letter(s: Shipment) -> str | None:
+    """The ADR tunnel category from which dangerous goods `s` are kept out (to E): its
+    tunnel_code's letter (costing.contract.inputs.tunnel_letter), or B, the most restrictive,
+    for dangerous goods without a code (the safe reading of the yes/no case); None otherwise."""
+    if not s.hazmat:
+        return None
+    return tunnel_letter(s.tunnel_code) or "B"
 
 
 def loaded_weight(s: Shipment, card: RateCard) -> float:
@@ -87,6 +102,9 @@ BATCH_MIN = 3
 # from this many depots on, a one-card profile is searched by the array engine (landmark bound,
 # compiled one-to-all searches) instead of the pure-Python search
 ENGINE_MIN_DEPOTS = 20_000
+# the driving clock is carried in the search of networks up to this many (depot, card) states;
+# larger ones choose on driving hours and add the stops after (a note says so)
+CLOCK_MAX_STATES = 50_000
 ENGINE_LANDMARKS = 24  # 16 settled 4.5-5.5 % of Dijkstra's nodes at 100k, 24 about 3.6 %
 
 
@@ -105,6 +123,9 @@ class Router:
         self._layers: dict = {}  # per-card lane weights shared by profiles
         self._batched: dict = {}  # (profile, origin, destination) -> (network, search result)
         self._engines: dict = {}  # profile -> costing.network.engine.SearchEngine
+        self.rules = rules_for(model.settings)  # driving-time rules, or None
+        self.clock_fallbacks: set[str] = set()  # shipments searched without the clock (too many labels)
+        self._reverse: dict = {}  # profile -> reversed rows of its compact network (clock bounds)
 
     def network(self, profile: Profile) -> CompactNetwork:
         """The compact network of `profile`, built once and cached (its build time is recorded)."""
@@ -142,8 +163,8 @@ class Router:
                 groups.setdefault((make_profile(self.model, s, obj, cards), s.origin), []).append(s)
         for (profile, origin), members in groups.items():
             dests = list(dict.fromkeys(m.destination for m in members))
-            if len(members) < BATCH_MIN:
-                continue
+            if len(members) < BATCH_MIN or self.clocked(profile):
+                continue  # few, or searched with the driving clock (one search each)
             cn = self.network(profile)
             sources, _exits = self._ends(members[0], profile, cn)
             targets = [self._ends(Shipment("", origin, d, 0.0), profile, cn)[1] for d in dests]
@@ -175,7 +196,9 @@ class Router:
         cn = self.network(profile)
         sources, exits = self._ends(s, profile, cn)
         engine = self._engine(profile, cn)
-        if engine is not None:
+        if self.clocked(profile):
+            res = self._clock_search(s, profile, cn, sources, exits)
+        elif engine is not None:
             d = cn.node(s.destination, 0)
             res = _with_ends(engine.astar(sources[0][0], d, lower_bound=cn.bound(cn.index[s.destination])),
                              sources[0][1], exits[d])
@@ -186,14 +209,81 @@ class Router:
         self.stats.pushed += res.stats.pushed
         return cn, res
 
+    def clocked(self, profile: Profile) -> bool:
+        """Whether the search of `profile` carries the driving clock (costing.network.clock):
+        driving rules on, the setting on, an objective that weighs cost or hours (stops add both),
+        and a road card."""
+        st = self.model.settings
+        return (self.rules is not None and st.driving_clock_in_search == "yes"
+                and (_uses(profile.objective, "cost") or _uses(profile.objective, "hours"))
+                and any(m == "road" for _v, m, _n in profile.cards)
+                and len(self.model.depots) * len(profile.cards) <= CLOCK_MAX_STATES)
+
+    def _clock_search(self, s: Shipment, profile: Profile, cn: CompactNetwork, sources, exits):
+        """The clock-labelled search of `s`; on too many labels, the plain search (noted)."""
+        from costing.network.build import stop_weight
+        from costing.network.clock import ClockLimit, clock_astar
+
+        model, places = self.model, self.places
+        memo: dict = {}
+
+        def stops(k: int, b: float, r: float):
+            w = memo.get((k, b, r))
+            if w is None:
+                w = memo[(k, b, r)] = stop_weight(model, profile, k, b, r, places)
+            return w
+
+        # exact shortcut: stops only add weight, so the plain search's optimum is a lower bound;
+        # when its route needs no stop, its weight with the clock is that bound: it is optimal
+        plain = astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
+        if not plain.found or self._stop_free(profile, cn, plain):
+            return plain
+        # the bound: the least remaining weight without stops (a reverse search from the exits);
+        # stops only add weight, so it is consistent for the clock labels too, and much closer
+        # than the straight line
+        rev = self._reverse.get(profile)
+        if rev is None:
+            rev = self._reverse[profile] = [[] for _ in cn.adj]
+            for u, row in enumerate(cn.adj):
+                for v, w, e in row:
+                    rev[v].append((u, w, e))
+        remaining = dijkstra_all(rev, list(exits.items()))
+        try:
+            return clock_astar(cn, sources, exits, remaining, self.rules,
+                               lambda k: profile.cards[k][1] == "road", stops,
+                               cap=max(20_000, 40 * len(cn.adj)),
+                               on_duty=lambda state: model.depot(cn.depot_of(state)).handling_hours)
+        except ClockLimit:
+            self.clock_fallbacks.add(s.shipment_id)
+            return astar(cn.arcs, sources, exits, cn.bound(cn.index[s.destination]))
+
+    def _stop_free(self, profile: Profile, cn: CompactNetwork, res) -> bool:
+        """Whether the route `res` needs no break or rest under the driving rules (its runs
+        clocked as the legs are: costing.price.rules.advance from a rested driver)."""
+        from costing.price.rules import advance, start_clock
+
+        def loading(state: int) -> float:
+            return self.model.depot(cn.depot_of(state)).handling_hours
+
+        clock = start_clock(self.rules, loading(res.nodes[0]))
+        for i, e in enumerate(res.edges):
+            step = cn.steps[e]
+            if step.transfer is not None:
+                clock = start_clock(self.rules, loading(res.nodes[i + 1]))
+            elif profile.cards[step.card][1] == "road":
+                brk, rest, clock = advance(clock, step.use.hours, self.rules)
+                if brk or rest:
+                    return False
+        return True
+
     def pool(self, s: Shipment) -> list[RateCard]:
         """The rate cards a shipment may use: its named vehicle's, or every card."""
         return [r for r in self.model.rates if not s.vehicle or r.vehicle == s.vehicle]
 
     def _engine(self, profile: Profile, cn: CompactNetwork):
         """The array engine for a large one-card network (built once per profile), else None."""
-        if cn.n_cards != 1 or len(cn.depot_ids) < ENGINE_MIN_DEPOTS:
-            return None
+        if cn.n_cards != 1 or len(cn.depot_ids) < ENGINE_MIN_DEPOTS or profile.tie_break:
+            return None  # tie-broken weights are triples: the pure-Python core searches them
         engine = self._engines.get(profile)
         if engine is None:
             from costing.network.engine import CSRGraph, SearchEngine
@@ -208,14 +298,22 @@ class Router:
 
     def candidates(self, s: Shipment, objective: str) -> list[list[RateCard]]:
         """Sets of rate cards to search. A minimum charge is not additive lane by lane (a route
-        pays the largest min_charge of the cards it uses), so for the cost objective one search
-        is run per distinct min_charge t over the cards with min_charge <= t, and the best total
-        wins. That is exact: the best route r* with largest card minimum t* is a candidate of
-        the search at t*, whose result has subtotal <= r*'s and minimum <= t*, so its total
-        max(subtotal, minimum) is no more than r*'s. Other objectives ignore the minimum."""
+        pays the largest min_charge of the cards it uses), so one search is run per distinct
+        min_charge t over the cards with min_charge <= t, and the best wins (`better`). For
+        the cost objective that is exact: the best route r* with largest card minimum t* is a
+        candidate of the search at t*, whose result has subtotal <= r*'s and minimum <= t*, so
+        its total max(subtotal, minimum) is no more than r*'s.
+
+        The other objectives break ties of their value toward the lower total cost, then the
+        fewer legs, and need the same levels for the cost part: let r* be the best route by
+        (objective, total cost, legs) and t* its largest card minimum. The search at t* reaches
+        the least objective value (r* is in it) and, its weights being Lex(objective, cost,
+        legs) (`costing.network.build._weigh`), returns a route of that value whose cost
+        before the minimum (its subtotal without break pay) is <= r*'s, with minimum <= t*:
+        its total is no more than r*'s. Legs are the last key among routes of equal subtotal;
+        two routes whose subtotals differ but are both lifted to the same minimum charge are
+        equal in total and the search does not compare their legs (stated approximation)."""
         pool = self.pool(s)
-        if not _uses(objective, "cost"):
-            return [pool]
         levels = sorted({c.min_charge for c in pool})
         return [[c for c in pool if c.min_charge <= t] for t in levels]
 
@@ -317,7 +415,7 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
         if not res.found:
             continue
         costed = cost_route(model, s, obj, _runs(model, cn, res))
-        if best is None or costed.objective_value < best.objective_value - 1e-9:
+        if best is None or better(costed, best):
             best, best_vs = costed, vs
     if best is None:
         msg = _why_no_route(router, s, obj, candidates[-1]) if with_notes else "no route"
@@ -339,14 +437,37 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
     modes = list(dict.fromkeys(leg.use.lane.mode for leg in best.legs))
     if len(modes) > 1:
         notes.append("intermodal: " + " > ".join(_run_modes(best)))
+    crossdocks = [f"{a.card.vehicle} > {b.card.vehicle} at {a.use.to_depot}"
+                  for a, b in zip(best.legs, best.legs[1:])
+                  if a.card.mode == b.card.mode and a.card.vehicle != b.card.vehicle]
+    if crossdocks:
+        notes.append("vehicle changed (cross-dock): " + "; ".join(crossdocks))
     if best.break_hours or best.rest_hours:
+        clocked = router.clocked(make_profile(model, s, obj, best_vs))
+        if clocked and s.shipment_id not in router.clock_fallbacks:
+            how = "route chosen with them in the search"
+        elif s.shipment_id in router.clock_fallbacks:
+            how = "route chosen on driving hours: too many clock labels for the search"
+        else:
+            how = "route chosen on driving hours"
         notes.append(f"driving rules: {best.break_hours:g} h of breaks and {best.rest_hours:g} h of rest "
-                     "added to the chosen route (route chosen on driving hours)")
+                     f"on the chosen route ({how}; planning estimate)")
     if any(leg.co2e_basis != "fuel" for leg in best.legs):
         notes.append("CO2e partly from default intensities (see Legs)")
     if not s.vehicle and len(router.vehicles) > 1:
         notes.append(f"vehicle chosen by {obj}")
     return replace(best, message="; ".join(notes), settled=settled, pushed=pushed)
+
+
+def better(a: CostedShipment, b: CostedShipment) -> bool:
+    """Whether route `a` beats route `b`: a lower objective value (by more than 1e-9 of its unit,
+    float noise), or an equal one and then a lower total cost, then fewer legs. Deterministic:
+    on a full tie the route found first is kept."""
+    if a.objective_value < b.objective_value - 1e-9:
+        return True
+    if a.objective_value > b.objective_value + 1e-9:
+        return False
+    return (a.total_cost, len(a.legs)) < (b.total_cost, len(b.legs))
 
 
 def _run_modes(c: CostedShipment) -> list[str]:
@@ -371,6 +492,11 @@ def _blocked_reasons(model: Model, s: Shipment, cn: CompactNetwork, res, profile
         v, m, _n = cn.profile.cards[step.card]
         if s.hazmat and not lane.hazmat_allowed:
             reasons.append(f"{lane.lane_id} does not allow dangerous goods")
+        elif s.hazmat and tunnel_forbids(hazmat_tunnel_letter(s), lane.tunnel_category):
+            code = (f"tunnel code {s.tunnel_code}" if s.tunnel_code
+                    else "dangerous goods without a tunnel code")
+            reasons.append(f"{lane.lane_id} has a category {lane.tunnel_category} tunnel, closed to "
+                           f"{code}")
         else:
             reasons.append(f"{lane.lane_id} allows at most {lane.max_weight_t:g} t per vehicle, "
                            f"a loaded {v} weighs {loaded_weight(s, card_of(model, v, m)):g} t")

@@ -71,6 +71,7 @@ from costing.plan.buy import (
 from costing.plan.consolidate import Capacity, Load, Step, plan
 from costing.price.allocate import allocate, cap_at_standalone
 from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg
+from costing.price.rates import fuel_use, load_factor, wtw_per_litre
 
 MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
 
@@ -296,11 +297,14 @@ def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load
     return Load(index, day, s.weight_t, s.pallets or 0.0, s.volume_m3 or 0.0, tuple(routes))
 
 
-def _run_co2e(leg: Leg, vehicles: int, tonne_km: float) -> float:
-    """A run's kg CO2e in the order of its spreadsheet formula (Vehicle runs sheet)."""
+def _run_co2e(leg: Leg, vehicles: int, tonne_km: float, tonnes: float = 0.0) -> float:
+    """A run's kg CO2e (well-to-wheel), in the order of its spreadsheet formula (Vehicle runs):
+    fuel basis, its vehicles' fuel at the run's load factor (MIN(1, tonnes / vehicles / payload));
+    default basis, the run's tonne-km x the mode's intensity."""
     card = leg.card
     if leg.co2e_basis == "fuel":
-        return vehicles * leg.use.km * card.fuel_l_per_100km / 100 * card.co2e_kg_per_litre
+        l100 = fuel_use(card, load_factor(tonnes, vehicles, card))
+        return vehicles * leg.use.km * l100 / 100 * wtw_per_litre(card)
     return tonne_km * leg.intensity_g_per_tkm / 1000
 
 
@@ -470,7 +474,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             part_legs = [chosen[i].legs[k] for i, k in part]
             rl = run_leg if len(part) == len(members) else part_legs[0]
             tkm = sum(g.tonne_km for g in part_legs)
-            co2e = _run_co2e(rl, rl.vehicles, tkm)
+            co2e = _run_co2e(rl, rl.vehicles, tkm, sum(g.weight_t for g in part_legs))
             run_id = f"R{len(runs) + 1:04d}"
             keys = [g.tonne_km for g in part_legs]
             cost_shares = allocate(rl.leg_cost, keys, places) if len(part) > 1 else [rl.leg_cost]

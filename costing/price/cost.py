@@ -4,15 +4,19 @@ Knows nothing of graphs' internals or workbooks.
 Per leg, with n = vehicles needed on that leg's rate card (ceil(weight / payload)):
     km_cost        = ROUND(n x distance_km x per_km)
     hour_cost      = ROUND(n x drive_hours x per_hour)
-    toll_cost      = ROUND(n x toll)
+    toll_cost      = ROUND(n x toll of the card's toll class on the lane)
     fixed_cost     = ROUND(n x fixed_cost)
     fuel_surcharge = ROUND(n x km x l/100 km / 100 x (fuel price - fuel_included_at))
     stop_cost      = ROUND(n x paid break and rest hours x per_hour)   (driving rules)
     handling_start_cost = ROUND(n x handling where a vehicle run starts: origin or a transfer)
-    handling_end_cost   = ROUND(n x handling at to_depot when it is a hub or the destination)
+    handling_end_cost   = ROUND(n x handling where a vehicle run ends: destination or a transfer)
     trip_cost      = ROUND(n x per_trip), on the first leg of each vehicle run
     leg_cost       = the sum of the above
-A vehicle run is a stretch of legs on one rate card; it changes only at a terminal or port.
+A vehicle run is a stretch of legs on one rate card; it changes only at a terminal or port (to
+another mode) or at a hub (to another vehicle of the same mode). Handling is charged where loads
+are handled: per vehicle at both ends of each vehicle run (loading, unloading: every unit lifted
+off and on at a transfer), never where a vehicle only drives through a hub. Handling hours
+likewise: per vehicle (in parallel) at each end of each run.
 Per shipment: subtotal = sum of leg_cost; min_charge_uplift = max(0, min_charge - subtotal)
 with min_charge the largest of the rate cards used; total_cost = subtotal + uplift.
 ROUND is half away from zero to the currency's minor unit, as the spreadsheet ROUND does.
@@ -25,7 +29,15 @@ from dataclasses import dataclass, replace
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
 from costing.objectives import objective
-from costing.price.rates import charge, co2e_kg, fuel_surcharge_rate, lane_charges, load_vehicles
+from costing.price.rates import (
+    charge,
+    emissions,
+    fuel_surcharge_rate,
+    lane_charges,
+    load_vehicles,
+    toll_class,
+    toll_for,
+)
 from costing.price.rules import rules_for, stops_for_run
 
 ROUTED, NO_ROUTE, REJECTED = "routed", "no_route", "rejected"
@@ -54,9 +66,9 @@ class Leg:
     paid_stop_hours: float
     stop_cost: float
     leg_cost: float
-    co2e_kg: float
+    co2e_kg: float  # well-to-wheel
     co2e_basis: str  # "fuel" or "default intensity"
-    intensity_g_per_tkm: float | None  # the default intensity used, if any
+    intensity_g_per_tkm: float | None  # the default (well-to-wheel) intensity used, if any
     weight_t: float
     fuel_price: float | None  # the fuel price used for the surcharge, if any
     # set by the plan stage (costing.plan.week): the vehicle run the leg rides in and its shares
@@ -64,11 +76,20 @@ class Leg:
     cost_share: float | None = None  # the leg's share of its run's cost, currency
     share_adjust: float = 0.0  # cost_share minus ROUND(run cost x tonne-km / run tonne-km)
     co2e_share: float | None = None  # the leg's share of its run's kg CO2e
+    # emissions on a stated basis (price/rates.py `emissions`): co2e_kg above is well-to-wheel
+    co2e_ttw_kg: float = 0.0  # its tank-to-wheel part
+    tonne_km: float = 0.0  # weight_t x km
+    load_factor: float = 0.0  # load per vehicle / payload_t, at most 1
+    fuel_used_l_per_100km: float | None = None  # per vehicle at that load (fuel basis)
+    wtw_kg_per_litre: float | None = None  # the WTW factor used (fuel basis)
+    ttw_intensity_g_per_tkm: float | None = None  # the default TTW intensity used (default basis)
+    toll_rate: float = 0.0  # the toll per vehicle of the card's toll class on this lane
+    toll_class: str = "heavy"
 
     @property
-    def tonne_km(self) -> float:
-        """Tonnes carried x km of the leg (the allocation key of ISO 14083)."""
-        return self.weight_t * self.use.km
+    def co2e_g_per_tkm(self) -> float:
+        """Well-to-wheel g CO2e per tonne-km of the leg (0 when it carries no tonne-km)."""
+        return self.co2e_kg * 1000 / self.tonne_km if self.tonne_km else 0.0
 
     @property
     def handling_cost(self) -> float:
@@ -109,6 +130,7 @@ class CostedShipment:
     def buy_cost(self) -> float | None:
         """The carrier's charge in the run's currency (None when no tariff fits)."""
         return None if self.quote is None else self.quote.charge
+    stops_in_hours: bool = False  # the hours quantity includes breaks and rests (clock in search)
 
     @property
     def subtotal(self) -> float:
@@ -199,9 +221,20 @@ class CostedShipment:
         return sum(leg.co2e_kg for leg in self.legs)
 
     @property
+    def co2e_ttw_kg(self) -> float:
+        """The tank-to-wheel part of the route's emissions, kg CO2e (sum of the legs)."""
+        return sum(leg.co2e_ttw_kg for leg in self.legs)
+
+    @property
     def tonne_km(self) -> float:
-        """Tonne-km of the route (weight x km, summed over the legs)."""
+        """Tonne-km of the route: weight_t x km summed over the legs."""
         return sum(leg.tonne_km for leg in self.legs)
+
+    @property
+    def co2e_g_per_tkm(self) -> float:
+        """Well-to-wheel g CO2e per tonne-km of the route (0 without tonne-km)."""
+        tkm = self.tonne_km
+        return self.co2e_kg * 1000 / tkm if tkm else 0.0
 
     def component(self, name: str) -> float:
         """One cost component (a Leg field such as ``km_cost``) summed over the legs and rounded
@@ -210,10 +243,13 @@ class CostedShipment:
 
     def quantity(self, name: str) -> float:
         """A route quantity of costing.objectives: cost (total, currency), hours (driving and
-        handling), km, co2e (kg CO2e)."""
+        handling, and breaks and rests when the driving clock is in the search), km, co2e (kg
+        CO2e, well-to-wheel)."""
         if name == "cost":
             return self.total_cost
         if name == "hours":
+            if self.stops_in_hours:  # the driving clock is in the search: elapsed hours
+                return self.elapsed_hours
             return self.drive_hours + self.handling_hours
         if name == "km":
             return self.distance_km
@@ -229,10 +265,10 @@ class CostedShipment:
 
 
 def _charges(use: LaneUse, card: RateCard, n: int, paid_hours: float, start_rate: float,
-             end_rate: float, trip_rate: float, settings, places: int):
+             end_rate: float, trip_rate: float, settings, places: int, toll: float):
     """(lane charges, stop, start handling, end handling, trip, leg cost) of `n` vehicles on one
     lane step, each rounded in the order of its spreadsheet formula (module docstring)."""
-    lc = lane_charges(use.km, use.hours, use.lane.toll, use.lane.fixed_cost, card, n, settings, places)
+    lc = lane_charges(use.km, use.hours, toll, use.lane.fixed_cost, card, n, settings, places)
     stop_cost = round_money(n * paid_hours * card.per_hour, places)
     sh_cost, eh_cost = charge(n, start_rate, places), charge(n, end_rate, places)
     trip_cost = charge(n, trip_rate, places)
@@ -249,37 +285,42 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
     depots: dict[str, Depot] = model.depot_index
     rules = rules_for(settings)
     legs: list[Leg] = []
-    total_steps = sum(len(uses) for _c, uses in runs)
     for card, uses in runs:
         n = load_vehicles(shipment.weight_t, card, shipment.pallets, shipment.volume_m3)
-        stops = (stops_for_run([u.hours for u in uses], rules) if rules and card.mode == "road"
+        on_duty = depots[uses[0].from_depot].handling_hours  # loading before the run's driving
+        stops = (stops_for_run([u.hours for u in uses], rules, on_duty) if rules and card.mode == "road"
                  else [(0.0, 0.0)] * len(uses))
         surcharge_rate = fuel_surcharge_rate(card, settings)
         for i, use in enumerate(uses):
-            last = len(legs) + 1 == total_steps
             start = depots[use.from_depot] if i == 0 else None
             end = depots[use.to_depot]
-            end_counts = last or end.kind == "hub"
+            end_counts = i == len(uses) - 1  # the run ends here: its vehicles are unloaded
             start_rate = start.handling_cost if start else 0.0
             end_rate = end.handling_cost if end_counts else 0.0
             hours = (start.handling_hours if start else 0.0) + (end.handling_hours if end_counts else 0.0)
             trip_rate = card.per_trip if i == 0 else 0.0
+            toll = toll_for(use.lane, card)  # by the card's toll class
             brk, rest = stops[i]
             paid = (brk if settings.break_hours_paid == "yes" else 0.0) + \
                 (rest if settings.rest_hours_paid == "yes" else 0.0)
             lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
-                use, card, n, paid, start_rate, end_rate, trip_rate, settings, places)
-            kg, basis, intensity = co2e_kg(use.km, card, n, shipment.weight_t)
+                use, card, n, paid, start_rate, end_rate, trip_rate, settings, places, toll)
+            em = emissions(use.km, card, n, shipment.weight_t)
             legs.append(Leg(len(legs) + 1, use, card, n, start_rate, end_rate, hours, trip_rate,
                             lc.km_cost, lc.hour_cost, lc.toll_cost, lc.fixed_cost, lc.fuel_surcharge,
-                            sh_cost, eh_cost, trip_cost, brk, rest, paid, stop_cost, leg_cost, kg, basis,
-                            intensity, shipment.weight_t,
-                            settings.fuel_price_per_litre if surcharge_rate is not None else None))
+                            sh_cost, eh_cost, trip_cost, brk, rest, paid, stop_cost, leg_cost, em.wtw_kg,
+                            em.basis, em.wtw_g_per_tkm, shipment.weight_t,
+                            settings.fuel_price_per_litre if surcharge_rate is not None else None,
+                            co2e_ttw_kg=em.ttw_kg, tonne_km=em.tonne_km, load_factor=em.load_factor,
+                            fuel_used_l_per_100km=em.l_per_100km, wtw_kg_per_litre=em.wtw_kg_per_litre,
+                            ttw_intensity_g_per_tkm=em.ttw_g_per_tkm, toll_rate=toll,
+                            toll_class=toll_class(card)))
     min_charge = max((card.min_charge for card, _u in runs), default=0.0)
     vehicle = ", ".join(dict.fromkeys(card.vehicle for card, _u in runs))
     return CostedShipment(shipment, ROUTED, objective, vehicle, tuple(legs), min_charge,
                           settled=settled, pushed=pushed, places=places,
-                          value_of_time=settings.value_of_time_per_hour)
+                          value_of_time=settings.value_of_time_per_hour,
+                          stops_in_hours=rules is not None and settings.driving_clock_in_search == "yes")
 
 
 def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
@@ -305,7 +346,7 @@ def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
     card, use = leg.card, leg.use
     lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
         use, card, n, leg.paid_stop_hours, leg.start_handling_rate, leg.end_handling_rate, leg.trip_rate,
-        settings, places)
+        settings, places, leg.toll_rate)
     return replace(leg, vehicles=n, km_cost=lc.km_cost, hour_cost=lc.hour_cost, toll_cost=lc.toll_cost,
                    fixed_cost=lc.fixed_cost, fuel_surcharge=lc.fuel_surcharge, stop_cost=stop_cost,
                    start_handling_cost=sh_cost, end_handling_cost=eh_cost, trip_cost=trip_cost,

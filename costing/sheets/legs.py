@@ -32,7 +32,7 @@ LEG_CELLS = {
     "paid_stop_hours": (lambda r, g: g.paid_stop_hours, None),
     "per_km": (lambda r, g: g.card.per_km, None),
     "per_hour": (lambda r, g: g.card.per_hour, None),
-    "toll": (lambda r, g: g.use.lane.toll, None),
+    "toll": (lambda r, g: g.toll_rate, None),  # of the card's toll class
     "fixed_cost_rate": (lambda r, g: g.use.lane.fixed_cost, None),
     "fuel_l_per_100km": (lambda r, g: g.card.fuel_l_per_100km, None),
     "fuel_price": (lambda r, g: g.fuel_price, None),
@@ -58,10 +58,24 @@ LEG_CELLS = {
     "co2e_basis": (lambda r, g: g.co2e_basis, None),
     "intensity_g_per_tkm": (lambda r, g: g.intensity_g_per_tkm, None),
     "co2e_kg": (lambda r, g: g.co2e_kg,
-        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*{co2e_kg_per_litre},'
-        "{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
-    "run_id": (lambda r, g: g.run_id, None),
+        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
+        "{wtw_co2e_kg_per_litre},{weight_t}*{distance_km}*{intensity_g_per_tkm}/1000)"),
+    # emissions on a stated basis (issue 12)
+    "payload_t": (lambda r, g: g.card.payload_t, None),
+    "load_factor": (lambda r, g: g.load_factor, "MIN(1,{weight_t}/{vehicles}/{payload_t})"),
+    "fuel_empty_l_per_100km": (lambda r, g: g.card.fuel_empty_l_per_100km, None),
+    "fuel_used_l_per_100km": (lambda r, g: g.fuel_used_l_per_100km or 0.0,
+        'IF({co2e_basis}="fuel",IF({fuel_empty_l_per_100km}="",{fuel_l_per_100km},'
+        "{fuel_empty_l_per_100km}+({fuel_l_per_100km}-{fuel_empty_l_per_100km})*{load_factor}),0)"),
+    "wtw_co2e_kg_per_litre": (lambda r, g: g.wtw_kg_per_litre, None),
+    "ttw_intensity_g_per_tkm": (lambda r, g: g.ttw_intensity_g_per_tkm, None),
+    "co2e_ttw_kg": (lambda r, g: g.co2e_ttw_kg,
+        'IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
+        "{co2e_kg_per_litre},{weight_t}*{distance_km}*{ttw_intensity_g_per_tkm}/1000)"),
     "tonne_km": (lambda r, g: g.tonne_km, "{weight_t}*{distance_km}"),
+    "co2e_g_per_tkm": (lambda r, g: g.co2e_g_per_tkm, "IF({tonne_km}=0,0,{co2e_kg}*1000/{tonne_km})"),
+    "toll_class": (lambda r, g: g.toll_class, None),
+    "run_id": (lambda r, g: g.run_id, None),
     # the leg's share of its run (Vehicle runs): tonne-km share of run_cost, in the order of
     # costing.plan.week._quota, plus the largest-remainder (and cap) adjustment
     "cost_share": (lambda r, g: leg_value(g, "cost_share"),

@@ -128,7 +128,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
          "{} / {} / {}".format(*(len({(p.sheet, p.cell, p.message) for p in problems if p.severity == k})
                                  for k in (ERROR, WARNING, INFO)))),
     ]
-    from costing.price.rates import DEFAULT_INTENSITY
+    from costing.price.rates import DEFAULT_FACTORS, DIESEL_WTT_KG_PER_LITRE, DIESEL_WTT_SOURCE
     from costing.price.rules import rules_for
 
     rules = rules_for(s)
@@ -136,17 +136,45 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         rows += [
             ("driving rules",
              f"{rules.name}: break of {rules.break_hours:g} h after {rules.break_after:g} h driving; "
-             f"daily rest of {rules.daily_rest:g} h after {rules.daily_driving:g} h driving "
-             "(road legs; one driver per vehicle)"),
+             f"daily rest of {rules.daily_rest:g} h after {rules.daily_driving:g} h driving"
+             + (f", {rules.extended_driving:g} h on at most {rules.extended_days} days"
+                if rules.extended_driving else "")
+             + (f"; rests of {rules.reduced_rest:g} h at most {rules.reduced_rests} times"
+                if rules.reduced_rest else "")
+             + (f"; no driving after {rules.duty_window:g} h on duty (loading, driving and breaks "
+                "count)" if rules.duty_window else "")
+             + " (road legs; one driver per vehicle, rested at each change of vehicle; stops as "
+               "soon as due; weekly limits not modelled)"),
             ("driving rules: source", rules.source),
-            ("driving rules: route choice", "routes are chosen on driving and handling hours; breaks and "
-                                            "rests are then added to the chosen route and costed"),
+            ("driving rules: route choice",
+             "the search carries the driving clock (driving since the last break, driving today): "
+             "the time, cost and blended objectives choose routes with their breaks and rests and "
+             "their pay, exact under the stop model above (on networks of up to 50,000 depot and "
+             "vehicle states; larger ones choose on driving hours); distance, emissions and the "
+             "trade-offs do not carry it. Planning estimate, not compliance advice."
+             if s.driving_clock_in_search == "yes" else
+             "routes are chosen on driving and handling hours; breaks and rests are then added to "
+             "the chosen route and costed"),
         ]
     else:
         rows.append(("driving rules", "none: hours are driving plus handling, no breaks or rests"))
-    if any(leg.co2e_basis != "fuel" for x in results for leg in x.legs):
-        for mode, (g, source) in DEFAULT_INTENSITY.items():
-            rows.append((f"default CO2e intensity: {mode}", f"{g:g} g CO2e per tonne-km; {source}"))
+    rows += [
+        ("emissions basis", "well-to-wheel (WTW) CO2e, as ISO 14083:2023 and the GLEC Framework ask, "
+                            "with its tank-to-wheel (TTW) part beside it (co2e_kg, co2e_ttw_kg), per "
+                            "leg and shipment, with tonne-km (weight_t x km) and g CO2e per tonne-km. "
+                            "Planning estimate, not compliance advice."),
+        ("emissions: fuel basis", "litres = vehicles x km x fuel use at the leg's load / 100 (straight "
+                                  "line from fuel_empty_l_per_100km empty to fuel_l_per_100km fully "
+                                  "laden, as the DEFRA 2007 load-dependent road table is); TTW = litres "
+                                  "x co2e_kg_per_litre, WTW = litres x wtw_co2e_kg_per_litre"),
+        ("emissions: well-to-tank of diesel", "used where a rate card's wtw_co2e_kg_per_litre is blank: "
+                                              f"co2e_kg_per_litre + {DIESEL_WTT_KG_PER_LITRE:g} kg CO2e "
+                                              f"per litre; {DIESEL_WTT_SOURCE}"),
+    ]
+    for mode, fct in DEFAULT_FACTORS.items():
+        rows.append((f"default CO2e intensity: {mode}",
+                     f"{fct.wtw:g} g CO2e per tonne-km WTW ({fct.ttw:g} TTW); source: {fct.source}; "
+                     f"year: {fct.year}; basis: {fct.basis}"))
     st = info.stats
     rows += [
         ("searches (A*)", st.searches),

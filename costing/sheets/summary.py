@@ -7,7 +7,7 @@ import datetime as _dt
 
 from xlsxwriter.utility import xl_col_to_name
 
-from costing.contract.outputs import LEG, SUM, SUMMARY_COLUMNS, SUMMED
+from costing.contract.outputs import LEG, RATIOS, SUM, SUMMARY_COLUMNS, SUMMED
 from costing.money import round_money
 from costing.plan.week import late_hours
 from costing.price.cost import ROUTED
@@ -58,6 +58,9 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
             if kind == "money":
                 expr = w.round_f(expr)
             ws.write_formula(r, c[col], "=" + expr, f[kind], shipment_value(res, col))
+        for col, (num, den, k) in RATIOS.items():  # e.g. g CO2e per tonne-km
+            ws.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
+                             getattr(res, col))
         ws.write_number(r, c["min_charge"], res.min_charge, f["money"])
         ws.write_formula(r, c["min_charge_uplift"],
                          "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
@@ -101,6 +104,10 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         fmt = f.get("total_" + kind, f["total_text"])
         ws.write_formula(t, c[col], "=" + expr, fmt, value)
     write_revenue_totals(w, ws, t, last, results)
+    for col, (num, den, k) in RATIOS.items():
+        n, d = totals[num], totals[den]
+        ws.write_formula(t, c[col], f"=IF({S[den]}{t + 1}=0,0,{S[num]}{t + 1}*{k}/{S[den]}{t + 1})",
+                         f["total_text"], n * k / d if d else 0.0)
     ws.autofilter(0, 0, max(last, 1), len(SUMMARY_COLUMNS) - 1)
     ws.conditional_format(1, c["status"], max(last, 1), c["status"],
                           {"type": "cell", "criteria": "!=", "value": '"routed"',

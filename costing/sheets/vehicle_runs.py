@@ -11,6 +11,7 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing.contract.outputs import LEG, RUN_COL, RUN_COLUMNS
 from costing.money import round_money
+from costing.price.rates import fuel_use
 from costing.sheets.formats import Writer, cell_text, sheet_ref
 from costing.sheets.legs import LEG_CELLS
 
@@ -102,9 +103,22 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
             ws.write_formula(r, COL["saving"], "=" + saving, f["money"],
                              round_money(standalone - run.run_cost, w.places))
             ws.write_formula(r, COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
+        # emissions of the run's vehicles at the run's load (the Legs formulas, for the run)
+        lf = min(1.0, run.tonnes / run.vehicles / card.payload_t)
+        ws.write_formula(r, COL["load_factor"], "=MIN(1,{tonnes}/{vehicles}/{payload_t})".format(**refs),
+                         f["plain"], lf)
+        if card.fuel_empty_l_per_100km is not None:
+            ws.write_number(r, COL["fuel_empty_l_per_100km"], card.fuel_empty_l_per_100km)
+        if g.wtw_kg_per_litre is not None:
+            ws.write_number(r, COL["wtw_co2e_kg_per_litre"], g.wtw_kg_per_litre)
+        fuel = fuel_use(card, lf) if g.co2e_basis == "fuel" else 0.0
+        ws.write_formula(r, COL["fuel_used_l_per_100km"], (
+            '=IF({co2e_basis}="fuel",IF({fuel_empty_l_per_100km}="",{fuel_l_per_100km},'
+            "{fuel_empty_l_per_100km}+({fuel_l_per_100km}-{fuel_empty_l_per_100km})*{load_factor}),0)"
+        ).format(**refs), f["plain"], fuel)
         ws.write_formula(r, COL["co2e_kg"],
-                         '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_l_per_100km}/100*'
-                         "{co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),
+                         '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
+                         "{wtw_co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),
                          f["kg"], run.co2e_kg)
     ws.autofilter(0, 0, max(r, 1), len(columns) - 1)
     return r + 1
