@@ -114,6 +114,7 @@ class Settings:
     compare_objectives: str = "yes"
     frontier_max_routes: float = 6
     consolidate: str = "yes"
+    network_file: str | None = None  # network file, relative to the workbook (costing.network.netfile)
 
 
 @dataclass(frozen=True)

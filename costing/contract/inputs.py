@@ -60,7 +60,7 @@ class SheetSpec:
 @dataclass(frozen=True)
 class SettingSpec:
     name: str
-    kind: str  # number | choice | text
+    kind: str  # number | choice | text (kept as typed; currency upper-cased)
     default: object
     note: str
     choices: tuple[str, ...] = ()
@@ -118,6 +118,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "common, up to payload, pallet places and volume, and each pays a tonne-km share of "
                 "the vehicle runs it rides in (Vehicle runs sheet). no: every shipment has vehicles "
                 "of its own.", choices=YES_NO),
+    SettingSpec("network_file", "text", None,
+                "A compact network file (.npz) whose depots and lanes are added to those of the "
+                "Depots and Lanes sheets, for road graphs too large for rows; `costing import-network "
+                "--compact` writes it and this setting. Path relative to this workbook's folder. "
+                "Blank: the sheets alone."),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}
