@@ -60,6 +60,13 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("input", metavar="INPUT", help="input workbook (.xlsx); never modified")
     r.add_argument("-o", "--output", metavar="OUTPUT", required=True, help="costed workbook to write")
     _common(r)
+    r.add_argument("--workers", metavar="N", type=int, default=None,
+                   help="run on N local Dask worker processes (needs costing[dask]); the week is split "
+                   "into shards by ready day (and origin when consolidate is no); the result is the "
+                   "same as without")
+    r.add_argument("--scheduler", metavar="ADDRESS", default=None,
+                   help="run on the Dask cluster whose scheduler is at ADDRESS (e.g. tcp://10.0.0.5:8786); "
+                   "its workers need this version of costing installed")
 
     d = sub.add_parser("demo", help="cost the bundled example workbook",
                        description="Write the bundled example input and cost it: the quickest way to "
@@ -361,7 +368,11 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT
-    costed = pipeline.run(model, pipeline.Options(objective=args.objective, progress=_Progress))
+    options = pipeline.Options(objective=args.objective, progress=_Progress)
+    if getattr(args, "workers", None) is not None or getattr(args, "scheduler", None):
+        costed = _run_distributed(model, options, args)
+    else:
+        costed = pipeline.run(model, options)
     results, scenario_runs, analysis = costed.results, costed.scenarios, costed.analysis
     problems = costed.problems
     t0 = time.perf_counter()
@@ -390,6 +401,36 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         print(f"{routed} of {len(results)} shipments routed{extra}; total {total:,.2f} "
               f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s")
     return EXIT_OK
+
+
+def _run_distributed(model, options, args):
+    """``costing.distributed.run`` on a local cluster of ``--workers`` or at ``--scheduler``."""
+    from costing import distributed
+
+    if args.workers is not None and args.workers < 1:
+        raise UsageError(f"--workers must be 1 or more, not {args.workers}")
+    if args.workers is not None and args.scheduler:
+        raise UsageError("give --workers (a local cluster) or --scheduler (an existing one), not both")
+    try:
+        import dask.distributed  # noqa: F401
+    except ImportError:
+        raise UsageError(distributed.DASK_MISSING) from None
+    if args.scheduler:
+        try:
+            client = distributed.connect(args.scheduler)
+        except (OSError, ValueError, TimeoutError) as e:
+            raise UsageError(f"cannot reach the Dask scheduler at {args.scheduler}: {e}") from None
+    else:
+        client = distributed.local_client(args.workers)
+    try:
+        if not args.quiet:
+            print(f"running on Dask: {len(client.nthreads())} workers", file=sys.stderr)
+        return distributed.run(model, options, client)
+    finally:
+        cluster = None if args.scheduler else client.cluster
+        client.close()
+        if cluster is not None:
+            cluster.close()
 
 
 def _compare(args) -> int:
