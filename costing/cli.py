@@ -383,6 +383,8 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     stats = costed.stats
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
+    if model.settings.network_file:  # the network the routes ran on, for the audit
+        info.extra["network file"] = _network_file_note(input_path, model.settings.network_file)
     t0 = time.perf_counter()
     try:
         _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
@@ -401,6 +403,17 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         print(f"{routed} of {len(results)} shipments routed{extra}; total {total:,.2f} "
               f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s")
     return EXIT_OK
+
+
+def _network_file_note(input_path: str, name: str) -> str:
+    """``NAME: SHA-256 ...`` of the network file Settings network_file names (relative to the input)."""
+    import hashlib
+
+    h = hashlib.sha256()
+    with open(os.path.join(os.path.dirname(os.path.abspath(input_path)), name), "rb") as f:
+        for block in iter(lambda: f.read(1 << 20), b""):
+            h.update(block)
+    return f"{name}: SHA-256 {h.hexdigest()} (depots and lanes read from it, beside the sheets' own)"
 
 
 def _run_distributed(model, options, args):

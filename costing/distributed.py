@@ -257,16 +257,18 @@ def run(model: Model, options: pipeline.Options | None = None, client=None, shar
     def submit(m: Model, opts: pipeline.Options):
         parts = make_shards(m, count)
         net = shipped(m)
-        futures = [client.submit(_run_shard, net, tuple(m.shipments[i] for i in part), opts, pure=False)
-                   for part in parts]
-        return parts, futures
+        # each shard's shipments go to the cluster as data (not inside the task), once
+        ships = client.scatter([tuple(m.shipments[i] for i in part) for part in parts])
+        futures = [client.submit(_run_shard, net, sh, opts, pure=False) for sh in ships]
+        return parts, futures, ships  # the data futures are held until gathered, or dask drops them
 
     jobs = [(model, options.analyses, *submit(model, base_options))]
     scenarios = list(model.scenarios) if options.scenarios else []
     for sc in scenarios:
         changed = apply_scenario(model, sc)
         jobs.append((changed, False, *submit(changed, sub_options)))
-    gathered = [gather(m, parts, client.gather(futures), analyses) for m, analyses, parts, futures in jobs]
+    gathered = [gather(m, parts, client.gather(futures), analyses)
+                for m, analyses, parts, futures, _ships in jobs]
     costed = gathered[0]
     costed.scenarios = [ScenarioRun(sc, g.results, g.stats, g.runs) for sc, g in zip(scenarios, gathered[1:])]
     workers = len(client.nthreads())

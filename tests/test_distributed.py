@@ -156,3 +156,16 @@ def test_without_dask_the_option_says_how_to_install(tmp_path, cli, monkeypatch)
     assert not os.path.exists(tmp_path / "o.xlsx")
     code, _out, err = cli("run", inp, "-o", str(tmp_path / "o.xlsx"), "--workers", "0")
     assert code == 2 and "--workers" in err
+
+
+def test_benchmark_quick_run_on_worker_processes(capsys):
+    # benchmarks/bench_distributed.py at a tiny size, on a LocalCluster of worker processes (the
+    # command line's default): it checks itself that every result equals the single-process run
+    pytest.importorskip("dask.distributed", reason="dask[distributed] not installed")
+    from benchmarks import bench_distributed
+
+    rows = bench_distributed.main(["--nodes", "400", "--shipments", "150", "--origins", "5",
+                                   "--workers", "2"])
+    out = capsys.readouterr().out
+    assert [name for name, _s in rows] == ["single process (pipeline.run)", "Dask, 2 local workers"]
+    assert "identical results: yes" in out and "| run | wall s |" in out

@@ -154,6 +154,8 @@ def test_cli_runs_the_compact_workbook(imported, tmp_path, capsys):
     run = {r[0]: r[1] for r in wb["Run"].iter_rows(min_row=2, max_col=2, values_only=True)}
     wb.close()
     assert run["setting: network_file"] == "compact.network.npz"
+    digest = hashlib.sha256(open(tmp_path / "compact.network.npz", "rb").read()).hexdigest()
+    assert run["network file"].startswith(f"compact.network.npz: SHA-256 {digest}")
 
 
 def _run_errors(path, tmp_path, capsys):
