@@ -60,6 +60,13 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("input", metavar="INPUT", help="input workbook (.xlsx); never modified")
     r.add_argument("-o", "--output", metavar="OUTPUT", required=True, help="costed workbook to write")
     _common(r)
+    r.add_argument("--workers", metavar="N", type=int, default=None,
+                   help="run on N local Dask worker processes (needs costing[dask]); the week is split "
+                   "into shards by ready day (and origin when consolidate is no); the result is the "
+                   "same as without")
+    r.add_argument("--scheduler", metavar="ADDRESS", default=None,
+                   help="run on the Dask cluster whose scheduler is at ADDRESS (e.g. tcp://10.0.0.5:8786); "
+                   "its workers need this version of costing installed")
 
     d = sub.add_parser("demo", help="cost the bundled example workbook",
                        description="Write the bundled example input and cost it: the quickest way to "
@@ -370,7 +377,11 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT
-    costed = pipeline.run(model, pipeline.Options(objective=args.objective, progress=_Progress))
+    options = pipeline.Options(objective=args.objective, progress=_Progress)
+    if getattr(args, "workers", None) is not None or getattr(args, "scheduler", None):
+        costed = _run_distributed(model, options, args)
+    else:
+        costed = pipeline.run(model, options)
     results, scenario_runs, analysis = costed.results, costed.scenarios, costed.analysis
     problems = costed.problems
     t0 = time.perf_counter()
@@ -381,6 +392,8 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     stats = costed.stats
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
+    if model.settings.network_file:  # the network the routes ran on, for the audit
+        info.extra["network file"] = _network_file_note(input_path, model.settings.network_file)
     t0 = time.perf_counter()
     try:
         bridges = _scenario_bridges(model, results, scenario_runs)
@@ -401,6 +414,47 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
               f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s; "
               "hours and CO2e are planning estimates, not legal or compliance advice")
     return EXIT_OK
+
+
+def _network_file_note(input_path: str, name: str) -> str:
+    """``NAME: SHA-256 ...`` of the network file Settings network_file names (relative to the input)."""
+    import hashlib
+
+    h = hashlib.sha256()
+    with open(os.path.join(os.path.dirname(os.path.abspath(input_path)), name), "rb") as f:
+        for block in iter(lambda: f.read(1 << 20), b""):
+            h.update(block)
+    return f"{name}: SHA-256 {h.hexdigest()} (depots and lanes read from it, beside the sheets' own)"
+
+
+def _run_distributed(model, options, args):
+    """``costing.distributed.run`` on a local cluster of ``--workers`` or at ``--scheduler``."""
+    from costing import distributed
+
+    if args.workers is not None and args.workers < 1:
+        raise UsageError(f"--workers must be 1 or more, not {args.workers}")
+    if args.workers is not None and args.scheduler:
+        raise UsageError("give --workers (a local cluster) or --scheduler (an existing one), not both")
+    try:
+        import dask.distributed  # noqa: F401
+    except ImportError:
+        raise UsageError(distributed.DASK_MISSING) from None
+    if args.scheduler:
+        try:
+            client = distributed.connect(args.scheduler)
+        except (OSError, ValueError, TimeoutError) as e:
+            raise UsageError(f"cannot reach the Dask scheduler at {args.scheduler}: {e}") from None
+    else:
+        client = distributed.local_client(args.workers)
+    try:
+        if not args.quiet:
+            print(f"running on Dask: {len(client.nthreads())} workers", file=sys.stderr)
+        return distributed.run(model, options, client)
+    finally:
+        cluster = None if args.scheduler else client.cluster
+        client.close()
+        if cluster is not None:
+            cluster.close()
 
 
 def _compare(args) -> int:
@@ -517,8 +571,22 @@ def _import_network_parser(sub) -> None:
     g.add_argument("--config", metavar="CONFIG.csv", default=None, help="GMNS config.csv (units, crs)")
     g.add_argument("--length-unit", default=None, help="unit of link length: km, m, mi, ft")
     g.add_argument("--speed-unit", default=None, help="unit of free_speed: kph, mph, m/s")
-    g.add_argument("--overwrite", action="store_true", help="replace OUTPUT if it exists")
+    g.add_argument("--compact", action="store_true",
+                   help="write the nodes and links to a network file beside OUTPUT (OUTPUT's name with "
+                   f"{NETWORK_SUFFIX}) that Settings network_file points to, instead of Depots and Lanes "
+                   f"rows; automatic above {COMPACT_ABOVE:,} nodes or links")
+    g.add_argument("--overwrite", action="store_true",
+                   help="replace OUTPUT (and its network file) if it exists")
     g.add_argument("--quiet", action="store_true", help="print only errors")
+
+
+NETWORK_SUFFIX = ".network.npz"  # costing.network.netfile.SUFFIX
+COMPACT_ABOVE = 100_000  # nodes or links: more go to a network file, not to spreadsheet rows
+
+
+def network_file_for(output: str) -> str:
+    """The network file written beside workbook `output`: ``week.xlsx`` -> ``week.network.npz``."""
+    return os.path.splitext(output)[0] + NETWORK_SUFFIX
 
 
 def _import_network(args) -> int:
@@ -533,13 +601,20 @@ def _import_network(args) -> int:
     try:
         net = read_gmns(args.nodes, args.links, args.config, length_unit=args.length_unit,
                         speed_unit=args.speed_unit)
-        model, problems, _ = pipeline.load(args.workbook)
+        # the workbook's own depots (an earlier import's network file is not read: it is replaced)
+        model, problems, _ = pipeline.load(args.workbook, network=False)
         if model is None:
             raise InputError(problems)
         own = [d for d in model.depots if not d.depot_id.startswith(IMPORT_PREFIX)]
         snaps, connectors = snap(own, net)
-        _atomic_write(args.output, lambda p: write_network(args.workbook, p, list(net.depots),
-                                                           list(net.lanes) + connectors, (IMPORT_PREFIX,)))
+        lanes = list(net.lanes) + connectors
+        compact = args.compact or max(len(net.depots), len(lanes)) > COMPACT_ABOVE
+        side = network_file_for(args.output) if compact else None
+        if side is not None:
+            _write_with_network_file(args, side, list(net.depots), lanes)
+        else:
+            _atomic_write(args.output, lambda p: write_network(args.workbook, p, list(net.depots), lanes,
+                                                               (IMPORT_PREFIX,)))
     except InputError as e:
         _print_problems(e.problems, full_list="fix these and run the import again")
         print("costing: nothing written", file=sys.stderr)
@@ -553,9 +628,41 @@ def _import_network(args) -> int:
                       "may not cover it (check its coordinates or import a larger network)", file=sys.stderr)
         closed = sum(not ln.open for ln in net.lanes)
         one_way = sum(not ln.two_way for ln in net.lanes)
+        where = f"{args.output} and its network file {side}" if side else args.output
         print(f"{len(net.depots)} nodes, {len(net.lanes)} links ({one_way} one-way, {closed} closed), "
-              f"{len(snaps)} depot(s) joined; wrote {args.output}")
+              f"{len(snaps)} depot(s) joined; wrote {where}")
     return EXIT_OK
+
+
+def _write_with_network_file(args, side: str, depots, lanes) -> None:
+    """The network file `side` and the workbook pointing to it (Settings network_file, its name
+    relative to OUTPUT's folder), each written to a part file first: neither is left half
+    written, and the workbook is renamed into place after the network file is complete."""
+    from costing.network.gmns import IMPORT_PREFIX
+    from costing.network.netfile import write_network_file
+    from costing.workbook.network_sheets import write_network
+
+    if os.path.exists(side) and not args.overwrite:
+        raise UsageError(f"{side} exists; add --overwrite to replace it, or choose another OUTPUT name")
+    folder = os.path.dirname(os.path.abspath(side))
+    with _stop_signals_unwind():
+        fd, tmp = tempfile.mkstemp(prefix=".costing-", suffix=".npz.part", dir=folder)
+        os.close(fd)
+        try:
+            write_network_file(tmp, depots, lanes)
+            umask = os.umask(0)
+            os.umask(umask)
+            os.chmod(tmp, 0o666 & ~umask)
+            name = os.path.basename(side)
+
+            def write(p: str) -> None:
+                write_network(args.workbook, p, [], [], (IMPORT_PREFIX,), name)
+
+            _atomic_write_here(args.output, write, folder)
+            os.replace(tmp, side)
+        finally:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
 
 
 if __name__ == "__main__":  # pragma: no cover

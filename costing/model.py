@@ -130,6 +130,7 @@ class Settings:
     volumetric_kg_per_m3: float = 333.0  # chargeable kg per m3 (carrier tariffs)
     kg_per_loading_metre: float = 1750.0  # chargeable kg per loading metre (carrier tariffs)
     driving_clock_in_search: str = "yes"
+    network_file: str | None = None  # network file, relative to the workbook (costing.network.netfile)
 
 
 @dataclass(frozen=True)

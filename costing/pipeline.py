@@ -27,6 +27,7 @@ total is the shipment's stand-alone total.
 
 from __future__ import annotations
 
+import os
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
@@ -183,13 +184,18 @@ def run(model: Model, options: Options | None = None) -> Costed:
                   times, week.runs)
 
 
-def load(path: str) -> tuple[Model | None, list[Problem], str | None]:
+def load(path: str, network: bool = True) -> tuple[Model | None, list[Problem], str | None]:
     """Read and check an input workbook.
 
     Parameters
     ----------
     path : str
         The input workbook (.xlsx); opened read-only, never changed.
+    network : bool
+        Read the network file Settings ``network_file`` names (``costing.network.netfile``): its
+        depots and lanes are added to the sheets'. A missing or damaged file is one error at the
+        setting's cell, and no Model. False: the sheets alone (``costing import-network``, which
+        replaces the file).
 
     Returns
     -------
@@ -208,5 +214,36 @@ def load(path: str) -> tuple[Model | None, list[Problem], str | None]:
         raw = read_workbook(path)
     except InputError as e:
         return None, list(e.problems), None
-    model = validate(raw)
+    net, problem = _network_file(raw, path) if network else (None, None)
+    if problem is not None:
+        return None, [problem], raw.sha256
+    model = validate(raw, net)
     return model, list(model.problems), raw.sha256
+
+
+def _network_file(raw, path: str):
+    """(FileNetwork, None) when Settings ``network_file`` names a readable network file,
+    (None, None) when it names none, (None, Problem at the setting's cell) when it cannot be read."""
+    from costing.check.validate import FileNetwork
+    from costing.contract.inputs import normalise_header
+    from costing.model import ERROR
+    from costing.network.netfile import NetworkFileError, read_network_file
+
+    sheet = raw.sheets.get("Settings")
+    if sheet is None:
+        return None, None
+    for rr in sheet.rows:
+        if normalise_header(rr.values.get("setting")) != "network_file" or "value" in rr.formulas:
+            continue
+        value = rr.values.get("value")
+        name = "" if value is None else str(value).strip()
+        if not name:
+            return None, None
+        cell = sheet.cell("value", rr.row)
+        full = os.path.join(os.path.dirname(os.path.abspath(path)), name)
+        try:
+            depots, lanes = read_network_file(full)
+        except NetworkFileError as e:
+            return None, Problem(ERROR, sheet.title, cell, f"network_file '{name}': {e.message}", e.fix)
+        return FileNetwork(depots, lanes, sheet.title, cell, name), None
+    return None, None

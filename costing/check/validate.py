@@ -6,7 +6,7 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import re
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 from costing.check.scenarios import apply_scenario, parse_scenarios
 from costing.contract.inputs import (
@@ -345,6 +345,8 @@ def _settings(raw: RawSheet | None, problems: list[Problem]) -> Settings:
             else:
                 sh.problem(ERROR, "value", rr.row, f"{name} '{_short(v)}' is not one of "
                            + ", ".join(spec.choices), "pick a value from the list")
+        elif name != "currency":  # text (network_file: a path) is kept as typed
+            values[name] = str(v).strip() or None
         else:
             s = str(v).strip().upper()
             if name == "currency":
@@ -416,13 +418,29 @@ def _known_depots(sh: _Sheet, rr: RawRow, rec: dict, columns, depot_ix) -> bool:
     return ok
 
 
-def validate(raw: RawWorkbook) -> Model:
+@dataclass(frozen=True)
+class FileNetwork:
+    """Depots and lanes read from the network file that Settings ``network_file`` names
+    (``costing.network.netfile``); `sheet` and `cell` are where the setting is, for problems."""
+
+    depots: tuple[Depot, ...]
+    lanes: tuple[Lane, ...]
+    sheet: str
+    cell: str
+    name: str  # the file's name as the setting gives it
+
+
+def validate(raw: RawWorkbook, network: FileNetwork | None = None) -> Model:
     """Turn the rows of an input workbook into a Model.
 
     Parameters
     ----------
     raw : RawWorkbook
         What ``costing.workbook.reader.read_workbook`` returned.
+    network : FileNetwork, optional
+        The network file's records (``costing.pipeline.load`` reads them). The workbook's own
+        depots and lanes come first, then the file's; an id in both is an error at the
+        workbook's cell, a file lane naming a depot in neither an error at the setting's cell.
 
     Returns
     -------
@@ -450,6 +468,8 @@ def validate(raw: RawWorkbook) -> Model:
             depots.append(Depot(rec["depot_id"], rec["name"] or "", lat, lon,
                                 rec["kind"] or "depot", rec["handling_cost"] or 0.0,
                                 rec["handling_hours"] or 0.0, rr.row))
+    if network is not None:
+        depots += _file_records(raw, "Depots", "depot_id", "depot", depots, network.depots, network, problems)
     depot_ix = {d.depot_id: d for d in depots}
     _check_swapped_coordinates(raw, problems)
 
@@ -571,6 +591,10 @@ def validate(raw: RawWorkbook) -> Model:
                               toll_medium=rec["toll_medium"], toll_light=rec["toll_light"],
                               tunnel_category=rec["tunnel_category"]))
 
+    if network is not None:
+        lanes += _file_records(raw, "Lanes", "lane_id", "lane", lanes, network.lanes, network, problems)
+        _file_lane_ends(network, depot_ix, problems)
+
     shipments: list[Shipment] = []
     depot_modes: dict[str, set[str]] = {}  # modes of the open lanes at each depot
     for ln in lanes:
@@ -637,6 +661,12 @@ def validate(raw: RawWorkbook) -> Model:
                   tuple(problems), layout, tariffs=tuple(tariffs), zones=zones, currencies=fx,
                   fuel_bands=tuple(fuel_bands))
     scenarios, more = parse_scenarios(raw.sheets.get("Scenarios"), model)
+    for sc in scenarios:  # the network file is read before any scenario: it cannot change with one
+        for ch in sc.changes:
+            if ch.sheet == "Settings" and ch.key == "network_file":
+                more.append(Problem(ERROR, sc.sheet_title, ch.cell, f"scenario {sc.name}: network_file "
+                                    "cannot be changed by a scenario", "change the lanes of the file by "
+                                    "lane_id in a scenario, or cost the other network in a run of its own"))
     for sc in scenarios:  # a scenario's fuel price or rates may create a rebate larger than per_km
         changed = apply_scenario(model, sc)
         for p in fuel_rebate_problems(changed.settings, changed.rates, layout):
@@ -850,6 +880,35 @@ def _days_overlap(a: Tariff, b: Tariff) -> bool:
     lo = max((d for d in (a.valid_from, b.valid_from) if d is not None), default=None)
     hi = min((d for d in (a.valid_to, b.valid_to) if d is not None), default=None)
     return lo is None or hi is None or lo <= hi
+
+
+def _file_records(raw: RawWorkbook, sheet: str, key: str, what: str, own: list, extra, network: FileNetwork,
+                  problems: list[Problem]) -> list:
+    """The network file's records to add after the workbook's `own`; an id in both is an error at
+    the workbook's cell."""
+    ids = {getattr(r, key) for r in extra}
+    for r in own:
+        k = getattr(r, key)
+        if k in ids:
+            sh = raw.sheets[sheet]
+            problems.append(Problem(ERROR, sh.title, sh.cell(key, r.row), f"{what} '{_short(k)}' is also "
+                                    f"in the network file {network.name} ({network.sheet}!{network.cell})",
+                                    f"give the {what} another {key}, or delete the row if it is the file's"))
+    return list(extra)
+
+
+def _file_lane_ends(network: FileNetwork, depot_ix: dict, problems: list[Problem]) -> None:
+    """Every depot a file lane names is in the file or on the Depots sheet; one error if not."""
+    missing = [(ln.lane_id, d) for ln in network.lanes for d in (ln.from_depot, ln.to_depot)
+               if d not in depot_ix]
+    if missing:
+        lane, depot = missing[0]
+        more = f" ({len(missing):,} lane ends in all)" if len(missing) > 1 else ""
+        problems.append(Problem(ERROR, network.sheet, network.cell, f"lane {lane} of the network file "
+                                f"{network.name} names depot '{_short(depot)}', which is neither in the file "
+                                f"nor on the Depots sheet{more}",
+                                "import the network again into this workbook (costing import-network "
+                                "... --compact), or add the depot to the Depots sheet"))
 
 
 def _split_warning(sh, row: int, rec: dict, cards, depot_modes: dict[str, set[str]]) -> None:

@@ -65,7 +65,7 @@ class SheetSpec:
 @dataclass(frozen=True)
 class SettingSpec:
     name: str
-    kind: str  # number | choice | text
+    kind: str  # number | choice | text (kept as typed; currency upper-cased)
     default: object
     note: str
     choices: tuple[str, ...] = ()
@@ -142,6 +142,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "cost and blended objectives choose routes with their breaks and rests (and their "
                 "pay); no: routes are chosen on driving hours and the stops added afterwards. "
                 "Planning estimate, not compliance advice.", choices=YES_NO),
+    SettingSpec("network_file", "text", None,
+                "A compact network file (.npz) whose depots and lanes are added to those of the "
+                "Depots and Lanes sheets, for road graphs too large for rows; `costing import-network "
+                "--compact` writes it and this setting. Path relative to this workbook's folder. "
+                "Blank: the sheets alone."),
 )
 
 SETTINGS_BY_NAME = {s.name: s for s in SETTINGS}

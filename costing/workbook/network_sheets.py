@@ -9,7 +9,7 @@ workbook's own column order is kept. Re-importing replaces the rows an earlier i
 
 from __future__ import annotations
 
-from costing.contract.inputs import SHEETS_BY_NAME, normalise_header
+from costing.contract.inputs import SETTINGS_BY_NAME, SHEETS_BY_NAME, normalise_header
 from costing.errors import InputError
 from costing.model import ERROR, Depot, Lane, Problem
 
@@ -77,8 +77,36 @@ def _replace_rows(ws, name: str, records: list[dict], drop_prefixes: tuple[str, 
         ws.append(out)
 
 
+def _set_setting(wb, name: str, value: str | None) -> None:
+    """Settings `name` = `value`: its row's value replaced, or (unless `value` is None) a row
+    added, and the sheet too if missing."""
+    ws = next((w for w in wb.worksheets if w.title.strip().lower() == "settings"), None)
+    if ws is None and value is None:
+        return
+    if ws is None:
+        ws = wb.create_sheet("Settings", 0)
+        ws.append(["setting", "value", "note"])
+    cols = {normalise_header(c.value): c.column for c in ws[1]}
+    if ("setting" not in cols or "value" not in cols) and value is None:
+        return
+    if "setting" not in cols or "value" not in cols:
+        raise InputError([Problem(ERROR, ws.title, "A1", "no setting and value headers in row 1",
+                                  "the Settings sheet's first row must name its columns setting, value")])
+    for r in range(2, ws.max_row + 1):
+        if normalise_header(ws.cell(r, cols["setting"]).value) == name:
+            ws.cell(r, cols["value"]).value = value
+            return
+    if value is None:
+        return
+    row = ws.max_row + 1
+    ws.cell(row, cols["setting"]).value = name
+    ws.cell(row, cols["value"]).value = value
+    if "note" in cols:
+        ws.cell(row, cols["note"]).value = SETTINGS_BY_NAME[name].note
+
+
 def write_network(input_path: str, output_path: str, depots: list[Depot], lanes: list[Lane],
-                  prefixes: tuple[str, ...]) -> None:
+                  prefixes: tuple[str, ...], network_file: str | None = None) -> None:
     """Save a copy of `input_path` to `output_path` with `depots` and `lanes` in its sheets.
 
     Parameters
@@ -91,6 +119,10 @@ def write_network(input_path: str, output_path: str, depots: list[Depot], lanes:
         Rows to add to Depots and Lanes (after the workbook's own rows).
     prefixes : tuple of str
         Ids starting with these were written by an earlier import and are replaced.
+    network_file : str, optional
+        Settings ``network_file`` of the copy (the compact file the network went to instead of
+        rows; pass no `depots` and `lanes` then). None leaves the setting blank, so rows and an
+        earlier file do not both hold the network.
     """
     import openpyxl
 
@@ -98,6 +130,8 @@ def write_network(input_path: str, output_path: str, depots: list[Depot], lanes:
     try:
         _replace_rows(_sheet(wb, "Depots"), "Depots", [_depot_values(d) for d in depots], prefixes)
         _replace_rows(_sheet(wb, "Lanes"), "Lanes", [_lane_values(ln) for ln in lanes], prefixes)
+        _set_setting(wb, "network_file", network_file)
         wb.save(output_path)
     finally:
         wb.close()
+

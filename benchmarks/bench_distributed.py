@@ -1,0 +1,189 @@
+"""A large week on Dask: the single-process run against 1, 2 and 4 local workers.
+
+    python -m benchmarks.bench_distributed                          # 200,000 shipments, 100,000 nodes
+    python -m benchmarks.bench_distributed --shipments 5000 --nodes 5000 --workers 1,2   # quick
+
+The network is the seeded road-like graph of `benchmarks.road_network` (Delaunay neighbours,
+km = straight line x 1.05..1.5, 50..110 km/h), placed at 49.5 N 3 E, written as a compact
+network file (`costing.network.netfile`) that a small input workbook names in Settings
+`network_file`, as `costing import-network --compact` leaves it. The workbook holds the rate
+card and the shipments (written with the template writer, as `benchmarks.bench_workbook` does):
+from `--origins` origins to one of the 400 nodes nearest the origin (a regional distribution
+week), 0.5 to 24 t, ready over 5 days; Settings turn the comparison across objectives and the
+trade-offs off, as a coordinator would for a week this size, and `consolidate` is `--consolidate`
+(default no: with yes, the plan stage's notes on who travels with whom look through every vehicle
+run of the week for every leg that shares one, time that grows with the square of the week and
+makes 200,000 shipments impractical in one process; `--consolidate yes` at a few thousand
+shipments measures the day-sharded case).
+
+Each run is `pipeline.run` (one process) or `costing.distributed.run` (a LocalCluster of N worker
+processes, one thread each, the Model minus shipments scattered once per worker) on the Model
+that `pipeline.load` read; the gathered result is checked equal to the single-process one
+(every shipment's status, route and total, the week's vehicle runs). The costed workbook is not
+written (it takes the same time whatever ran the week; `--write` writes the last one). Prints
+wall seconds and the ratio to the single-process run; asserts nothing about time.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as _dt
+import math
+import os
+import resource
+import tempfile
+import time
+
+import numpy as np
+
+from benchmarks.road_network import generate
+from costing.model import Depot, Lane
+
+LAT0, LON0 = 49.5, 3.0
+DAYS = 5
+NEAREST = 400  # a shipment goes to one of the nodes nearest its origin
+
+
+def network_records(nodes: int, seed: int = 1) -> tuple[list[Depot], list[Lane], np.ndarray]:
+    """Depots and two-way road lanes of the seeded road-like network (km and hours as generated),
+    and the node positions in km."""
+    net = generate(nodes, seed=seed)
+    lat = LAT0 + net.xy[:, 1] / 111.2
+    lon = LON0 + net.xy[:, 0] / (111.2 * math.cos(math.radians(LAT0)))
+    depots = [Depot(f"N{i:06d}", f"node {i}", round(float(a), 6), round(float(o), 6))
+              for i, (a, o) in enumerate(zip(lat, lon))]
+    half = net.m // 2  # generate() lists each lane u -> v, then all the reverse arcs
+    lanes = [Lane(f"L{k:07d}", f"N{u:06d}", f"N{v:06d}", "road", float(km), float(h))
+             for k, (u, v, km, h) in enumerate(zip(net.tail[:half].tolist(), net.head[:half].tolist(),
+                                                   net.km[:half].tolist(), net.hours[:half].tolist()))]
+    return depots, lanes, net.xy
+
+
+def make_week(folder: str, nodes: int, shipments: int, origins: int, seed: int = 7,
+              consolidate: str = "no") -> str:
+    """Write the network file and the input workbook naming it; returns the workbook's path."""
+    from scipy.spatial import cKDTree
+
+    from costing.network.netfile import write_network_file
+    from costing.workbook.template import write_template
+
+    depots, lanes, xy = network_records(nodes)
+    write_network_file(os.path.join(folder, "week.network.npz"), depots, lanes)
+    rng = np.random.default_rng(seed)
+    origin_ids = rng.choice(nodes, size=origins, replace=False)
+    _d, near = cKDTree(xy).query(xy[origin_ids], k=min(NEAREST, nodes))
+    pick_o = rng.integers(0, origins, size=shipments)
+    pick_d = rng.integers(1, near.shape[1], size=shipments)  # column 0 is the origin itself
+    weights = np.round(rng.uniform(0.5, 24.0, size=shipments), 1)
+    days = rng.integers(0, DAYS, size=shipments)
+    monday = _dt.date(2026, 12, 7)
+    rows = [{"shipment_id": f"S{k:07d}", "origin": f"N{origin_ids[o]:06d}",
+             "destination": f"N{near[o, d]:06d}", "weight_t": float(w),
+             "ready_date": monday + _dt.timedelta(days=int(day))}
+            for k, (o, d, w, day) in enumerate(zip(pick_o.tolist(), pick_d.tolist(), weights.tolist(),
+                                                   days.tolist()))]
+    path = os.path.join(folder, "week.xlsx")
+    write_template(path, {
+        "Settings": [{"setting": "currency", "value": "EUR"},
+                     {"setting": "compare_objectives", "value": "no"},
+                     {"setting": "frontier_max_routes", "value": 0},
+                     {"setting": "consolidate", "value": consolidate},
+                     {"setting": "network_file", "value": "week.network.npz"}],
+        "Depots": [], "Lanes": [],
+        "Rates": [{"vehicle": "artic", "mode": "road", "per_km": 1.1, "per_hour": 38, "per_trip": 40,
+                   "payload_t": 24.5, "fuel_l_per_100km": 31, "co2e_kg_per_litre": 2.51, "min_charge": 150}],
+        "Shipments": rows,
+    })
+    return path
+
+
+def fingerprint(costed) -> tuple:
+    """What must not change with the number of workers: per shipment its status, route and total;
+    the week's runs (id, day, lane, vehicles, loads, cost)."""
+    ships = tuple((r.shipment.shipment_id, r.status, tuple(g.use.key for g in r.legs), r.total_cost,
+                   tuple(g.run_id for g in r.legs)) for r in costed.results)
+    runs = tuple((u.run_id, u.day, u.leg.use.key, u.vehicles, u.loads, u.run_cost) for u in costed.runs)
+    return ships, runs
+
+
+def main(argv=None) -> list[tuple[str, float]]:
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--nodes", type=int, default=100_000)
+    p.add_argument("--shipments", type=int, default=200_000)
+    p.add_argument("--origins", type=int, default=200)
+    p.add_argument("--workers", default="1,2,4", help="local worker counts to run, e.g. 1,2,4")
+    p.add_argument("--consolidate", choices=("yes", "no"), default="no",
+                   help="Settings consolidate (yes: shards are whole ready days; no: day and origin)")
+    p.add_argument("--write", metavar="OUTPUT", default=None,
+                   help="also write the last run's costed workbook to OUTPUT")
+    args = p.parse_args(argv)
+    from costing import distributed, pipeline
+
+    counts = [int(x) for x in args.workers.split(",") if x.strip()]
+    print(f"machine: {os.cpu_count()} cores (shared with other work while measuring); "
+          f"{args.nodes:,} nodes, {args.shipments:,} shipments from {args.origins} origins over {DAYS} days, "
+          f"consolidate = {args.consolidate}")
+    rows: list[tuple[str, float]] = []
+    with tempfile.TemporaryDirectory() as tmp:
+        t0 = time.perf_counter()
+        inp = make_week(tmp, args.nodes, args.shipments, args.origins, consolidate=args.consolidate)
+        print(f"input made in {time.perf_counter() - t0:.1f} s (network file "
+              f"{os.path.getsize(os.path.join(tmp, 'week.network.npz')) / 1e6:.1f} MB, workbook "
+              f"{os.path.getsize(inp) / 1e6:.1f} MB)")
+        t0 = time.perf_counter()
+        model, problems, _ = pipeline.load(inp)
+        assert model is not None and not [x for x in problems if x.severity == "error"], problems[:3]
+        print(f"pipeline.load (workbook + network file): {time.perf_counter() - t0:.1f} s; "
+              f"{len(model.depots):,} depots, {len(model.lanes):,} lanes, {len(model.shipments):,} shipments")
+        opts = pipeline.Options(scenarios=False)
+        t0 = time.perf_counter()
+        single = pipeline.run(model, opts)
+        base = time.perf_counter() - t0
+        rows.append(("single process (pipeline.run)", base))
+        legs = sum(len(r.legs) for r in single.results)
+        print(f"single process: {base:.1f} s; {legs:,} legs, {len(single.runs):,} vehicle runs")
+        expect = fingerprint(single)
+        costed = single
+        del single  # the fingerprint is all that is compared; the results' legs take memory
+        for n in counts:
+            costed = None
+            t0 = time.perf_counter()
+            client = distributed.local_client(n)
+            started = time.perf_counter() - t0
+            try:
+                t0 = time.perf_counter()
+                costed = distributed.run(model, opts, client)
+                wall = time.perf_counter() - t0
+            finally:
+                cluster = client.cluster
+                client.close()
+                cluster.close()
+            same = fingerprint(costed) == expect
+            rows.append((f"Dask, {n} local worker{'s' if n > 1 else ''}", wall))
+            # the shards' own pipeline stages (sub-timings "within" a stage left out), summed
+            work = sum(v for k, v in costed.stats.seconds.items() if "within" not in k)
+            print(f"{n} worker(s): {wall:.1f} s (cluster start {started:.1f} s, not included); ratio to "
+                  f"single process {wall / base:.2f}; identical results: {'yes' if same else 'NO'}; "
+                  f"the shards' pipeline.run stages took {work:.1f} s summed over shards, the rest is "
+                  "sending the network and shipments out and the results back, and gathering")
+            if not same:
+                raise SystemExit("distributed result differs from the single-process run")
+        peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+        print("\n| run | wall s | ratio to single process |\n|---|---:|---:|")
+        for name, secs in rows:
+            print(f"| {name} | {secs:.1f} | {secs / base:.2f} |")
+        print(f"\ndriver peak memory {peak:,.0f} MB (workers not counted)")
+        if args.write:
+            from costing.cli import main as costing_main  # noqa: F401  (the writer as the command uses it)
+            from costing.sheets.writer import RunInfo, run_time, write_costed
+
+            t0 = time.perf_counter()
+            info = RunInfo("bench_distributed week", None, None, run_time(), costed.stats)
+            write_costed(args.write, model, costed.results, costed.problems, info, costed.analysis, None, [],
+                         costed.runs)
+            print(f"wrote {args.write} in {time.perf_counter() - t0:.1f} s")
+    return rows
+
+
+if __name__ == "__main__":
+    main()

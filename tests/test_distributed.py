@@ -1,0 +1,171 @@
+"""Distributed runs on Dask (costing.distributed) give the single-process run's workbook.
+
+Oracle: the single-process `costing run` of the same input (costing.pipeline.run, one process,
+no shards), compared cell by cell with openpyxl, SOURCE_DATE_EPOCH fixed. The Run sheet's work
+counters (searches, nodes settled and pushed, compact networks built, batched searches) are left
+out: each shard builds its own networks and batches its own searches, so they are sums over
+shards (costing/distributed.py says so); with SOURCE_DATE_EPOCH set no timing rows are written.
+Inputs: the invented Hollowmere example (costing.example), changed in the test."""
+
+from __future__ import annotations
+
+import datetime as _dt
+import os
+import sys
+
+import openpyxl
+import pytest
+
+from costing import distributed, pipeline
+from costing.example import write_example
+
+WORK_COUNTERS = {"searches (A*)", "nodes settled", "nodes pushed", "compact networks built",
+                 "batched searches"}
+
+
+def _cells(path: str) -> dict:
+    wb = openpyxl.load_workbook(path)
+    try:
+        out = {}
+        for ws in wb.worksheets:
+            for row in ws.iter_rows():
+                for c in row:
+                    if ws.title == "Run":
+                        label = ws.cell(c.row, 1).value
+                        if label in WORK_COUNTERS:
+                            continue
+                        out[("Run", label, c.column)] = c.value  # Run rows by their label
+                    else:
+                        out[(ws.title, c.coordinate)] = c.value
+        return out
+    finally:
+        wb.close()
+
+
+@pytest.fixture
+def threads_cluster(monkeypatch):
+    """`costing run --workers N` on a LocalCluster of N thread workers (quick to start) instead of
+    processes; dask is part of the test extras, so CI runs these tests."""
+    pytest.importorskip("dask.distributed", reason="dask[distributed] not installed: pip install -e "
+                        "'.[test]' (it is in the test extras)")
+    made = []
+    real = distributed.local_client
+
+    def local(workers: int, processes: bool = True):
+        made.append(real(workers, processes=False))
+        return made[-1]
+
+    monkeypatch.setattr(distributed, "local_client", local)
+    return made
+
+
+@pytest.fixture(autouse=True)
+def _fixed_epoch(monkeypatch):
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
+
+
+def _edit(path: str, consolidate: str | None = None, blank_ready: tuple[str, ...] = ()) -> None:
+    wb = openpyxl.load_workbook(path)
+    if consolidate:
+        ws = wb["Settings"]
+        for r in range(2, ws.max_row + 1):
+            if ws.cell(r, 1).value == "consolidate":
+                ws.cell(r, 2).value = consolidate
+                break
+        else:
+            ws.append(["consolidate", consolidate])
+    ws = wb["Shipments"]
+    head = [c.value for c in ws[1]]
+    col = head.index("ready_date") + 1
+    for r in range(2, ws.max_row + 1):
+        if ws.cell(r, 1).value in blank_ready:
+            ws.cell(r, col).value = None
+    wb.save(path)
+
+
+def test_shards_hold_whole_days(tmp_path):
+    path = str(tmp_path / "in.xlsx")
+    write_example(path)
+    model, _p, _ = pipeline.load(path)
+    days = {s.ready_date for s in model.shipments}
+    assert len(days) == 3  # the example's week: ready dates over three days
+    for count in (1, 2, 5):
+        shards = distributed.make_shards(model, count)
+        assert sorted(i for part in shards for i in part) == list(range(len(model.shipments)))
+        owner = {}
+        for n, part in enumerate(shards):
+            for i in part:
+                assert owner.setdefault(model.shipments[i].ready_date, n) == n  # a day is in one shard
+    # consolidate = no: (day, origin) groups, the first day whole when a ready date is blank
+    _edit(path, consolidate="no", blank_ready=("S001",))
+    model, _p, _ = pipeline.load(path)
+    groups = distributed.shard_groups(model)
+    first = min(s.ready_date for s in model.shipments if s.ready_date)
+    assert len(groups) > 3
+    whole = [g for g in groups if any((model.shipments[i].ready_date or first) == first for i in g)]
+    assert len(whole) == 1 and len(whole[0]) == sum((s.ready_date or first) == first for s in model.shipments)
+
+
+@pytest.mark.parametrize("case", ["example", "consolidate_no"])
+def test_workbook_equals_single_process_run(tmp_path, cli, threads_cluster, monkeypatch, case):
+    inp = str(tmp_path / "in.xlsx")
+    write_example(inp)
+    if case == "consolidate_no":
+        _edit(inp, consolidate="no", blank_ready=("S001", "S020", "S040"))
+        real = distributed.make_shards
+        monkeypatch.setattr(distributed, "make_shards", lambda m, n: real(m, 7))  # more shards than days
+    one, two = str(tmp_path / "one.xlsx"), str(tmp_path / "two.xlsx")
+    assert cli("run", inp, "-o", one, "--quiet")[0] == 0
+    code, _out, err = cli("run", inp, "-o", two, "--workers", "2")
+    assert code == 0, err
+    assert "running on Dask: 2 workers" in err and len(threads_cluster) == 1
+    a, b = _cells(one), _cells(two)
+    assert a.keys() == b.keys()
+    differ = {k: (a[k], b[k]) for k in a if a[k] != b[k]}
+    assert differ == {}
+    runs = [v for k, v in a.items() if k[0] == "Vehicle runs" and isinstance(v, str) and v.startswith("R0")]
+    assert len(runs) > 40  # vehicle runs renumbered R0001... as in the single run
+
+
+def test_gather_orders_runs_by_day(tmp_path):
+    pytest.importorskip("dask.distributed", reason="dask[distributed] not installed")
+    path = str(tmp_path / "in.xlsx")
+    write_example(path)
+    model, _p, _ = pipeline.load(path)
+    client = distributed.local_client(2, processes=False)
+    try:
+        costed = distributed.run(model, pipeline.Options(analyses=False, scenarios=False), client, shards=3)
+    finally:
+        cluster = client.cluster
+        client.close()
+        cluster.close()
+    days = [r.day for r in costed.runs]
+    assert days == sorted(days) and [r.run_id for r in costed.runs] == [
+        f"R{k:04d}" for k in range(1, len(costed.runs) + 1)]
+    named = {g.run_id for r in costed.results for g in r.legs}
+    assert named == {r.run_id for r in costed.runs}
+    assert all(isinstance(d, _dt.date) for d in days)
+
+
+def test_without_dask_the_option_says_how_to_install(tmp_path, cli, monkeypatch):
+    inp = str(tmp_path / "in.xlsx")
+    write_example(inp)
+    monkeypatch.setitem(sys.modules, "dask.distributed", None)  # import fails as if not installed
+    code, _out, err = cli("run", inp, "-o", str(tmp_path / "o.xlsx"), "--workers", "2")
+    assert code == 2 and "pip install" in err and "dask" in err
+    assert not os.path.exists(tmp_path / "o.xlsx")
+    code, _out, err = cli("run", inp, "-o", str(tmp_path / "o.xlsx"), "--workers", "0")
+    assert code == 2 and "--workers" in err
+
+
+def test_benchmark_quick_run_on_worker_processes(capsys):
+    # benchmarks/bench_distributed.py at a tiny size, on a LocalCluster of worker processes (the
+    # command line's default): it checks itself that every result equals the single-process run
+    pytest.importorskip("dask.distributed", reason="dask[distributed] not installed")
+    from benchmarks import bench_distributed
+
+    rows = bench_distributed.main(["--nodes", "400", "--shipments", "150", "--origins", "5",
+                                   "--workers", "2"])
+    out = capsys.readouterr().out
+    assert [name for name, _s in rows] == ["single process (pipeline.run)", "Dask, 2 local workers"]
+    assert "identical results: yes" in out and "| run | wall s |" in out
