@@ -230,10 +230,7 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
             for sheet, last in w.legs_last.items())
             + f"+SUM(Summary!{S['empty_return_cost']}2:{S['empty_return_cost']}{last + 1})"), share_total),
     ]
-    for k, expr, value in recon:
-        r += 1
-        ws.write_string(r, 0, k)
-        ws.write_formula(r, 1, "=" + expr, f["money"], value)
+    r = _recon_rows(w, ws, r, recon)
     r += 1
     ws.write_string(r, 0, "difference runs - shares (must be 0)")
     ws.write_formula(r, 1, "=" + w.round_f(f"B{r - 1}-B{r}"), f["money"],
@@ -246,14 +243,20 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ("plus Carrier charges of shipments bought from carriers", _bought_expr(w, n_carrier), bought),
         ("equals Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),
     ]
-    for k, expr, value in recon:
-        r += 1
-        ws.write_string(r, 0, k)
-        ws.write_formula(r, 1, "=" + expr, f["money"], value)
+    r = _recon_rows(w, ws, r, recon)
     r += 1
     ws.write_string(r, 0, "difference (must be 0)")
     ws.write_formula(r, 1, "=" + w.round_f(f"B{runs_row}+B{r - 2}+B{r - 1}-B{r}"), f["money"],
                      round_money(run_total + uplift + bought - total, w.places))
+
+
+def _recon_rows(w: Writer, ws, r: int, rows) -> int:
+    """Write reconciliation rows (label, formula, cached value) below row `r`; returns the last row."""
+    for label, expr, value in rows:
+        r += 1
+        ws.write_string(r, 0, label)
+        ws.write_formula(r, 1, "=" + expr, w.f["money"], value)
+    return r
 
 
 def _currency_rows(model: Model) -> list[tuple[str, str]]:
