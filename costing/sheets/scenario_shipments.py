@@ -11,6 +11,7 @@ from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COL
 from costing.money import round_money
 from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value
+from costing.sheets.summary import write_cost_cells
 
 COL = {name: i for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
 KIND = {name: kind for name, _w, kind in SCENARIO_SHIPMENT_COLUMNS}
@@ -66,25 +67,10 @@ def write_scenario_shipments(w: Writer, ws, runs, ranges, base) -> tuple[dict[tu
                                  ("subtotal", w.round_f(f"SUM({over('leg_cost')})")),
                                  ("co2e_kg", f"SUM({over('co2e_share')})")):
                 ws.write_formula(r, COL[col], "=" + formula, f[KIND[col]], shipment_value(res, col))
-            ws.write_number(r, COL["min_charge"], res.min_charge, f["money"])
-            ws.write_formula(r, COL["min_charge_uplift"],
-                             "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
-                             f["money"], res.min_charge_uplift)
-            # the Summary's consolidation formulas (costing.sheets.summary)
-            ws.write_number(r, COL["empty_return_alone"], res.empty_return_alone, f["money"])
-            ws.write_number(r, COL["empty_return_cost"], res.empty_return_cost, f["money"])
             ws.write_string(r, COL["travels_with"], ", ".join(res.shared_with))
-            ws.write_formula(r, COL["standalone_cost"], "=" + w.round_f(
-                f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"),
-                f["money"], res.standalone_cost)
             ws.write_formula(r, COL["allocated_cost"], "=" + w.round_f(f"SUM({over('cost_share')})"),
                              f["money"], res.allocated_cost)
-            ws.write_formula(r, COL["total_cost"], "=" + w.round_f(
-                f"{S['allocated_cost']}{x}+{S['empty_return_cost']}{x}"
-                f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
-                f["money"], res.total_cost)
-            saving = w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}")
-            ws.write_formula(r, COL["saving"], "=" + saving, f["money"], res.saving)
+            write_cost_cells(w, ws, r, res, COL, S)  # the Summary's formulas
             ws.write_string(r, COL["route"], cell_text(route_text(res)))
             row, was = summary.get(s.shipment_id, (None, None))
             if was is None or was.status != ROUTED:

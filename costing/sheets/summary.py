@@ -61,21 +61,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         for col, (num, den, k) in RATIOS.items():  # e.g. g CO2e per tonne-km
             ws.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
                              getattr(res, col))
-        ws.write_number(r, c["min_charge"], res.min_charge, f["money"])
-        ws.write_formula(r, c["min_charge_uplift"],
-                         "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
-                         f["money"], res.min_charge_uplift)
-        ws.write_number(r, c["empty_return_alone"], res.empty_return_alone, f["money"])
-        ws.write_number(r, c["empty_return_cost"], res.empty_return_cost, f["money"])
-        ws.write_formula(r, c["standalone_cost"], "=" + w.round_f(
-            f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"),
-            f["money"], res.standalone_cost)
-        ws.write_formula(r, c["total_cost"], "=" + w.round_f(
-            f"{S['allocated_cost']}{x}+{S['empty_return_cost']}{x}"
-            f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
-            f["money"], res.total_cost)
-        ws.write_formula(r, c["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
-                         f["money"], res.saving)
+        write_cost_cells(w, ws, r, res, c, S)
         late = late_hours(res, w.first_day)
         if late is not None:
             ws.write_number(r, c["late_hours"], late, f["hours"])
@@ -144,6 +130,28 @@ def write_make_or_buy(w: Writer, ws, r: int, res, S: dict, carrier_rows: dict) -
             ws.write_formula(r, SUM["make_cost"], f"={S['total_cost']}{r + 1}", f["money"], res.make_cost)
     ws.write_string(r, SUM["make_or_buy"], res.chosen)
     ws.write_string(r, SUM["make_or_buy_why"], cell_text(res.why))
+
+
+def write_cost_cells(w: Writer, ws, r: int, res, col: dict, S: dict) -> None:
+    """The cost cells a shipment row shares with Scenario shipments: min_charge, its uplift, the
+    empty returns, standalone_cost, total_cost and saving, as live formulas over the row's own
+    subtotal, allocated_cost and travels_with (`col`: column -> index; `S`: column -> letter)."""
+    f, x = w.f, r + 1
+    ws.write_number(r, col["min_charge"], res.min_charge, f["money"])
+    ws.write_formula(r, col["min_charge_uplift"],
+                     "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
+                     f["money"], res.min_charge_uplift)
+    ws.write_number(r, col["empty_return_alone"], res.empty_return_alone, f["money"])
+    ws.write_number(r, col["empty_return_cost"], res.empty_return_cost, f["money"])
+    ws.write_formula(r, col["standalone_cost"], "=" + w.round_f(
+        f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"),
+        f["money"], res.standalone_cost)
+    ws.write_formula(r, col["total_cost"], "=" + w.round_f(
+        f"{S['allocated_cost']}{x}+{S['empty_return_cost']}{x}"
+        f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
+        f["money"], res.total_cost)
+    ws.write_formula(r, col["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
+                     f["money"], res.saving)
 
 
 def write_bought(w: Writer, ws, r: int, res, S: dict) -> None:
