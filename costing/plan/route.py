@@ -126,6 +126,7 @@ class Router:
         self.rules = rules_for(model.settings)  # driving-time rules, or None
         self.clock_fallbacks: set[str] = set()  # shipments searched without the clock (too many labels)
         self._reverse: dict = {}  # profile -> reversed rows of its compact network (clock bounds)
+        self._costed: dict = {}  # (shipment id, route key) -> priced route (`price`)
 
     def network(self, profile: Profile) -> CompactNetwork:
         """The compact network of `profile`, built once and cached (its build time is recorded)."""
@@ -147,24 +148,29 @@ class Router:
                  for k in range(cn.n_cards)}
         return sources, exits
 
-    def prepare(self, shipments, objective: str | None) -> None:
+    def prepare(self, shipments, objective: str | None, force: bool = False) -> None:
         """Batch the searches of shipments that share an origin and a profile: one one-to-many
         search per group of BATCH_MIN or more, stopped when all its destinations are settled,
         instead of one A* each. The answers are the least weights A* finds (search.one_to_many);
-        `search` then returns them. Smaller groups keep per-shipment A*."""
+        `search` then returns them. Smaller groups keep per-shipment A*.
+
+        `objective` is the command line's (a shipment's own objective wins, then it, then
+        Settings), or with `force` the objective every shipment is searched under (the
+        comparison across objectives)."""
         from costing.network.search import one_to_many
 
         groups: dict[tuple[Profile, str], list[Shipment]] = {}
         for s in shipments:
             if s.origin == s.destination:
                 continue
-            obj = objective_for(self.model, s, objective)
+            obj = objective if force and objective else objective_for(self.model, s, objective)
             for cards in self.candidates(s, obj):
                 groups.setdefault((make_profile(self.model, s, obj, cards), s.origin), []).append(s)
         for (profile, origin), members in groups.items():
-            dests = list(dict.fromkeys(m.destination for m in members))
-            if len(members) < BATCH_MIN or self.clocked(profile):
-                continue  # few, or searched with the driving clock (one search each)
+            dests = [d for d in dict.fromkeys(m.destination for m in members)
+                     if (profile, origin, d) not in self._batched]
+            if len(members) < BATCH_MIN or not dests or self.clocked(profile):
+                continue  # few, answered already, or searched with the driving clock (one each)
             cn = self.network(profile)
             sources, _exits = self._ends(members[0], profile, cn)
             targets = [self._ends(Shipment("", origin, d, 0.0), profile, cn)[1] for d in dests]
@@ -275,6 +281,22 @@ class Router:
                 if brk or rest:
                     return False
         return True
+
+    def price(self, s: Shipment, obj: str, cn: CompactNetwork, res) -> CostedShipment:
+        """The route `res` of `s` priced (costing.price.cost.cost_route) under objective `obj`.
+
+        A route is priced once per shipment: the same cards on the same lane steps found again
+        (under another objective, or another card set of the same route) reuse the priced legs,
+        which depend only on the shipment and the route, with `obj` set on the copy."""
+        runs = _runs(self.model, cn, res)
+        key = (s.shipment_id, tuple((card.vehicle, card.mode, tuple(u.key for u in uses))
+                                    for card, uses in runs))
+        hit = self._costed.get(key)
+        if hit is None:
+            hit = self._costed[key] = cost_route(self.model, s, obj, runs)
+        elif hit.objective != obj:
+            hit = replace(hit, objective=obj)
+        return hit
 
     def pool(self, s: Shipment) -> list[RateCard]:
         """The rate cards a shipment may use: its named vehicle's, or every card."""
@@ -414,7 +436,7 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
         pushed += res.stats.pushed
         if not res.found:
             continue
-        costed = cost_route(model, s, obj, _runs(model, cn, res))
+        costed = router.price(s, obj, cn, res)
         if best is None or better(costed, best):
             best, best_vs = costed, vs
     if best is None:
