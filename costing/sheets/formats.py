@@ -4,6 +4,7 @@ written as text), formula helpers and print set-up. Knows xlsxwriter; knows noth
 from __future__ import annotations
 
 import datetime as _dt
+import functools
 import re
 
 import xlsxwriter
@@ -196,9 +197,11 @@ def col_points(width: float) -> float:
     return (int(width * 7 + 0.5) + 5) * 0.75 if width >= 1 else width * 12 * 0.75
 
 
+@functools.lru_cache(maxsize=256)
 def _parse_number_format(nf) -> tuple:
     """(decimals, optional decimals, thousands?, percent?, literal characters) of the first
-    section of a number format; None for General."""
+    section of a number format; None for General. Cached: a sheet has a handful of formats and
+    millions of cells."""
     if nf in (None, 0, "General", ""):
         return None
     if isinstance(nf, int):
@@ -447,6 +450,7 @@ def install_layout(wb, streaming: bool) -> None:
         ws = add(name, *args, **kwargs)
         lay = Layout(ws, streaming)
         layouts.append(lay)
+        ws._costing_layout = lay  # rows written as XML (costing.sheets.rowxml) report to it
         ws_string, ws_number, ws_formula = ws._write_string, ws._write_number, ws._write_formula
         ws_set_column, ws_chart, ws_image = ws.set_column, ws.insert_chart, ws.insert_image
 
