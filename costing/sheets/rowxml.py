@@ -135,6 +135,7 @@ class RowBlock:
         self.measures: dict[tuple[int, int], _Measure] = {}
         self.counted: dict[int, int] = {}  # rows < _MEASURED_ROWS -> cells (layout's caption rule)
         self._styles: dict[int, str] = {}
+        self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
         if self.streaming:
             if first_row <= ws.previous_row and ws.table:
                 raise ValueError("a row block starts below the rows written through xlsxwriter")
@@ -256,29 +257,40 @@ class RowBlock:
             s = self._styles[id(fmt)] = f' s="{fmt._get_xf_index()}"'
         return s
 
-    def _text(self, text) -> tuple[str, str]:
-        """(type attribute, inner XML) of a text cell: its shared-string index (normal mode, taken
-        in `add`) or the text inline (streaming)."""
-        ws = self.ws
-        if not self.streaming:
-            return ' t="s"', f"<v>{text}</v>"
-        text = ws._escape_control_characters(text)
+    def _text(self, text: str) -> tuple[str, str]:
+        """(type attribute, inner XML) of a text cell written inline (streaming mode)."""
+        text = self.ws._escape_control_characters(text)
         preserve = ' xml:space="preserve"' if _preserve_whitespace(text) else ""
         return ' t="inlineStr"', f"<is><t{preserve}>{_escape(text)}</t></is>"
+
+    def _plan(self, shape: Shape, row: int) -> list[tuple]:
+        """Per column of `shape`: (kind, the cell's opening up to its row number, the rest of
+        its opening tag with the style, formula template); made once per shape (and again
+        for a row with a format of its own, whose format fills cells without one)."""
+        info = self.ws.row_info.get(row)
+        own_row = info is not None and info.row_format
+        plan = None if own_row else self._plans.get(id(shape))
+        if plan is None:
+            plan = [(c.kind, f'<c r="{letter}', f'"{self._style(c.fmt, row, c.col)}', formula)
+                    for c, letter, formula in zip(shape.columns, shape.letters, shape.formulas)]
+            if not own_row:
+                self._plans[id(shape)] = plan
+        return plan
 
     def _xml(self, row: int, shape: Shape, values: Sequence, rr: int) -> str:
         n = row + 1
         parts = [f'<row r="{n}">']
-        style = self._style
-        for c, letter, formula, v in zip(shape.columns, shape.letters, shape.formulas, values):
-            kind = c.kind
+        add = parts.append
+        for (kind, head, style, formula), v in zip(self._plan(shape, row), values):
             if kind == NUMBER:
-                if v is None:
-                    continue
-                parts.append(f'<c r="{letter}{n}"{style(c.fmt, row, c.col)}><v>{v:.16G}</v></c>')
+                if v is not None:
+                    add(f"{head}{n}{style}><v>{v:.16G}</v></c>")
             elif kind == TEXT:
-                t, inner = self._text("" if v is None else v)
-                parts.append(f'<c r="{letter}{n}"{style(c.fmt, row, c.col)}{t}>{inner}</c>')
+                if self.streaming:
+                    t, inner = self._text("" if v is None else v)
+                    add(f"{head}{n}{style}{t}>{inner}</c>")
+                else:
+                    add(f'{head}{n}{style} t="s"><v>{v}</v></c>')
             else:
                 t = ""
                 if isinstance(v, bool):
@@ -289,9 +301,8 @@ class RowBlock:
                     elif v:
                         t = ' t="str"'
                     v = _escape(v)
-                f = formula.format(r=n, rr=rr)
-                parts.append(f'<c r="{letter}{n}"{style(c.fmt, row, c.col)}{t}><f>{f}</f><v>{v}</v></c>')
-        parts.append("</row>")
+                add(f"{head}{n}{style}{t}><f>{formula.format(r=n, rr=rr)}</f><v>{v}</v></c>")
+        add("</row>")
         return "".join(parts)
 
     def _write(self, fh) -> None:
