@@ -7,6 +7,7 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing.contract.outputs import LEG, LEG_COLUMNS, LEGS, RUN_COL, VEHICLE_RUNS
 from costing.errors import OutputLimitError
+from costing.sheets import rowxml
 from costing.sheets.formats import MAX_ROWS, Writer, basis, cell_text, leg_value, sheet_ref
 from costing.sheets.rowxml import FORMULA, NUMBER, TEXT, Column, RowBlock, Shape
 
@@ -98,9 +99,6 @@ LEGS_SHEET_ROWS = MAX_ROWS - 1
 KEY_WIDTH = 14
 
 
-# Legs rows as XML from row shapes (costing.sheets.rowxml), not cell by cell through xlsxwriter
-FAST_ROWS = True
-
 # from this many legs on, rows are streamed to disk instead of held in memory
 STREAMING_LEGS = 100_000
 
@@ -160,8 +158,8 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
 
     `fast` writes the rows as XML from the two row shapes (costing.sheets.rowxml); False writes
     them cell by cell through xlsxwriter (the reference the fast path is tested against); None
-    takes FAST_ROWS."""
-    fast = FAST_ROWS if fast is None else fast
+    takes costing.sheets.rowxml.FAST_ROWS."""
+    fast = rowxml.FAST_ROWS if fast is None else fast
     columns = LEG_COLUMNS if key is None else [(key[0], KEY_WIDTH, "text"), *LEG_COLUMNS]
     shift = len(columns) - len(LEG_COLUMNS)
     letters = {name: xl_col_to_name(i + shift) for name, i in LEG.items()}

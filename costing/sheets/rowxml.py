@@ -53,6 +53,11 @@ from xlsxwriter.worksheet import _preserve_whitespace
 from costing.sheets.formats import _MEASURED_ROWS, _parse_number_format
 
 TEXT, NUMBER, FORMULA = "text", "number", "formula"
+DATE = "date"  # a number (a date's serial) that the layout does not measure, as xlsxwriter's dates
+
+# The large sheets write their rows through this module; False: cell by cell through xlsxwriter
+# (the reference the fast path is tested against, tests/test_rowxml.py).
+FAST_ROWS = True
 _ERROR_CODES = ("#DIV/0!", "#N/A", "#NAME?", "#NULL!", "#NUM!", "#REF!", "#VALUE!")
 
 
@@ -72,12 +77,14 @@ class Column:
     col : int
         Zero-based column index.
     kind : str
-        ``text``, ``number`` or ``formula``.
+        ``text``, ``number``, ``date`` (a number not measured for the width, as xlsxwriter's
+        dates are not) or ``formula``.
     fmt : xlsxwriter Format or None
         The cell's own format (None: the row's or the column's, as xlsxwriter does).
     template : str or None
         For a formula: its text without ``=``, naming this row's number as ``{r}`` and another
-        row's (e.g. a vehicle run's) as ``{rr}``; braces of the formula itself doubled.
+        row's (e.g. a vehicle run's) as ``{rr}``; braces of the formula itself doubled. None:
+        each row's value is the pair (formula text without ``=``, cached value).
     """
 
     col: int
@@ -205,8 +212,10 @@ class RowBlock:
         cells = 0
         lay = getattr(self.ws, "_costing_layout", None)
         for c, v in zip(shape.columns, values):
-            if v is None and c.kind == NUMBER:
+            if (v is None and c.kind != TEXT) or c.kind == DATE:
                 continue
+            if c.kind == FORMULA and c.template is None:
+                v = v[1]
             cells += 1
             key = (c.col, id(c.fmt))
             m = measures.get(key)
@@ -282,7 +291,7 @@ class RowBlock:
         parts = [f'<row r="{n}">']
         add = parts.append
         for (kind, head, style, formula), v in zip(self._plan(shape, row), values):
-            if kind == NUMBER:
+            if kind == NUMBER or kind == DATE:
                 if v is not None:
                     add(f"{head}{n}{style}><v>{v:.16G}</v></c>")
             elif kind == TEXT:
@@ -292,6 +301,12 @@ class RowBlock:
                 else:
                     add(f'{head}{n}{style} t="s"><v>{v}</v></c>')
             else:
+                if formula is None:  # a formula of its own: (text, cached value)
+                    if v is None:
+                        continue
+                    text, v = _escape(v[0]), v[1]
+                else:
+                    text = formula.format(r=n, rr=rr)
                 t = ""
                 if isinstance(v, bool):
                     t, v = ' t="b"', int(v)
@@ -301,7 +316,7 @@ class RowBlock:
                     elif v:
                         t = ' t="str"'
                     v = _escape(v)
-                add(f"{head}{n}{style}{t}><f>{formula.format(r=n, rr=rr)}</f><v>{v}</v></c>")
+                add(f"{head}{n}{style}{t}><f>{text}</f><v>{v}</v></c>")
         add("</row>")
         return "".join(parts)
 
@@ -346,3 +361,72 @@ def _install(ws) -> None:
             b._write(ws.fh)
 
     ws._write_rows = write_rows
+
+
+class RowSink:
+    """xlsxwriter's write_string / write_number / write_formula / write_datetime for the rows
+    of a RowBlock: a sheet module writes its rows to the sink as it would to the worksheet
+    (rows in increasing order, cells in any order within a row) and the sink hands each row to
+    the block as one shape of its cells. Formulas go through the worksheet's own formula
+    preparation, dates through its own date conversion, NaN and infinity become #NUM! as
+    xlsxwriter writes them; so the cells are the ones the worksheet would hold.
+
+    With FAST_ROWS off, every call goes straight to the worksheet (the reference path)."""
+
+    def __init__(self, ws, first_row: int):
+        self.ws = ws
+        self.fast = FAST_ROWS
+        self.block = RowBlock(ws, first_row) if self.fast else None
+        self.row = -1
+        self.cells: list[tuple] = []
+        self.shapes: dict[tuple, Shape] = {}
+
+    def write_string(self, row: int, col: int, text: str, fmt=None) -> None:
+        if not self.fast:
+            self.ws.write_string(row, col, text, fmt)
+            return
+        self._cell(row, col, TEXT, fmt, text)
+
+    def write_number(self, row: int, col: int, value: float, fmt=None) -> None:
+        if not self.fast:
+            self.ws.write_number(row, col, value, fmt)
+            return
+        if value != value or value in (float("inf"), float("-inf")):
+            self._cell(row, col, FORMULA, fmt, ("#NUM!", "#NUM!"))
+        else:
+            self._cell(row, col, NUMBER, fmt, value)
+
+    def write_formula(self, row: int, col: int, formula: str, fmt=None, value=0) -> None:
+        if not self.fast:
+            self.ws.write_formula(row, col, formula, fmt, value)
+            return
+        self._cell(row, col, FORMULA, fmt, (self.ws._prepare_formula(formula), value))
+
+    def write_datetime(self, row: int, col: int, when, fmt=None) -> None:
+        if not self.fast:
+            self.ws.write_datetime(row, col, when, fmt)
+            return
+        self._cell(row, col, DATE, fmt, self.ws._convert_date_time(when))
+
+    def finish(self) -> None:
+        """Hand over the last row and close the block."""
+        if self.fast:
+            self._flush()
+            self.block.finish()
+
+    def _cell(self, row: int, col: int, kind: str, fmt, value) -> None:
+        if row != self.row:
+            self._flush()
+            self.row = row
+        self.cells.append((col, kind, fmt, value))
+
+    def _flush(self) -> None:
+        if not self.cells:
+            return
+        cells = sorted({c[0]: c for c in self.cells}.values())  # a cell written twice: the last
+        key = tuple((col, kind, id(fmt)) for col, kind, fmt, _v in cells)
+        shape = self.shapes.get(key)
+        if shape is None:
+            shape = self.shapes[key] = Shape([Column(col, kind, fmt) for col, kind, fmt, _v in cells])
+        self.block.add(self.row, shape, [v for *_c, v in cells])
+        self.cells = []
