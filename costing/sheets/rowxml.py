@@ -22,11 +22,12 @@ cells written by xlsxwriter. Streaming mode (xlsxwriter's constant_memory): each
 to the worksheet's row file as it is added, after xlsxwriter's own pending row, so rows stay in
 order, as xlsxwriter does itself in that mode.
 
-What the block requires, and checks: its rows are added in increasing row order after every row
-written through xlsxwriter on that worksheet (the header), and nothing is written through
-xlsxwriter on the worksheet at or below the block's first row afterwards (`RowBlock.add` raises
-ValueError on a row out of order; the worksheet's own write methods are not watched, a rule the
-sheet modules keep).
+What the block requires, and checks: its rows are added in increasing row order, below every row
+written through xlsxwriter on that worksheet so far (the header); rows written through xlsxwriter
+afterwards go below the block's last row (a total row). `RowBlock.add` raises ValueError on a
+row out of order; the worksheet's own write methods are not watched, a rule the sheet modules
+keep. At close, xlsxwriter's rows above, between and below the blocks and the blocks' rows are
+written in row order.
 
 Widths. The layout pass (`costing.sheets.formats.install_layout`) measures every cell written
 through xlsxwriter. The block measures its own cells and reports to it, on `finish`, the values
@@ -339,28 +340,35 @@ def _line(s: str) -> int:
 
 
 def _install(ws) -> None:
-    """Make the worksheet write its xlsxwriter rows above the blocks, then the blocks' rows
-    (normal mode; called when the workbook closes)."""
+    """Make the worksheet write, at close, its xlsxwriter rows above, between and below the
+    blocks, and each block's rows in its place (normal mode)."""
     own = ws._write_rows
 
     def write_rows() -> None:
-        blocks = sorted(ws._costing_blocks, key=lambda b: b.first)
-        first = min((b.first for b in blocks if b.rows), default=None)
-        if first is None:
+        blocks = sorted((b for b in ws._costing_blocks if b.rows), key=lambda b: b.first)
+        if not blocks or ws.dim_rowmin is None:
             return own()
-        keep_max = ws.dim_rowmax
-        moved = {r: ws.row_info.pop(r) for r in list(ws.row_info) if r >= first}
-        try:
-            if ws.dim_rowmin is not None and ws.dim_rowmin < first:
-                ws.dim_rowmax = first - 1
-                own()  # the header rows, with xlsxwriter's spans
-        finally:
-            ws.dim_rowmax = keep_max
-            ws.row_info.update(moved)
+        low = ws.dim_rowmin
         for b in blocks:
+            _own_rows(ws, own, low, b.first - 1)
             b._write(ws.fh)
+            low = b.next
+        _own_rows(ws, own, low, ws.dim_rowmax)
 
     ws._write_rows = write_rows
+
+
+def _own_rows(ws, own, low: int, high: int) -> None:
+    """xlsxwriter's rows `low`..`high` (zero-based, inclusive), if any; row heights set on the
+    blocks' rows are theirs (`RowBlock._write`), not written again here."""
+    if high < low:
+        return
+    keep = ws.dim_rowmin, ws.dim_rowmax
+    ws.dim_rowmin, ws.dim_rowmax = low, high
+    try:
+        own()
+    finally:
+        ws.dim_rowmin, ws.dim_rowmax = keep
 
 
 class RowSink:

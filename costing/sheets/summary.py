@@ -12,6 +12,7 @@ from costing.money import round_money
 from costing.plan.week import late_hours
 from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_value
+from costing.sheets.rowxml import RowSink
 
 
 def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
@@ -25,6 +26,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     S = {name: xl_col_to_name(i) for name, i in SUM.items()}
     L = {name: xl_col_to_name(i) for name, i in LEG.items()}
     f = w.f
+    out = RowSink(ws, 1)  # the shipment rows as worksheet XML (costing.sheets.rowxml)
     r = 0
     for r, res in enumerate(results, start=1):
         x = r + 1
@@ -32,41 +34,42 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         for col, value in (("shipment_id", s.shipment_id), ("status", res.status), ("origin", s.origin),
                            ("destination", s.destination), ("objective", res.objective),
                            ("vehicle", res.vehicle), ("customer", s.customer), ("note", res.message)):
-            ws.write_string(r, c[col], cell_text(value))
-        ws.write_number(r, c["weight_t"], s.weight_t)
-        ws.write_string(r, c["travels_with"], ", ".join(res.shared_with))
+            out.write_string(r, c[col], cell_text(value))
+        out.write_number(r, c["weight_t"], s.weight_t)
+        out.write_string(r, c["travels_with"], ", ".join(res.shared_with))
         for col, day in (("ready_date", s.ready_date or w.first_day), ("due_date", s.due_date)):
             if day is not None:
-                ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
-        write_chargeable_kg(w, ws, r, s, S)
-        write_make_or_buy(w, ws, r, res, S, carrier_rows or {})
-        write_revenue(w, ws, r, res, S)
+                out.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
+        write_chargeable_kg(w, out, r, s, S)
+        write_make_or_buy(w, out, r, res, S, carrier_rows or {})
+        write_revenue(w, out, r, res, S)
         if res.status != ROUTED:
-            ws.write_number(r, c["legs"], 0)
+            out.write_number(r, c["legs"], 0)
             continue
         if res.bought:
-            write_bought(w, ws, r, res, S)
+            write_bought(w, out, r, res, S)
             continue
         sheet, a, b = ranges[s.shipment_id]
         sh = sheet_ref(sheet)
-        ws.write_number(r, c["vehicles"], res.vehicles)
-        ws.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
+        out.write_number(r, c["vehicles"], res.vehicles)
+        out.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
         for col, legs_cols in SUMMED.items():
             kind = SUMMARY_COLUMNS[c[col]][2]
             expr = "+".join(f"SUM({sh}!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
             if kind == "money":
                 expr = w.round_f(expr)
-            ws.write_formula(r, c[col], "=" + expr, f[kind], shipment_value(res, col))
+            out.write_formula(r, c[col], "=" + expr, f[kind], shipment_value(res, col))
         for col, (num, den, k) in RATIOS.items():  # e.g. g CO2e per tonne-km
-            ws.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
+            out.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
                              getattr(res, col))
-        write_cost_cells(w, ws, r, res, c, S)
+        write_cost_cells(w, out, r, res, c, S)
         late = late_hours(res, w.first_day)
         if late is not None:
-            ws.write_number(r, c["late_hours"], late, f["hours"])
+            out.write_number(r, c["late_hours"], late, f["hours"])
         route = " > ".join([res.legs[0].use.from_depot] + [leg.use.to_depot for leg in res.legs])
-        ws.write_string(r, c["route"], cell_text(route))
+        out.write_string(r, c["route"], cell_text(route))
+    out.finish()
     last = r
     # totals row: each column's sum, cached from the same figures
     t = last + 1
