@@ -156,6 +156,36 @@ def test_batched_comparison_matches_networkx_and_single_searches():
                 nx.dijkstra_path_length(g, s.origin, s.destination, weight="h"))
 
 
+def test_comparison_sheet_one_row_per_shipment(cli, tmp_path, monkeypatch):
+    # One row per compared shipment, the objectives side by side. Checks from the objectives'
+    # definitions (no code of ours): the cost objective's route costs no more than any other
+    # objective's, the distance objective's is no longer; the chosen objective's cost_vs_chosen
+    # is 0 and every other one is that objective's total_cost less the chosen's.
+    from costing.contract.inputs import OBJECTIVES
+
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "d.xlsx")[0] == 0
+    wb = openpyxl.load_workbook("d.xlsx", data_only=True)
+    rows = list(wb["Comparison"].iter_rows(values_only=True))
+    head = {name: i for i, name in enumerate(rows[0])}
+    summary = [r for r in wb["Summary"].iter_rows(min_row=2, values_only=True) if r[1] == "routed"]
+    assert len(rows) - 1 == len(summary) and len({r[0] for r in rows[1:]}) == len(rows) - 1
+    for row in rows[1:]:
+        def v(obj, name, row=row):
+            return row[head[f"{obj}_{name}"]]
+        chosen = row[head["chosen"]]
+        assert v(chosen, "cost_vs_chosen") == 0 and v(chosen, "route") == "chosen route"
+        assert 1 <= row[head["routes"]] <= len(OBJECTIVES)
+        for obj in OBJECTIVES:
+            assert v("cost", "total_cost") <= v(obj, "total_cost") + 1e-9
+            if v(chosen, "distance_km"):  # own vehicles (a shipment bought from a carrier has no km)
+                assert v("distance", "distance_km") <= v(obj, "distance_km") + 1e-9
+            assert v(obj, "cost_vs_chosen") == pytest.approx(v(obj, "total_cost") - v(chosen, "total_cost"),
+                                                             abs=0.005)
+        distinct = {v(o, "route") for o in OBJECTIVES} | {"chosen route"}
+        assert row[head["routes"]] == len(distinct) or row[head["routes"]] <= len(distinct)
+
+
 def _scenario_data():
     data = base_data()
     data["Settings"].append({"setting": "fuel_price_per_litre", "value": 1.50})

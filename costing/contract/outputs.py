@@ -5,6 +5,8 @@ workbooks (costing.compare, the tests) find columns by these header names, never
 
 from __future__ import annotations
 
+from costing.contract.inputs import OBJECTIVES
+
 # The output sheets, in the order they appear. Legs continue on "Legs 2", "Legs 3", ... at the
 # spreadsheet's row limit (Scenario legs on "Scenario legs 2", ...); Scenario comparison, Scenario
 # bridge (and its shipments), Scenario shipments, Scenario vehicle runs, Scenario legs, Comparison,
@@ -228,6 +230,13 @@ INVOICE_COL = {name: i for i, (name, _w, _k) in enumerate(INVOICE_COLUMNS)}
 
 
 HEADER_NOTES = {
+    "chosen": "Comparison: the objective the shipment was routed by (its own, the command line's or "
+              "Settings objective).",
+    "routes": "Comparison: how many different routes (lanes and vehicles) the objectives choose.",
+    **{f"{o}_cost_vs_chosen": f"Comparison: {o}_total_cost - the chosen objective's total_cost "
+       "(a formula)." for o in OBJECTIVES},
+    **{f"{o}_route": f"Comparison: the best route by {o}, depots and vehicle; 'chosen route' when it "
+       "is the chosen objective's." for o in OBJECTIVES},
     "km_basis": "stated: from the Lanes sheet; estimated: straight line x detour_factor.",
     "hours_basis": "stated: from the Lanes sheet; estimated: km / default_speed_kmh.",
     "vehicles": "Legs: vehicles the load needs alone = the most of ceil(weight_t / payload_t), "
@@ -348,13 +357,15 @@ HEADER_NOTES = {
 }
 
 
-COMPARISON_COLUMNS = [
-    ("shipment_id", 12, "text"), ("objective", 10, "text"), ("chosen", 7, "text"), ("status", 9, "text"),
-    ("vehicle", 14, "text"), ("legs", 5, "int"), ("total_cost", 12, "money"), ("drive_hours", 10, "hours"),
-    ("elapsed_hours", 10, "hours"), ("distance_km", 11, "km"), ("co2e_kg", 10, "kg"),
-    ("cost_vs_chosen", 12, "money"), ("hours_vs_chosen", 12, "hours"), ("km_vs_chosen", 11, "km"),
-    ("co2e_vs_chosen", 12, "kg"), ("route", 48, "text"),
+# Comparison: one row per shipment; per objective (costing.contract.inputs.OBJECTIVES, in that
+# order) the figures of its best route, side by side
+COMPARISON_FIGURES = [
+    ("total_cost", 12, "money"), ("elapsed_hours", 10, "hours"), ("distance_km", 11, "km"),
+    ("co2e_kg", 10, "kg"), ("cost_vs_chosen", 12, "money"), ("route", 40, "text"),
 ]
+COMPARISON_COLUMNS = [("shipment_id", 12, "text"), ("chosen", 10, "text"), ("routes", 7, "int")] + [
+    (f"{objective}_{name}", width, kind) for objective in OBJECTIVES
+    for name, width, kind in COMPARISON_FIGURES]
 
 
 TRADEOFF_COLUMNS = [
