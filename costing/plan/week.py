@@ -70,7 +70,7 @@ from costing.plan.buy import (
 )
 from costing.plan.consolidate import Capacity, Load, Step, plan
 from costing.price.allocate import allocate, cap_at_standalone
-from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg
+from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg, with_share
 from costing.price.rates import fuel_use, load_factor, wtw_per_litre
 
 MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
@@ -482,14 +482,15 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             cut: list[int] = []
             if len(part) > 1:
                 cost_shares, cut = cap_at_standalone(cost_shares, alone, places)
+            together = {j for j, _k in part}
             for pos, ((i, k), g) in enumerate(zip(part, part_legs)):
                 q = _quota(rl.leg_cost, g.tonne_km, tkm, len(part))
-                legs[(i, k)] = replace(g, run_id=run_id, cost_share=cost_shares[pos],
-                                       share_adjust=round_money(cost_shares[pos] - round_money(q, places),
-                                                                places),
-                                       co2e_share=_quota(co2e, g.tonne_km, tkm, len(part)))
+                legs[(i, k)] = with_share(g, run_id=run_id, cost_share=cost_shares[pos],
+                                          share_adjust=round_money(cost_shares[pos] - round_money(q, places),
+                                                                   places),
+                                          co2e_share=_quota(co2e, g.tonne_km, tkm, len(part)))
                 if len(part) > 1:
-                    shared.setdefault(i, set()).update(j for j, _k in part if j != i)
+                    shared.setdefault(i, set()).update(together)  # i itself is left out below
                 if pos in cut:
                     capped.setdefault(i, []).append(g.use.lane.lane_id)
             ships = [chosen[i].shipment for i, _k in part]
@@ -504,12 +505,13 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         notes += empty_notes
     out: list[CostedShipment] = []
     problems: list[Problem] = []
+    sids = [c.shipment.shipment_id for c in chosen]
     for i, res in enumerate(chosen):
         if res.status != ROUTED or res.bought:
             out.append(replace(res, day=day_of(res.shipment)))
             continue
         new_legs = tuple(legs[(i, k)] for k in range(len(res.legs)))
-        with_ids = tuple(chosen[j].shipment.shipment_id for j in sorted(shared.get(i, ())))
+        with_ids = tuple(map(sids.__getitem__, sorted(shared.get(i, set()) - {i})))
         msg = [res.message] if res.message else []
         if res is not results[i]:
             old = results[i]

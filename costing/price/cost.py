@@ -24,7 +24,7 @@ ROUND is half away from zero to the currency's minor unit, as the spreadsheet RO
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields
 
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
@@ -323,6 +323,30 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
                           stops_in_hours=rules is not None and settings.driving_clock_in_search == "yes")
 
 
+_LEG_FIELDS: frozenset[str] = frozenset()
+
+
+def with_share(leg: Leg, **changes) -> Leg:
+    """A copy of `leg` with `changes` (Leg field names): `dataclasses.replace` without running
+    the constructor again (a Leg has no __post_init__ and no cached properties: its fields are
+    its instance dict), for the plan stage's hundred thousand shares.
+
+    Raises
+    ------
+    TypeError
+        For a name that is not a Leg field.
+    """
+    global _LEG_FIELDS
+    if not _LEG_FIELDS:
+        _LEG_FIELDS = frozenset(f.name for f in fields(Leg))
+    if not changes.keys() <= _LEG_FIELDS:
+        raise TypeError(f"not Leg fields: {sorted(changes.keys() - _LEG_FIELDS)}")
+    new = object.__new__(Leg)
+    new.__dict__.update(leg.__dict__)
+    new.__dict__.update(changes)
+    return new
+
+
 def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
     """The same leg (lane, card, rates, handling, stops) run with `n` vehicles: every cost
     component recomputed with the arithmetic of `cost_route`, in the same order.
@@ -347,10 +371,10 @@ def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
     lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
         use, card, n, leg.paid_stop_hours, leg.start_handling_rate, leg.end_handling_rate, leg.trip_rate,
         settings, places, leg.toll_rate)
-    return replace(leg, vehicles=n, km_cost=lc.km_cost, hour_cost=lc.hour_cost, toll_cost=lc.toll_cost,
-                   fixed_cost=lc.fixed_cost, fuel_surcharge=lc.fuel_surcharge, stop_cost=stop_cost,
-                   start_handling_cost=sh_cost, end_handling_cost=eh_cost, trip_cost=trip_cost,
-                   leg_cost=leg_cost)
+    return with_share(leg, vehicles=n, km_cost=lc.km_cost, hour_cost=lc.hour_cost, toll_cost=lc.toll_cost,
+                      fixed_cost=lc.fixed_cost, fuel_surcharge=lc.fuel_surcharge, stop_cost=stop_cost,
+                      start_handling_cost=sh_cost, end_handling_cost=eh_cost, trip_cost=trip_cost,
+                      leg_cost=leg_cost)
 
 
 def unrouted(model: Model, shipment: Shipment, status: str, objective: str, message: str,
