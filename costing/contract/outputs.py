@@ -209,7 +209,7 @@ CUSTOMER_COLUMNS = [
     ("pallets", 8, "plain"), ("tonne_km", 11, "km"), ("total_cost", 12, "money"),
     ("cost_per_tonne", 11, "money"), ("cost_per_pallet", 11, "money"), ("cost_per_shipment", 11, "money"),
     ("co2e_kg", 10, "kg"), ("quoted_price", 12, "money"), ("margin", 12, "money"), ("margin_pct", 9, "pct"),
-    ("invoiced", 12, "money"), ("invoice_difference", 12, "money"),
+    ("invoiced", 12, "money"), ("invoice_difference", 12, "money"), ("spellings", 30, "text"),
 ]
 
 
@@ -331,6 +331,9 @@ HEADER_NOTES = {
     "cost_per_tonne": "total_cost / tonnes (routed shipments).",
     "cost_per_pallet": "total_cost / pallets (blank when the shipments give no pallets).",
     "cost_per_shipment": "total_cost / routed.",
+    "spellings": "The names grouped as this customer when typed more than one way: a spreadsheet "
+                 "compares text without regard to case, so Acme and ACME are one customer (the first "
+                 "spelling is shown in customer).",
     "used": "yes: the shipment is bought from this carrier; no: priced for comparison only.",
     "charged_kg": "chargeable_kg rounded up to a multiple of weight_step_kg (blank step: unchanged); "
                   "the band holds min_kg <= charged_kg < max_kg.",
