@@ -119,7 +119,7 @@ SUMMARY_COLUMNS = [
     ("handling_cost", 11, "money"), ("trip_cost", 10, "money"), ("subtotal", 12, "money"),
     ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"),
     ("standalone_cost", 12, "money"), ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"),
-    ("total_cost", 12, "money"), ("saving", 11, "money"),
+    ("carrier_parts_cost", 12, "money"), ("total_cost", 12, "money"), ("saving", 11, "money"),
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
@@ -183,10 +183,12 @@ RUN_COLUMNS = [
 RUN_COL = {name: i for i, (name, _w, _k) in enumerate(RUN_COLUMNS)}
 
 
-# Carrier charges columns: one row per shipment a carrier tariff prices (bought or not); every
+# Carrier charges columns: one row per shipment a carrier tariff prices whole (bought or not), and
+# one per part of a route bought (collection or delivery, with the lane ends it covers); every
 # price a live formula over the row's own cells. "rate" kind: amounts in the tariff's currency.
 CARRIER_COLUMNS = [
-    ("shipment_id", 12, "text"), ("used", 6, "text"), ("carrier", 14, "text"), ("from_zone", 10, "text"),
+    ("shipment_id", 12, "text"), ("used", 6, "text"), ("part", 10, "text"), ("from_depot", 11, "text"),
+    ("to_depot", 11, "text"), ("carrier", 14, "text"), ("from_zone", 10, "text"),
     ("to_zone", 10, "text"), ("date", 11, "date"), ("weight_kg", 10, "kg"), ("volume_m3", 9, "plain"),
     ("volumetric_kg_per_m3", 11, "plain"), ("loading_metres", 9, "plain"),
     ("kg_per_loading_metre", 11, "plain"),
@@ -278,7 +280,13 @@ HEADER_NOTES = {
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "allocated_cost + empty_return_cost, plus min_charge_uplift when the shipment shares "
-                  "no vehicle (travels_with blank). With consolidate = no: standalone_cost.",
+                  "no vehicle (travels_with blank), plus carrier_parts_cost. With consolidate = no: "
+                  "standalone_cost. Bought whole from a carrier: buy_cost.",
+    "carrier_parts_cost": "Parts of the route bought from carriers (collection to a hub, delivery from "
+                          "one; the rest on own vehicles): the sum of their Carrier charges rows "
+                          "(part collection or delivery). Blank: none.",
+    "part": "whole: the shipment from origin to destination; collection: origin to the first "
+            "consolidation hub; delivery: the last hub to the destination (the rest on own vehicles).",
     "run_id": "The vehicle run (Vehicle runs sheet) the leg rides in.",
     "tonne_km": "weight_t x distance_km: the allocation key (ISO 14083 allocates a run's emissions "
                 "among its loads by tonne-km; the same key shares its cost).",
@@ -288,8 +296,8 @@ HEADER_NOTES = {
                     "and, where a share would exceed the leg's own cost, the amount moved to the "
                     "other loads of the run (see the shipment's note).",
     "co2e_share": "The leg's share of its run's co2e_kg, by tonne-km. Planning estimate.",
-    "standalone_cost": "subtotal + min_charge_uplift + empty_return_alone: the route with vehicles "
-                       "of its own.",
+    "standalone_cost": "subtotal + min_charge_uplift + empty_return_alone + carrier_parts_cost: the "
+                       "route with vehicles of its own.",
     "empty_return_alone": "Settings return_empty = yes: what bringing its own vehicles back empty "
                           "would cost (the cheapest way back with the same rate card; no handling).",
     "empty_return_cost": "Settings return_empty = yes: its share of the empty returns (Vehicle runs rows "
@@ -319,8 +327,9 @@ HEADER_NOTES = {
                  "what its own route alone would cost (blank: no own route).",
     "buy_cost": "The cheapest carrier's charge in the run's currency (Carrier charges sheet); blank when "
                 "no tariff fits.",
-    "make_or_buy": "make: own vehicles; buy: the carrier (the cheaper for the week's cost: the planner "
-              "weighs the carrier's price against what the load adds to the own vehicle runs).",
+    "make_or_buy": "make: own vehicles; buy: the carrier; part: the collection and/or delivery bought, "
+                   "the trunk on own vehicles (the cheapest for the week's cost: the planner weighs "
+                   "carrier prices against what the load adds to the own vehicle runs).",
     "quoted_price": "What the customer pays for the shipment (Shipments quoted_price): revenue.",
     "margin": "Summary: quoted_price - total_cost. Cost per customer: the sum over the customer's "
               "shipments with a quoted_price.",
@@ -334,7 +343,7 @@ HEADER_NOTES = {
     "spellings": "The names grouped as this customer when typed more than one way: a spreadsheet "
                  "compares text without regard to case, so Acme and ACME are one customer (the first "
                  "spelling is shown in customer).",
-    "used": "yes: the shipment is bought from this carrier; no: priced for comparison only.",
+    "used": "yes: the shipment (or the part) is bought from this carrier; no: priced for comparison only.",
     "charged_kg": "chargeable_kg rounded up to a multiple of weight_step_kg (blank step: unchanged); "
                   "the band holds min_kg <= charged_kg < max_kg.",
     "freight": "ROUND(charged_kg / 100 x price_per_100kg), in the tariff's currency.",
@@ -399,8 +408,9 @@ SCENARIO_SHIPMENT_COLUMNS = [
     ("origin", 10, "text"), ("destination", 11, "text"), ("vehicle", 12, "text"), ("vehicles", 8, "int"),
     ("legs", 6, "int"), ("distance_km", 11, "km"), ("subtotal", 12, "money"), ("min_charge", 10, "money"),
     ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"), ("standalone_cost", 12, "money"),
-    ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"), ("total_cost", 12, "money"),
-    ("saving", 11, "money"), ("travels_with", 16, "text"), ("base_total_cost", 12, "money"),
+    ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"), ("carrier_parts_cost", 12, "money"),
+    ("total_cost", 12, "money"), ("saving", 11, "money"), ("travels_with", 16, "text"),
+    ("base_total_cost", 12, "money"),
     ("delta_vs_base", 12, "money"), ("route_vs_base", 9, "text"), ("co2e_kg", 10, "kg"),
     ("route", 40, "text"), ("note", 60, "text"),
 ]
