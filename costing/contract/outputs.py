@@ -17,6 +17,7 @@ SCENARIO_SHIPMENTS = "Scenario shipments"
 SCENARIO_LEGS = "Scenario legs"
 SCENARIO_VEHICLE_RUNS = "Scenario vehicle runs"
 CARRIER_CHARGES = "Carrier charges"
+CURRENCY_CONVERSION = "Currency conversion"  # when a rate card or a carrier price is in another currency
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
@@ -29,8 +30,8 @@ RUN = "Run"
 SCENARIO_BRIDGE = "Scenario bridge"  # base case to each scenario, cause by cause (costing.compare.bridge)
 SCENARIO_BRIDGE_SHIPMENTS = "Scenario bridge shipments"  # each shipment's share of every step
 SHEETS = (SUMMARY, SCENARIO_COMPARISON, SCENARIO_BRIDGE, SCENARIO_BRIDGE_SHIPMENTS, VEHICLE_RUNS, LEGS,
-          CARRIER_CHARGES, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS, COMPARISON, TRADE_OFFS,
-          LANE_USAGE, COST_PER_CUSTOMER, INVOICE_CHECK, CHARTS, MAP, PROBLEMS, RUN)
+          CARRIER_CHARGES, CURRENCY_CONVERSION, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS,
+          COMPARISON, TRADE_OFFS, LANE_USAGE, COST_PER_CUSTOMER, INVOICE_CHECK, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -204,6 +205,21 @@ CARRIER_COLUMNS = [
 CARRIER_COL = {name: i for i, (name, _w, _k) in enumerate(CARRIER_COLUMNS)}
 
 
+# Currency conversion: one row per money figure given in another currency than the run's: each
+# rate card's money fields (Rates rows with a currency) and each carrier price of a tariff row in
+# another currency (one per Carrier charges row), in its own currency beside its Currencies rate;
+# the converted figures are live formulas. "rate" kind: amounts in the row's own currency.
+CURRENCY_COLUMNS = [
+    ("source", 8, "text"), ("input_row", 7, "int"), ("item", 30, "text"), ("figure", 14, "text"),
+    ("currency", 8, "text"), ("amount", 12, "rate"), ("rate", 10, "plain"), ("run_currency", 8, "text"),
+    ("converted", 13, "plain"), ("places", 6, "int"), ("converted_rounded", 13, "money"),
+    ("used_as", 50, "text"),
+]
+
+
+CURRENCY_COL = {name: i for i, (name, _w, _k) in enumerate(CURRENCY_COLUMNS)}
+
+
 # Cost per customer: one row per customer (Shipments customer; blank is "(no customer)"), every
 # figure a formula over the Summary rows of the customer's routed shipments.
 CUSTOMER_COLUMNS = [
@@ -285,6 +301,19 @@ HEADER_NOTES = {
     "carrier_parts_cost": "Parts of the route bought from carriers (collection to a hub, delivery from "
                           "one; the rest on own vehicles): the sum of their Carrier charges rows "
                           "(part collection or delivery). Blank: none.",
+    "source": "Currency conversion: Rates (a rate card's money field) or Tariffs (a carrier's price for "
+              "one consignment, its Carrier charges row).",
+    "input_row": "The row of the input sheet (Rates or Tariffs) the figure comes from.",
+    "figure": "Which figure: a rate card's per_km, per_hour, per_trip, min_charge or fuel_included_at; "
+              "a tariff's price (of one consignment, Carrier charges price).",
+    "amount": "The figure in its own currency, as given (a tariff price: its Carrier charges price).",
+    "run_currency": "The currency the run reports in (Settings currency).",
+    "converted": "amount x rate, in the run's currency, unrounded: what the run prices with for a rate "
+                 "card figure (each amount computed from it is rounded, e.g. km_cost).",
+    "places": "Decimal places of the run's currency (ISO 4217 minor unit: JPY 0, EUR 2, KWD 3).",
+    "converted_rounded": "ROUND(converted, places): the figure in the run's currency's minor unit; for "
+                         "a tariff price, the charge the run used (Carrier charges charge).",
+    "used_as": "How the run uses the converted figure.",
     "part": "whole: the shipment from origin to destination; collection: origin to the first "
             "consolidation hub; delivery: the last hub to the destination (the rest on own vehicles).",
     "run_id": "The vehicle run (Vehicle runs sheet) the leg rides in.",
@@ -352,7 +381,7 @@ HEADER_NOTES = {
              "in the tariff's currency.",
     "fuel_surcharge_pct": "The carrier's fuel band (Fuel surcharges sheet) holding Settings "
                           "fuel_price_per_litre; 0 when none does.",
-    "rate": "Units of the run's currency per unit of the tariff's currency (Currencies sheet; 1 when the "
+    "rate": "Units of the run's currency per unit of the row's currency (Currencies sheet; 1 when the "
             "same).",
     "charge": "ROUND(price x rate) in the run's currency: what the shipment costs when bought.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "

@@ -274,10 +274,12 @@ def _currency_rows(model: Model) -> list[tuple[str, str]]:
         uses = []
         if cards:
             uses.append(f"Rates rows {', '.join(cards)}: per_km, per_hour, per_trip, min_charge and "
-                        f"fuel_included_at converted at input (the Legs and Vehicle runs show them in {cur})")
+                        f"fuel_included_at converted at input (the Legs and Vehicle runs show them in "
+                        f"{cur}; each figure as typed and converted on the Currency conversion sheet)")
         if tariffs:
             uses.append(f"Tariffs rows {', '.join(tariffs)}: priced in {code}, converted on the Carrier "
-                        f"charges sheet (charge = ROUND(price x rate), {cur}'s minor unit)")
+                        f"charges and Currency conversion sheets (charge = ROUND(price x rate), {cur}'s "
+                        "minor unit)")
         rows.append((f"exchange rate: {code}", f"{rate:.10g} {cur} per {code}"
                      + ("; " + "; ".join(uses) if uses else "; not used")))
     return rows
