@@ -132,6 +132,16 @@ def may_buy(model: Model, res: CostedShipment) -> bool:
             and res.objective == "cost")
 
 
+def may_buy_part(model: Model, res: CostedShipment) -> bool:
+    """Whether a part of the shipment's route could be bought: it may be offered carriers
+    (``may_buy``) and a tariff row leaves its origin's zone or enters its destination's zone."""
+    if not may_buy(model, res):
+        return False
+    s = res.shipment
+    fz, tz = model.zone(s.origin), model.zone(s.destination)
+    return any(a == fz or b == tz for a, b in model.tariffs_by_zones)
+
+
 def _runs_of(legs) -> list[tuple[RateCard, list]]:
     """Consecutive priced legs as vehicle runs (rate card, lane steps), as cost_route takes them:
     a new run where the card changes or a leg starts one (trip or start handling); the first leg

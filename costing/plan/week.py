@@ -68,7 +68,7 @@ from costing.plan.buy import (
     carrier_capacities,
     carrier_route,
     cheaper_alone,
-    may_buy,
+    may_buy_part,
     part_options,
     part_steps,
     parts_text,
@@ -261,7 +261,7 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
     tries: dict[int, list[str]] = {}
     for i, res in enumerate(results):
         if res.status == ROUTED and res.objective == "cost" and hub_ids and (
-                per_day[day_of(res.shipment)] > 1 or may_buy(model, res)):
+                per_day[day_of(res.shipment)] > 1 or may_buy_part(model, res)):
             day_hubs = per_day_hubs.get(day_of(res.shipment), {})
             used = {h for h, users in day_hubs.items() if users - {i}}
             tries[i] = _hubs_near(model, res, hub_ids, used)
