@@ -86,6 +86,43 @@ def test_collection_bought_when_dearer_on_own_vehicles():
     assert sum(r.run_cost for r in costed.runs) == 661.25
 
 
+def test_delivery_bought_when_dearer_on_own_vehicles():
+    # S1, 5 t back from C through H to A, with Brindle from H to A (5.00 per 100 kg). By hand:
+    #   all own, one run C > H > A: C-H 370.00 + 135.00 + trip 156.25 = 661.25; H-A 277.50 + 90.00
+    #     = 367.50; total 1028.75
+    #   delivery bought: C-H alone 661.25 + Brindle H to A 5000 / 100 x 5.00 = 250.00: 911.25
+    #   (own vehicles alone on H-A: 277.50 + 90.00 + trip 156.25 = 523.75)
+    back = (Tariff("Brindle", "H", "A", 0, None, 5.0, min_charge=45.0, row=2),)
+    costed = _run(_model([_ship("S1", 5, origin="C", destination="A")], tariffs=back))
+    s1 = costed.results[0]
+    (part,) = s1.parts
+    assert (part.role, part.from_depot, part.to_depot, part.charge, part.own_cost) == \
+        ("delivery", "H", "A", 250.0, 523.75)
+    assert s1.total_cost == 911.25 and [g.use.lane.lane_id for g in s1.legs] == ["L3"]
+    assert s1.make_cost == 1028.75 and s1.buy_cost is None and s1.chosen == "part"
+
+
+def test_collection_and_delivery_bought_around_a_trunk_between_two_hubs():
+    # S1, 5 t A > H > G > C (H and G hubs), Brindle A to H and G to C at 5.00 per 100 kg. By hand:
+    #   all own, one run: A-H 277.50 + 90.00 + trip 156.25 = 523.75; H-G 370.00 + 135.00 = 505.00;
+    #     G-C 277.50 + 90.00 = 367.50; total 1396.25
+    #   collection bought: 250.00 + run H > G > C (505.00 + 156.25 + 367.50) = 1278.75
+    #   delivery bought: run A > H > G (523.75 + 505.00) + 250.00 = 1278.75
+    #   both bought: 250.00 + trunk H-G alone (505.00 + 156.25 = 661.25) + 250.00 = 1161.25
+    depots = (Depot("A", "Ashby", None, None, "depot"), Depot("H", "Holm", None, None, "hub"),
+              Depot("G", "Garth", None, None, "hub"), Depot("C", "Corrin", None, None, "customer"))
+    lanes = (Lane("L1", "A", "H", "road", 150.0, 2.0), Lane("L2", "H", "G", "road", 200.0, 3.0),
+             Lane("L3", "G", "C", "road", 150.0, 2.0))
+    tariffs = (Tariff("Brindle", "A", "H", 0, None, 5.0, row=2),
+               Tariff("Brindle", "G", "C", 0, None, 5.0, row=3))
+    model = Model(Settings(consolidate="yes", compare_objectives="no", frontier_max_routes=0), depots, lanes,
+                  (ARTIC,), (_ship("S1", 5),), tariffs=tariffs)
+    s1 = _run(model).results[0]
+    assert [(p.role, p.from_depot, p.to_depot, p.charge) for p in s1.parts] == \
+        [("collection", "A", "H", 250.0), ("delivery", "G", "C", 250.0)]
+    assert s1.total_cost == 1161.25 and s1.make_cost == 1396.25 and s1.allocated_cost == 661.25
+
+
 def test_trunk_shared_after_both_collections_bought():
     # S1 from A and S2 from B, 5 t each, to C through H. By hand:
     #   all own: A-H 523.75 + B-H 523.75 + one shared artic H-C (10 t, driving on, no trip) 505.00
