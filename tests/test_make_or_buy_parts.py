@@ -267,3 +267,29 @@ def test_instances_exercise_every_way():
     # some with a part of the route bought
     chosen = {r.chosen for seed in range(16) for r in _run(_instance(seed)[0]).results}
     assert {"make", "buy", "part"} <= chosen
+
+
+@pytest.mark.needs_soffice
+def test_libreoffice_recomputes_scenario_with_bought_parts(tmp_path):
+    # a what-if (artic per_km +10 %) costed with parts bought: Scenario shipments carry the parts'
+    # charges in carrier_parts_cost and total_cost; LibreOffice Calc recomputes every formula
+    from dataclasses import replace
+
+    from costing.check.scenarios import Change, Scenario
+    from tests.spreadsheet_app import recalc_mismatches
+
+    dearer = Scenario("artic_up_10", (Change("Rates", "artic", "per_km", "pct", 10.0, "E2", 2),))
+    model = replace(_model([_ship("S1", 5), _ship("S2", 5, origin="B")]), scenarios=(dearer,))
+    costed = pipeline.run(model, pipeline.Options(analyses=False, scenarios=True))
+    (run,) = costed.scenarios
+    assert all(r.parts for r in run.results)
+    path = tmp_path / "out.xlsx"
+    info = RunInfo("in.xlsx", "0" * 64, None, dt.datetime(2026, 12, 7), costed.stats)
+    write_costed(str(path), costed.model, costed.results, costed.problems, info, runs=costed.runs,
+                 scenario_runs=costed.scenarios)
+    rows = _table(openpyxl.load_workbook(path, data_only=True)["Scenario shipments"])
+    # trunk H-C at 2.035/km: 407.00 + 135.00 + 156.25 = 698.25, shared 349.13 + 349.12, plus 250.00 each
+    assert [(r["carrier_parts_cost"], r["total_cost"]) for r in rows] == [(250.0, 599.13), (250.0, 599.12)]
+    (tmp_path / "recalc").mkdir()
+    checked, mismatches = recalc_mismatches(str(path), str(tmp_path / "recalc"))
+    assert checked > 50 and not mismatches, mismatches[:10]
