@@ -196,6 +196,13 @@ def test_conversion_sheet_lists_each_figure_in_its_own_currency(make_input, tmp_
         sid = r["item"].split(": ")[1].split()[0]
         # the carrier's charge the run used, in the run currency's minor unit
         assert r["currency"] == "EUR" and r["converted_rounded"] == prices[sid] == charges[sid]
+    # each currency's rate typed once (its first row); the other rows refer to it
+    ws = openpyxl.load_workbook(path)["Currency conversion"]
+    head = [c.value for c in ws[1]]
+    rates_typed = [row[head.index("rate")].value for row in ws.iter_rows(min_row=2)]
+    # USD x 4 (per_km, per_hour, per_trip, min_charge), then EUR x 2 (S1, S2)
+    assert [isinstance(v, str) and v.startswith("=") for v in rates_typed] == \
+        [False, True, True, True, False, True]
 
 
 @pytest.mark.needs_soffice

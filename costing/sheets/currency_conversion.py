@@ -14,6 +14,10 @@ Rows, in input order:
   currency (a reference to its Carrier charges price cell). ``converted_rounded`` =
   ROUND(price x rate, places) is the charge the run used (Carrier charges charge).
 
+Each currency's rate is typed once, in its first row; its other rows refer to that cell, so
+changing it there recomputes every conversion of that currency on the sheet (the run's own
+figures on the other sheets keep the rate they were costed at).
+
 ``places`` is the ISO 4217 minor unit of the run's currency (``costing.money.minor_unit``: JPY
 0, EUR 2, KWD 3), rounding half away from zero as ``costing.money.round_money`` does. Every
 formula carries its cached value: the value the run used (``converted`` of a rate card field is
@@ -129,6 +133,7 @@ def write_currency_conversion(w: Writer, ws, rows: list[ConversionRow]) -> None:
     f = w.f
     price = xl_col_to_name(CARRIER_COL["price"])
     cur = w.model.settings.currency
+    firsts: dict = {}
     r = 0
     for r, row in enumerate(rows, start=1):
         x = r + 1
@@ -141,7 +146,11 @@ def write_currency_conversion(w: Writer, ws, rows: list[ConversionRow]) -> None:
                              f["rate"], row.amount)
         else:
             ws.write_number(r, c["amount"], row.amount, f["rate"])
-        ws.write_number(r, c["rate"], row.rate)
+        first = firsts.setdefault((row.currency, row.rate), x)
+        if first == x:  # the currency's rate is typed once; its other rows refer to it
+            ws.write_number(r, c["rate"], row.rate)
+        else:
+            ws.write_formula(r, c["rate"], f"=${L['rate']}${first}", None, row.rate)
         ws.write_number(r, c["places"], w.places, f["int"])
         ws.write_formula(r, c["converted"], f"={L['amount']}{x}*{L['rate']}{x}", f["plain"], row.converted)
         ws.write_formula(r, c["converted_rounded"], f"=ROUND({L['converted']}{x},{L['places']}{x})",
