@@ -125,11 +125,21 @@ class CostedShipment:
     make_cost: float | None = None  # on own vehicles: its total when made; alone when bought
     chosen: str = ""  # "make" or "buy" ("" when no carrier was priced)
     why: str = ""  # the reason, with both figures
+    # parts of the route bought from a carrier (costing.price.tariffs.BoughtPart), the legs being the
+    # rest on own vehicles: the collection to a consolidation hub and/or the delivery from one
+    parts: tuple = ()
 
     @property
     def buy_cost(self) -> float | None:
         """The carrier's charge in the run's currency (None when no tariff fits)."""
         return None if self.quote is None else self.quote.charge
+
+    @property
+    def parts_cost(self) -> float:
+        """What the parts of the route bought from carriers cost, in the run's currency (0 without
+        any): the sum of their charges."""
+        return round_money(sum(p.charge for p in self.parts), self.places)
+
     stops_in_hours: bool = False  # the hours quantity includes breaks and rests (clock in search)
 
     @property
@@ -145,11 +155,13 @@ class CostedShipment:
     @property
     def standalone_cost(self) -> float:
         """Subtotal plus the minimum-charge uplift (plus its own empty return, when Settings
-        return_empty is yes), currency: what the route costs the shipment with vehicles of its own
-        (bought from a carrier: the carrier's charge)."""
+        return_empty is yes, and the parts of the route bought from carriers), currency: what the
+        route costs the shipment with vehicles of its own (bought from a carrier: the carrier's
+        charge)."""
         if self.bought:
             return self.quote.charge
-        return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone, self.places)
+        return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone + self.parts_cost,
+                           self.places)
 
     @property
     def allocated_cost(self) -> float:
@@ -162,12 +174,13 @@ class CostedShipment:
     def total_cost(self) -> float:
         """What the shipment costs, currency: its allocated share of the vehicle runs and of
         their empty returns, plus the minimum-charge uplift when it shares no vehicle (with
-        vehicles of its own this is the stand-alone cost); bought from a carrier, the carrier's
-        charge."""
+        vehicles of its own this is the stand-alone cost), plus the parts of the route bought from
+        carriers; bought from a carrier, the carrier's charge."""
         if self.bought:
             return self.quote.charge
         uplift = 0.0 if self.shared_with else self.min_charge_uplift
-        return round_money(self.allocated_cost + self.empty_return_cost + uplift, self.places)
+        return round_money(self.allocated_cost + self.empty_return_cost + uplift + self.parts_cost,
+                           self.places)
 
     @property
     def saving(self) -> float:
