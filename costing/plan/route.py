@@ -331,15 +331,139 @@ class Router:
         finally:
             self.problems = saved
 
-    def frontier(self, s: Shipment, max_routes: int) -> tuple[list[CostedShipment], bool]:
-        """Routes of `s` that no other route beats on both cost and time (drive + handling
-        hours), cheapest first, and whether the cap stopped the search early."""
+    def frontier(self, s: Shipment, max_routes: int,
+                 clock_labels: int | None = None) -> tuple[list[CostedShipment], bool]:
+        """Routes of `s` that no other route beats on both cost and time, cheapest first, and
+        whether the cap stopped the search early.
+
+        Time is drive + handling hours and cost the sum of the steps' costs (before the minimum
+        charge). When the driving clock is in the search of the shipment's cost profile
+        (`clocked`), time is elapsed hours with the breaks and rests its legs show, and cost
+        includes their pay as Settings break_hours_paid / rest_hours_paid say, as `cost_route`
+        prices the route: the search carries the clock in its labels
+        (costing.network.pareto_clock). The plain frontier is searched first: stops only add
+        weight, so when none of its routes stops it is the frontier with the clock too. Past
+        `clock_labels` labels (default: 100 per state of the compact network, at least
+        100,000) the shipment keeps the plain frontier, is listed in `frontier_fallbacks` and
+        gets a warning.
+
+        Which clocks are compared (the order `split` gives, proved sound in the comment
+        below): labels at a state are compared only when their clocks agree in driving today,
+        time on duty, today's limit and longer days used; then the one with no more driving
+        since the break and no more reduced rests used is no worse, under EU-style rules (no
+        duty window) and when each paid stop is a whole number of minor units on every card;
+        otherwise only equal clocks are compared."""
         if s.origin == s.destination:
             return [], False
         pc, net, starts, exits = self._frontier_query(s)
         result = net.frontier(starts, exits, key=s.destination, max_routes=max_routes)
         self.stats.searches += 1
         cnc = self.network(pc)
+        if self.clocked(pc) and not all(self._stop_free(pc, cnc, r) for r in result.routes):
+            from costing.network.build import stop_weight
+            from costing.network.pareto_clock import LabelLimit, clock_frontier
+            from costing.price.rules import advance, start_clock
+
+            model, rules, places, st = self.model, self.rules, self.places, self.model.settings
+            pt = replace(pc, objective="time")
+            road = [m == "road" for _v, m, _n in pc.cards]
+            memo: dict = {}
+
+            def loading(state: int) -> float:
+                return model.depot(cnc.depot_of(state)).handling_hours
+
+            def step(clock, head: int, e: int):
+                """(stop pay, stop hours, clock after) of step e, as cost_route prices its leg."""
+                use = cnc.steps[e]
+                if use.transfer is not None:
+                    return 0.0, 0.0, start_clock(rules, loading(head))  # a new run: rested driver
+                if not road[use.card] or use.use.hours <= 0:
+                    return 0.0, 0.0, clock
+                brk, rest, after = advance(clock, use.use.hours, rules)
+                if not (brk or rest):
+                    return 0.0, 0.0, after
+                w = memo.get((use.card, brk, rest))
+                if w is None:
+                    w = memo[(use.card, brk, rest)] = (stop_weight(model, pc, use.card, brk, rest, places),
+                                                       stop_weight(model, pt, use.card, brk, rest, places))
+                return w[0], w[1], after
+
+            # The order. A clock is (since break, today, on duty, today's limit, longer days
+            # used, reduced rests used) (costing.price.rules). Without a duty window, where a
+            # run rests depends only on (today, limit, longer days) and its driving, not on the
+            # driving since the break, and every rest resets that; so from two clocks equal in
+            # (today, on duty, limit, longer days) the rests fall at the same points, and the
+            # clock with no more driving since the break takes each break no earlier (breaks
+            # fall 4.5 h apart from where its count starts, none at a rest): no more breaks by
+            # any point. With no more reduced rests used, each rest is no longer (reduced first:
+            # the count n -> n + [n < limit] keeps the order). So no more break hours and no
+            # more rest hours: no more time, and no more pay when the pay of one stop is a whole
+            # number of minor units (then a leg's rounded pay is the sum of its stops' pay, on
+            # whichever leg they fall). A duty window makes breaks move the rests: equal clocks.
+            def whole(hours: float) -> bool:
+                for v, m, n in pc.cards:
+                    if m == "road":
+                        x = n * hours * card_of(model, v, m).per_hour * 10 ** places
+                        if abs(x - round(x)) > 1e-6:
+                            return False
+                return True
+
+            paid = ([rules.break_hours] if st.break_hours_paid == "yes" else []) + \
+                ([rules.daily_rest] + ([rules.reduced_rest] if rules.reduced_rest is not None else [])
+                 if st.rest_hours_paid == "yes" else [])
+            if rules.duty_window is None and all(whole(h) for h in paid):
+                def split(c):
+                    return (c[1], c[2], c[3], c[4]), (c[0], c[5])
+            else:
+                def split(c):
+                    return c, ()
+
+            # a lower bound on the stops still to come: the current run drives at least the
+            # least driving hours from here to where a run ends (an exit or a change of
+            # vehicle), and the stops of a run only grow with its driving (`advance` takes a
+            # stop when more driving follows: those of a shorter drive are among them)
+            cache = self.__dict__.setdefault("_frontier_drive", {})
+            left = cache.get((pc, s.destination))
+            if left is None:
+                if len(cache) * len(cnc.adj) > 2_000_000:
+                    cache.clear()
+                rev: list[list[tuple[int, float, int]]] = [[] for _ in cnc.adj]
+                ends = {x: 0.0 for x in exits}
+                for u, row in enumerate(cnc.adj):
+                    for v, _w, e in row:
+                        use = cnc.steps[e]
+                        if use.transfer is not None:
+                            ends[u] = 0.0
+                        else:
+                            rev[v].append((u, use.use.hours if road[use.card] else 0.0, e))
+                left = cache[(pc, s.destination)] = dijkstra_all(rev, list(ends.items()))
+            additive = all(whole(h) for h in paid)
+
+            def more(clock, v: int):
+                k = v % cnc.n_cards
+                if not road[k] or not left[v] < float("inf"):
+                    return 0.0, 0.0
+                brk, rest, _after = advance(clock, left[v], rules)
+                if not (brk or rest):
+                    return 0.0, 0.0
+                return (stop_weight(model, pc, k, brk, rest, places) if additive else 0.0), brk + rest
+
+            hc, ht = net.bounds(exits, key=s.destination)
+            cap = clock_labels if clock_labels is not None else max(100_000, 100 * len(cnc.adj))
+            try:
+                result = clock_frontier(net.adj, [(v, c0, t0, start_clock(rules, loading(v)))
+                                                  for v, c0, t0 in starts],
+                                        exits, hc, ht, step, split, max_routes, cap, more)
+            except LabelLimit:
+                if not hasattr(self, "frontier_fallbacks"):
+                    self.frontier_fallbacks: set[str] = set()
+                self.frontier_fallbacks.add(s.shipment_id)
+                sheet, cell = model.cell("Shipments", "shipment_id", s.row)
+                self.problems.append(Problem(
+                    WARNING, sheet, cell,
+                    f"shipment {s.shipment_id}: trade-offs compared on drive + handling hours, without "
+                    f"breaks and rests (more than {cap:,} driving-clock labels); planning estimate",
+                    "nothing to do; the routes listed are costed with their stops"))
         out = []
         for r in result.routes:
             runs = _runs_from(self.model, cnc, r.nodes[0], r.edges)
