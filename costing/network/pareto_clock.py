@@ -98,8 +98,8 @@ def clock_frontier(adj, starts: Sequence[tuple[int, float, float, Hashable]],
         Lower bounds on the remaining cost and time to an exit without what `step` adds (exit
         weights included); inf where no exit is reachable. E.g. `FrontierNetwork.bounds`.
     step : callable (state, head, edge id) -> (added cost, added time, state at head)
-        What a step adds besides its own weights (>= 0) and the state after it; a function of
-        its arguments.
+        What a step adds besides its own weights (>= 0; inf: the step cannot be taken from
+        that state) and the state after it; a function of its arguments.
     split : callable state -> (key, vec)
         The covering order (module docstring): equal keys and vec componentwise no larger.
         Must be sound.
@@ -232,6 +232,8 @@ def clock_frontier(adj, starts: Sequence[tuple[int, float, float, Hashable]],
             xc, xt, after = step(state, v, e)
             if not (xc >= 0.0 and xt >= 0.0):
                 raise ValueError(f"step {e} adds a negative or NaN weight ({xc}, {xt})")
+            if xc == inf or xt == inf:
+                continue  # not usable from this state
             c2, t2 = gc + wc + xc, gt + wt + xt
             f2c, f2t = c2 + max(hv_c, 0.0), t2 + max(hv_t, 0.0)
             if sol[2] and _covered(sol[0], sol[1], f2c, f2t):

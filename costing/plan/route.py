@@ -365,6 +365,7 @@ class Router:
             from costing.price.rules import advance, start_clock
 
             model, rules, places, st = self.model, self.rules, self.places, self.model.settings
+            inf = float("inf")
             pt = replace(pc, objective="time")
             road = [m == "road" for _v, m, _n in pc.cards]
             memo: dict = {}
@@ -372,21 +373,25 @@ class Router:
             def loading(state: int) -> float:
                 return model.depot(cnc.depot_of(state)).handling_hours
 
-            def step(clock, head: int, e: int):
-                """(stop pay, stop hours, clock after) of step e, as cost_route prices its leg."""
+            # a label's state: (whether its vehicle run has no lane step yet, the driving clock)
+            def step(state, head: int, e: int):
+                """(stop pay, stop hours, state after) of step e, as cost_route prices its leg."""
+                empty, clock = state
                 use = cnc.steps[e]
                 if use.transfer is not None:
-                    return 0.0, 0.0, start_clock(rules, loading(head))  # a new run: rested driver
+                    if empty:  # a run without a lane is no run (`_runs_from` drops it): changing
+                        return inf, inf, state  # twice at one depot would rest a driver unpriced
+                    return 0.0, 0.0, (True, start_clock(rules, loading(head)))  # a rested driver
                 if not road[use.card] or use.use.hours <= 0:
-                    return 0.0, 0.0, clock
+                    return 0.0, 0.0, (False, clock)
                 brk, rest, after = advance(clock, use.use.hours, rules)
                 if not (brk or rest):
-                    return 0.0, 0.0, after
+                    return 0.0, 0.0, (False, after)
                 w = memo.get((use.card, brk, rest))
                 if w is None:
                     w = memo[(use.card, brk, rest)] = (stop_weight(model, pc, use.card, brk, rest, places),
                                                        stop_weight(model, pt, use.card, brk, rest, places))
-                return w[0], w[1], after
+                return w[0], w[1], (False, after)
 
             # The order. A clock is (since break, today, on duty, today's limit, longer days
             # used, reduced rests used) (costing.price.rules). Without a duty window, where a
@@ -412,11 +417,12 @@ class Router:
                 ([rules.daily_rest] + ([rules.reduced_rest] if rules.reduced_rest is not None else [])
                  if st.rest_hours_paid == "yes" else [])
             if rules.duty_window is None and all(whole(h) for h in paid):
-                def split(c):
-                    return (c[1], c[2], c[3], c[4]), (c[0], c[5])
+                def split(state):
+                    empty, c = state
+                    return (empty, c[1], c[2], c[3], c[4]), (c[0], c[5])
             else:
-                def split(c):
-                    return c, ()
+                def split(state):
+                    return state, ()
 
             # a lower bound on the stops still to come: the current run drives at least the
             # least driving hours from here to where a run ends (an exit or a change of
@@ -439,9 +445,10 @@ class Router:
                 left = cache[(pc, s.destination)] = dijkstra_all(rev, list(ends.items()))
             additive = all(whole(h) for h in paid)
 
-            def more(clock, v: int):
+            def more(state, v: int):
+                clock = state[1]
                 k = v % cnc.n_cards
-                if not road[k] or not left[v] < float("inf"):
+                if not road[k] or not left[v] < inf:
                     return 0.0, 0.0
                 brk, rest, _after = advance(clock, left[v], rules)
                 if not (brk or rest):
@@ -451,7 +458,7 @@ class Router:
             hc, ht = net.bounds(exits, key=s.destination)
             cap = clock_labels if clock_labels is not None else max(100_000, 100 * len(cnc.adj))
             try:
-                result = clock_frontier(net.adj, [(v, c0, t0, start_clock(rules, loading(v)))
+                result = clock_frontier(net.adj, [(v, c0, t0, (True, start_clock(rules, loading(v))))
                                                   for v, c0, t0 in starts],
                                         exits, hc, ht, step, split, max_routes, cap, more)
             except LabelLimit:
