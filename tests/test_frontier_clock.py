@@ -407,3 +407,30 @@ def test_the_search_values_are_the_priced_figures(monkeypatch, rules, seed):
         for res in seen:
             assert [(round(r.cost, 2), round(r.time, 9)) for r in res.routes] == \
                 [(r.subtotal, round(r.elapsed_hours, 9)) for r in routes]
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_the_core_without_a_clock_is_the_plain_frontier(seed):
+    # costing.network.pareto_clock with a state that never changes and adds nothing lists the
+    # same (cost, time) pairs as costing.network.pareto (itself checked against networkx brute
+    # force in tests/test_pareto.py); weights invented
+    from costing.network.pareto import FrontierNetwork
+    from costing.network.pareto_clock import clock_frontier
+
+    rng = random.Random(seed)
+    n = rng.randint(5, 10)
+    adj: list[list[tuple[int, float, float, int]]] = [[] for _ in range(n)]
+    e = 0
+    for _ in range(rng.randint(n + 2, 3 * n)):
+        u, v = rng.sample(range(n), 2)
+        adj[u].append((v, round(rng.uniform(0, 20), 2), round(rng.uniform(0, 9), 2), e))
+        e += 1
+    net = FrontierNetwork(adj)
+    starts = [(0, 1.0, 0.5)]
+    exits = {n - 1: (2.0, 0.25)}
+    want = net.frontier(starts, exits, max_routes=50)
+    hc, ht = net.bounds(exits)
+    got = clock_frontier(adj, [(0, 1.0, 0.5, None)], exits, hc, ht, lambda st, v, e: (0.0, 0.0, None),
+                         lambda st: (None, ()), max_routes=50)
+    assert [(r.cost, r.time) for r in got.routes] == [(r.cost, r.time) for r in want.routes]
+    assert got.capped == want.capped

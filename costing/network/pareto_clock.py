@@ -14,10 +14,10 @@ Covering. `split(state)` returns (key, vec): a hashable key and a tuple of numbe
 covers a label B at the same node when key(A) = key(B), vec(A) <= vec(B) in every component,
 cost(A) <= cost(B) and time(A) <= time(B) (cost and time within `REL_TOL`, as in pareto.py).
 The caller's promise ("the order is sound"): for states a and b of one node with key(a) = key(b)
-and vec(a) <= vec(b), every continuation (the same steps to the same exit) adds no more cost and
-no more time from a than from b. With vec always empty this is equality of states, which is
-always sound: the same steps from the same state add the same weights (`step` must be a
-function of its arguments).
+and vec(a) <= vec(b), every continuation (the same steps to the same exit) that can be taken
+from b can be taken from a and adds no more cost and no more time from a than from b. With vec
+always empty this is equality of states, which is always sound: the same steps from the same
+state add the same weights (`step` must be a function of its arguments).
 
 Why the frontier is exact, given non-negative weights (the steps' own and what `step` adds),
 bounds h that never exceed the least remaining weight without the added weights, and a sound
@@ -43,6 +43,56 @@ order:
     returned route covers another; determinism; floating-point tolerance) carry over.
 Routes are walks of the network: a node may be met twice with different states. A walk is
 returned only when no route (walk) covers it; it is then priced as it runs.
+
+How the product uses it (costing.plan.route, Router.frontier): the trade-offs with the driving
+clock. The network is the cost profile's compact network (states (depot, card)) with each
+step's cost and its drive + handling hours; the state is (whether the current vehicle run has
+no lane step yet, the clock of costing.price.rules: driving since the last break, driving
+today, time on duty, today's limit, longer days used, reduced rests used); a start state is a
+rested driver on duty for the loading there; `step` is `costing.price.rules.advance` on a road
+lane step (the stops it adds: their hours, and their pay as Settings break_hours_paid and
+rest_hours_paid say, rounded per leg as `cost_route` does), a rested driver after a change of
+vehicle, the clock unchanged off the road; so a route's (cost, time) here is exactly its
+subtotal and elapsed hours as `cost_route` prices it. Two guards: a change of vehicle straight
+after another (or at the start) is refused (inf): a run without a lane step is no run, and
+changing there and back would rest a driver where the priced route has one run; nothing is
+lost, as changing onto the last card directly is the same route with less handling.
+  The order. Labels are compared only when their clocks agree in driving today, time on duty,
+  today's limit and longer days used (and the empty-run flag); then driving since the break and
+  reduced rests used are compared (smaller is no worse), provided the rules have no duty window
+  and the pay of one stop (n x stop hours x per_hour) is a whole number of minor units on every
+  road card; otherwise only equal clocks are compared. Proof of soundness, without a duty
+  window: a continuation's stops up to the end of the current run are those `advance` takes
+  for its driving from the clock (after that, runs start rested: the same for both labels).
+  Where a rest falls depends only on driving today, today's limit and longer days used (a
+  longer day when the limit is reached and one is left, else a rest), not on the driving since
+  the break, and a rest resets that; so from clocks a and b equal in those parts the rests fall
+  at the same points. Between rests a break falls each 4.5 h (break_after) of driving counted
+  from where the driving since the break stands, and none at a rest: from since(a) <= since(b)
+  each break of a comes no earlier than the matching break of b, so a has no more breaks by any
+  point. Reduced rests are taken first: with reduced(a) <= reduced(b) each rest of a is no
+  longer than the matching rest of b, and the count n -> n + [n < allowed] keeps the order. So
+  a adds no more break hours and no more rest hours: no more time, and no more pay when each
+  stop's pay is a whole number of minor units (a leg's rounded pay is then the sum of its stops'
+  pay, on whichever leg they fall; otherwise moving a break to another leg can change the
+  rounding by a minor unit, hence equal clocks there). With a duty window (US) a break adds
+  time on duty and moves the rests: equal clocks only.
+  Why driving today is not compared: less driving today is not always better. From a fresh
+  clock 4.6 h of driving take a paid 45-minute break; from a clock at 8.9 h today they take an
+  unpaid daily rest: cheaper, though far slower (tests/test_frontier_clock.py has such a case,
+  where the cheap tired route is on the frontier and a covering by driving today would lose it).
+  The bound `more`: the current run drives at least the least driving hours from the node to
+  where a run ends (an exit or a change of vehicle), and the stops of a run only grow with its
+  driving (`advance` takes a stop where more driving follows: those of a shorter drive are among
+  them), so the stops `advance` gives for that least driving are a lower bound (their pay
+  counted only when it is whole, as above).
+  Exact: the frontier of (subtotal, elapsed hours) over the routes of the compact network under
+  the stop model of costing.price.rules, subject to the guarantees above. Approximated (stated):
+  the stop model itself (its docstring: a planning model, not legal advice); the cost criterion
+  is the subtotal, before the minimum charge (as without the clock); a search that needs more
+  than its label cap falls back to the frontier on drive + handling hours, noted. The plain
+  frontier is searched first: when none of its routes stops, it is the frontier with the clock
+  too (stops only add weight, so any other route is covered by one of them).
 
 The label cap. The number of labels can grow with the number of distinct states as well as with
 the frontier (pareto.py, Complexity). `max_labels` caps the labels created; past it the search

@@ -344,15 +344,9 @@ class Router:
         (costing.network.pareto_clock). The plain frontier is searched first: stops only add
         weight, so when none of its routes stops it is the frontier with the clock too. Past
         `clock_labels` labels (default: 100 per state of the compact network, at least
-        100,000) the shipment keeps the plain frontier, is listed in `frontier_fallbacks` and
-        gets a warning.
-
-        Which clocks are compared (the order `split` gives, proved sound in the comment
-        below): labels at a state are compared only when their clocks agree in driving today,
-        time on duty, today's limit and longer days used; then the one with no more driving
-        since the break and no more reduced rests used is no worse, under EU-style rules (no
-        duty window) and when each paid stop is a whole number of minor units on every card;
-        otherwise only equal clocks are compared."""
+        100,000) the shipment keeps the plain frontier, is listed in the set
+        `frontier_fallbacks` (made on the first fallback) and gets a warning. What is exact and
+        what is approximated, and which clocks are compared: costing.network.pareto_clock."""
         if s.origin == s.destination:
             return [], False
         pc, net, starts, exits = self._frontier_query(s)
@@ -393,18 +387,10 @@ class Router:
                                                        stop_weight(model, pt, use.card, brk, rest, places))
                 return w[0], w[1], (False, after)
 
-            # The order. A clock is (since break, today, on duty, today's limit, longer days
-            # used, reduced rests used) (costing.price.rules). Without a duty window, where a
-            # run rests depends only on (today, limit, longer days) and its driving, not on the
-            # driving since the break, and every rest resets that; so from two clocks equal in
-            # (today, on duty, limit, longer days) the rests fall at the same points, and the
-            # clock with no more driving since the break takes each break no earlier (breaks
-            # fall 4.5 h apart from where its count starts, none at a rest): no more breaks by
-            # any point. With no more reduced rests used, each rest is no longer (reduced first:
-            # the count n -> n + [n < limit] keeps the order). So no more break hours and no
-            # more rest hours: no more time, and no more pay when the pay of one stop is a whole
-            # number of minor units (then a leg's rounded pay is the sum of its stops' pay, on
-            # whichever leg they fall). A duty window makes breaks move the rests: equal clocks.
+            # the order (proved in costing.network.pareto_clock): clocks agree in driving today,
+            # on duty, today's limit and longer days used; then less driving since the break and
+            # fewer reduced rests used are no worse, when there is no duty window and each paid
+            # stop is a whole number of minor units; otherwise equal clocks only
             def whole(hours: float) -> bool:
                 for v, m, n in pc.cards:
                     if m == "road":
@@ -424,10 +410,8 @@ class Router:
                 def split(state):
                     return state, ()
 
-            # a lower bound on the stops still to come: the current run drives at least the
-            # least driving hours from here to where a run ends (an exit or a change of
-            # vehicle), and the stops of a run only grow with its driving (`advance` takes a
-            # stop when more driving follows: those of a shorter drive are among them)
+            # the bound `more` (pareto_clock): the stops of the least driving from a state to
+            # where its run ends (an exit or a change of vehicle), cached per destination
             cache = self.__dict__.setdefault("_frontier_drive", {})
             left = cache.get((pc, s.destination))
             if left is None:
@@ -462,9 +446,7 @@ class Router:
                                                   for v, c0, t0 in starts],
                                         exits, hc, ht, step, split, max_routes, cap, more)
             except LabelLimit:
-                if not hasattr(self, "frontier_fallbacks"):
-                    self.frontier_fallbacks: set[str] = set()
-                self.frontier_fallbacks.add(s.shipment_id)
+                self.__dict__.setdefault("frontier_fallbacks", set()).add(s.shipment_id)
                 sheet, cell = model.cell("Shipments", "shipment_id", s.row)
                 self.problems.append(Problem(
                     WARNING, sheet, cell,
