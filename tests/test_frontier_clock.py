@@ -434,3 +434,38 @@ def test_the_core_without_a_clock_is_the_plain_frontier(seed):
                          lambda st: (None, ()), max_routes=50)
     assert [(r.cost, r.time) for r in got.routes] == [(r.cost, r.time) for r in want.routes]
     assert got.capped == want.capped
+
+
+def test_the_trade_offs_sheet_shows_the_priced_figures(tmp_path):
+    # the hand-worked case above through the pipeline and the writer: the Trade-offs sheet's cost
+    # and hours are cost_route's total and elapsed hours, and the read-out compares elapsed hours
+    # (462.00 -> 483.50: pay 21.50 more; 5.5 h -> 5.2 h: 0.30 h sooner)
+    import openpyxl
+
+    from costing import pipeline
+    from costing.sheets.run import RunInfo, run_time
+    from costing.sheets.writer import write_costed
+
+    depots = (Depot("A", "A", 51.0, 4.0), Depot("H", "H", 51.5, 5.0, "hub", 10.0, 0.1),
+              Depot("D", "D", 52.0, 6.0))
+    lanes = (Lane("AD", "A", "D", "road", 330.0, 4.75), Lane("AH", "A", "H", "road", 165.0, 2.5),
+             Lane("HD", "H", "D", "road", 165.0, 2.5))
+    rates = (RateCard("artic", "road", 1.0, 30.0, 24.0), RateCard("rigid", "road", 0.9, 30.0, 9.0))
+    ship = Shipment("S", "A", "D", 5.0)
+    model = Model(Settings(driving_rules="eu_561_2006"), depots, lanes, rates, (ship,))
+    c = pipeline.run(model, pipeline.Options(scenarios=False))
+    path = str(tmp_path / "out.xlsx")
+    write_costed(path, model, c.results, c.problems, RunInfo("in.xlsx", "0", None, run_time(), c.stats),
+                 c.analysis, None, c.scenarios, c.runs)
+    ws = openpyxl.load_workbook(path, data_only=True)["Trade-offs"]
+    rows = list(ws.iter_rows(values_only=True))
+    col = {name: i for i, name in enumerate(rows[0])}
+    routes, _capped = c.analysis.frontiers["S"]
+    assert len(rows) == 1 + len(routes) == 3
+    for row, r in zip(rows[1:], routes):
+        assert row[col["total_cost"]] == r.total_cost
+        assert row[col["hours"]] == pytest.approx(r.elapsed_hours, abs=1e-12)
+        assert row[col["elapsed_hours"]] == pytest.approx(r.elapsed_hours, abs=1e-12)
+    assert [row[col["total_cost"]] for row in rows[1:]] == [462.0, 483.5]
+    assert rows[2][col["hours_sooner"]] == pytest.approx(0.3)
+    assert rows[2][col["read_out"]] == "pay 21.50 EUR more, arrive 0.30 h sooner"
