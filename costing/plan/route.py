@@ -343,8 +343,8 @@ class Router:
         prices the route: the search carries the clock in its labels
         (costing.network.pareto_clock). The plain frontier is searched first: stops only add
         weight, so when none of its routes stops it is the frontier with the clock too. Past
-        `clock_labels` labels (default: 100 per state of the compact network, at least
-        100,000) the shipment keeps the plain frontier, is listed in the set
+        `clock_labels` labels (default: 10 per state of the compact network, at least 50,000;
+        about 550 bytes each, measured) the shipment keeps the plain frontier, is listed in the set
         `frontier_fallbacks` (made on the first fallback) and gets a warning. What is exact and
         what is approximated, and which clocks are compared: costing.network.pareto_clock."""
         if s.origin == s.destination:
@@ -440,7 +440,7 @@ class Router:
                 return (stop_weight(model, pc, k, brk, rest, places) if additive else 0.0), brk + rest
 
             hc, ht = net.bounds(exits, key=s.destination)
-            cap = clock_labels if clock_labels is not None else max(100_000, 100 * len(cnc.adj))
+            cap = clock_labels if clock_labels is not None else max(50_000, 10 * len(cnc.adj))
             try:
                 result = clock_frontier(net.adj, [(v, c0, t0, (True, start_clock(rules, loading(v))))
                                                   for v, c0, t0 in starts],
