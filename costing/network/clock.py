@@ -28,8 +28,8 @@ this search is not needed.
 What is approximated (stated, not hidden). The stop model itself is the planning model of
 `costing.price.rules` (its docstring: one driver, stops as soon as due, longer days used when
 reached, reduced rests first; weekly limits and the EU 24-hour period are not modelled);
-the cost-time trade-offs and the distance and emissions objectives do not carry the clock (stops
-do not change distance or emissions; the trade-offs compare driving plus handling hours). The
+the distance and emissions objectives do not carry the clock (stops do not change distance or
+emissions); the cost-time trade-offs carry it in their own search (costing.network.pareto_clock). The
 number of clock labels is capped (`cap`); a search that would pass it raises `ClockLimit` and the
 caller falls back to choosing on driving hours, with a note.
 """

@@ -153,8 +153,9 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
              "the search carries the driving clock (driving since the last break, driving today): "
              "the time, cost and blended objectives choose routes with their breaks and rests and "
              "their pay, exact under the stop model above (on networks of up to 50,000 depot and "
-             "vehicle states; larger ones choose on driving hours); distance, emissions and the "
-             "trade-offs do not carry it. Planning estimate, not compliance advice."
+             "vehicle states; larger ones choose on driving hours); the cost-time trade-offs carry "
+             "it too (elapsed hours, stop pay); distance and emissions do not. Planning estimate, "
+             "not compliance advice."
              if s.driving_clock_in_search == "yes" else
              "routes are chosen on driving and handling hours; breaks and rests are then added to "
              "the chosen route and costed"),
