@@ -469,3 +469,30 @@ def test_the_trade_offs_sheet_shows_the_priced_figures(tmp_path):
     assert [row[col["total_cost"]] for row in rows[1:]] == [462.0, 483.5]
     assert rows[2][col["hours_sooner"]] == pytest.approx(0.3)
     assert rows[2][col["read_out"]] == "pay 21.50 EUR more, arrive 0.30 h sooner"
+
+
+@pytest.mark.parametrize("rules,seed", [("eu_561_2006", s) for s in range(60)] +
+                         [("us_49cfr395", s) for s in range(30)])
+def test_the_clock_route_search_weight_is_the_priced_route(monkeypatch, rules, seed):
+    # the single-objective search with the clock (costing.network.clock.clock_astar): the weight
+    # of the route it finds equals that route priced by cost_route (the subtotal, before any
+    # minimum charge). A change of vehicle and back at a hub before driving would reset the
+    # driver's clock in the search while the priced route keeps one run: not offered (EU seed
+    # 16 once gave a search weight of 1236.19 for a route priced 1211.19).
+    import costing.network.clock as clock
+
+    seen = []
+    real = clock.clock_astar
+
+    def spy(*a, **kw):
+        res = real(*a, **kw)
+        seen.append(res)
+        return res
+
+    monkeypatch.setattr(clock, "clock_astar", spy)
+    model = random_model(seed, rules)
+    for s in model.shipments:
+        seen.clear()
+        res = Router(model, build_graph(model)).route(s, "cost", notes=False)
+        if seen and res.status == "routed":
+            assert round(seen[-1].weight, 2) == pytest.approx(res.subtotal, abs=0.005)

@@ -41,8 +41,12 @@ from tests.listed_cases import digest, medium_model, snapshot
 # lost a route dominated once its stops are counted), checked by script against the frontier
 # without the clock: no new route is covered by another or by an old one priced with its stops,
 # and every old route priced with its stops is covered by a new one; comparisons unchanged.
+# The comparison digest of seed 1 was re-captured when the clock search stopped offering a change
+# of vehicle and back before driving (a free reset of the driver's clock): one row changed, Q003
+# under time, from 7.84 h (a unit run of 4.96 h of driving without its 45-minute break, split by
+# a phantom change at a hub) to 8.01 h with the break (checked by hand from the legs).
 SNAPSHOTS = {
-    (1, "eu_561_2006", 45, 36): ("72d5c2ce45a92b1b", "2521ac19a21a0483"),
+    (1, "eu_561_2006", 45, 36): ("72d5c2ce45a92b1b", "dbf9c855950e8677"),
     (2, "none", 45, 36): ("1a29d636653a2dea", "de80c96f989ca883"),
     (3, "us_49cfr395", 45, 36): ("5833999687e223dc", "a39f99919e011eaa"),
     (4, "none", 90, 60): ("32eed1fc7d48ff9a", "a437318ff4af0298"),
