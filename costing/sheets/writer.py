@@ -130,7 +130,7 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if "Trade-offs" in sheets:
         frontier_rows = write_tradeoffs(w, sheets["Trade-offs"], results, analysis)
     if "Lane usage" in sheets:
-        write_lane_usage(w, sheets["Lane usage"], analysis, len(runs))
+        write_lane_usage(w, sheets["Lane usage"], analysis, len(runs), runs)
         write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows,
                      len(analysis.lanes))
     write_cost_per_customer(w, sheets["Cost per customer"], results, last_row)
