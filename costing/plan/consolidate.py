@@ -61,6 +61,7 @@ of ceil(size / capacity) over the dimensions, so each piece fits; alone it needs
 
 from __future__ import annotations
 
+import bisect
 import math
 from collections.abc import Hashable, Iterable, Sequence
 from dataclasses import dataclass, field
@@ -528,13 +529,29 @@ def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int], days: s
     tried: for any other pair the two moves are independent, so the pair's change in cost is the
     sum of two single moves, none of which lowers the total at a single-move local optimum."""
     steps = [{(st.key, st.card) for route in ld.routes for st in route} for ld in loads]
+    # the loads of each (day, step, card), in index order; and those with a choice of routes (a
+    # pair of loads with one route each has nothing to change)
+    every: dict[tuple, list[int]] = {}
+    choosing: dict[tuple, list[int]] = {}
+    for i, ld in enumerate(loads):
+        if ld.day not in days:
+            continue
+        for key in steps[i]:
+            every.setdefault((ld.day, key), []).append(i)
+            if len(ld.routes) > 1:
+                choosing.setdefault((ld.day, key), []).append(i)
     made = 0
     for i in range(len(loads)):
-        for j in range(i + 1, len(loads)):
-            li, lj = loads[i], loads[j]
-            if (li.day != lj.day or li.day not in days or len(li.routes) * len(lj.routes) < 2
-                    or not steps[i] & steps[j]):
-                continue
+        li = loads[i]
+        if li.day not in days:
+            continue
+        buckets = every if len(li.routes) > 1 else choosing
+        partners: set[int] = set()
+        for key in steps[i]:
+            members = buckets.get((li.day, key), ())
+            partners.update(members[bisect.bisect_right(members, i):])
+        for j in sorted(partners):  # the pairs (i, j), j > i, in the order of a sweep over all pairs
+            lj = loads[j]
             ri, rj = li.routes[choice[i]], lj.routes[choice[j]]
             state.remove(j, rj)
             before = state.marginal(i, ri) + state.marginal(j, rj)
