@@ -475,11 +475,8 @@ class Router:
                     f"shipment {s.shipment_id}: trade-offs compared on drive + handling hours, without "
                     f"breaks and rests (more than {cap:,} driving-clock labels); planning estimate",
                     "nothing to do; the routes listed are costed with their stops"))
-        out = []
-        for r in result.routes:
-            runs = _runs_from(self.model, cnc, r.nodes[0], r.edges)
-            out.append(cost_route(self.model, s, "cost", runs))
-        return out, result.capped
+        # priced once per shipment (`price`): the cheapest is usually the chosen route already
+        return [self.price(s, "cost", cnc, r) for r in result.routes], result.capped
 
     def _frontier_query(self, s: Shipment):
         """(cost profile, its FrontierNetwork with the cost and time of every edge, sources as
