@@ -10,7 +10,7 @@ from costing.contract.outputs import LANE_COLUMNS, RUN_COL, VEHICLE_RUNS
 from costing.money import round_money
 from costing.sheets.formats import Writer, cell_text, sheet_ref
 
-C_RUN_ID = xl_col_to_name(RUN_COL["run_id"])
+C_VEHICLES = xl_col_to_name(RUN_COL["vehicles"])
 
 
 # a lane with at most this many vehicle runs adds its runs' cells by name; more, SUMIFS over the
@@ -57,7 +57,8 @@ def write_lane_usage(w: Writer, ws, analysis, n_runs: int, runs=None) -> None:
         ws.write_string(r, c["mode"], u.mode)
         rows = rows_of.get(u.lane_id, [])
         if rows and len(rows) <= NAMED_RUNS:
-            ws.write_formula(r, c["runs"], f"=COUNTA({','.join(f'{vr}!{C_RUN_ID}{y}' for y in rows)})",
+            # the runs counted by their vehicles cell (a number on every run row)
+            ws.write_formula(r, c["runs"], f"=COUNT({','.join(f'{vr}!{C_VEHICLES}{y}' for y in rows)})",
                              w.f["int"], u.runs)
             for col, run_col, kind, value in (("legs", "loads", "int", u.legs),
                                               ("tonnes", "tonnes", "km", u.tonnes),
