@@ -231,3 +231,26 @@ def test_packed_columns_keep_none_signed_zero_and_types():
             [x.hex() if isinstance(x, float) else x for x in col]
         part = _unpack(packed, np.array([3, 0], dtype=np.int64), reader)
         assert [repr(x) for x in part] == [repr(col[3]), repr(col[0])]
+
+
+def test_parquet_set_of_a_distributed_run_equals_the_single_process_one(tmp_path, cli, threads_cluster):
+    # Oracle: the single-process run's Parquet set (itself checked against its full workbook in
+    # tests/test_parquet_set.py), read back with pandas: the same rows, value for value.
+    pd = pytest.importorskip("pandas")
+    pytest.importorskip("pyarrow", reason="pyarrow not installed: pip install -e '.[test]'")
+    inp = str(tmp_path / "in.xlsx")
+    write_example(inp)
+    os.mkdir(tmp_path / "one")
+    os.mkdir(tmp_path / "two")
+    one, two = str(tmp_path / "one" / "w.xlsx"), str(tmp_path / "two" / "w.xlsx")  # the same names
+    assert cli("run", inp, "-o", one, "--parquet", "--quiet")[0] == 0
+    code, _out, err = cli("run", inp, "-o", two, "--parquet", "--workers", "2", "--quiet")
+    assert code == 0, err
+    names = sorted(os.listdir(tmp_path / "one" / "w.parquet"))
+    assert names == sorted(os.listdir(tmp_path / "two" / "w.parquet")) and "legs.parquet" in names
+    for name in names:
+        a = pd.read_parquet(tmp_path / "one" / "w.parquet" / name)
+        b = pd.read_parquet(tmp_path / "two" / "w.parquet" / name)
+        pd.testing.assert_frame_equal(a, b, check_exact=True)
+    a, b = _cells(one), _cells(two)
+    assert {k: (a[k], b.get(k)) for k in a if a[k] != b.get(k)} == {} and a.keys() == b.keys()
