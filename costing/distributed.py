@@ -44,6 +44,7 @@ import time
 from collections.abc import Callable, Sequence
 from dataclasses import fields, replace
 from itertools import islice
+from operator import attrgetter
 
 import numpy as np
 
@@ -112,6 +113,7 @@ _POOLED: tuple[type, ...] = (CostedShipment, VehicleRun, Leg, LaneUse)
 _RANK = {cls: k for k, cls in enumerate(_POOLED)}
 _FIELDS = {cls: tuple(f.name for f in fields(cls)) for cls in _POOLED}
 _BY_VALUE = (str, bool, int, type(None), _dt.date, _dt.datetime)  # interned by value (floats by repr)
+_HASHED = {str, type(None), _dt.date, _dt.datetime}  # types whose values never equal another's
 BLOCK = 4096  # results or runs rebuilt at a time when read in order
 
 
@@ -122,17 +124,23 @@ class _Packer:
         self.known = {id(o): (name, i) for name, table in known.items() for i, o in enumerate(table)}
         self.pools: dict[type, tuple[list, dict[int, int]]] = {cls: ([], {}) for cls in _POOLED}
 
-    def _ref(self, cls: type, obj) -> int:
+    def _refs(self, cls: type, values: list) -> np.ndarray:
         members, at = self.pools[cls]
-        i = at.get(id(obj))
-        if i is None:
-            i = at[id(obj)] = len(members)
-            members.append(obj)
-        return i
+        get = at.get
+        rows = []
+        for v in values:
+            i = get(id(v))
+            if i is None:
+                i = at[id(v)] = len(members)
+                members.append(v)
+            rows.append(i)
+        return np.array(rows, dtype=np.int64)
 
     def column(self, values: list, rank: int = -1) -> tuple:
         """One column; `rank`: the pool being packed (references go only to later pools)."""
         n = len(values)
+        if not n:
+            return ("o", [], np.zeros(0, dtype=np.int64))
         types = set(map(type, values))
         if len(types) == 1:
             t = next(iter(types))
@@ -147,23 +155,28 @@ class _Packer:
                 lengths = np.fromiter(map(len, values), dtype=np.int64, count=n)
                 return ("t", lengths, self.column([x for v in values for x in v], rank))
             if t in _RANK and _RANK[t] > rank:
-                return ("r", t, np.fromiter((self._ref(t, v) for v in values), dtype=np.int64, count=n))
-        elif n and types == {float, type(None)}:
+                return ("r", t, self._refs(t, values))
+        elif types == {float, type(None)}:
             mask = np.fromiter((v is None for v in values), dtype=bool, count=n)
             return ("n", np.array([0.0 if v is None else v for v in values], dtype=np.float64), mask)
-        if n:
-            found = [self.known.get(id(v)) for v in values]
-            if all(found) and len({k[0] for k in found}) == 1:
-                return ("k", found[0][0], np.fromiter((k[1] for k in found), dtype=np.int64, count=n))
-        unique: list = []
-        at: dict = {}
+        if types <= _HASHED or types == {bool} or types == {int}:  # no two types' values compare equal
+            unique = list(dict.fromkeys(values))
+            if len(unique) == 1:
+                return ("c", values[0], n)
+            at = {v: i for i, v in enumerate(unique)}
+            return ("o", unique, np.fromiter(map(at.__getitem__, values), dtype=np.int64, count=n))
+        found = [self.known.get(id(v)) for v in values]
+        if all(found) and len({k[0] for k in found}) == 1:
+            return ("k", found[0][0], np.fromiter((k[1] for k in found), dtype=np.int64, count=n))
+        unique = []
+        seen: dict = {}
         index = np.empty(n, dtype=np.int64)
         for j, v in enumerate(values):
             t = type(v)
             key = (t, repr(v)) if t is float else (t, v) if t in _BY_VALUE else id(v)
-            i = at.get(key)
+            i = seen.get(key)
             if i is None:
-                i = at[key] = len(unique)
+                i = seen[key] = len(unique)
                 unique.append(v)
             index[j] = i
         if len(unique) == 1:
@@ -176,8 +189,7 @@ class _Packer:
         pools = {}
         for cls in _POOLED:  # in rank order: a pool is complete before it is packed
             members = self.pools[cls][0]
-            states = [o.__dict__ for o in members]
-            pools[cls] = {f: self.column([d[f] for d in states], _RANK[cls]) for f in _FIELDS[cls]}
+            pools[cls] = {f: self.column(list(map(attrgetter(f), members)), _RANK[cls]) for f in _FIELDS[cls]}
             pools[cls]["#"] = len(members)
             self.pools[cls] = ([], {})
         return {"roots": roots, "pools": pools}
