@@ -19,9 +19,13 @@ shipments measures the day-sharded case).
 Each run is `pipeline.run` (one process) or `costing.distributed.run` (a LocalCluster of N worker
 processes, one thread each, the Model minus shipments scattered once per worker) on the Model
 that `pipeline.load` read; the gathered result is checked equal to the single-process one
-(every shipment's status, route and total, the week's vehicle runs). The costed workbook is not
-written (it takes the same time whatever ran the week; `--write` writes the last one). Prints
-wall seconds and the ratio to the single-process run; asserts nothing about time.
+(every shipment's status, route and total, the week's vehicle runs), which reads every gathered
+record once (workers send their results back as columns and the driver rebuilds records only as
+they are read: `costing.distributed.PackedResults`). The costed workbook is not written (it takes
+the same time whatever ran the week; `--write OUTPUT` writes the last one, `--parquet` as a Parquet
+set beside a summary workbook). Prints wall seconds and the ratio to the single-process run, and
+peak memory: the driver's resident set sampled during each run (psutil, every 0.2 s) and each
+worker's own peak (getrusage); asserts nothing about time.
 """
 
 from __future__ import annotations
@@ -32,6 +36,7 @@ import math
 import os
 import resource
 import tempfile
+import threading
 import time
 
 import numpy as np
@@ -97,13 +102,56 @@ def make_week(folder: str, nodes: int, shipments: int, origins: int, seed: int =
     return path
 
 
-def fingerprint(costed) -> tuple:
-    """What must not change with the number of workers: per shipment its status, route and total;
-    the week's runs (id, day, lane, vehicles, loads, cost)."""
-    ships = tuple((r.shipment.shipment_id, r.status, tuple(g.use.key for g in r.legs), r.total_cost,
-                   tuple(g.run_id for g in r.legs)) for r in costed.results)
-    runs = tuple((u.run_id, u.day, u.leg.use.key, u.vehicles, u.loads, u.run_cost) for u in costed.runs)
-    return ships, runs
+def fingerprint(costed):
+    """What must not change with the number of workers, one item at a time: per shipment its
+    status, route and total; the week's runs (id, day, lane, vehicles, loads, cost)."""
+    for r in costed.results:
+        yield (r.shipment.shipment_id, r.status, tuple(g.use.key for g in r.legs), r.total_cost,
+               tuple(g.run_id for g in r.legs))
+    for u in costed.runs:
+        yield (u.run_id, u.day, u.leg.use.key, u.vehicles, u.loads, u.run_cost)
+
+
+def digest(costed) -> str:
+    """SHA-256 of the fingerprint's items (their repr, floats to the last bit): equal digests, equal
+    results, without holding two weeks' fingerprints."""
+    import hashlib
+
+    h = hashlib.sha256()
+    for item in fingerprint(costed):
+        h.update(repr(item).encode())
+    return h.hexdigest()
+
+
+class PeakRSS:
+    """The largest resident set of this process while inside the block, MB (sampled every 0.2 s)."""
+
+    def __enter__(self):
+        import psutil
+
+        self._proc = psutil.Process()
+        self.peak = self._proc.memory_info().rss
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._watch, daemon=True)
+        self._thread.start()
+        return self
+
+    def _watch(self) -> None:
+        while not self._stop.wait(0.2):
+            self.peak = max(self.peak, self._proc.memory_info().rss)
+
+    def __exit__(self, *exc) -> None:
+        self._stop.set()
+        self._thread.join()
+        self.peak = max(self.peak, self._proc.memory_info().rss)
+        self.mb = self.peak / 2 ** 20
+
+
+def _worker_peak_mb() -> float:
+    """On a worker: its own peak resident set, MB."""
+    import resource as _r
+
+    return _r.getrusage(_r.RUSAGE_SELF).ru_maxrss / 1024
 
 
 def main(argv=None) -> list[tuple[str, float]]:
@@ -116,6 +164,8 @@ def main(argv=None) -> list[tuple[str, float]]:
                    help="Settings consolidate (yes: shards are whole ready days; no: day and origin)")
     p.add_argument("--write", metavar="OUTPUT", default=None,
                    help="also write the last run's costed workbook to OUTPUT")
+    p.add_argument("--parquet", action="store_true",
+                   help="with --write: the long tables as a Parquet set beside a summary workbook")
     args = p.parse_args(argv)
     from costing import distributed, pipeline
 
@@ -136,52 +186,82 @@ def main(argv=None) -> list[tuple[str, float]]:
         print(f"pipeline.load (workbook + network file): {time.perf_counter() - t0:.1f} s; "
               f"{len(model.depots):,} depots, {len(model.lanes):,} lanes, {len(model.shipments):,} shipments")
         opts = pipeline.Options(scenarios=False)
-        t0 = time.perf_counter()
-        single = pipeline.run(model, opts)
-        base = time.perf_counter() - t0
-        rows.append(("single process (pipeline.run)", base))
-        legs = sum(len(r.legs) for r in single.results)
-        print(f"single process: {base:.1f} s; {legs:,} legs, {len(single.runs):,} vehicle runs")
-        expect = fingerprint(single)
-        costed = single
-        del single  # the fingerprint is all that is compared; the results' legs take memory
+        # the distributed runs first, the single process last: its week of objects would stay in
+        # this process's heap and be counted in the driver's memory of every run after it
+        done = []  # (workers, wall, digest)
+        costed = None
         for n in counts:
             costed = None
             t0 = time.perf_counter()
             client = distributed.local_client(n)
             started = time.perf_counter() - t0
             try:
-                t0 = time.perf_counter()
-                costed = distributed.run(model, opts, client)
-                wall = time.perf_counter() - t0
+                with PeakRSS() as mem:
+                    t0 = time.perf_counter()
+                    costed = distributed.run(model, opts, client)
+                    wall = time.perf_counter() - t0
+                    t0 = time.perf_counter()
+                    got = digest(costed)
+                    read = time.perf_counter() - t0
+                workers_mb = sorted(client.run(_worker_peak_mb).values(), reverse=True)
             finally:
                 cluster = client.cluster
                 client.close()
                 cluster.close()
-            same = fingerprint(costed) == expect
-            rows.append((f"Dask, {n} local worker{'s' if n > 1 else ''}", wall))
+            done.append((n, wall, got))
             # the shards' own pipeline stages (sub-timings "within" a stage left out), summed
             work = sum(v for k, v in costed.stats.seconds.items() if "within" not in k)
-            print(f"{n} worker(s): {wall:.1f} s (cluster start {started:.1f} s, not included); ratio to "
-                  f"single process {wall / base:.2f}; identical results: {'yes' if same else 'NO'}; "
+            print(f"{n} worker(s): {wall:.1f} s (cluster start {started:.1f} s, not included); "
                   f"the shards' pipeline.run stages took {work:.1f} s summed over shards, the rest is "
-                  "sending the network and shipments out and the results back, and gathering")
+                  "sending the network and shipments out and the results back, and gathering; "
+                  f"reading every gathered record once (the comparison) {read:.1f} s; peak memory: driver "
+                  f"{mem.mb:,.0f} MB, workers {', '.join(f'{x:,.0f}' for x in workers_mb)} MB", flush=True)
+            if not args.write:
+                costed = None  # the columns take memory; the digest is all that is compared
+        with PeakRSS() as mem:
+            t0 = time.perf_counter()
+            single = pipeline.run(model, opts)
+            base = time.perf_counter() - t0
+        rows.append(("single process (pipeline.run)", base))
+        legs = sum(len(r.legs) for r in single.results)
+        print(f"single process: {base:.1f} s; {legs:,} legs, {len(single.runs):,} vehicle runs; "
+              f"peak memory {mem.mb:,.0f} MB", flush=True)
+        expect = digest(single)
+        if costed is None:
+            costed = single
+        del single
+        for n, wall, got in done:
+            rows.append((f"Dask, {n} local worker{'s' if n > 1 else ''}", wall))
+            same = got == expect
+            print(f"{n} worker(s): ratio to single process {wall / base:.2f}; identical results: "
+                  f"{'yes' if same else 'NO'}")
             if not same:
                 raise SystemExit("distributed result differs from the single-process run")
         peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
         print("\n| run | wall s | ratio to single process |\n|---|---:|---:|")
         for name, secs in rows:
             print(f"| {name} | {secs:.1f} | {secs / base:.2f} |")
-        print(f"\ndriver peak memory {peak:,.0f} MB (workers not counted)")
+        print(f"\ndriver peak memory over the whole benchmark {peak:,.0f} MB (workers not counted)")
         if args.write:
-            from costing.cli import main as costing_main  # noqa: F401  (the writer as the command uses it)
             from costing.sheets.writer import RunInfo, run_time, write_costed
 
             t0 = time.perf_counter()
             info = RunInfo("bench_distributed week", None, None, run_time(), costed.stats)
-            write_costed(args.write, model, costed.results, costed.problems, info, costed.analysis, None, [],
-                         costed.runs)
-            print(f"wrote {args.write} in {time.perf_counter() - t0:.1f} s")
+            with PeakRSS() as mem:
+                if args.parquet:
+                    from costing.sheets.parquet_set import parquet_folder, write_parquet_set
+
+                    folder = parquet_folder(args.write)
+                    os.makedirs(folder, exist_ok=True)
+                    files = write_parquet_set(args.write, folder, model, costed.results, costed.problems,
+                                              info, costed.runs, reason="benchmark")
+                    counts = ", ".join(f"{k}: {v:,} rows" for k, v in files.items())
+                    what = f"{args.write} and {folder} ({counts})"
+                else:
+                    write_costed(args.write, model, costed.results, costed.problems, info, costed.analysis,
+                                 None, [], costed.runs)
+                    what = args.write
+            print(f"wrote {what} in {time.perf_counter() - t0:.1f} s; peak memory {mem.mb:,.0f} MB")
     return rows
 
 
