@@ -130,7 +130,7 @@ class PeakRSS:
         import psutil
 
         self._proc = psutil.Process()
-        self.peak = self._proc.memory_info().rss
+        self.peak = self.start = self._proc.memory_info().rss
         self._stop = threading.Event()
         self._thread = threading.Thread(target=self._watch, daemon=True)
         self._thread.start()
@@ -145,6 +145,11 @@ class PeakRSS:
         self._thread.join()
         self.peak = max(self.peak, self._proc.memory_info().rss)
         self.mb = self.peak / 2 ** 20
+        self.grew = (self.peak - self.start) / 2 ** 20
+
+    def now_mb(self) -> float:
+        """The peak so far, MB."""
+        return max(self.peak, self._proc.memory_info().rss) / 2 ** 20
 
 
 def _worker_peak_mb() -> float:
@@ -152,6 +157,58 @@ def _worker_peak_mb() -> float:
     import resource as _r
 
     return _r.getrusage(_r.RUSAGE_SELF).ru_maxrss / 1024
+
+
+def run_workers(model, opts, n: int, limit: float | None):
+    """``costing.distributed.run`` on a LocalCluster of `n` worker processes, the comparison digest
+    read from its result; prints times and memory. Returns (Costed, wall s), or (None, None) when
+    it ran longer than `limit` seconds (the cluster is then closed)."""
+    from costing import distributed
+
+    t0 = time.perf_counter()
+    client = distributed.local_client(n)
+    started = time.perf_counter() - t0
+    answer: dict = {}
+
+    def go() -> None:
+        try:
+            answer["costed"] = distributed.run(model, opts, client)
+        except BaseException as e:  # noqa: BLE001 - reported by the caller's thread
+            answer["error"] = e
+
+    try:
+        with PeakRSS() as mem:
+            t0 = time.perf_counter()
+            worker = threading.Thread(target=go, daemon=True)
+            worker.start()
+            worker.join(limit)
+            wall = time.perf_counter() - t0
+            if worker.is_alive():
+                workers_mb = sorted(client.run(_worker_peak_mb).values(), reverse=True)
+                print(f"{n} worker(s): stopped after {wall:.0f} s; peak memory so far: driver "
+                      f"{mem.now_mb():,.0f} MB, workers {', '.join(f'{x:,.0f}' for x in workers_mb)} MB",
+                      flush=True)
+                return None, None
+            if "error" in answer:
+                raise answer["error"]
+            costed = answer["costed"]
+            t0 = time.perf_counter()
+            digest(costed)
+            read = time.perf_counter() - t0
+        workers_mb = sorted(client.run(_worker_peak_mb).values(), reverse=True)
+    finally:
+        cluster = client.cluster
+        client.close()
+        cluster.close()
+    # the shards' own pipeline stages (sub-timings "within" a stage left out), summed
+    work = sum(v for k, v in costed.stats.seconds.items() if "within" not in k)
+    print(f"{n} worker(s): {wall:.1f} s (cluster start {started:.1f} s, not included); "
+          f"the shards' pipeline.run stages took {work:.1f} s summed over shards, the rest is "
+          "sending the network and shipments out and the results back, and gathering; "
+          f"reading every gathered record once (the comparison) {read:.1f} s; peak memory: driver "
+          f"{mem.mb:,.0f} MB ({mem.grew:+,.0f} MB over the run), workers "
+          f"{', '.join(f'{x:,.0f}' for x in workers_mb)} MB", flush=True)
+    return costed, wall
 
 
 def main(argv=None) -> list[tuple[str, float]]:
@@ -166,8 +223,13 @@ def main(argv=None) -> list[tuple[str, float]]:
                    help="also write the last run's costed workbook to OUTPUT")
     p.add_argument("--parquet", action="store_true",
                    help="with --write: the long tables as a Parquet set beside a summary workbook")
+    p.add_argument("--single", choices=("first", "last"), default="last",
+                   help="run the single process before the distributed runs or after them (default: "
+                   "after, so its week of objects is not in the driver's heap while they run)")
+    p.add_argument("--limit", type=float, default=None, metavar="SECONDS",
+                   help="stop a distributed run that takes longer (reported as stopped)")
     args = p.parse_args(argv)
-    from costing import distributed, pipeline
+    from costing import pipeline
 
     counts = [int(x) for x in args.workers.split(",") if x.strip()]
     print(f"machine: {os.cpu_count()} cores (shared with other work while measuring); "
@@ -186,53 +248,42 @@ def main(argv=None) -> list[tuple[str, float]]:
         print(f"pipeline.load (workbook + network file): {time.perf_counter() - t0:.1f} s; "
               f"{len(model.depots):,} depots, {len(model.lanes):,} lanes, {len(model.shipments):,} shipments")
         opts = pipeline.Options(scenarios=False)
-        # the distributed runs first, the single process last: its week of objects would stay in
-        # this process's heap and be counted in the driver's memory of every run after it
-        done = []  # (workers, wall, digest)
+        done = []  # (workers, wall or None when stopped, digest)
+        single: dict = {}
         costed = None
+
+        def run_single() -> None:
+            nonlocal costed
+            with PeakRSS() as mem:
+                t0 = time.perf_counter()
+                one = pipeline.run(model, opts)
+                single["wall"] = time.perf_counter() - t0
+            legs = sum(len(r.legs) for r in one.results)
+            print(f"single process: {single['wall']:.1f} s; {legs:,} legs, {len(one.runs):,} vehicle runs; "
+                  f"peak memory {mem.mb:,.0f} MB ({mem.grew:+,.0f} MB over the run)", flush=True)
+            single["digest"] = digest(one)
+            if args.write and costed is None:
+                costed = one
+
+        if args.single == "first":
+            run_single()
         for n in counts:
             costed = None
-            t0 = time.perf_counter()
-            client = distributed.local_client(n)
-            started = time.perf_counter() - t0
-            try:
-                with PeakRSS() as mem:
-                    t0 = time.perf_counter()
-                    costed = distributed.run(model, opts, client)
-                    wall = time.perf_counter() - t0
-                    t0 = time.perf_counter()
-                    got = digest(costed)
-                    read = time.perf_counter() - t0
-                workers_mb = sorted(client.run(_worker_peak_mb).values(), reverse=True)
-            finally:
-                cluster = client.cluster
-                client.close()
-                cluster.close()
-            done.append((n, wall, got))
-            # the shards' own pipeline stages (sub-timings "within" a stage left out), summed
-            work = sum(v for k, v in costed.stats.seconds.items() if "within" not in k)
-            print(f"{n} worker(s): {wall:.1f} s (cluster start {started:.1f} s, not included); "
-                  f"the shards' pipeline.run stages took {work:.1f} s summed over shards, the rest is "
-                  "sending the network and shipments out and the results back, and gathering; "
-                  f"reading every gathered record once (the comparison) {read:.1f} s; peak memory: driver "
-                  f"{mem.mb:,.0f} MB, workers {', '.join(f'{x:,.0f}' for x in workers_mb)} MB", flush=True)
-            if not args.write:
-                costed = None  # the columns take memory; the digest is all that is compared
-        with PeakRSS() as mem:
-            t0 = time.perf_counter()
-            single = pipeline.run(model, opts)
-            base = time.perf_counter() - t0
+            got, wall = run_workers(model, opts, n, args.limit)
+            if wall is not None and args.write:
+                costed = got
+            done.append((n, wall, None if wall is None else digest(got)))
+            got = None  # the columns take memory; the digest is all that is compared
+        if args.single == "last":
+            run_single()
+        base = single["wall"]
         rows.append(("single process (pipeline.run)", base))
-        legs = sum(len(r.legs) for r in single.results)
-        print(f"single process: {base:.1f} s; {legs:,} legs, {len(single.runs):,} vehicle runs; "
-              f"peak memory {mem.mb:,.0f} MB", flush=True)
-        expect = digest(single)
-        if costed is None:
-            costed = single
-        del single
         for n, wall, got in done:
+            if wall is None:
+                print(f"{n} worker(s): stopped after {args.limit:.0f} s (--limit)")
+                continue
             rows.append((f"Dask, {n} local worker{'s' if n > 1 else ''}", wall))
-            same = got == expect
+            same = got == single["digest"]
             print(f"{n} worker(s): ratio to single process {wall / base:.2f}; identical results: "
                   f"{'yes' if same else 'NO'}")
             if not same:
