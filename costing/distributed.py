@@ -563,7 +563,9 @@ def run(model: Model, options: pipeline.Options | None = None, client=None, shar
     -------
     pipeline.Costed
         Equal to ``pipeline.run(model, options)`` but for the Run sheet's work counters and
-        times (module docstring).
+        times (module docstring); its ``results`` and ``runs`` (and each scenario's) are
+        ``PackedResults`` and ``PackedRuns``: read-only sequences that rebuild their records from
+        the shards' columns each time they are read.
     """
     from costing.check.scenarios import apply_scenario
 
