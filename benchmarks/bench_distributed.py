@@ -25,7 +25,8 @@ they are read: `costing.distributed.PackedResults`). The costed workbook is not 
 the same time whatever ran the week; `--write OUTPUT` writes the last one, `--parquet` as a Parquet
 set beside a summary workbook). Prints wall seconds and the ratio to the single-process run, and
 peak memory: the driver's resident set sampled during each run (psutil, every 0.2 s) and each
-worker's own peak (getrusage); asserts nothing about time.
+worker's own peak and CPU time (getrusage); asserts nothing about time. `--limit SECONDS` stops a
+distributed run that takes longer and reports it as stopped.
 """
 
 from __future__ import annotations
@@ -152,11 +153,19 @@ class PeakRSS:
         return max(self.peak, self._proc.memory_info().rss) / 2 ** 20
 
 
-def _worker_peak_mb() -> float:
-    """On a worker: its own peak resident set, MB."""
+def _worker_usage() -> tuple[float, float]:
+    """On a worker: its own peak resident set, MB, and the CPU seconds it has used."""
     import resource as _r
 
-    return _r.getrusage(_r.RUSAGE_SELF).ru_maxrss / 1024
+    use = _r.getrusage(_r.RUSAGE_SELF)
+    return use.ru_maxrss / 1024, use.ru_utime + use.ru_stime
+
+
+def _usage_text(client) -> str:
+    """Each worker's peak memory and CPU time, largest first."""
+    use = sorted(client.run(_worker_usage).values(), reverse=True)
+    return (f"workers {', '.join(f'{mb:,.0f}' for mb, _c in use)} MB, CPU "
+            f"{', '.join(f'{c:,.0f}' for _mb, c in use)} s")
 
 
 def run_workers(model, opts, n: int, limit: float | None):
@@ -184,10 +193,8 @@ def run_workers(model, opts, n: int, limit: float | None):
             worker.join(limit)
             wall = time.perf_counter() - t0
             if worker.is_alive():
-                workers_mb = sorted(client.run(_worker_peak_mb).values(), reverse=True)
-                print(f"{n} worker(s): stopped after {wall:.0f} s; peak memory so far: driver "
-                      f"{mem.now_mb():,.0f} MB, workers {', '.join(f'{x:,.0f}' for x in workers_mb)} MB",
-                      flush=True)
+                print(f"{n} worker(s): stopped after {wall:.0f} s; so far: driver peak "
+                      f"{mem.now_mb():,.0f} MB, {_usage_text(client)}", flush=True)
                 return None, None
             if "error" in answer:
                 raise answer["error"]
@@ -195,7 +202,7 @@ def run_workers(model, opts, n: int, limit: float | None):
             t0 = time.perf_counter()
             digest(costed)
             read = time.perf_counter() - t0
-        workers_mb = sorted(client.run(_worker_peak_mb).values(), reverse=True)
+        usage = _usage_text(client)
     finally:
         cluster = client.cluster
         client.close()
@@ -206,8 +213,7 @@ def run_workers(model, opts, n: int, limit: float | None):
           f"the shards' pipeline.run stages took {work:.1f} s summed over shards, the rest is "
           "sending the network and shipments out and the results back, and gathering; "
           f"reading every gathered record once (the comparison) {read:.1f} s; peak memory: driver "
-          f"{mem.mb:,.0f} MB ({mem.grew:+,.0f} MB over the run), workers "
-          f"{', '.join(f'{x:,.0f}' for x in workers_mb)} MB", flush=True)
+          f"{mem.mb:,.0f} MB ({mem.grew:+,.0f} MB over the run), {usage}", flush=True)
     return costed, wall
 
 
