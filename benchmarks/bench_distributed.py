@@ -154,11 +154,20 @@ class PeakRSS:
 
 
 def _worker_usage() -> tuple[float, float]:
-    """On a worker: its own peak resident set, MB, and the CPU seconds it has used."""
+    """On a worker: its own peak resident set, MB (Linux: VmHWM of /proc/self/status; getrusage's
+    ru_maxrss would carry over the peak of the process that started it), and its CPU seconds."""
     import resource as _r
 
     use = _r.getrusage(_r.RUSAGE_SELF)
-    return use.ru_maxrss / 1024, use.ru_utime + use.ru_stime
+    peak = use.ru_maxrss / 1024
+    try:
+        with open("/proc/self/status") as f:
+            for line in f:
+                if line.startswith("VmHWM:"):
+                    peak = int(line.split()[1]) / 1024
+    except OSError:
+        pass
+    return peak, use.ru_utime + use.ru_stime
 
 
 def _usage_text(client) -> str:
