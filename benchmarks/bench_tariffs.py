@@ -78,6 +78,7 @@ def main(argv=None) -> None:
                      "routed": sum(r.status == "routed" for r in res),
                      "priced by a carrier": sum(r.quote is not None for r in res),
                      "bought": sum(r.bought for r in res),
+                     "parts bought": sum(len(r.parts) for r in res),
                      "total, own-routable shipments": round(sum(r.total_cost for r, k in zip(res, own_routed)
                                                                 if k), 2),
                      "total, the rest (bought)": round(sum(r.total_cost for r, k in zip(res, own_routed)

@@ -63,6 +63,10 @@ class Lane:
     tunnel_category: str | None = None  # ADR tunnel category A to E; None: no tunnel
 
 
+# the money fields of a rate card: converted into the run's currency when given in another
+RATE_CARD_MONEY_FIELDS = ("per_km", "per_hour", "per_trip", "min_charge", "fuel_included_at")
+
+
 @dataclass(frozen=True)
 class RateCard:
     vehicle: str
@@ -84,6 +88,7 @@ class RateCard:
     fuel_empty_l_per_100km: float | None = None  # fuel use running empty (then fuel_l_per_100km is laden)
     wtw_co2e_kg_per_litre: float | None = None  # well-to-wheel factor; None: TTW + diesel well-to-tank
     toll_class: str | None = None  # light | medium | heavy; None: from tare_t + payload_t
+    given: tuple = ()  # (field, amount) of the money fields as typed in `currency`, before conversion
 
 
 @dataclass(frozen=True)

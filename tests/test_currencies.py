@@ -134,3 +134,99 @@ def test_libreoffice_recomputes_converted_charges(tmp_path, currency, rate):
     head = [c.value for c in wb["Carrier charges"][1]]
     charge = wb["Carrier charges"].cell(2, head.index("charge") + 1).value
     assert charge == {"JPY": 10533, "KWD": 21.488}[currency]
+
+
+# --- the Currency conversion sheet ---------------------------------------------------------
+# The truck (base data: per_km 1.1, per_hour 35, per_trip 40, min_charge 300) typed in USD and a
+# carrier tariff typed in EUR (4.37 per 100 kg, minimum 45) in a run reporting in JPY or KWD.
+# Worked by hand, rounded half away from zero to the run currency's ISO 4217 minor unit:
+#   JPY (0 decimals), USD at 150.5: 1.1 x 150.5 = 165.55 -> 166; 35 x 150.5 = 5,267.5 -> 5,268;
+#     40 x 150.5 = 6,020; 300 x 150.5 = 45,150. EUR at 162.35: S1 10 t = 100 x 4.37 = 437.00 EUR
+#     x 162.35 = 70,946.95 -> 70,947; S2 50 t = 2,185.00 EUR x 162.35 = 354,734.75 -> 354,735
+#   KWD (3 decimals), USD at 0.3072: 1.1 x 0.3072 = 0.33792 -> 0.338; 35 x 0.3072 = 10.752;
+#     40 x 0.3072 = 12.288; 300 x 0.3072 = 92.16. EUR at 0.3312: 437 x 0.3312 = 144.7344 ->
+#     144.734; 2,185 x 0.3312 = 723.672
+CONVERSION_CASES = {
+    "JPY": ({"USD": 150.5, "EUR": 162.35},
+            {"per_km": 166, "per_hour": 5268, "per_trip": 6020, "min_charge": 45150},
+            {"S1": 70947, "S2": 354735}),
+    "KWD": ({"USD": 0.3072, "EUR": 0.3312},
+            {"per_km": 0.338, "per_hour": 10.752, "per_trip": 12.288, "min_charge": 92.16},
+            {"S1": 144.734, "S2": 723.672}),
+}
+
+
+def _conversion_run(make_input, tmp_path, currency):
+    rates, _cards, _prices = CONVERSION_CASES[currency]
+    d = base_data()
+    d["Settings"][0]["value"] = currency
+    d["Rates"][0]["currency"] = "USD"
+    d["Currencies"] = [{"currency": code, "rate": rate, "date": DAY} for code, rate in rates.items()]
+    d["Tariffs"] = [{"carrier": "Brindle", "from_zone": "A", "to_zone": "C", "min_kg": 0,
+                     "price_per_100kg": 4.37, "min_charge": 45, "currency": "EUR"}]
+    model = validate(read_workbook(make_input(d)))
+    assert not [p for p in model.problems if p.severity == "error"]
+    costed, path = _write(model, model.shipments, tmp_path)
+    return costed, path
+
+
+def _sheet(path, name):
+    rows = list(openpyxl.load_workbook(path, data_only=True)[name].iter_rows(values_only=True))
+    return [dict(zip(rows[0], r)) for r in rows[1:]]
+
+
+@pytest.mark.parametrize("currency", ["JPY", "KWD"])
+def test_conversion_sheet_lists_each_figure_in_its_own_currency(make_input, tmp_path, currency):
+    rates, cards, prices = CONVERSION_CASES[currency]
+    costed, path = _conversion_run(make_input, tmp_path, currency)
+    rows = _sheet(path, "Currency conversion")
+    card = costed.model.rates[0]
+    by_figure = {r["figure"]: r for r in rows if r["source"] == "Rates"}
+    assert set(by_figure) == set(cards)
+    for name, rounded in cards.items():
+        r = by_figure[name]
+        # as typed, beside its Currencies rate; converted = what the run priced with (unrounded)
+        assert (r["currency"], r["rate"], r["run_currency"]) == ("USD", rates["USD"], currency)
+        assert r["amount"] == {"per_km": 1.1, "per_hour": 35, "per_trip": 40, "min_charge": 300}[name]
+        assert r["converted"] == getattr(card, name) and r["converted_rounded"] == rounded
+    charges = {r["shipment_id"]: r["charge"] for r in _sheet(path, "Carrier charges")}
+    tariffs = [r for r in rows if r["source"] == "Tariffs"]
+    assert [r["item"].split(": ")[1] for r in tariffs] == ["S1 whole", "S2 whole"]
+    for r in tariffs:
+        sid = r["item"].split(": ")[1].split()[0]
+        # the carrier's charge the run used, in the run currency's minor unit
+        assert r["currency"] == "EUR" and r["converted_rounded"] == prices[sid] == charges[sid]
+    # each currency's rate typed once (its first row); the other rows refer to it
+    ws = openpyxl.load_workbook(path)["Currency conversion"]
+    head = [c.value for c in ws[1]]
+    rates_typed = [row[head.index("rate")].value for row in ws.iter_rows(min_row=2)]
+    # USD x 4 (per_km, per_hour, per_trip, min_charge), then EUR x 2 (S1, S2)
+    assert [isinstance(v, str) and v.startswith("=") for v in rates_typed] == \
+        [False, True, True, True, False, True]
+
+
+@pytest.mark.needs_soffice
+@pytest.mark.parametrize("currency", ["JPY", "KWD"])
+def test_libreoffice_recomputes_conversion_sheet(make_input, tmp_path, currency):
+    # LibreOffice Calc (an independent spreadsheet engine) recomputes the conversion formulas to
+    # the cached values: every formula of the workbook within 0.005, and the rounded conversions
+    # exactly (a KWD amount has 3 decimals)
+    from tests.spreadsheet_app import convert, recalc_mismatches
+
+    _rates, cards, prices = CONVERSION_CASES[currency]
+    _costed, path = _conversion_run(make_input, tmp_path, currency)
+    (tmp_path / "recalc").mkdir()
+    checked, mismatches = recalc_mismatches(str(path), str(tmp_path / "recalc"))
+    assert checked > 20 and not mismatches, mismatches[:10]
+    (tmp_path / "again").mkdir()
+    rows = _sheet(convert(str(path), str(tmp_path / "again")), "Currency conversion")
+    got = [r["converted_rounded"] for r in rows]
+    assert got == list(cards.values()) + list(prices.values())
+    assert got == [r["converted_rounded"] for r in _sheet(path, "Currency conversion")]
+
+
+def test_no_conversion_sheet_in_one_currency(make_input, tmp_path):
+    d = base_data()
+    model = validate(read_workbook(make_input(d)))
+    _costed, path = _write(model, model.shipments, tmp_path)
+    assert "Currency conversion" not in openpyxl.load_workbook(path).sheetnames

@@ -6,6 +6,7 @@ largest difference first. Figures worked by hand in the comments (each shipment 
 from __future__ import annotations
 
 import datetime as dt
+from dataclasses import replace
 
 import openpyxl
 import pandas as pd
@@ -81,3 +82,87 @@ def test_libreoffice_recomputes_customer_and_invoice_sheets(tmp_path):
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(path), str(tmp_path / "recalc"))
     assert checked > 30 and not mismatches, mismatches[:10]
+
+
+def _costed_two_spellings():
+    """The module's three shipments with S2's customer typed "ACME": the same customer to a
+    spreadsheet, whose = compares text without regard to case."""
+    costed = _costed()
+    s2 = costed.model.shipments[1]
+    ships = (costed.model.shipments[0], replace(s2, customer="ACME"),
+             costed.model.shipments[2])
+    model = Model(costed.model.settings, costed.model.depots, costed.model.lanes, costed.model.rates, ships)
+    return pipeline.run(model, pipeline.Options(analyses=False, scenarios=False))
+
+
+def _customer_rows(path):
+    wb = openpyxl.load_workbook(path, data_only=True)
+    rows = list(wb["Cost per customer"].iter_rows(values_only=True))
+    head = rows[0]
+    table = {r[head.index("customer")]: dict(zip(head, r)) for r in rows[1:]}
+    summary = list(wb["Summary"].iter_rows(values_only=True))
+    total = [r for r in summary if r[0] == "TOTAL"][0][summary[0].index("total_cost")]
+    return table, total
+
+
+def test_customer_spelled_two_ways_is_one_customer(tmp_path):
+    costed = _costed_two_spellings()
+    t = customer_table(costed.results, 2)
+    # one row for Acme/ACME with both shipments (the figures of test_customer_figures_by_hand)
+    assert list(t["customer"]) == ["Acme", ""] and list(t["shipments"]) == [2, 1]
+    acme = t.iloc[0]
+    assert (acme.total_cost, acme.spellings) == (1552.5, "Acme, ACME")
+    path = tmp_path / "out.xlsx"
+    info = RunInfo("in.xlsx", "0" * 64, None, dt.datetime(2026, 12, 7), costed.stats)
+    write_costed(str(path), costed.model, costed.results, costed.problems, info, runs=costed.runs)
+    table, total = _customer_rows(path)
+    # openpyxl reads the cached values: the customers' totals add up to the Summary TOTAL
+    # (1552.50 + 776.25 = 2328.75), each shipment counted once
+    assert set(table) == {"Acme", "(no customer)"}
+    assert table["Acme"]["shipments"] == 2 and table["Acme"]["spellings"] == "Acme, ACME"
+    assert round(sum(r["total_cost"] for r in table.values()), 2) == total == 2328.75
+
+
+@pytest.mark.needs_soffice
+def test_libreoffice_ties_out_customer_spelled_two_ways(tmp_path):
+    # LibreOffice Calc recomputes the SUMPRODUCT(... = ...) formulas, which match "Acme" and
+    # "ACME" as one name: the recomputed values equal the cached ones and still tie out
+    from tests.spreadsheet_app import convert, recalc_mismatches
+
+    costed = _costed_two_spellings()
+    path = tmp_path / "out.xlsx"
+    info = RunInfo("in.xlsx", "0" * 64, None, dt.datetime(2026, 12, 7), costed.stats)
+    write_costed(str(path), costed.model, costed.results, costed.problems, info, runs=costed.runs)
+    (tmp_path / "recalc").mkdir()
+    checked, mismatches = recalc_mismatches(str(path), str(tmp_path / "recalc"))
+    assert checked > 30 and not mismatches, mismatches[:10]
+    (tmp_path / "again").mkdir()
+    table, total = _customer_rows(convert(str(path), str(tmp_path / "again")))
+    assert table["Acme"]["shipments"] == 2 and table["Acme"]["total_cost"] == 1552.5
+    assert round(sum(r["total_cost"] for r in table.values()), 2) == total == 2328.75
+
+
+@pytest.mark.needs_soffice
+def test_grouping_key_agrees_with_libreoffice_text_match(tmp_path):
+    # LibreOffice Calc's = on text (the engine the formulas run in) against customer_key: the
+    # module docstring's measured cases; the ligature is the known exception
+    import xlsxwriter
+
+    from costing.sheets.customers import customer_key
+    from tests.spreadsheet_app import convert
+
+    pairs = [("Acme", "ACME"), ("élan", "ÉLAN"), ("ΟΔΟΣ", "οδος"), ("Straße", "STRASSE"), ("a ", "a"),
+             ("ﬁne", "FINE")]
+    path = tmp_path / "eq.xlsx"
+    wb = xlsxwriter.Workbook(str(path))
+    ws = wb.add_worksheet()
+    for i, (a, b) in enumerate(pairs):
+        ws.write_string(i, 0, a)
+        ws.write_string(i, 1, b)
+        ws.write_formula(i, 2, f"=SUMPRODUCT((A{i + 1}:A{i + 1}=B{i + 1})*1)", None, 0)
+    wb.close()
+    (tmp_path / "recalc").mkdir()
+    got = [r[2] for r in openpyxl.load_workbook(convert(str(path), str(tmp_path / "recalc")),
+                                                data_only=True).active.iter_rows(values_only=True)]
+    ours = [int(customer_key(a) == customer_key(b)) for a, b in pairs]
+    assert got == [1, 1, 1, 0, 0, 1] and ours == [1, 1, 1, 0, 0, 0]

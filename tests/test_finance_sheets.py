@@ -111,6 +111,81 @@ def test_comparison_routes_match_networkx_per_objective():
         assert alts["cost"].total_cost <= alts["time"].total_cost + 1e-9
 
 
+def test_batched_comparison_matches_networkx_and_single_searches():
+    # The comparison across objectives is searched one-to-many per origin, profile and objective
+    # (Router.prepare with force). Oracle: networkx Dijkstra per shipment on lane km and lane
+    # hours; and every alternative equals the one the per-shipment A* finds (same route).
+    from dataclasses import replace as dc_replace
+
+    from costing.contract.inputs import OBJECTIVES
+    from costing.plan.analysis import analyse
+
+    for seed in range(12):
+        base = _grid_model(seed)
+        origin = base.shipments[0].origin
+        ships = tuple(Shipment(f"S{d.depot_id}", origin, d.depot_id, 12.0, row=k + 2)
+                      for k, d in enumerate(base.depots) if d.depot_id != origin)
+        model = dc_replace(base, shipments=ships,
+                           settings=dc_replace(base.settings, compare_objectives="yes"))
+        g = nx.DiGraph()
+        for lane in model.lanes:
+            for a, b in [(lane.from_depot, lane.to_depot)] + \
+                    ([(lane.to_depot, lane.from_depot)] if lane.two_way else []):
+                for attr, w in (("km", lane.distance_km), ("h", lane.drive_hours)):
+                    if not g.has_edge(a, b) or g[a][b].get(attr, math.inf) > w:
+                        g.add_edge(a, b, **{**g.get_edge_data(a, b, {}), attr: w})
+        batched = Router(model, build_graph(model))
+        results = [batched.route(s, "cost") for s in ships]
+        a = analyse(model, batched, results)
+        single = Router(model, build_graph(model))
+        assert batched.stats.batches >= len(OBJECTIVES) - 1  # the searches were batched
+        for res in results:
+            s = res.shipment
+            alts = a.alternatives.get(s.shipment_id)
+            if res.status != "routed":
+                assert alts is None
+                continue
+            alone = single.alternatives(s, OBJECTIVES)
+            for obj in OBJECTIVES:
+                assert [leg.use.key for leg in alts[obj].legs] == [leg.use.key for leg in alone[obj].legs]
+                assert alts[obj].total_cost == alone[obj].total_cost
+                assert alts[obj].objective == obj
+            assert alts["distance"].distance_km == pytest.approx(
+                nx.dijkstra_path_length(g, s.origin, s.destination, weight="km"))
+            assert alts["time"].drive_hours == pytest.approx(
+                nx.dijkstra_path_length(g, s.origin, s.destination, weight="h"))
+
+
+def test_comparison_sheet_one_row_per_shipment(cli, tmp_path, monkeypatch):
+    # One row per compared shipment, the objectives side by side. Checks from the objectives'
+    # definitions (no code of ours): the cost objective's route costs no more than any other
+    # objective's, the distance objective's is no longer; the chosen objective's cost_vs_chosen
+    # is 0 and every other one is that objective's total_cost less the chosen's.
+    from costing.contract.inputs import OBJECTIVES
+
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "d.xlsx")[0] == 0
+    wb = openpyxl.load_workbook("d.xlsx", data_only=True)
+    rows = list(wb["Comparison"].iter_rows(values_only=True))
+    head = {name: i for i, name in enumerate(rows[0])}
+    summary = [r for r in wb["Summary"].iter_rows(min_row=2, values_only=True) if r[1] == "routed"]
+    assert len(rows) - 1 == len(summary) and len({r[0] for r in rows[1:]}) == len(rows) - 1
+    for row in rows[1:]:
+        def v(obj, name, row=row):
+            return row[head[f"{obj}_{name}"]]
+        chosen = row[head["chosen"]]
+        assert v(chosen, "cost_vs_chosen") == 0 and v(chosen, "route") == "chosen route"
+        assert 1 <= row[head["routes"]] <= len(OBJECTIVES)
+        for obj in OBJECTIVES:
+            assert v("cost", "total_cost") <= v(obj, "total_cost") + 1e-9
+            if v(chosen, "distance_km"):  # own vehicles (a shipment bought from a carrier has no km)
+                assert v("distance", "distance_km") <= v(obj, "distance_km") + 1e-9
+            assert v(obj, "cost_vs_chosen") == pytest.approx(v(obj, "total_cost") - v(chosen, "total_cost"),
+                                                             abs=0.005)
+        distinct = {v(o, "route") for o in OBJECTIVES} | {"chosen route"}
+        assert row[head["routes"]] == len(distinct) or row[head["routes"]] <= len(distinct)
+
+
 def _scenario_data():
     data = base_data()
     data["Settings"].append({"setting": "fuel_price_per_litre", "value": 1.50})

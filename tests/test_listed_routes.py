@@ -34,11 +34,21 @@ from tests.listed_cases import digest, medium_model, snapshot
 # ends of each vehicle run at a change of vehicle): routes and costs change by design there. And
 # when the driving clock went into the search (seeds 1 and 3, with driving rules): 40 comparison
 # rows changed, all under time or blended, none worse in elapsed hours (time) or cost + value of
-# time x elapsed hours (blended), checked by script; the trade-offs are unchanged.
+# time x elapsed hours (blended), checked by script; the trade-offs are unchanged. The trade-offs
+# digests of seeds 1 and 3 were re-captured when the trade-offs started to carry the driving clock
+# (issue 12: time is elapsed hours with breaks and rests, cost includes their pay): 4 of the 71
+# shipments changed (seed 1: 3 gained routes that were dominated without stops, not with them; seed 3: one
+# lost a route dominated once its stops are counted), checked by script against the frontier
+# without the clock: no new route is covered by another or by an old one priced with its stops,
+# and every old route priced with its stops is covered by a new one; comparisons unchanged.
+# The comparison digest of seed 1 was re-captured when the clock search stopped offering a change
+# of vehicle and back before driving (a free reset of the driver's clock): one row changed, Q003
+# under time, from 7.84 h (a unit run of 4.96 h of driving without its 45-minute break, split by
+# a phantom change at a hub) to 8.01 h with the break (checked by hand from the legs).
 SNAPSHOTS = {
-    (1, "eu_561_2006", 45, 36): ("88190c956cfd7e35", "2521ac19a21a0483"),
+    (1, "eu_561_2006", 45, 36): ("72d5c2ce45a92b1b", "dbf9c855950e8677"),
     (2, "none", 45, 36): ("1a29d636653a2dea", "de80c96f989ca883"),
-    (3, "us_49cfr395", 45, 36): ("f698804c047a6476", "a39f99919e011eaa"),
+    (3, "us_49cfr395", 45, 36): ("5833999687e223dc", "a39f99919e011eaa"),
     (4, "none", 90, 60): ("32eed1fc7d48ff9a", "a437318ff4af0298"),
 }
 

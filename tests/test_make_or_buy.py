@@ -116,7 +116,7 @@ def test_workbook_shows_both_ways_and_ties_out(tmp_path):
     assert summary["S1"]["total_cost"] == 250.0 and summary["S1"]["make_or_buy"] == "buy"
     assert summary["TOTAL"]["total_cost"] == 1276.25
     run = {r[0]: r[1] for r in wb["Run"].iter_rows(values_only=True)}
-    assert run["plus Carrier charges of shipments bought from carriers"] == 500.0
+    assert run["plus Carrier charges used (shipments and parts of routes bought from carriers)"] == 500.0
     assert run["difference (must be 0)"] == 0
     # the formulas as written
     wf = openpyxl.load_workbook(path)

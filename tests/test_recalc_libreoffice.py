@@ -45,3 +45,19 @@ def test_libreoffice_recalculation_with_legs_on_several_sheets(cli, tmp_path, mo
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(tmp_path / "split.xlsx"), str(tmp_path / "recalc"))
     assert checked > 1000 and not mismatches, mismatches[:10]
+
+
+def test_libreoffice_recalculates_both_kinds_of_lane_usage_formulas(cli, tmp_path, monkeypatch):
+    # lanes of few runs add their runs' cells by name, lanes of more runs use SUMIFS over the
+    # whole Vehicle runs sheet: both recalculate to the cached values
+    import costing.sheets.lane_usage as lane_usage
+
+    monkeypatch.setattr(lane_usage, "NAMED_RUNS", 1)
+    monkeypatch.chdir(tmp_path)
+    assert cli("demo", "-o", "lanes.xlsx")[0] == 0
+    formulas = [c.value for row in openpyxl.load_workbook("lanes.xlsx")["Lane usage"].iter_rows(min_row=2)
+                for c in row if isinstance(c.value, str) and c.value.startswith("=")]
+    assert any("SUMIFS" in f for f in formulas) and any("COUNTA" in f for f in formulas)
+    (tmp_path / "recalc").mkdir()
+    checked, mismatches = recalc_mismatches(str(tmp_path / "lanes.xlsx"), str(tmp_path / "recalc"))
+    assert checked > 1000 and not mismatches, mismatches[:10]

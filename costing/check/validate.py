@@ -28,6 +28,7 @@ from costing.geo import great_circle_km
 from costing.model import (
     ERROR,
     INFO,
+    RATE_CARD_MONEY_FIELDS,
     WARNING,
     Depot,
     FuelBand,
@@ -864,7 +865,9 @@ def _in_run_currency(card: RateCard, code: str | None, fx: dict[str, float]) -> 
     if code is None:
         return card
     rate = fx[code]
-    return replace(card, per_km=card.per_km * rate, per_hour=card.per_hour * rate,
+    given = tuple((name, getattr(card, name)) for name in RATE_CARD_MONEY_FIELDS
+                  if getattr(card, name) is not None)
+    return replace(card, given=given, per_km=card.per_km * rate, per_hour=card.per_hour * rate,
                    per_trip=card.per_trip * rate, min_charge=card.min_charge * rate,
                    fuel_included_at=None if card.fuel_included_at is None else card.fuel_included_at * rate,
                    currency=code, fx_rate=rate)

@@ -5,6 +5,8 @@ workbooks (costing.compare, the tests) find columns by these header names, never
 
 from __future__ import annotations
 
+from costing.contract.inputs import OBJECTIVES
+
 # The output sheets, in the order they appear. Legs continue on "Legs 2", "Legs 3", ... at the
 # spreadsheet's row limit (Scenario legs on "Scenario legs 2", ...); Scenario comparison, Scenario
 # bridge (and its shipments), Scenario shipments, Scenario vehicle runs, Scenario legs, Comparison,
@@ -17,6 +19,7 @@ SCENARIO_SHIPMENTS = "Scenario shipments"
 SCENARIO_LEGS = "Scenario legs"
 SCENARIO_VEHICLE_RUNS = "Scenario vehicle runs"
 CARRIER_CHARGES = "Carrier charges"
+CURRENCY_CONVERSION = "Currency conversion"  # when a rate card or a carrier price is in another currency
 COMPARISON = "Comparison"
 TRADE_OFFS = "Trade-offs"
 LANE_USAGE = "Lane usage"
@@ -29,8 +32,8 @@ RUN = "Run"
 SCENARIO_BRIDGE = "Scenario bridge"  # base case to each scenario, cause by cause (costing.compare.bridge)
 SCENARIO_BRIDGE_SHIPMENTS = "Scenario bridge shipments"  # each shipment's share of every step
 SHEETS = (SUMMARY, SCENARIO_COMPARISON, SCENARIO_BRIDGE, SCENARIO_BRIDGE_SHIPMENTS, VEHICLE_RUNS, LEGS,
-          CARRIER_CHARGES, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS, COMPARISON, TRADE_OFFS,
-          LANE_USAGE, COST_PER_CUSTOMER, INVOICE_CHECK, CHARTS, MAP, PROBLEMS, RUN)
+          CARRIER_CHARGES, CURRENCY_CONVERSION, SCENARIO_SHIPMENTS, SCENARIO_VEHICLE_RUNS, SCENARIO_LEGS,
+          COMPARISON, TRADE_OFFS, LANE_USAGE, COST_PER_CUSTOMER, INVOICE_CHECK, CHARTS, MAP, PROBLEMS, RUN)
 
 # Run sheet keys (column A) that readers of a costed workbook rely on; each setting's row is
 # "setting: " + its name.
@@ -119,7 +122,7 @@ SUMMARY_COLUMNS = [
     ("handling_cost", 11, "money"), ("trip_cost", 10, "money"), ("subtotal", 12, "money"),
     ("min_charge", 10, "money"), ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"),
     ("standalone_cost", 12, "money"), ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"),
-    ("total_cost", 12, "money"), ("saving", 11, "money"),
+    ("carrier_parts_cost", 12, "money"), ("total_cost", 12, "money"), ("saving", 11, "money"),
     ("co2e_kg", 10, "kg"), ("weight_t", 9, "plain"), ("customer", 18, "text"),
     ("travels_with", 16, "text"), ("ready_date", 11, "date"), ("due_date", 11, "date"),
     ("late_hours", 9, "hours"), ("route", 40, "text"), ("note", 60, "text"),
@@ -183,10 +186,12 @@ RUN_COLUMNS = [
 RUN_COL = {name: i for i, (name, _w, _k) in enumerate(RUN_COLUMNS)}
 
 
-# Carrier charges columns: one row per shipment a carrier tariff prices (bought or not); every
+# Carrier charges columns: one row per shipment a carrier tariff prices whole (bought or not), and
+# one per part of a route bought (collection or delivery, with the lane ends it covers); every
 # price a live formula over the row's own cells. "rate" kind: amounts in the tariff's currency.
 CARRIER_COLUMNS = [
-    ("shipment_id", 12, "text"), ("used", 6, "text"), ("carrier", 14, "text"), ("from_zone", 10, "text"),
+    ("shipment_id", 12, "text"), ("used", 6, "text"), ("part", 10, "text"), ("from_depot", 11, "text"),
+    ("to_depot", 11, "text"), ("carrier", 14, "text"), ("from_zone", 10, "text"),
     ("to_zone", 10, "text"), ("date", 11, "date"), ("weight_kg", 10, "kg"), ("volume_m3", 9, "plain"),
     ("volumetric_kg_per_m3", 11, "plain"), ("loading_metres", 9, "plain"),
     ("kg_per_loading_metre", 11, "plain"),
@@ -202,6 +207,21 @@ CARRIER_COLUMNS = [
 CARRIER_COL = {name: i for i, (name, _w, _k) in enumerate(CARRIER_COLUMNS)}
 
 
+# Currency conversion: one row per money figure given in another currency than the run's: each
+# rate card's money fields (Rates rows with a currency) and each carrier price of a tariff row in
+# another currency (one per Carrier charges row), in its own currency beside its Currencies rate;
+# the converted figures are live formulas. "rate" kind: amounts in the row's own currency.
+CURRENCY_COLUMNS = [
+    ("source", 8, "text"), ("input_row", 7, "int"), ("item", 30, "text"), ("figure", 14, "text"),
+    ("currency", 8, "text"), ("amount", 12, "rate"), ("rate", 10, "plain"), ("run_currency", 8, "text"),
+    ("converted", 13, "plain"), ("places", 6, "int"), ("converted_rounded", 13, "money"),
+    ("used_as", 50, "text"),
+]
+
+
+CURRENCY_COL = {name: i for i, (name, _w, _k) in enumerate(CURRENCY_COLUMNS)}
+
+
 # Cost per customer: one row per customer (Shipments customer; blank is "(no customer)"), every
 # figure a formula over the Summary rows of the customer's routed shipments.
 CUSTOMER_COLUMNS = [
@@ -209,7 +229,7 @@ CUSTOMER_COLUMNS = [
     ("pallets", 8, "plain"), ("tonne_km", 11, "km"), ("total_cost", 12, "money"),
     ("cost_per_tonne", 11, "money"), ("cost_per_pallet", 11, "money"), ("cost_per_shipment", 11, "money"),
     ("co2e_kg", 10, "kg"), ("quoted_price", 12, "money"), ("margin", 12, "money"), ("margin_pct", 9, "pct"),
-    ("invoiced", 12, "money"), ("invoice_difference", 12, "money"),
+    ("invoiced", 12, "money"), ("invoice_difference", 12, "money"), ("spellings", 30, "text"),
 ]
 
 
@@ -228,6 +248,13 @@ INVOICE_COL = {name: i for i, (name, _w, _k) in enumerate(INVOICE_COLUMNS)}
 
 
 HEADER_NOTES = {
+    "chosen": "Comparison: the objective the shipment was routed by (its own, the command line's or "
+              "Settings objective).",
+    "routes": "Comparison: how many different routes (lanes and vehicles) the objectives choose.",
+    **{f"{o}_cost_vs_chosen": f"Comparison: {o}_total_cost - the chosen objective's total_cost "
+       "(a formula)." for o in OBJECTIVES},
+    **{f"{o}_route": f"Comparison: the best route by {o}, depots and vehicle; 'chosen route' when it "
+       "is the chosen objective's." for o in OBJECTIVES},
     "km_basis": "stated: from the Lanes sheet; estimated: straight line x detour_factor.",
     "hours_basis": "stated: from the Lanes sheet; estimated: km / default_speed_kmh.",
     "vehicles": "Legs: vehicles the load needs alone = the most of ceil(weight_t / payload_t), "
@@ -278,7 +305,26 @@ HEADER_NOTES = {
     "min_charge": "Largest min_charge of the rate cards the route uses.",
     "min_charge_uplift": "MAX(0, min_charge - subtotal)",
     "total_cost": "allocated_cost + empty_return_cost, plus min_charge_uplift when the shipment shares "
-                  "no vehicle (travels_with blank). With consolidate = no: standalone_cost.",
+                  "no vehicle (travels_with blank), plus carrier_parts_cost. With consolidate = no: "
+                  "standalone_cost. Bought whole from a carrier: buy_cost.",
+    "carrier_parts_cost": "Parts of the route bought from carriers (collection to a hub, delivery from "
+                          "one; the rest on own vehicles): the sum of their Carrier charges rows "
+                          "(part collection or delivery). Blank: none.",
+    "source": "Currency conversion: Rates (a rate card's money field) or Tariffs (a carrier's price for "
+              "one consignment, its Carrier charges row).",
+    "input_row": "The row of the input sheet (Rates or Tariffs) the figure comes from.",
+    "figure": "Which figure: a rate card's per_km, per_hour, per_trip, min_charge or fuel_included_at; "
+              "a tariff's price (of one consignment, Carrier charges price).",
+    "amount": "The figure in its own currency, as given (a tariff price: its Carrier charges price).",
+    "run_currency": "The currency the run reports in (Settings currency).",
+    "converted": "amount x rate, in the run's currency, unrounded: what the run prices with for a rate "
+                 "card figure (each amount computed from it is rounded, e.g. km_cost).",
+    "places": "Decimal places of the run's currency (ISO 4217 minor unit: JPY 0, EUR 2, KWD 3).",
+    "converted_rounded": "ROUND(converted, places): the figure in the run's currency's minor unit; for "
+                         "a tariff price, the charge the run used (Carrier charges charge).",
+    "used_as": "How the run uses the converted figure.",
+    "part": "whole: the shipment from origin to destination; collection: origin to the first "
+            "consolidation hub; delivery: the last hub to the destination (the rest on own vehicles).",
     "run_id": "The vehicle run (Vehicle runs sheet) the leg rides in.",
     "tonne_km": "weight_t x distance_km: the allocation key (ISO 14083 allocates a run's emissions "
                 "among its loads by tonne-km; the same key shares its cost).",
@@ -288,8 +334,8 @@ HEADER_NOTES = {
                     "and, where a share would exceed the leg's own cost, the amount moved to the "
                     "other loads of the run (see the shipment's note).",
     "co2e_share": "The leg's share of its run's co2e_kg, by tonne-km. Planning estimate.",
-    "standalone_cost": "subtotal + min_charge_uplift + empty_return_alone: the route with vehicles "
-                       "of its own.",
+    "standalone_cost": "subtotal + min_charge_uplift + empty_return_alone + carrier_parts_cost: the "
+                       "route with vehicles of its own.",
     "empty_return_alone": "Settings return_empty = yes: what bringing its own vehicles back empty "
                           "would cost (the cheapest way back with the same rate card; no handling).",
     "empty_return_cost": "Settings return_empty = yes: its share of the empty returns (Vehicle runs rows "
@@ -319,8 +365,9 @@ HEADER_NOTES = {
                  "what its own route alone would cost (blank: no own route).",
     "buy_cost": "The cheapest carrier's charge in the run's currency (Carrier charges sheet); blank when "
                 "no tariff fits.",
-    "make_or_buy": "make: own vehicles; buy: the carrier (the cheaper for the week's cost: the planner "
-              "weighs the carrier's price against what the load adds to the own vehicle runs).",
+    "make_or_buy": "make: own vehicles; buy: the carrier; part: the collection and/or delivery bought, "
+                   "the trunk on own vehicles (the cheapest for the week's cost: the planner weighs "
+                   "carrier prices against what the load adds to the own vehicle runs).",
     "quoted_price": "What the customer pays for the shipment (Shipments quoted_price): revenue.",
     "margin": "Summary: quoted_price - total_cost. Cost per customer: the sum over the customer's "
               "shipments with a quoted_price.",
@@ -331,7 +378,10 @@ HEADER_NOTES = {
     "cost_per_tonne": "total_cost / tonnes (routed shipments).",
     "cost_per_pallet": "total_cost / pallets (blank when the shipments give no pallets).",
     "cost_per_shipment": "total_cost / routed.",
-    "used": "yes: the shipment is bought from this carrier; no: priced for comparison only.",
+    "spellings": "The names grouped as this customer when typed more than one way: a spreadsheet "
+                 "compares text without regard to case, so Acme and ACME are one customer (the first "
+                 "spelling is shown in customer).",
+    "used": "yes: the shipment (or the part) is bought from this carrier; no: priced for comparison only.",
     "charged_kg": "chargeable_kg rounded up to a multiple of weight_step_kg (blank step: unchanged); "
                   "the band holds min_kg <= charged_kg < max_kg.",
     "freight": "ROUND(charged_kg / 100 x price_per_100kg), in the tariff's currency.",
@@ -340,7 +390,7 @@ HEADER_NOTES = {
              "in the tariff's currency.",
     "fuel_surcharge_pct": "The carrier's fuel band (Fuel surcharges sheet) holding Settings "
                           "fuel_price_per_litre; 0 when none does.",
-    "rate": "Units of the run's currency per unit of the tariff's currency (Currencies sheet; 1 when the "
+    "rate": "Units of the run's currency per unit of the row's currency (Currencies sheet; 1 when the "
             "same).",
     "charge": "ROUND(price x rate) in the run's currency: what the shipment costs when bought.",
     "status": "routed; no_route (no usable lanes connect origin and destination; see note); "
@@ -348,13 +398,15 @@ HEADER_NOTES = {
 }
 
 
-COMPARISON_COLUMNS = [
-    ("shipment_id", 12, "text"), ("objective", 10, "text"), ("chosen", 7, "text"), ("status", 9, "text"),
-    ("vehicle", 14, "text"), ("legs", 5, "int"), ("total_cost", 12, "money"), ("drive_hours", 10, "hours"),
-    ("elapsed_hours", 10, "hours"), ("distance_km", 11, "km"), ("co2e_kg", 10, "kg"),
-    ("cost_vs_chosen", 12, "money"), ("hours_vs_chosen", 12, "hours"), ("km_vs_chosen", 11, "km"),
-    ("co2e_vs_chosen", 12, "kg"), ("route", 48, "text"),
+# Comparison: one row per shipment; per objective (costing.contract.inputs.OBJECTIVES, in that
+# order) the figures of its best route, side by side
+COMPARISON_FIGURES = [
+    ("total_cost", 12, "money"), ("elapsed_hours", 10, "hours"), ("distance_km", 11, "km"),
+    ("co2e_kg", 10, "kg"), ("cost_vs_chosen", 12, "money"), ("route", 40, "text"),
 ]
+COMPARISON_COLUMNS = [("shipment_id", 12, "text"), ("chosen", 10, "text"), ("routes", 7, "int")] + [
+    (f"{objective}_{name}", width, kind) for objective in OBJECTIVES
+    for name, width, kind in COMPARISON_FIGURES]
 
 
 TRADEOFF_COLUMNS = [
@@ -396,8 +448,9 @@ SCENARIO_SHIPMENT_COLUMNS = [
     ("origin", 10, "text"), ("destination", 11, "text"), ("vehicle", 12, "text"), ("vehicles", 8, "int"),
     ("legs", 6, "int"), ("distance_km", 11, "km"), ("subtotal", 12, "money"), ("min_charge", 10, "money"),
     ("min_charge_uplift", 11, "money"), ("empty_return_alone", 12, "money"), ("standalone_cost", 12, "money"),
-    ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"), ("total_cost", 12, "money"),
-    ("saving", 11, "money"), ("travels_with", 16, "text"), ("base_total_cost", 12, "money"),
+    ("allocated_cost", 12, "money"), ("empty_return_cost", 12, "money"), ("carrier_parts_cost", 12, "money"),
+    ("total_cost", 12, "money"), ("saving", 11, "money"), ("travels_with", 16, "text"),
+    ("base_total_cost", 12, "money"),
     ("delta_vs_base", 12, "money"), ("route_vs_base", 9, "text"), ("co2e_kg", 10, "kg"),
     ("route", 40, "text"), ("note", 60, "text"),
 ]

@@ -10,9 +10,11 @@ from state u, read from clock c, leads to (v, c') where c' and the stops taken o
 `costing.price.rules.advance` (the same step the legs are priced with); its weight is the lane's
 weight plus the weight of those stops (`costing.network.build.stop_weight`: their hours for the
 time objective, their pay for cost, both for blended). A change of vehicle starts a rested driver
-(`start_clock`, on duty for the loading there), as the legs assume; non-road steps leave the
-clock alone (no stops off the road). The exits are joined to one sink node, the single exit of
-the core's "exit" mode.
+(`start_clock`, on duty for the loading there), as the legs assume, once the run it ends has
+driven a lane (a label carries whether it has): a change and back at a hub before driving would
+reset the clock in the search while the priced route has one run there, so it is not offered;
+non-road steps leave the clock alone (no stops off the road). The exits are joined to one sink
+node, the single exit of the core's "exit" mode.
 
 What is exact. The expanded network's arc weights are non-negative and a route's weight is the
 sum of its lane, start, exit and transfer weights plus the weights of exactly the stops its legs
@@ -28,8 +30,8 @@ this search is not needed.
 What is approximated (stated, not hidden). The stop model itself is the planning model of
 `costing.price.rules` (its docstring: one driver, stops as soon as due, longer days used when
 reached, reduced rests first; weekly limits and the EU 24-hour period are not modelled);
-the cost-time trade-offs and the distance and emissions objectives do not carry the clock (stops
-do not change distance or emissions; the trade-offs compare driving plus handling hours). The
+the distance and emissions objectives do not carry the clock (stops do not change distance or
+emissions); the cost-time trade-offs carry it in their own search (costing.network.pareto_clock). The
 number of clock labels is capped (`cap`); a search that would pass it raises `ClockLimit` and the
 caller falls back to choosing on driving hours, with a note.
 """
@@ -83,7 +85,7 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
     """
     sink = cap
     n = cap + 1
-    keys: list[tuple] = []  # (state, *clock)
+    keys: list[tuple] = []  # (state, driven since the run began?, *clock)
     ids: dict[tuple, int] = {}
     heads: list = [None] * n
     weights: list = [None] * n
@@ -102,19 +104,25 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
         if x == sink:
             heads[x], weights[x], edges[x] = (), (), ()
             return ()
-        u, clock = keys[x][0], keys[x][1:]
+        u, driven, clock = keys[x][0], keys[x][1], keys[x][2:]
         hs, ws, es = [], [], []
         for v, w, e in cn.adj[u]:
             step = cn.steps[e]
             if step.transfer is not None:
-                after = start_clock(rules, on_duty(v))  # a new vehicle run: a rested driver
+                if not driven:
+                    # a change of vehicle before the run has driven a lane (a change and back
+                    # at a hub) would start a rested driver's clock, but the priced route has
+                    # one run there (an empty run is no run): not offered
+                    continue
+                after, moved = start_clock(rules, on_duty(v)), False  # a new vehicle run
             elif road(step.card) and step.use.hours > 0:
                 brk, rest, after = advance(clock, step.use.hours, rules)
                 if brk or rest:
                     w = w + stop_weight(step.card, brk, rest)
+                moved = True
             else:
-                after = clock
-            hs.append(node((v, *after)))
+                after, moved = clock, True
+            hs.append(node((v, moved, *after)))
             ws.append(w)
             es.append(e)
         if u in exits:
@@ -130,7 +138,7 @@ def clock_astar(cn, sources: Sequence[tuple[int, object]], exits: Mapping[int, o
     def h(x: int) -> float:
         return 0.0 if x == sink or bound is None else bound[keys[x][0]]
 
-    starts = [(node((s, *start_clock(rules, on_duty(s)))), g0) for s, g0 in sources]
+    starts = [(node((s, False, *start_clock(rules, on_duty(s)))), g0) for s, g0 in sources]
     res = astar(Arcs(n, heads, weights, load, edge), starts, {sink: 0.0}, h)
     if not res.found:
         return res

@@ -126,6 +126,7 @@ class Router:
         self.rules = rules_for(model.settings)  # driving-time rules, or None
         self.clock_fallbacks: set[str] = set()  # shipments searched without the clock (too many labels)
         self._reverse: dict = {}  # profile -> reversed rows of its compact network (clock bounds)
+        self._costed: dict = {}  # (shipment id, route key) -> priced route (`price`)
 
     def network(self, profile: Profile) -> CompactNetwork:
         """The compact network of `profile`, built once and cached (its build time is recorded)."""
@@ -147,24 +148,29 @@ class Router:
                  for k in range(cn.n_cards)}
         return sources, exits
 
-    def prepare(self, shipments, objective: str | None) -> None:
+    def prepare(self, shipments, objective: str | None, force: bool = False) -> None:
         """Batch the searches of shipments that share an origin and a profile: one one-to-many
         search per group of BATCH_MIN or more, stopped when all its destinations are settled,
         instead of one A* each. The answers are the least weights A* finds (search.one_to_many);
-        `search` then returns them. Smaller groups keep per-shipment A*."""
+        `search` then returns them. Smaller groups keep per-shipment A*.
+
+        `objective` is the command line's (a shipment's own objective wins, then it, then
+        Settings), or with `force` the objective every shipment is searched under (the
+        comparison across objectives)."""
         from costing.network.search import one_to_many
 
         groups: dict[tuple[Profile, str], list[Shipment]] = {}
         for s in shipments:
             if s.origin == s.destination:
                 continue
-            obj = objective_for(self.model, s, objective)
+            obj = objective if force and objective else objective_for(self.model, s, objective)
             for cards in self.candidates(s, obj):
                 groups.setdefault((make_profile(self.model, s, obj, cards), s.origin), []).append(s)
         for (profile, origin), members in groups.items():
-            dests = list(dict.fromkeys(m.destination for m in members))
-            if len(members) < BATCH_MIN or self.clocked(profile):
-                continue  # few, or searched with the driving clock (one search each)
+            dests = [d for d in dict.fromkeys(m.destination for m in members)
+                     if (profile, origin, d) not in self._batched]
+            if len(members) < BATCH_MIN or not dests or self.clocked(profile):
+                continue  # few, answered already, or searched with the driving clock (one each)
             cn = self.network(profile)
             sources, _exits = self._ends(members[0], profile, cn)
             targets = [self._ends(Shipment("", origin, d, 0.0), profile, cn)[1] for d in dests]
@@ -276,6 +282,22 @@ class Router:
                     return False
         return True
 
+    def price(self, s: Shipment, obj: str, cn: CompactNetwork, res) -> CostedShipment:
+        """The route `res` of `s` priced (costing.price.cost.cost_route) under objective `obj`.
+
+        A route is priced once per shipment: the same cards on the same lane steps found again
+        (under another objective, or another card set of the same route) reuse the priced legs,
+        which depend only on the shipment and the route, with `obj` set on the copy."""
+        runs = _runs(self.model, cn, res)
+        key = (s.shipment_id, tuple((card.vehicle, card.mode, tuple(u.key for u in uses))
+                                    for card, uses in runs))
+        hit = self._costed.get(key)
+        if hit is None:
+            hit = self._costed[key] = cost_route(self.model, s, obj, runs)
+        elif hit.objective != obj:
+            hit = replace(hit, objective=obj)
+        return hit
+
     def pool(self, s: Shipment) -> list[RateCard]:
         """The rate cards a shipment may use: its named vehicle's, or every card."""
         return [r for r in self.model.rates if not s.vehicle or r.vehicle == s.vehicle]
@@ -331,15 +353,128 @@ class Router:
         finally:
             self.problems = saved
 
-    def frontier(self, s: Shipment, max_routes: int) -> tuple[list[CostedShipment], bool]:
-        """Routes of `s` that no other route beats on both cost and time (drive + handling
-        hours), cheapest first, and whether the cap stopped the search early."""
+    def frontier(self, s: Shipment, max_routes: int,
+                 clock_labels: int | None = None) -> tuple[list[CostedShipment], bool]:
+        """Routes of `s` that no other route beats on both cost and time, cheapest first, and
+        whether the cap stopped the search early.
+
+        Time is drive + handling hours and cost the sum of the steps' costs (before the minimum
+        charge). When the driving clock is in the search of the shipment's cost profile
+        (`clocked`), time is elapsed hours with the breaks and rests its legs show, and cost
+        includes their pay as Settings break_hours_paid / rest_hours_paid say, as `cost_route`
+        prices the route: the search carries the clock in its labels
+        (costing.network.pareto_clock). The plain frontier is searched first: stops only add
+        weight, so when none of its routes stops it is the frontier with the clock too. Past
+        `clock_labels` labels (default: 10 per state of the compact network, at least 50,000;
+        about 550 bytes each, measured) the shipment keeps the plain frontier, is listed in the set
+        `frontier_fallbacks` (made on the first fallback) and gets a warning. What is exact and
+        what is approximated, and which clocks are compared: costing.network.pareto_clock."""
         if s.origin == s.destination:
             return [], False
         pc, net, starts, exits = self._frontier_query(s)
         result = net.frontier(starts, exits, key=s.destination, max_routes=max_routes)
         self.stats.searches += 1
         cnc = self.network(pc)
+        if self.clocked(pc) and not all(self._stop_free(pc, cnc, r) for r in result.routes):
+            from costing.network.build import stop_weight
+            from costing.network.pareto_clock import LabelLimit, clock_frontier
+            from costing.price.rules import advance, start_clock
+
+            model, rules, places, st = self.model, self.rules, self.places, self.model.settings
+            inf = float("inf")
+            pt = replace(pc, objective="time")
+            road = [m == "road" for _v, m, _n in pc.cards]
+            memo: dict = {}
+
+            def loading(state: int) -> float:
+                return model.depot(cnc.depot_of(state)).handling_hours
+
+            # a label's state: (whether its vehicle run has no lane step yet, the driving clock)
+            def step(state, head: int, e: int):
+                """(stop pay, stop hours, state after) of step e, as cost_route prices its leg."""
+                empty, clock = state
+                use = cnc.steps[e]
+                if use.transfer is not None:
+                    if empty:  # a run without a lane is no run (`_runs_from` drops it): changing
+                        return inf, inf, state  # twice at one depot would rest a driver unpriced
+                    return 0.0, 0.0, (True, start_clock(rules, loading(head)))  # a rested driver
+                if not road[use.card] or use.use.hours <= 0:
+                    return 0.0, 0.0, (False, clock)
+                brk, rest, after = advance(clock, use.use.hours, rules)
+                if not (brk or rest):
+                    return 0.0, 0.0, (False, after)
+                w = memo.get((use.card, brk, rest))
+                if w is None:
+                    w = memo[(use.card, brk, rest)] = (stop_weight(model, pc, use.card, brk, rest, places),
+                                                       stop_weight(model, pt, use.card, brk, rest, places))
+                return w[0], w[1], (False, after)
+
+            # the order (proved in costing.network.pareto_clock): clocks agree in driving today,
+            # on duty, today's limit and longer days used; then less driving since the break and
+            # fewer reduced rests used are no worse, when there is no duty window and each paid
+            # stop is a whole number of minor units; otherwise equal clocks only
+            def whole(hours: float) -> bool:
+                for v, m, n in pc.cards:
+                    if m == "road":
+                        x = n * hours * card_of(model, v, m).per_hour * 10 ** places
+                        if abs(x - round(x)) > 1e-6:
+                            return False
+                return True
+
+            paid = ([rules.break_hours] if st.break_hours_paid == "yes" else []) + \
+                ([rules.daily_rest] + ([rules.reduced_rest] if rules.reduced_rest is not None else [])
+                 if st.rest_hours_paid == "yes" else [])
+            if rules.duty_window is None and all(whole(h) for h in paid):
+                def split(state):
+                    empty, c = state
+                    return (empty, c[1], c[2], c[3], c[4]), (c[0], c[5])
+            else:
+                def split(state):
+                    return state, ()
+
+            # the bound `more` (pareto_clock): the stops of the least driving from a state to
+            # where its run ends (an exit or a change of vehicle), cached per destination
+            cache = self.__dict__.setdefault("_frontier_drive", {})
+            left = cache.get((pc, s.destination))
+            if left is None:
+                if len(cache) * len(cnc.adj) > 2_000_000:
+                    cache.clear()
+                rev: list[list[tuple[int, float, int]]] = [[] for _ in cnc.adj]
+                ends = {x: 0.0 for x in exits}
+                for u, row in enumerate(cnc.adj):
+                    for v, _w, e in row:
+                        use = cnc.steps[e]
+                        if use.transfer is not None:
+                            ends[u] = 0.0
+                        else:
+                            rev[v].append((u, use.use.hours if road[use.card] else 0.0, e))
+                left = cache[(pc, s.destination)] = dijkstra_all(rev, list(ends.items()))
+            additive = all(whole(h) for h in paid)
+
+            def more(state, v: int):
+                clock = state[1]
+                k = v % cnc.n_cards
+                if not road[k] or not left[v] < inf:
+                    return 0.0, 0.0
+                brk, rest, _after = advance(clock, left[v], rules)
+                if not (brk or rest):
+                    return 0.0, 0.0
+                return (stop_weight(model, pc, k, brk, rest, places) if additive else 0.0), brk + rest
+
+            hc, ht = net.bounds(exits, key=s.destination)
+            cap = clock_labels if clock_labels is not None else max(50_000, 10 * len(cnc.adj))
+            try:
+                result = clock_frontier(net.adj, [(v, c0, t0, (True, start_clock(rules, loading(v))))
+                                                  for v, c0, t0 in starts],
+                                        exits, hc, ht, step, split, max_routes, cap, more)
+            except LabelLimit:
+                self.__dict__.setdefault("frontier_fallbacks", set()).add(s.shipment_id)
+                sheet, cell = model.cell("Shipments", "shipment_id", s.row)
+                self.problems.append(Problem(
+                    WARNING, sheet, cell,
+                    f"shipment {s.shipment_id}: trade-offs compared on drive + handling hours, without "
+                    f"breaks and rests (more than {cap:,} driving-clock labels); planning estimate",
+                    "nothing to do; the routes listed are costed with their stops"))
         out = []
         for r in result.routes:
             runs = _runs_from(self.model, cnc, r.nodes[0], r.edges)
@@ -414,7 +549,7 @@ def _route_one(router: Router, s: Shipment, obj: str, with_notes: bool = True) -
         pushed += res.stats.pushed
         if not res.found:
             continue
-        costed = cost_route(model, s, obj, _runs(model, cn, res))
+        costed = router.price(s, obj, cn, res)
         if best is None or better(costed, best):
             best, best_vs = costed, vs
     if best is None:

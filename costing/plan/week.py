@@ -18,7 +18,10 @@ With ``consolidate = yes`` (the default):
    the chosen routes of other shipments of its day pass through first, then the least
    straight-line detour (the two halves searched with the same search core and priced as one
    route). A candidate that would arrive after the
-   due date is dropped when the chosen route is on time.
+   due date is dropped when the chosen route is on time. Where carrier tariffs price parts of
+   the route (``costing.plan.buy.part_options``), the same shipment (also one alone on its day)
+   gets candidates with its collection to a hub and/or its delivery from one bought, the rest on
+   own vehicles: the trunk's steps shared like any own step, each bought part a fixed price.
 2. **Plan.** ``costing.plan.consolidate.plan`` chooses one candidate per shipment so that the
    runs of the week cost least: loads of the same day on the same lane step with the same card
    and the same paid stop hours (the *step key*) share vehicles, packed first-fit decreasing
@@ -65,12 +68,16 @@ from costing.plan.buy import (
     carrier_capacities,
     carrier_route,
     cheaper_alone,
+    may_buy_part,
+    part_options,
+    part_steps,
+    parts_text,
     plan_with_carriers,
     settle,
 )
 from costing.plan.consolidate import Capacity, Load, Step, plan
 from costing.price.allocate import allocate, cap_at_standalone
-from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg
+from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg, with_share
 from costing.price.rates import fuel_use, load_factor, wtw_per_litre
 
 MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
@@ -235,8 +242,11 @@ def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str
 
 
 def _candidates(model: Model, route: Callable, results: list[CostedShipment], day_of,
-                prepare: Callable | None = None) -> list[list]:
-    """Per result: its candidate routes (CostedShipment), the chosen one first."""
+                prepare: Callable | None = None) -> tuple[list[list], list[list]]:
+    """Per result: its candidate routes (CostedShipment), the chosen one first; and its own
+    routes through hubs to buy parts of (``costing.plan.buy.part_options``): the candidates, and
+    for a load alone on its day that a carrier may take, its routes through hubs (offered only
+    with a part bought: alone, a route through a hub is never cheaper than the chosen one)."""
     hub_ids = [d.depot_id for d in model.depots if d.kind == "hub"]
     start = first_day(model)
     per_day_hubs: dict = {}
@@ -250,7 +260,8 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                         per_day_hubs.setdefault(day_of(res.shipment), {}).setdefault(d, set()).add(i)
     tries: dict[int, list[str]] = {}
     for i, res in enumerate(results):
-        if res.status == ROUTED and res.objective == "cost" and hub_ids and per_day[day_of(res.shipment)] > 1:
+        if res.status == ROUTED and res.objective == "cost" and hub_ids and (
+                per_day[day_of(res.shipment)] > 1 or may_buy_part(model, res)):
             day_hubs = per_day_hubs.get(day_of(res.shipment), {})
             used = {h for h, users in day_hubs.items() if users - {i}}
             tries[i] = _hubs_near(model, res, hub_ids, used)
@@ -258,8 +269,10 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
         prepare([replace(results[i].shipment, destination=h) for i, hubs in tries.items() for h in hubs]
                 + [replace(results[i].shipment, origin=h) for i, hubs in tries.items() for h in hubs])
     out: list[list] = []
+    bases: list[list] = []
     for i, res in enumerate(results):
         cands = [res]
+        lone = [] if res.status != ROUTED or per_day[day_of(res.shipment)] > 1 else [res]
         if i in tries:
             s = res.shipment
             on_time = (late_hours(res, start) or 0.0) == 0.0
@@ -274,9 +287,10 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                     continue  # a route through the hub that repeats a step is never the cheapest
                 if on_time and (late_hours(via, start) or 0.0) > 0.0:
                     continue
-                cands.append(via)
+                (lone if lone else cands).append(via)
         out.append(cands)
-    return out
+        bases.append(lone or [c for c in cands if c.status == ROUTED])
+    return out, bases
 
 
 def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load:
@@ -293,7 +307,7 @@ def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load
             extras = (one.start_handling_cost, one.end_handling_cost, one.trip_cost)
             shared = round_money(one.leg_cost - sum(extras), places)
             steps.append(Step((_step_key(g),), _card_key(g.card), shared, g.use.km, extras))
-        routes.append(tuple(steps))
+        routes.append(tuple(steps) + part_steps(res, index))  # parts bought: fixed prices
     return Load(index, day, s.weight_t, s.pallets or 0.0, s.volume_m3 or 0.0, tuple(routes))
 
 
@@ -433,7 +447,11 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
     groups: dict[tuple, list[tuple[int, int]]] = {}
     vehicles: dict[tuple, int] = {}
     if consolidate:
-        cands = add_buy_options(model, results, _candidates(model, route, results, day_of, prepare), day_of)
+        own_cands, bases = _candidates(model, route, results, day_of, prepare)
+        cands = add_buy_options(model, results, own_cands, day_of)
+        for i, res in enumerate(results):  # parts bought: after the whole-shipment carrier
+            if res.status == ROUTED:
+                cands[i] = cands[i] + part_options(model, res, bases[i], day_of(res.shipment))
         idx = [i for i, c in enumerate(cands) if c[0].status == ROUTED]
         loads = [_load(i, cands[i], model, day_of(results[i].shipment)) for i in idx]
         capacities = {_card_key(c): Capacity(c.payload_t, c.pallet_places, c.volume_m3) for c in model.rates}
@@ -482,14 +500,15 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             cut: list[int] = []
             if len(part) > 1:
                 cost_shares, cut = cap_at_standalone(cost_shares, alone, places)
+            together = {j for j, _k in part}
             for pos, ((i, k), g) in enumerate(zip(part, part_legs)):
                 q = _quota(rl.leg_cost, g.tonne_km, tkm, len(part))
-                legs[(i, k)] = replace(g, run_id=run_id, cost_share=cost_shares[pos],
-                                       share_adjust=round_money(cost_shares[pos] - round_money(q, places),
-                                                                places),
-                                       co2e_share=_quota(co2e, g.tonne_km, tkm, len(part)))
+                legs[(i, k)] = with_share(g, run_id=run_id, cost_share=cost_shares[pos],
+                                          share_adjust=round_money(cost_shares[pos] - round_money(q, places),
+                                                                   places),
+                                          co2e_share=_quota(co2e, g.tonne_km, tkm, len(part)))
                 if len(part) > 1:
-                    shared.setdefault(i, set()).update(j for j, _k in part if j != i)
+                    shared.setdefault(i, set()).update(together)  # i itself is left out below
                 if pos in cut:
                     capped.setdefault(i, []).append(g.use.lane.lane_id)
             ships = [chosen[i].shipment for i, _k in part]
@@ -504,14 +523,18 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         notes += empty_notes
     out: list[CostedShipment] = []
     problems: list[Problem] = []
+    sids = [c.shipment.shipment_id for c in chosen]
     for i, res in enumerate(chosen):
         if res.status != ROUTED or res.bought:
             out.append(replace(res, day=day_of(res.shipment)))
             continue
         new_legs = tuple(legs[(i, k)] for k in range(len(res.legs)))
-        with_ids = tuple(chosen[j].shipment.shipment_id for j in sorted(shared.get(i, ())))
+        with_ids = tuple(map(sids.__getitem__, sorted(shared.get(i, set()) - {i})))
         msg = [res.message] if res.message else []
-        if res is not results[i]:
+        if res.parts:
+            msg = [m for m in [results[i].message] if m]
+            msg.append(parts_text(res, places) + "; the rest on own vehicles")
+        elif res is not results[i]:
             old = results[i]
             msg = [m for m in [old.message] if m]
             via = [leg.use.to_depot for leg in res.legs[:-1]]

@@ -24,7 +24,7 @@ ROUND is half away from zero to the currency's minor unit, as the spreadsheet RO
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields
 
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
@@ -125,11 +125,21 @@ class CostedShipment:
     make_cost: float | None = None  # on own vehicles: its total when made; alone when bought
     chosen: str = ""  # "make" or "buy" ("" when no carrier was priced)
     why: str = ""  # the reason, with both figures
+    # parts of the route bought from a carrier (costing.price.tariffs.BoughtPart), the legs being the
+    # rest on own vehicles: the collection to a consolidation hub and/or the delivery from one
+    parts: tuple = ()
 
     @property
     def buy_cost(self) -> float | None:
         """The carrier's charge in the run's currency (None when no tariff fits)."""
         return None if self.quote is None else self.quote.charge
+
+    @property
+    def parts_cost(self) -> float:
+        """What the parts of the route bought from carriers cost, in the run's currency (0 without
+        any): the sum of their charges."""
+        return round_money(sum(p.charge for p in self.parts), self.places)
+
     stops_in_hours: bool = False  # the hours quantity includes breaks and rests (clock in search)
 
     @property
@@ -145,11 +155,13 @@ class CostedShipment:
     @property
     def standalone_cost(self) -> float:
         """Subtotal plus the minimum-charge uplift (plus its own empty return, when Settings
-        return_empty is yes), currency: what the route costs the shipment with vehicles of its own
-        (bought from a carrier: the carrier's charge)."""
+        return_empty is yes, and the parts of the route bought from carriers), currency: what the
+        route costs the shipment with vehicles of its own (bought from a carrier: the carrier's
+        charge)."""
         if self.bought:
             return self.quote.charge
-        return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone, self.places)
+        return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone + self.parts_cost,
+                           self.places)
 
     @property
     def allocated_cost(self) -> float:
@@ -162,12 +174,13 @@ class CostedShipment:
     def total_cost(self) -> float:
         """What the shipment costs, currency: its allocated share of the vehicle runs and of
         their empty returns, plus the minimum-charge uplift when it shares no vehicle (with
-        vehicles of its own this is the stand-alone cost); bought from a carrier, the carrier's
-        charge."""
+        vehicles of its own this is the stand-alone cost), plus the parts of the route bought from
+        carriers; bought from a carrier, the carrier's charge."""
         if self.bought:
             return self.quote.charge
         uplift = 0.0 if self.shared_with else self.min_charge_uplift
-        return round_money(self.allocated_cost + self.empty_return_cost + uplift, self.places)
+        return round_money(self.allocated_cost + self.empty_return_cost + uplift + self.parts_cost,
+                           self.places)
 
     @property
     def saving(self) -> float:
@@ -323,6 +336,30 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
                           stops_in_hours=rules is not None and settings.driving_clock_in_search == "yes")
 
 
+_LEG_FIELDS: frozenset[str] = frozenset()
+
+
+def with_share(leg: Leg, **changes) -> Leg:
+    """A copy of `leg` with `changes` (Leg field names): `dataclasses.replace` without running
+    the constructor again (a Leg has no __post_init__ and no cached properties: its fields are
+    its instance dict), for the plan stage's hundred thousand shares.
+
+    Raises
+    ------
+    TypeError
+        For a name that is not a Leg field.
+    """
+    global _LEG_FIELDS
+    if not _LEG_FIELDS:
+        _LEG_FIELDS = frozenset(f.name for f in fields(Leg))
+    if not changes.keys() <= _LEG_FIELDS:
+        raise TypeError(f"not Leg fields: {sorted(changes.keys() - _LEG_FIELDS)}")
+    new = object.__new__(Leg)
+    new.__dict__.update(leg.__dict__)
+    new.__dict__.update(changes)
+    return new
+
+
 def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
     """The same leg (lane, card, rates, handling, stops) run with `n` vehicles: every cost
     component recomputed with the arithmetic of `cost_route`, in the same order.
@@ -347,10 +384,10 @@ def reprice_leg(model: Model, leg: Leg, n: int) -> Leg:
     lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
         use, card, n, leg.paid_stop_hours, leg.start_handling_rate, leg.end_handling_rate, leg.trip_rate,
         settings, places, leg.toll_rate)
-    return replace(leg, vehicles=n, km_cost=lc.km_cost, hour_cost=lc.hour_cost, toll_cost=lc.toll_cost,
-                   fixed_cost=lc.fixed_cost, fuel_surcharge=lc.fuel_surcharge, stop_cost=stop_cost,
-                   start_handling_cost=sh_cost, end_handling_cost=eh_cost, trip_cost=trip_cost,
-                   leg_cost=leg_cost)
+    return with_share(leg, vehicles=n, km_cost=lc.km_cost, hour_cost=lc.hour_cost, toll_cost=lc.toll_cost,
+                      fixed_cost=lc.fixed_cost, fuel_surcharge=lc.fuel_surcharge, stop_cost=stop_cost,
+                      start_handling_cost=sh_cost, end_handling_cost=eh_cost, trip_cost=trip_cost,
+                      leg_cost=leg_cost)
 
 
 def unrouted(model: Model, shipment: Shipment, status: str, objective: str, message: str,

@@ -242,3 +242,32 @@ def quote(model, shipment, day: _dt.date | None,
         if best is None or c.charge < best.charge:
             best = c
     return best
+
+
+@dataclass(frozen=True)
+class BoughtPart:
+    """A part of a route bought from a carrier (the rest runs on own vehicles): the collection
+    (origin to the first consolidation hub) or the delivery (last hub to the destination).
+
+    Attributes
+    ----------
+    role : str
+        ``collection`` or ``delivery``.
+    from_depot, to_depot : str
+        The lane ends the carrier covers (depot ids).
+    quote : CarrierCharge
+        The cheapest carrier for that part (``quote`` on the shipment with those ends).
+    own_cost : float or None
+        What own vehicles would cost on the same part alone, in the run's currency (None when
+        not known)."""
+
+    role: str
+    from_depot: str
+    to_depot: str
+    quote: CarrierCharge
+    own_cost: float | None = None
+
+    @property
+    def charge(self) -> float:
+        """The carrier's charge in the run's currency."""
+        return self.quote.charge

@@ -1,7 +1,8 @@
-"""The Carrier charges sheet: one row per shipment a carrier tariff prices, bought (used = yes)
-or priced for comparison (used = no). Every figure from chargeable weight to the charge in the
-run's currency is a live formula over the row's own cells, with its value cached from
-``costing.price.tariffs`` (the same order of operations):
+"""The Carrier charges sheet: one row per shipment a carrier tariff prices whole, bought (used =
+yes) or priced for comparison (used = no), and one row per part of a route bought (part =
+collection or delivery, used = yes), with the lane ends it covers (from_depot, to_depot). Every
+figure from chargeable weight to the charge in the run's currency is a live formula over the
+row's own cells, with its value cached from ``costing.price.tariffs`` (the same order of operations):
 
     chargeable_kg = MAX(weight_kg, volume_m3 x volumetric_kg_per_m3, loading_metres x kg_per_loading_metre)
     charged_kg    = chargeable_kg, or ROUNDUP(ROUND(chargeable_kg / weight_step_kg, 9), 0) x weight_step_kg
@@ -30,14 +31,21 @@ from costing.money import minor_unit
 from costing.sheets.formats import Writer, cell_text
 
 
-def carrier_rows(results) -> dict[str, int]:
-    """shipment id -> its 1-based row on the Carrier charges sheet (results with a carrier
-    quote, in order)."""
-    rows: dict[str, int] = {}
+def _priced(results):
+    """(result, key, quote, used, part, from depot, to depot) for every Carrier charges row, in
+    order: per result its whole-shipment quote, then its bought parts."""
     for res in results:
+        s = res.shipment
         if res.quote is not None:
-            rows[res.shipment.shipment_id] = len(rows) + 2
-    return rows
+            yield res, s.shipment_id, res.quote, res.bought, "whole", s.origin, s.destination
+        for p in res.parts:
+            yield res, (s.shipment_id, p.role), p.quote, True, p.role, p.from_depot, p.to_depot
+
+
+def carrier_rows(results) -> dict:
+    """Key -> its 1-based row on the Carrier charges sheet: the shipment id for a shipment's
+    whole-shipment quote, (shipment id, part) for a bought part (collection, delivery)."""
+    return {key: i + 2 for i, (_res, key, *_rest) in enumerate(_priced(results))}
 
 
 def write_carrier_charges(w: Writer, ws, results) -> None:
@@ -48,16 +56,14 @@ def write_carrier_charges(w: Writer, ws, results) -> None:
     f = w.f
     st = w.model.settings
     r = 0
-    for res in results:
-        q = res.quote
-        if q is None:
-            continue
+    for res, _key, q, used, part, a, b in _priced(results):
         r += 1
         x = r + 1
         s, t, p = res.shipment, q.tariff, q.price
         d = minor_unit(q.currency)
         ref = {name: f"{col}{x}" for name, col in L.items()}
-        for col, value in (("shipment_id", s.shipment_id), ("used", "yes" if res.bought else "no"),
+        for col, value in (("shipment_id", s.shipment_id), ("used", "yes" if used else "no"),
+                           ("part", part), ("from_depot", a), ("to_depot", b),
                            ("carrier", t.carrier), ("from_zone", q.from_zone), ("to_zone", q.to_zone),
                            ("currency", q.currency)):
             ws.write_string(r, c[col], cell_text(value))

@@ -61,7 +61,10 @@ def write_charts(w: Writer, ws, results, last_row: int, frontier_rows, scenario_
                            "values": ["Trade-offs", a - 1, ci, b - 1, ci],
                            "marker": {"type": "circle", "size": 6}})
         sc.set_title({"name": "Cost against hours: trade-offs of the costliest shipments"})
-        sc.set_x_axis({"name": "hours (drive + handling)"})
+        st = w.model.settings
+        elapsed = st.driving_rules != "none" and st.driving_clock_in_search == "yes"
+        axis = "elapsed hours (with breaks and rests)" if elapsed else "hours (drive + handling)"
+        sc.set_x_axis({"name": axis})
         sc.set_y_axis({"name": f"total cost ({w.model.settings.currency})", "num_format": "#,##0"})
         sc.set_size({"width": CHART_W, "height": CHART_H})
         ws.insert_chart(*slots.pop(0), sc)

@@ -4,8 +4,16 @@ kg CO2e and, where shipments give a quoted_price, the margin and margin %; and t
 amounts with their difference from the computed cost.
 
 Every figure is a live formula over the Summary rows (SUMPRODUCT over the customer's routed
-shipments: an exact match of the customer text, so names with * or ? are not wildcards), with
-its value cached from a pandas grouping of the same figures. Money sums are rounded to the
+shipments: a text comparison with ``=``, so names with * or ? are not wildcards), with its value
+cached from a pandas grouping of the same figures.
+
+Customers are grouped as the formulas match them: a spreadsheet's ``=`` compares text without
+regard to case, so "Acme" and "ACME" are one customer. The grouping key is ``str.lower()`` of the
+name; the row shows the first spelling in input order, and ``spellings`` lists every spelling
+when there is more than one. Measured against LibreOffice Calc's ``=`` (tests/test_customers.py):
+they agree on ASCII, accented Latin, Greek (final sigma) and keep "Straße" apart from "STRASSE";
+a ligature such as "ﬁ" matches "FI" in Calc but not here (two rows whose formulas would then
+each count both). Money sums are rounded to the
 currency's minor unit after summing rounded amounts, as the formulas do. Tonne-km and kg CO2e
 are those of own vehicles (a carrier's km and emissions are not known). Customers are listed
 by total cost, largest first (then by name).
@@ -24,6 +32,12 @@ from costing.sheets.formats import Writer, cell_text
 NO_CUSTOMER = "(no customer)"
 
 
+def customer_key(name: str | None) -> str:
+    """The grouping key of a customer name: ``str.lower()`` (blank: ""), so names that differ
+    only in case are one customer, as the sheet's ``=`` formulas match them (module docstring)."""
+    return (name or "").lower()
+
+
 def customer_table(results, places: int) -> pd.DataFrame:
     """One row per customer with the sheet's figures (module docstring), largest total first.
 
@@ -38,7 +52,7 @@ def customer_table(results, places: int) -> pd.DataFrame:
         s = res.shipment
         routed = res.status == ROUTED
         rows.append({
-            "customer": s.customer or "", "routed": int(routed),
+            "key": customer_key(s.customer), "customer": s.customer or "", "routed": int(routed),
             "tonnes": s.weight_t if routed else 0.0, "pallets": (s.pallets or 0.0) if routed else 0.0,
             "tonne_km": res.tonne_km if routed else 0.0, "total_cost": res.total_cost if routed else 0.0,
             "co2e_kg": res.co2e_kg if routed else 0.0,
@@ -49,12 +63,15 @@ def customer_table(results, places: int) -> pd.DataFrame:
             "invoice_difference": round_money(s.invoiced - (res.total_cost if routed else 0.0), places)
             if s.invoiced is not None else 0.0,
         })
-    columns = ["customer", "routed", "tonnes", "pallets", "tonne_km", "total_cost", "co2e_kg",
+    columns = ["key", "customer", "routed", "tonnes", "pallets", "tonne_km", "total_cost", "co2e_kg",
                "quoted_price", "margin", "invoiced", "invoice_difference"]
     df = pd.DataFrame(rows, columns=columns)
-    g = df.groupby("customer", sort=False)
+    g = df.groupby("key", sort=False)
     out = g.sum(numeric_only=True)
     out.insert(0, "shipments", g.size())
+    out.insert(0, "customer", g["customer"].first())  # the first spelling in input order
+    out["spellings"] = [", ".join(names) if len(names) > 1 else ""
+                        for names in g["customer"].agg(lambda x: list(dict.fromkeys(x)))]
     for col in ("total_cost", "quoted_price", "margin", "invoiced", "invoice_difference"):
         out[col] = [round_money(v, places) for v in out[col]]
 
@@ -65,7 +82,7 @@ def customer_table(results, places: int) -> pd.DataFrame:
     out["cost_per_pallet"] = per("total_cost", "pallets")
     out["cost_per_shipment"] = per("total_cost", "routed")
     out["margin_pct"] = [m / q if q else None for m, q in zip(out["margin"], out["quoted_price"])]
-    out = out.reset_index()
+    out = out.reset_index(drop=True)
     return out.sort_values(["total_cost", "customer"], ascending=[False, True], kind="stable")
 
 
@@ -87,6 +104,8 @@ def write_cost_per_customer(w: Writer, ws, results, last: int) -> None:
         x = r + 1
         name = row.customer
         ws.write_string(r, c["customer"], cell_text(name or NO_CUSTOMER))
+        if row.spellings:
+            ws.write_string(r, c["spellings"], cell_text(row.spellings))
         key = f'"{name}"' if not name else f"$A{x}"  # blank customer: the Summary cells are empty
         match = f"({summary('customer')}={key})"
         routed = f"({summary('status')}=\"routed\")"

@@ -10,19 +10,42 @@ from costing.contract.outputs import LANE_COLUMNS, RUN_COL, VEHICLE_RUNS
 from costing.money import round_money
 from costing.sheets.formats import Writer, cell_text, sheet_ref
 
+C_RUN_ID = xl_col_to_name(RUN_COL["run_id"])
 
-def write_lane_usage(w: Writer, ws, analysis, n_runs: int) -> None:
-    """Where the money goes: per lane (both directions together), COUNTIF / SUMIFS / SUMPRODUCT
-    over the `n_runs` rows of the Vehicle runs sheet, with the values of ``analysis.lanes``
-    (costing.plan.analysis.lane_usage, summed in the same row order) cached."""
+
+# a lane with at most this many vehicle runs adds its runs' cells by name; more, SUMIFS over the
+# whole Vehicle runs sheet (SUM takes at most 255 arguments)
+NAMED_RUNS = 40
+
+
+def write_lane_usage(w: Writer, ws, analysis, n_runs: int, runs=None) -> None:
+    """Where the money goes: per lane (both directions together), the vehicle runs, loads,
+    tonnes, vehicle trips, vehicle-km, capacity and cost as formulas over the `n_runs` rows of the
+    Vehicle runs sheet, with the values of ``analysis.lanes`` (costing.plan.analysis.lane_usage,
+    summed in the same row order) cached.
+
+    With `runs` (the Vehicle runs rows, in order), a lane of at most NAMED_RUNS runs adds its own
+    runs' cells by name (``='Vehicle runs'!R5+'Vehicle runs'!R77``), in run order: each formula
+    reads only its lane's rows, so a recalculation reads every run row about once. Other lanes
+    (and every lane without `runs`) use COUNTIF / SUMIFS / SUMPRODUCT over the whole sheet."""
     w.header(ws, LANE_COLUMNS)
     c = {name: i for i, (name, _w, _k) in enumerate(LANE_COLUMNS)}
     C = {name: xl_col_to_name(i) for name, i in c.items()}
     vr = sheet_ref(VEHICLE_RUNS)
+    rows_of: dict[str, list[int]] = {}
+    for k, run in enumerate(runs or ()):
+        rows_of.setdefault(run.leg.use.lane.lane_id, []).append(k + 2)
 
     def rng(col: str) -> str:
         letter = xl_col_to_name(RUN_COL[col])
         return f"{vr}!${letter}$2:${letter}${max(n_runs + 1, 2)}"
+
+    def named(col: str, rows: list[int], times: str | None = None) -> str:
+        letter = xl_col_to_name(RUN_COL[col])
+        if times is None:
+            return "+".join(f"{vr}!{letter}{x}" for x in rows)
+        other = xl_col_to_name(RUN_COL[times])
+        return "+".join(f"{vr}!{letter}{x}*{vr}!{other}{x}" for x in rows)
 
     total_cost = round_money(sum(u.cost for u in analysis.lanes), w.places)
     n = len(analysis.lanes)
@@ -32,21 +55,34 @@ def write_lane_usage(w: Writer, ws, analysis, n_runs: int) -> None:
         ws.write_string(r, c["from_depot"], cell_text(u.from_depot))
         ws.write_string(r, c["to_depot"], cell_text(u.to_depot))
         ws.write_string(r, c["mode"], u.mode)
-        key = f"$A{x}"
-        lane = rng("lane_id")
-        ws.write_formula(r, c["runs"], f"=COUNTIF({lane},{key})", w.f["int"], u.runs)
-        sums = (("legs", "loads", "int", u.legs), ("tonnes", "tonnes", "km", u.tonnes),
-                ("vehicle_trips", "vehicles", "int", u.vehicle_trips))
-        for col, run_col, kind, value in sums:
-            ws.write_formula(r, c[col], f"=SUMIFS({rng(run_col)},{lane},{key})", w.f[kind], value)
-        for col, other, value in (("vehicle_km", "distance_km", u.vehicle_km),
-                                  ("capacity_t", "payload_t", u.capacity_t)):
-            ws.write_formula(r, c[col], f"=SUMPRODUCT(({lane}={key})*{rng('vehicles')}*{rng(other)})",
-                             w.f["km"], value)
+        rows = rows_of.get(u.lane_id, [])
+        if rows and len(rows) <= NAMED_RUNS:
+            ws.write_formula(r, c["runs"], f"=COUNTA({','.join(f'{vr}!{C_RUN_ID}{y}' for y in rows)})",
+                             w.f["int"], u.runs)
+            for col, run_col, kind, value in (("legs", "loads", "int", u.legs),
+                                              ("tonnes", "tonnes", "km", u.tonnes),
+                                              ("vehicle_trips", "vehicles", "int", u.vehicle_trips)):
+                ws.write_formula(r, c[col], "=" + named(run_col, rows), w.f[kind], value)
+            for col, other, value in (("vehicle_km", "distance_km", u.vehicle_km),
+                                      ("capacity_t", "payload_t", u.capacity_t)):
+                ws.write_formula(r, c[col], "=" + named("vehicles", rows, other), w.f["km"], value)
+            cost = w.round_f(named("run_cost", rows))
+        else:
+            key = f"$A{x}"
+            lane = rng("lane_id")
+            ws.write_formula(r, c["runs"], f"=COUNTIF({lane},{key})", w.f["int"], u.runs)
+            sums = (("legs", "loads", "int", u.legs), ("tonnes", "tonnes", "km", u.tonnes),
+                    ("vehicle_trips", "vehicles", "int", u.vehicle_trips))
+            for col, run_col, kind, value in sums:
+                ws.write_formula(r, c[col], f"=SUMIFS({rng(run_col)},{lane},{key})", w.f[kind], value)
+            for col, other, value in (("vehicle_km", "distance_km", u.vehicle_km),
+                                      ("capacity_t", "payload_t", u.capacity_t)):
+                ws.write_formula(r, c[col], f"=SUMPRODUCT(({lane}={key})*{rng('vehicles')}*{rng(other)})",
+                                 w.f["km"], value)
+            cost = w.round_f(f"SUMIFS({rng('run_cost')},{lane},{key})")
         cap, tonnes = f"{C['capacity_t']}{x}", f"{C['tonnes']}{x}"
         ws.write_formula(r, c["fill_weight"], f"=IF({cap}=0,0,{tonnes}/{cap})", w.f["pct"], u.fill_weight)
-        ws.write_formula(r, c["cost"], "=" + w.round_f(f"SUMIFS({rng('run_cost')},{lane},{key})"),
-                         w.f["money"], round_money(u.cost, w.places))
+        ws.write_formula(r, c["cost"], "=" + cost, w.f["money"], round_money(u.cost, w.places))
         whole = f"SUM(${C['cost']}$2:${C['cost']}${n + 1})"
         ws.write_formula(r, c["share_of_cost"], f"=IF({whole}=0,0,{C['cost']}{x}/{whole})", w.f["pct"],
                          (round_money(u.cost, w.places) / total_cost) if total_cost else 0.0)

@@ -7,7 +7,9 @@ from xlsxwriter.utility import xl_col_to_name
 
 from costing.contract.outputs import LEG, LEG_COLUMNS, LEGS, RUN_COL, VEHICLE_RUNS
 from costing.errors import OutputLimitError
+from costing.sheets import rowxml
 from costing.sheets.formats import MAX_ROWS, Writer, basis, cell_text, leg_value, sheet_ref
+from costing.sheets.rowxml import FORMULA, NUMBER, TEXT, Column, RowBlock, Shape
 
 # Per Legs column: the cached value (from the result r and leg g) and the formula, if any.
 LEG_CELLS = {
@@ -118,9 +120,31 @@ def legs_sheet_names(results, base: str = LEGS) -> list[str]:
     return names
 
 
+def _shapes(w: Writer, shift: int, letters: dict[str, str], runs: str, run_letter: dict[str, str],
+            keyed: bool) -> dict[bool, Shape]:
+    """The two row shapes of a Legs sheet (costing.sheets.rowxml): a leg of a vehicle run (its
+    share formulas name the run's row ``{rr}`` on the runs sheet) and a leg that is its own run.
+    The formulas are LEG_CELLS' own, with this row as ``{r}``."""
+    own = {name: f"{col}{{r}}" for name, col in letters.items()}
+    own["d"] = str(w.places)
+    planned = {**own, **{ref: f"{runs}!{col}{{rr}}" for ref, col in run_letter.items()}}
+    alone = {**own, "run_cost": own["leg_cost"], "run_tkm": own["tonne_km"], "run_co2e": own["co2e_kg"],
+             "run_loads": "1"}
+    shapes = {}
+    for is_planned, refs in ((True, planned), (False, alone)):
+        cols = [Column(0, TEXT)] if keyed else []
+        for c, (_name, _width, kind, _value_of, formula) in enumerate(LEG_SPEC, start=shift):
+            if formula is not None:
+                cols.append(Column(c, FORMULA, w.f[kind], formula.format(**refs)))
+            else:
+                cols.append(Column(c, TEXT if kind == "text" else NUMBER))
+        shapes[is_planned] = Shape(cols)
+    return shapes
+
+
 def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | None = None,
                runs_sheet: str = VEHICLE_RUNS, run_row=None, runs_shift: int = 0,
-               ) -> tuple[dict, dict[str, int]]:
+               fast: bool | None = None) -> tuple[dict, dict[str, int]]:
     """Legs rows, continuing on further sheets at the row limit. Returns shipment id ->
     (sheet, first row, last row) (1-based) and sheet -> its last data row.
 
@@ -130,7 +154,12 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
 
     Each leg's share formulas refer to its vehicle run's row on `runs_sheet` (Vehicle runs, whose
     run R0001 is on row 2; `run_row(key or None, run_id)` gives the row on another such sheet,
-    whose columns start `runs_shift` columns to the right)."""
+    whose columns start `runs_shift` columns to the right).
+
+    `fast` writes the rows as XML from the two row shapes (costing.sheets.rowxml); False writes
+    them cell by cell through xlsxwriter (the reference the fast path is tested against); None
+    takes costing.sheets.rowxml.FAST_ROWS."""
+    fast = rowxml.FAST_ROWS if fast is None else fast
     columns = LEG_COLUMNS if key is None else [(key[0], KEY_WIDTH, "text"), *LEG_COLUMNS]
     shift = len(columns) - len(LEG_COLUMNS)
     letters = {name: xl_col_to_name(i + shift) for name, i in LEG.items()}
@@ -146,18 +175,38 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
     k = 0
     name, ws = legs_sheets[0]
     w.header(ws, columns)
+    shapes = _shapes(w, shift, letters, runs, run_letter, key is not None) if fast else None
+    block = RowBlock(ws, 1) if fast else None
+    value_of = [spec[3] for spec in LEG_SPEC]
+    texts = [spec[2] == "text" for spec in LEG_SPEC]
     r = 1
     for i, res in enumerate(results):
         if not res.legs:
             continue
         if r - 1 + len(res.legs) > LEGS_SHEET_ROWS:
+            if block is not None:
+                block.finish()
             ws.autofilter(0, 0, max(r - 1, 1), len(columns) - 1)
             last[name] = r
             k += 1
             name, ws = legs_sheets[k]
             w.header(ws, columns)
+            block = RowBlock(ws, 1) if fast else None
             r = 1
         first = r
+        if block is not None:
+            row_key = [cell_text(key[1][i])] if key is not None else []
+            for leg in res.legs:
+                values = [cell_text(v(res, leg)) if t else v(res, leg) for v, t in zip(value_of, texts)]
+                if leg.run_id:
+                    block.add(r, shapes[True], row_key + values,
+                              run_row(None if key is None else key[1][i], leg.run_id))
+                else:
+                    block.add(r, shapes[False], row_key + values)
+                r += 1
+            sid = res.shipment.shipment_id
+            ranges[sid if key is None else (key[1][i], sid)] = (name, first + 1, r)
+            continue
         for leg in res.legs:
             refs = {col_name: f"{col}{r + 1}" for col_name, col in letters.items()}
             refs["d"] = str(w.places)
@@ -180,6 +229,8 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
             r += 1
         sid = res.shipment.shipment_id
         ranges[sid if key is None else (key[1][i], sid)] = (name, first + 1, r)  # 1-based inclusive rows
+    if block is not None:
+        block.finish()
     ws.autofilter(0, 0, max(r - 1, 1), len(columns) - 1)
     last[name] = r
     return ranges, last

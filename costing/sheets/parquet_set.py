@@ -10,7 +10,8 @@ and the Run sheet, which names each Parquet file with its row count and its colu
 What this guarantees:
 
 - **The same rows as the workbook.** The rows are written by the sheet writers themselves
-  (``costing.sheets.summary``, ``legs``, ``vehicle_runs``, ``carrier_charges``) into a stand-in
+  (``costing.sheets.summary``, ``legs``, ``vehicle_runs``, ``carrier_charges``), on their
+  cell-by-cell path (``costing.sheets.rowxml.FAST_ROWS`` off while they write), into a stand-in
   for a worksheet that keeps each cell's value (a formula's cached value), so every value is the
   one the costed workbook would show; a Parquet table has no row limit, so the Legs are one file
   where the workbook continues them on Legs 2, ... .
@@ -34,6 +35,7 @@ import shutil
 from costing import __version__
 from costing.contract import outputs as out
 from costing.model import Model, Problem
+from costing.sheets import rowxml
 from costing.sheets.carrier_charges import carrier_rows, write_carrier_charges
 from costing.sheets.formats import Writer, cell_text
 from costing.sheets.legs import legs_sheet_names, write_legs
@@ -240,6 +242,8 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
 
     written: dict[str, int] = {}
     sheets: list[TableSheet] = []
+    fast = rowxml.FAST_ROWS
+    rowxml.FAST_ROWS = False  # the sheet writers' cell-by-cell path: each cell reaches the TableSheet
     try:
         legs_ts = table(out.LEGS)
         sheets.append(legs_ts)
@@ -265,6 +269,8 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
                 pass
         w.wb.close()
         raise
+    finally:
+        rowxml.FAST_ROWS = fast
     total = summary_ts.after.get(last_row + 1, {})
 
     summary = w.wb.add_worksheet(out.SUMMARY)

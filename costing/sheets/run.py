@@ -76,7 +76,8 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     """The Run sheet: tool, time, input SHA-256, every setting used, statistics, cautions, and
     the reconciliation as live formulas: the vehicle runs' costs equal the legs' shares
     (difference 0), and runs + minimum-charge uplifts of shipments sharing no vehicle + the
-    Carrier charges of shipments bought from carriers equal the Summary TOTAL (difference 0).
+    Carrier charges used (shipments and parts of routes bought) equal the Summary TOTAL
+    (difference 0).
     `last` is the 0-based index of the last Summary shipment row (`write_summary`), `n_legs` the
     number of legs, `runs` the vehicle runs, `n_carrier` the number of Carrier charges rows."""
     ws.fit_to_pages(1, 0)  # one page wide, as many long as it takes
@@ -119,9 +120,11 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
                           "places and volume; each pays a tonne-km share of its runs, never more than its "
                           "leg alone (costing.plan.week)" if s.consolidate == "yes" else
                           "off: every shipment has vehicles of its own"),
-        ("carrier tariffs", f"{len(model.tariffs)} tariff rows; {n_carrier} shipments priced by a carrier, "
-                            f"{sum(1 for x in results if x.bought)} bought (Carrier charges sheet); each "
-                            "shipment goes the way that costs the week less (costing.plan.buy)"
+        ("carrier tariffs", f"{len(model.tariffs)} tariff rows; {n_carrier} Carrier charges rows: "
+                            f"{sum(1 for x in results if x.bought)} shipments bought whole, "
+                            f"{sum(len(x.parts) for x in results)} parts of routes bought (collection or "
+                            "delivery, the trunk on own vehicles); each shipment goes the way that costs "
+                            "the week less (costing.plan.buy)"
          if model.tariffs else "none: every shipment on own vehicles"),
         *_currency_rows(model),
         ("problems: errors / warnings / info",
@@ -150,8 +153,9 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
              "the search carries the driving clock (driving since the last break, driving today): "
              "the time, cost and blended objectives choose routes with their breaks and rests and "
              "their pay, exact under the stop model above (on networks of up to 50,000 depot and "
-             "vehicle states; larger ones choose on driving hours); distance, emissions and the "
-             "trade-offs do not carry it. Planning estimate, not compliance advice."
+             "vehicle states; larger ones choose on driving hours); the cost-time trade-offs carry "
+             "it too (elapsed hours, stop pay); distance and emissions do not. Planning estimate, "
+             "not compliance advice."
              if s.driving_clock_in_search == "yes" else
              "routes are chosen on driving and handling hours; breaks and rests are then added to "
              "the chosen route and costed"),
@@ -216,7 +220,8 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
     share_total = round_money(sum(leg_value(leg, "cost_share") for x in routed for leg in x.legs)
                               + sum(x.empty_return_cost for x in routed), w.places)
     uplift = round_money(sum(x.min_charge_uplift for x in routed if not x.shared_with), w.places)
-    bought = round_money(sum(x.total_cost for x in routed if x.bought), w.places)
+    bought = round_money(sum(x.total_cost for x in routed if x.bought)
+                         + sum(x.parts_cost for x in routed if x.parts), w.places)
     total = round_money(sum(x.total_cost for x in routed), w.places)
     r += 2
     ws.write_string(r, 0, "reconciliation", f["bold"])
@@ -240,7 +245,8 @@ def write_run(w: Writer, ws, model: Model, results, problems, info: RunInfo, las
         ("plus min_charge_uplift of shipments sharing no vehicle",
          w.round_f(f"SUMPRODUCT((Summary!{S['travels_with']}2:{S['travels_with']}{n_summary}=\"\")*"
                    f"(Summary!{S['min_charge_uplift']}2:{S['min_charge_uplift']}{n_summary}))"), uplift),
-        ("plus Carrier charges of shipments bought from carriers", _bought_expr(w, n_carrier), bought),
+        ("plus Carrier charges used (shipments and parts of routes bought from carriers)",
+         _bought_expr(w, n_carrier), bought),
         ("equals Summary total_cost (TOTAL row)", f"Summary!{S['total_cost']}{last + 2}", total),
     ]
     r = _recon_rows(w, ws, r, recon)
@@ -269,10 +275,12 @@ def _currency_rows(model: Model) -> list[tuple[str, str]]:
         uses = []
         if cards:
             uses.append(f"Rates rows {', '.join(cards)}: per_km, per_hour, per_trip, min_charge and "
-                        f"fuel_included_at converted at input (the Legs and Vehicle runs show them in {cur})")
+                        f"fuel_included_at converted at input (the Legs and Vehicle runs show them in "
+                        f"{cur}; each figure as typed and converted on the Currency conversion sheet)")
         if tariffs:
             uses.append(f"Tariffs rows {', '.join(tariffs)}: priced in {code}, converted on the Carrier "
-                        f"charges sheet (charge = ROUND(price x rate), {cur}'s minor unit)")
+                        f"charges and Currency conversion sheets (charge = ROUND(price x rate), {cur}'s "
+                        "minor unit)")
         rows.append((f"exchange rate: {code}", f"{rate:.10g} {cur} per {code}"
                      + ("; " + "; ".join(uses) if uses else "; not used")))
     return rows

@@ -11,7 +11,7 @@ from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COL
 from costing.money import round_money
 from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value
-from costing.sheets.summary import write_cost_cells
+from costing.sheets.summary import route_with_parts, write_cost_cells
 
 COL = {name: i for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
 KIND = {name: kind for name, _w, kind in SCENARIO_SHIPMENT_COLUMNS}
@@ -71,7 +71,7 @@ def write_scenario_shipments(w: Writer, ws, runs, ranges, base) -> tuple[dict[tu
             ws.write_formula(r, COL["allocated_cost"], "=" + w.round_f(f"SUM({over('cost_share')})"),
                              f["money"], res.allocated_cost)
             write_cost_cells(w, ws, r, res, COL, S)  # the Summary's formulas
-            ws.write_string(r, COL["route"], cell_text(route_text(res)))
+            ws.write_string(r, COL["route"], cell_text(route_with_parts(res)))
             row, was = summary.get(s.shipment_id, (None, None))
             if was is None or was.status != ROUTED:
                 continue

@@ -12,6 +12,7 @@ from costing.money import round_money
 from costing.plan.week import late_hours
 from costing.price.cost import ROUTED
 from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_value
+from costing.sheets.rowxml import RowSink
 
 
 def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
@@ -25,6 +26,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     S = {name: xl_col_to_name(i) for name, i in SUM.items()}
     L = {name: xl_col_to_name(i) for name, i in LEG.items()}
     f = w.f
+    out = RowSink(ws, 1)  # the shipment rows as worksheet XML (costing.sheets.rowxml)
     r = 0
     for r, res in enumerate(results, start=1):
         x = r + 1
@@ -32,41 +34,41 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         for col, value in (("shipment_id", s.shipment_id), ("status", res.status), ("origin", s.origin),
                            ("destination", s.destination), ("objective", res.objective),
                            ("vehicle", res.vehicle), ("customer", s.customer), ("note", res.message)):
-            ws.write_string(r, c[col], cell_text(value))
-        ws.write_number(r, c["weight_t"], s.weight_t)
-        ws.write_string(r, c["travels_with"], ", ".join(res.shared_with))
+            out.write_string(r, c[col], cell_text(value))
+        out.write_number(r, c["weight_t"], s.weight_t)
+        out.write_string(r, c["travels_with"], ", ".join(res.shared_with))
         for col, day in (("ready_date", s.ready_date or w.first_day), ("due_date", s.due_date)):
             if day is not None:
-                ws.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
-        write_chargeable_kg(w, ws, r, s, S)
-        write_make_or_buy(w, ws, r, res, S, carrier_rows or {})
-        write_revenue(w, ws, r, res, S)
+                out.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
+        write_chargeable_kg(w, out, r, s, S)
+        write_make_or_buy(w, out, r, res, S, carrier_rows or {})
+        write_revenue(w, out, r, res, S)
         if res.status != ROUTED:
-            ws.write_number(r, c["legs"], 0)
+            out.write_number(r, c["legs"], 0)
             continue
         if res.bought:
-            write_bought(w, ws, r, res, S)
+            write_bought(w, out, r, res, S)
             continue
         sheet, a, b = ranges[s.shipment_id]
         sh = sheet_ref(sheet)
-        ws.write_number(r, c["vehicles"], res.vehicles)
-        ws.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
+        out.write_number(r, c["vehicles"], res.vehicles)
+        out.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
         for col, legs_cols in SUMMED.items():
             kind = SUMMARY_COLUMNS[c[col]][2]
             expr = "+".join(f"SUM({sh}!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
             if kind == "money":
                 expr = w.round_f(expr)
-            ws.write_formula(r, c[col], "=" + expr, f[kind], shipment_value(res, col))
+            out.write_formula(r, c[col], "=" + expr, f[kind], shipment_value(res, col))
         for col, (num, den, k) in RATIOS.items():  # e.g. g CO2e per tonne-km
-            ws.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
+            out.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
                              getattr(res, col))
-        write_cost_cells(w, ws, r, res, c, S)
+        write_cost_cells(w, out, r, res, c, S, parts_ref(res, carrier_rows or {}))
         late = late_hours(res, w.first_day)
         if late is not None:
-            ws.write_number(r, c["late_hours"], late, f["hours"])
-        route = " > ".join([res.legs[0].use.from_depot] + [leg.use.to_depot for leg in res.legs])
-        ws.write_string(r, c["route"], cell_text(route))
+            out.write_number(r, c["late_hours"], late, f["hours"])
+        out.write_string(r, c["route"], cell_text(route_with_parts(res)))
+    out.finish()
     last = r
     # totals row: each column's sum, cached from the same figures
     t = last + 1
@@ -80,6 +82,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     totals["standalone_cost"] = sum(x.standalone_cost for x in routed)
     totals["empty_return_cost"] = sum(x.empty_return_cost for x in routed)
     totals["empty_return_alone"] = sum(x.empty_return_alone for x in routed)
+    totals["carrier_parts_cost"] = sum(x.parts_cost for x in routed)
     totals["saving"] = sum(x.saving for x in routed)
     for col, value in totals.items():
         kind = SUMMARY_COLUMNS[c[col]][2]
@@ -114,17 +117,19 @@ def write_chargeable_kg(w: Writer, ws, r: int, s, S: dict) -> None:
 
 
 def write_make_or_buy(w: Writer, ws, r: int, res, S: dict, carrier_rows: dict) -> None:
-    """make_cost, buy_cost (a reference to the Carrier charges row), make_or_buy and its why."""
+    """make_cost, buy_cost (a reference to the Carrier charges row of the whole shipment),
+    make_or_buy and its why (also for a shipment with parts of its route bought)."""
     from costing.contract.outputs import CARRIER_CHARGES, CARRIER_COL
 
-    if res.quote is None:
+    if res.quote is None and not res.parts:
         return
     f = w.f
-    row = carrier_rows[res.shipment.shipment_id]
-    ref = f"{sheet_ref(CARRIER_CHARGES)}!{xl_col_to_name(CARRIER_COL['charge'])}{row}"
-    ws.write_formula(r, SUM["buy_cost"], "=" + ref, f["money"], res.quote.charge)
+    if res.quote is not None:
+        row = carrier_rows[res.shipment.shipment_id]
+        ref = f"{sheet_ref(CARRIER_CHARGES)}!{xl_col_to_name(CARRIER_COL['charge'])}{row}"
+        ws.write_formula(r, SUM["buy_cost"], "=" + ref, f["money"], res.quote.charge)
     if res.make_cost is not None:
-        if res.bought:
+        if res.bought or res.parts:  # its own route alone, not this total
             ws.write_number(r, SUM["make_cost"], res.make_cost, f["money"])
         else:
             ws.write_formula(r, SUM["make_cost"], f"={S['total_cost']}{r + 1}", f["money"], res.make_cost)
@@ -132,11 +137,41 @@ def write_make_or_buy(w: Writer, ws, r: int, res, S: dict, carrier_rows: dict) -
     ws.write_string(r, SUM["make_or_buy_why"], cell_text(res.why))
 
 
-def write_cost_cells(w: Writer, ws, r: int, res, col: dict, S: dict) -> None:
+def parts_ref(res, carrier_rows: dict) -> str | None:
+    """The sum of the Carrier charges cells of the shipment's bought parts (None without parts)."""
+    from costing.contract.outputs import CARRIER_CHARGES, CARRIER_COL
+
+    if not res.parts:
+        return None
+    letter = xl_col_to_name(CARRIER_COL["charge"])
+    return "+".join(f"{sheet_ref(CARRIER_CHARGES)}!{letter}{carrier_rows[(res.shipment.shipment_id, p.role)]}"
+                    for p in res.parts)
+
+
+def route_with_parts(res) -> str:
+    """The route as ``A > B > C``, a bought part shown as ``A > H (carrier X)``."""
+    first = [p for p in res.parts if p.role == "collection"]
+    last = [p for p in res.parts if p.role == "delivery"]
+    text = " > ".join([res.legs[0].use.from_depot] + [leg.use.to_depot for leg in res.legs])
+    if first:
+        text = f"{first[0].from_depot} > {text} (carrier {first[0].quote.carrier} to {first[0].to_depot})"
+    if last:
+        text += f" > {last[0].to_depot} (carrier {last[0].quote.carrier} from {last[0].from_depot})"
+    return text
+
+
+def write_cost_cells(w: Writer, ws, r: int, res, col: dict, S: dict, parts: str | None = None) -> None:
     """The cost cells a shipment row shares with Scenario shipments: min_charge, its uplift, the
-    empty returns, standalone_cost, total_cost and saving, as live formulas over the row's own
-    subtotal, allocated_cost and travels_with (`col`: column -> index; `S`: column -> letter)."""
+    empty returns, carrier_parts_cost, standalone_cost, total_cost and saving, as live formulas over
+    the row's own subtotal, allocated_cost, travels_with and carrier_parts_cost (`col`: column ->
+    index; `S`: column -> letter). `parts`: the formula of carrier_parts_cost (the Carrier charges
+    cells); without it a shipment with bought parts gets their sum as a number."""
     f, x = w.f, r + 1
+    if res.parts:
+        if parts:
+            ws.write_formula(r, col["carrier_parts_cost"], "=" + w.round_f(parts), f["money"], res.parts_cost)
+        else:
+            ws.write_number(r, col["carrier_parts_cost"], res.parts_cost, f["money"])
     ws.write_number(r, col["min_charge"], res.min_charge, f["money"])
     ws.write_formula(r, col["min_charge_uplift"],
                      "=" + w.round_f(f"MAX(0,{S['min_charge']}{x}-{S['subtotal']}{x})"),
@@ -144,11 +179,12 @@ def write_cost_cells(w: Writer, ws, r: int, res, col: dict, S: dict) -> None:
     ws.write_number(r, col["empty_return_alone"], res.empty_return_alone, f["money"])
     ws.write_number(r, col["empty_return_cost"], res.empty_return_cost, f["money"])
     ws.write_formula(r, col["standalone_cost"], "=" + w.round_f(
-        f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"),
+        f"{S['subtotal']}{x}+{S['min_charge_uplift']}{x}+{S['empty_return_alone']}{x}"
+        f"+{S['carrier_parts_cost']}{x}"),
         f["money"], res.standalone_cost)
     ws.write_formula(r, col["total_cost"], "=" + w.round_f(
         f"{S['allocated_cost']}{x}+{S['empty_return_cost']}{x}"
-        f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)"),
+        f"+IF({S['travels_with']}{x}=\"\",{S['min_charge_uplift']}{x},0)+{S['carrier_parts_cost']}{x}"),
         f["money"], res.total_cost)
     ws.write_formula(r, col["saving"], "=" + w.round_f(f"{S['standalone_cost']}{x}-{S['total_cost']}{x}"),
                      f["money"], res.saving)

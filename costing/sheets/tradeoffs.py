@@ -10,10 +10,16 @@ from costing.sheets.formats import Writer, cell_text, route_text
 
 
 def write_tradeoffs(w: Writer, ws, results, analysis) -> dict[str, tuple[int, int]]:
-    """Every route of a shipment that no other beats on both cost and hours (drive + handling),
-    cheapest first, with what paying more buys."""
+    """Every route of a shipment that no other beats on both cost and hours, cheapest first, with
+    what paying more buys. Hours are the route's `quantity("hours")`, the time the trade-off
+    search compares: elapsed hours (breaks and rests included) when the driving clock is in the
+    search, else drive + handling hours."""
     w.header(ws, TRADEOFF_COLUMNS)
+    st = w.model.settings
+    clocked = st.driving_rules != "none" and st.driving_clock_in_search == "yes"
     ws.write_comment(0, TRADEOFF_COLUMNS.index(("hours", 9, "hours")),
+                     "elapsed hours (driving, handling, breaks and rests; planning estimate): the time "
+                     "the trade-off search compares." if clocked else
                      "drive_hours + handling_hours: the time the trade-off search compares.")
     c = {name: i for i, (name, _w, _k) in enumerate(TRADEOFF_COLUMNS)}
     col = {name: xl_col_to_name(i) for name, i in c.items()}
@@ -29,7 +35,7 @@ def write_tradeoffs(w: Writer, ws, results, analysis) -> dict[str, tuple[int, in
         cheapest = routes[0]
         for k, alt in enumerate(routes, start=1):
             x = r + 1
-            hours = alt.drive_hours + alt.handling_hours
+            hours = alt.quantity("hours")
             ws.write_string(r, c["shipment_id"], cell_text(res.shipment.shipment_id))
             ws.write_number(r, c["option"], k)
             ws.write_number(r, c["total_cost"], alt.total_cost, f["money"])
@@ -38,7 +44,7 @@ def write_tradeoffs(w: Writer, ws, results, analysis) -> dict[str, tuple[int, in
             ws.write_number(r, c["distance_km"], alt.distance_km, f["km"])
             ws.write_number(r, c["co2e_kg"], alt.co2e_kg, f["kg"])
             more = round_money(alt.total_cost - cheapest.total_cost, w.places)
-            sooner = cheapest.drive_hours + cheapest.handling_hours - hours
+            sooner = cheapest.quantity("hours") - hours
             tc, hc = col["total_cost"], col["hours"]
             ws.write_formula(r, c["pay_more"], "=" + w.round_f(f"{tc}{x}-{tc}{first}"), f["money"], more)
             ws.write_formula(r, c["hours_sooner"], f"={hc}{first}-{hc}{x}", f["hours"], sooner)

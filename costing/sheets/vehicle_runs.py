@@ -14,6 +14,7 @@ from costing.money import round_money
 from costing.price.rates import fuel_use
 from costing.sheets.formats import Writer, cell_text, sheet_ref
 from costing.sheets.legs import LEG_CELLS
+from costing.sheets.rowxml import RowSink
 
 
 def _fill(amount: float, vehicles: int, capacity: float | None) -> float | None:
@@ -36,11 +37,12 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
     R = {name: xl_col_to_name(i + shift) for name, i in RUN_COL.items()}
     L = {name: xl_col_to_name(i + shift) for name, i in LEG.items()}
     COL = {name: i + shift for name, i in RUN_COL.items()}
+    out = RowSink(ws, 1)  # the rows as worksheet XML (costing.sheets.rowxml)
     r = 0
     for r, run in enumerate(runs, start=1):
         x = r + 1
         if key is not None:
-            ws.write_string(r, 0, cell_text(key[1][r - 1]))
+            out.write_string(r, 0, cell_text(key[1][r - 1]))
         k = None if key is None else key[1][r - 1]
         g, card = run.leg, run.leg.card
         refs = {name: f"{col}{x}" for name, col in R.items()}
@@ -57,9 +59,9 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
                 "to_depot": g.use.to_depot, "mode": g.use.lane.mode, "vehicle": card.vehicle,
                 "shipments": shipments, "co2e_basis": g.co2e_basis}
         for name, value in text.items():
-            ws.write_string(r, COL[name], cell_text(value))
+            out.write_string(r, COL[name], cell_text(value))
         if run.day is not None:
-            ws.write_datetime(r, COL["date"], _dt.datetime.combine(run.day, _dt.time()), f["date"])
+            out.write_datetime(r, COL["date"], _dt.datetime.combine(run.day, _dt.time()), f["date"])
         pallets = sum(run.pallets)
         volume = sum(run.volumes)
         numbers = {"vehicles": run.vehicles, "loads": len(run.loads), "pallets": pallets,
@@ -72,11 +74,11 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
             numbers[name] = LEG_CELLS[name][0](None, g)
         for name, value in numbers.items():
             if value is not None:
-                ws.write_number(r, COL[name], value)
+                out.write_number(r, COL[name], value)
         if run.loads:
-            ws.write_formula(r, COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
+            out.write_formula(r, COL["tonnes"], "=" + legs_sum("weight_t"), f["plain"], run.tonnes)
         else:  # an empty return
-            ws.write_number(r, COL["tonnes"], 0.0)
+            out.write_number(r, COL["tonnes"], 0.0)
         fills = (("fill_weight", "tonnes", run.tonnes, card.payload_t),
                  ("fill_pallets", "pallets", pallets, card.pallet_places),
                  ("fill_volume", "volume_m3", volume, card.volume_m3))
@@ -86,39 +88,40 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
             value = _fill(amount, run.vehicles, cap)
             if value is not None:
                 fill = f"={R[amount_col]}{x}/({R['vehicles']}{x}*{R[cap_col]}{x})"
-                ws.write_formula(r, COL[name], fill, f["pct"], value)
+                out.write_formula(r, COL[name], fill, f["pct"], value)
         for name in ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
                      "handling_start_cost", "handling_end_cost", "trip_cost"):
             value, formula = LEG_CELLS[name][0](None, g), LEG_CELLS[name][1]
-            ws.write_formula(r, COL[name], "=" + formula.format(**refs), f["money"], value)
-        ws.write_formula(r, COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
+            out.write_formula(r, COL[name], "=" + formula.format(**refs), f["money"], value)
+        out.write_formula(r, COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
                          run.run_cost)
         if not run.loads:  # an empty return: no loads, no tonne-km, shared as Summary empty_return_cost
-            ws.write_number(r, COL["tonne_km"], 0.0)
+            out.write_number(r, COL["tonne_km"], 0.0)
         else:
             standalone = round_money(run.standalone_cost, w.places)
-            ws.write_formula(r, COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
+            out.write_formula(r, COL["standalone_cost"], "=" + w.round_f(legs_sum("leg_cost")), f["money"],
                              standalone)
             saving = w.round_f(f"{R['standalone_cost']}{x}-{R['run_cost']}{x}")
-            ws.write_formula(r, COL["saving"], "=" + saving, f["money"],
+            out.write_formula(r, COL["saving"], "=" + saving, f["money"],
                              round_money(standalone - run.run_cost, w.places))
-            ws.write_formula(r, COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
+            out.write_formula(r, COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
         # emissions of the run's vehicles at the run's load (the Legs formulas, for the run)
         lf = min(1.0, run.tonnes / run.vehicles / card.payload_t)
-        ws.write_formula(r, COL["load_factor"], "=MIN(1,{tonnes}/{vehicles}/{payload_t})".format(**refs),
+        out.write_formula(r, COL["load_factor"], "=MIN(1,{tonnes}/{vehicles}/{payload_t})".format(**refs),
                          f["plain"], lf)
         if card.fuel_empty_l_per_100km is not None:
-            ws.write_number(r, COL["fuel_empty_l_per_100km"], card.fuel_empty_l_per_100km)
+            out.write_number(r, COL["fuel_empty_l_per_100km"], card.fuel_empty_l_per_100km)
         if g.wtw_kg_per_litre is not None:
-            ws.write_number(r, COL["wtw_co2e_kg_per_litre"], g.wtw_kg_per_litre)
+            out.write_number(r, COL["wtw_co2e_kg_per_litre"], g.wtw_kg_per_litre)
         fuel = fuel_use(card, lf) if g.co2e_basis == "fuel" else 0.0
-        ws.write_formula(r, COL["fuel_used_l_per_100km"], (
+        out.write_formula(r, COL["fuel_used_l_per_100km"], (
             '=IF({co2e_basis}="fuel",IF({fuel_empty_l_per_100km}="",{fuel_l_per_100km},'
             "{fuel_empty_l_per_100km}+({fuel_l_per_100km}-{fuel_empty_l_per_100km})*{load_factor}),0)"
         ).format(**refs), f["plain"], fuel)
-        ws.write_formula(r, COL["co2e_kg"],
+        out.write_formula(r, COL["co2e_kg"],
                          '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
                          "{wtw_co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),
                          f["kg"], run.co2e_kg)
+    out.finish()
     ws.autofilter(0, 0, max(r, 1), len(columns) - 1)
     return r + 1

@@ -15,6 +15,7 @@ from costing.sheets.bridge import BridgeFormats, write_scenario_bridge
 from costing.sheets.carrier_charges import carrier_rows, write_carrier_charges
 from costing.sheets.charts import write_charts
 from costing.sheets.comparison import write_comparison
+from costing.sheets.currency_conversion import conversion_rows, write_currency_conversion
 from costing.sheets.customers import write_cost_per_customer
 from costing.sheets.formats import MAX_ROWS, Writer, fast_formulas
 from costing.sheets.invoice_check import write_invoice_check
@@ -76,6 +77,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     quoted = carrier_rows(results)
     if quoted:
         sheets["Carrier charges"] = w.wb.add_worksheet(out.CARRIER_CHARGES)
+    converted = conversion_rows(model, results, quoted, w.places)
+    if converted:
+        sheets["Currency conversion"] = w.wb.add_worksheet(out.CURRENCY_CONVERSION)
     if scenario_runs:
         scenario_ships_ws = w.wb.add_worksheet(out.SCENARIO_SHIPMENTS)
         scenario_runs_ws = w.wb.add_worksheet(out.SCENARIO_VEHICLE_RUNS)
@@ -106,6 +110,8 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     write_vehicle_runs(w, runs_ws, runs, ranges)
     if quoted:
         write_carrier_charges(w, sheets["Carrier charges"], results)
+    if converted:
+        write_currency_conversion(w, sheets["Currency conversion"], converted)
     last_row = write_summary(w, summary, results, ranges, quoted)
     frontier_rows: dict[str, tuple[int, int]] = {}
     scenario_rows = None
@@ -127,7 +133,7 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if "Trade-offs" in sheets:
         frontier_rows = write_tradeoffs(w, sheets["Trade-offs"], results, analysis)
     if "Lane usage" in sheets:
-        write_lane_usage(w, sheets["Lane usage"], analysis, len(runs))
+        write_lane_usage(w, sheets["Lane usage"], analysis, len(runs), runs)
         write_charts(w, sheets["Charts"], results, last_row, frontier_rows, scenario_rows,
                      len(analysis.lanes))
     write_cost_per_customer(w, sheets["Cost per customer"], results, last_row)

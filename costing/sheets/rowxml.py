@@ -1,0 +1,440 @@
+"""Many rows of one shape written as worksheet XML directly, instead of cell by cell through
+xlsxwriter's write methods: the large sheets' fast path (Legs, Scenario legs).
+
+A sheet module describes a row shape once (`Shape`: per column its kind, number format and, for
+a formula, a template naming the row as ``{r}`` and a second row, such as the vehicle run's, as
+``{rr}``) and then adds rows of values (`RowBlock.add`). The block writes the same XML elements
+xlsxwriter's worksheet writes for the same calls, with the same escaping, shared strings (or
+inline strings in streaming mode), number text and style lookup:
+
+* a number cell ``<c r="B2" s="x"><v>{value:.16G}</v></c>`` (no cell written for None);
+* a text cell as a shared string index (``t="s"``), or streamed as an inline string with
+  control characters escaped and spaces kept, as xlsxwriter does in constant_memory mode;
+* a formula cell ``<c r="K2" s="x"><f>formula</f><v>value</v></c>`` with the cached value as
+  text (``t="str"`` for a text value);
+* the style ``s`` of a cell with no format of its own from the row's format, else the column's
+  (`set_column`), read when the row's XML is made.
+
+Where the rows go. Normal mode: the values are kept (one tuple per row, far smaller than
+xlsxwriter's cell table) and the XML is made when the workbook closes, inside the worksheet's
+own row writer, so row heights and column formats set late (the layout pass) apply as they do to
+cells written by xlsxwriter. Streaming mode (xlsxwriter's constant_memory): each row's XML goes
+to the worksheet's row file as it is added, after xlsxwriter's own pending row, so rows stay in
+order, as xlsxwriter does itself in that mode.
+
+What the block requires, and checks: its rows are added in increasing row order, below every row
+written through xlsxwriter on that worksheet so far (the header); rows written through xlsxwriter
+afterwards go below the block's last row (a total row). `RowBlock.add` raises ValueError on a
+row out of order; the worksheet's own write methods are not watched, a rule the sheet modules
+keep. At close, xlsxwriter's rows above, between and below the blocks and the blocks' rows are
+written in row order.
+
+Widths. The layout pass (`costing.sheets.formats.install_layout`) measures every cell written
+through xlsxwriter. The block measures its own cells and reports to it, on `finish`, the values
+that decide each column's width: for a number format with fixed decimals the shown length only
+grows with the absolute value (plus one for a minus sign), so the largest positive and the
+largest negative value of a column are measured; for General or optional decimals every
+distinct value; for text the longest line, and every text over 40 characters as it is (the
+layout's long-text and caption rules look at those). The widths are therefore the ones the
+cell-by-cell path gives (tested).
+
+The equivalence with xlsxwriter's own cells is tested by writing the same sheet both ways and
+comparing every cell read back with openpyxl (value, formula, number format, style), and by a
+LibreOffice recalculation of the fast path's formulas (tests/test_rowxml.py).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from xlsxwriter.utility import xl_col_to_name
+from xlsxwriter.worksheet import _preserve_whitespace
+
+from costing.sheets.formats import _MEASURED_ROWS, _parse_number_format
+
+TEXT, NUMBER, FORMULA = "text", "number", "formula"
+DATE = "date"  # a number (a date's serial) that the layout does not measure, as xlsxwriter's dates
+
+# The large sheets write their rows through this module; False: cell by cell through xlsxwriter
+# (the reference the fast path is tested against, tests/test_rowxml.py).
+FAST_ROWS = True
+_ERROR_CODES = ("#DIV/0!", "#N/A", "#NAME?", "#NULL!", "#NUM!", "#REF!", "#VALUE!")
+
+
+def _escape(data: str) -> str:
+    """XML text of element data, as xlsxwriter escapes it (quotes are left)."""
+    if "&" in data or "<" in data or ">" in data:
+        return data.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    return data
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of a row shape.
+
+    Parameters
+    ----------
+    col : int
+        Zero-based column index.
+    kind : str
+        ``text``, ``number``, ``date`` (a number not measured for the width, as xlsxwriter's
+        dates are not) or ``formula``.
+    fmt : xlsxwriter Format or None
+        The cell's own format (None: the row's or the column's, as xlsxwriter does).
+    template : str or None
+        For a formula: its text without ``=``, naming this row's number as ``{r}`` and another
+        row's (e.g. a vehicle run's) as ``{rr}``; braces of the formula itself doubled. None:
+        each row's value is the pair (formula text without ``=``, cached value).
+    """
+
+    col: int
+    kind: str
+    fmt: object = None
+    template: str | None = None
+
+
+class Shape:
+    """The columns of one kind of row (the same cells, formats and formula templates)."""
+
+    def __init__(self, columns: Sequence[Column]):
+        self.columns = tuple(columns)
+        self.letters = tuple(xl_col_to_name(c.col) for c in self.columns)
+        # formula templates escaped once for XML (row numbers add nothing to escape)
+        self.formulas = tuple(_escape(c.template) if c.template is not None else None
+                              for c in self.columns)
+        self.texts = tuple(i for i, c in enumerate(self.columns) if c.kind == TEXT)
+
+
+class _Measure:
+    """What decides one column's width, for one format: see the module docstring."""
+
+    __slots__ = ("fmt", "monotone", "pos", "pos_row", "neg", "neg_row", "seen", "text", "text_row")
+
+    def __init__(self, fmt, nf):
+        self.fmt = fmt
+        parsed = _parse_number_format(nf)
+        self.monotone = parsed is not None and parsed[1] == 0
+        self.pos = self.neg = None
+        self.pos_row = self.neg_row = 0
+        self.seen: dict = {}
+        self.text: str | None = None
+        self.text_row = 0
+
+
+class RowBlock:
+    """Rows added to one worksheet as XML (module docstring: what it writes, and when).
+
+    Parameters
+    ----------
+    ws : xlsxwriter Worksheet
+        Of a workbook made by `costing.sheets.formats.Writer` (its layout is measured).
+    first_row : int
+        Zero-based row of the block's first row, below every row written through xlsxwriter.
+    """
+
+    def __init__(self, ws, first_row: int):
+        self.ws = ws
+        self.first = first_row
+        self.next = first_row
+        self.last_col = -1
+        self.streaming = bool(ws.constant_memory)
+        self.rows: list[tuple] = []  # normal mode: (row, shape, values, rr)
+        self.measures: dict[tuple[int, int], _Measure] = {}
+        self.counted: dict[int, int] = {}  # rows < _MEASURED_ROWS -> cells (layout's caption rule)
+        self._styles: dict[int, str] = {}
+        self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
+        if self.streaming:
+            if first_row <= ws.previous_row and ws.table:
+                raise ValueError("a row block starts below the rows written through xlsxwriter")
+            ws._write_single_row(first_row)  # xlsxwriter's pending row (the header) goes first
+        else:
+            blocks = getattr(ws, "_costing_blocks", None)
+            if blocks is None:
+                blocks = ws._costing_blocks = []
+                _install(ws)
+            blocks.append(self)
+
+    # -- public --
+    def add(self, row: int, shape: Shape, values: Sequence, rr: int = 0) -> None:
+        """Add row `row` (zero-based) of `shape` with one value per column (None: no cell for a
+        number; a formula's value is its cached result); `rr` fills ``{rr}`` of the templates
+        (1-based row number)."""
+        if row < self.next:
+            raise ValueError(f"row {row + 1} added after row {self.next}: rows go in increasing order")
+        self.next = row + 1
+        self._measure(row, shape, values)
+        if self.streaming:
+            self.ws.fh.write(self._xml(row, shape, values, rr))
+        else:  # texts take their shared-string index now, in cell order, as xlsxwriter's do
+            index = self.ws.str_table._get_shared_string_index
+            values = list(values)
+            for i in shape.texts:
+                v = values[i]
+                values[i] = index("" if v is None else v)
+            self.rows.append((row, shape, tuple(values), rr))
+
+    def finish(self) -> None:
+        """Record the block's extent in the worksheet's dimensions (for the dimension element,
+        filters and the print area) and report its widths to the layout."""
+        ws = self.ws
+        if self.next == self.first:
+            return
+        last_row = self.next - 1
+        if ws.dim_rowmax is None or last_row > ws.dim_rowmax:
+            ws.dim_rowmax = last_row
+        if ws.dim_rowmin is None or self.first < ws.dim_rowmin:
+            ws.dim_rowmin = self.first
+        first_col = min(c for c, _f in self.measures) if self.measures else 0
+        if ws.dim_colmin is None or first_col < ws.dim_colmin:
+            ws.dim_colmin = first_col
+        if ws.dim_colmax is None or self.last_col > ws.dim_colmax:
+            ws.dim_colmax = self.last_col
+        if self.streaming:
+            ws.previous_row = last_row + 1  # xlsxwriter's next row, after ours
+        lay = getattr(ws, "_costing_layout", None)
+        if lay is None:
+            return
+        counts = dict(lay.row_cells)  # the reports below are not cells: keep the layout's count
+        for (col, _k), m in self.measures.items():
+            for value, row in ((m.pos, m.pos_row), (m.neg, m.neg_row), *m.seen.items()):
+                if value is not None:
+                    lay.number(row, col, value, m.fmt)
+            if m.text is not None:
+                lay.text(m.text_row, col, m.text, m.fmt)
+        lay._grow(last_row, self.last_col)
+        for r, n in self.counted.items():
+            counts[r] = counts.get(r, 0) + n
+        lay.row_cells = counts
+
+    # -- private --
+    def _measure(self, row: int, shape: Shape, values: Sequence) -> None:
+        measures = self.measures
+        cells = 0
+        lay = getattr(self.ws, "_costing_layout", None)
+        for c, v in zip(shape.columns, values):
+            if (v is None and c.kind != TEXT) or c.kind == DATE:
+                continue
+            if c.kind == FORMULA and c.template is None:
+                v = v[1]
+            cells += 1
+            key = (c.col, id(c.fmt))
+            m = measures.get(key)
+            if m is None:
+                nf = c.fmt.num_format if c.fmt is not None else self._column_nf(c.col)
+                m = measures[key] = _Measure(c.fmt, nf)
+                if c.col > self.last_col:
+                    self.last_col = c.col
+            if c.kind == TEXT or isinstance(v, str):
+                s = "" if v is None else v
+                n = _line(s)
+                if n > 40 and lay is not None:
+                    lay.text(row, c.col, s, c.fmt)  # long text and caption rules: as written
+                    cells -= 1  # counted by the layout itself
+                elif m.text is None or n > _line(m.text):
+                    m.text, m.text_row = s, row
+            elif isinstance(v, bool) or not m.monotone:
+                if v not in m.seen:
+                    m.seen[v] = row
+            elif v >= 0:
+                if m.pos is None or v > m.pos:
+                    m.pos, m.pos_row = v, row
+            elif m.neg is None or v < m.neg:
+                m.neg, m.neg_row = v, row
+        if row < _MEASURED_ROWS:
+            self.counted[row] = self.counted.get(row, 0) + cells
+
+    def _column_nf(self, col: int):
+        info = self.ws.col_info.get(col)
+        fmt = info.column_format if info is not None else None
+        return fmt.num_format if fmt is not None else None
+
+    def _style(self, fmt, row: int, col: int) -> str:
+        """The ``s`` attribute xlsxwriter gives a cell: its own format, else the row's, else the
+        column's."""
+        ws = self.ws
+        if fmt is None:
+            info = ws.row_info.get(row)
+            if info is not None and info.row_format:
+                fmt = info.row_format
+            else:
+                cinfo = ws.col_info.get(col)
+                fmt = cinfo.column_format if cinfo is not None else None
+                if fmt is None:
+                    return ""
+        s = self._styles.get(id(fmt))
+        if s is None:
+            s = self._styles[id(fmt)] = f' s="{fmt._get_xf_index()}"'
+        return s
+
+    def _text(self, text: str) -> tuple[str, str]:
+        """(type attribute, inner XML) of a text cell written inline (streaming mode)."""
+        text = self.ws._escape_control_characters(text)
+        preserve = ' xml:space="preserve"' if _preserve_whitespace(text) else ""
+        return ' t="inlineStr"', f"<is><t{preserve}>{_escape(text)}</t></is>"
+
+    def _plan(self, shape: Shape, row: int) -> list[tuple]:
+        """Per column of `shape`: (kind, the cell's opening up to its row number, the rest of
+        its opening tag with the style, formula template); made once per shape (and again
+        for a row with a format of its own, whose format fills cells without one)."""
+        info = self.ws.row_info.get(row)
+        own_row = info is not None and info.row_format
+        plan = None if own_row else self._plans.get(id(shape))
+        if plan is None:
+            plan = [(c.kind, f'<c r="{letter}', f'"{self._style(c.fmt, row, c.col)}', formula)
+                    for c, letter, formula in zip(shape.columns, shape.letters, shape.formulas)]
+            if not own_row:
+                self._plans[id(shape)] = plan
+        return plan
+
+    def _xml(self, row: int, shape: Shape, values: Sequence, rr: int) -> str:
+        n = row + 1
+        parts = [f'<row r="{n}">']
+        add = parts.append
+        for (kind, head, style, formula), v in zip(self._plan(shape, row), values):
+            if kind == NUMBER or kind == DATE:
+                if v is not None:
+                    add(f"{head}{n}{style}><v>{v:.16G}</v></c>")
+            elif kind == TEXT:
+                if self.streaming:
+                    t, inner = self._text("" if v is None else v)
+                    add(f"{head}{n}{style}{t}>{inner}</c>")
+                else:
+                    add(f'{head}{n}{style} t="s"><v>{v}</v></c>')
+            else:
+                if formula is None:  # a formula of its own: (text, cached value)
+                    if v is None:
+                        continue
+                    text, v = _escape(v[0]), v[1]
+                else:
+                    text = formula.format(r=n, rr=rr)
+                t = ""
+                if isinstance(v, bool):
+                    t, v = ' t="b"', int(v)
+                elif isinstance(v, str):
+                    if v in _ERROR_CODES:
+                        t = ' t="e"'
+                    elif v:
+                        t = ' t="str"'
+                    v = _escape(v)
+                add(f"{head}{n}{style}{t}><f>{text}</f><v>{v}</v></c>")
+        add("</row>")
+        return "".join(parts)
+
+    def _write(self, fh) -> None:
+        """Normal mode, at close: the rows' XML, with row attributes xlsxwriter would write."""
+        ws = self.ws
+        info = ws.row_info
+        for row, shape, values, rr in self.rows:
+            xml = self._xml(row, shape, values, rr)
+            ri = info.get(row)
+            if ri is not None:  # a height or format set later (layout): xlsxwriter's row element
+                ws._write_row(row, None, ri)
+                xml = xml[xml.index(">") + 1:]
+            fh.write(xml)
+        self.rows = []
+
+
+def _line(s: str) -> int:
+    return max(len(part) for part in s.split("\n")) if "\n" in s else len(s)
+
+
+def _install(ws) -> None:
+    """Make the worksheet write, at close, its xlsxwriter rows above, between and below the
+    blocks, and each block's rows in its place (normal mode)."""
+    own = ws._write_rows
+
+    def write_rows() -> None:
+        blocks = sorted((b for b in ws._costing_blocks if b.rows), key=lambda b: b.first)
+        if not blocks or ws.dim_rowmin is None:
+            return own()
+        low = ws.dim_rowmin
+        for b in blocks:
+            _own_rows(ws, own, low, b.first - 1)
+            b._write(ws.fh)
+            low = b.next
+        _own_rows(ws, own, low, ws.dim_rowmax)
+
+    ws._write_rows = write_rows
+
+
+def _own_rows(ws, own, low: int, high: int) -> None:
+    """xlsxwriter's rows `low`..`high` (zero-based, inclusive), if any; row heights set on the
+    blocks' rows are theirs (`RowBlock._write`), not written again here."""
+    if high < low:
+        return
+    keep = ws.dim_rowmin, ws.dim_rowmax
+    ws.dim_rowmin, ws.dim_rowmax = low, high
+    try:
+        own()
+    finally:
+        ws.dim_rowmin, ws.dim_rowmax = keep
+
+
+class RowSink:
+    """xlsxwriter's write_string / write_number / write_formula / write_datetime for the rows
+    of a RowBlock: a sheet module writes its rows to the sink as it would to the worksheet
+    (rows in increasing order, cells in any order within a row) and the sink hands each row to
+    the block as one shape of its cells. Formulas go through the worksheet's own formula
+    preparation, dates through its own date conversion, NaN and infinity become #NUM! as
+    xlsxwriter writes them; so the cells are the ones the worksheet would hold.
+
+    With FAST_ROWS off, every call goes straight to the worksheet (the reference path)."""
+
+    def __init__(self, ws, first_row: int):
+        self.ws = ws
+        self.fast = FAST_ROWS
+        self.block = RowBlock(ws, first_row) if self.fast else None
+        self.row = -1
+        self.cells: list[tuple] = []
+        self.shapes: dict[tuple, Shape] = {}
+
+    def write_string(self, row: int, col: int, text: str, fmt=None) -> None:
+        if not self.fast:
+            self.ws.write_string(row, col, text, fmt)
+            return
+        self._cell(row, col, TEXT, fmt, text)
+
+    def write_number(self, row: int, col: int, value: float, fmt=None) -> None:
+        if not self.fast:
+            self.ws.write_number(row, col, value, fmt)
+            return
+        if value != value or value in (float("inf"), float("-inf")):
+            self._cell(row, col, FORMULA, fmt, ("#NUM!", "#NUM!"))
+        else:
+            self._cell(row, col, NUMBER, fmt, value)
+
+    def write_formula(self, row: int, col: int, formula: str, fmt=None, value=0) -> None:
+        if not self.fast:
+            self.ws.write_formula(row, col, formula, fmt, value)
+            return
+        self._cell(row, col, FORMULA, fmt, (self.ws._prepare_formula(formula), value))
+
+    def write_datetime(self, row: int, col: int, when, fmt=None) -> None:
+        if not self.fast:
+            self.ws.write_datetime(row, col, when, fmt)
+            return
+        self._cell(row, col, DATE, fmt, self.ws._convert_date_time(when))
+
+    def finish(self) -> None:
+        """Hand over the last row and close the block."""
+        if self.fast:
+            self._flush()
+            self.block.finish()
+
+    def _cell(self, row: int, col: int, kind: str, fmt, value) -> None:
+        if row != self.row:
+            self._flush()
+            self.row = row
+        self.cells.append((col, kind, fmt, value))
+
+    def _flush(self) -> None:
+        if not self.cells:
+            return
+        cells = sorted({c[0]: c for c in self.cells}.values())  # a cell written twice: the last
+        key = tuple((col, kind, id(fmt)) for col, kind, fmt, _v in cells)
+        shape = self.shapes.get(key)
+        if shape is None:
+            shape = self.shapes[key] = Shape([Column(col, kind, fmt) for col, kind, fmt, _v in cells])
+        self.block.add(self.row, shape, [v for *_c, v in cells])
+        self.cells = []

@@ -1,0 +1,114 @@
+"""The Legs rows written as XML from row shapes (costing.sheets.rowxml) are the cells xlsxwriter
+writes cell by cell for the same calls. Reference: xlsxwriter's own write methods (the
+`fast=False` path of write_legs, an independent general-purpose library's writer), both files
+read back with openpyxl (another independent library) and compared cell by cell: value or
+formula, cached value, number format, bold and wrap, column widths, row heights, the sheet's
+dimension and filter. The LibreOffice recalculation of the fast path's formulas is in
+tests/test_recalc_libreoffice.py (every Legs formula of the costed example, recalculated by an
+independent spreadsheet engine, equals its cached value)."""
+
+from __future__ import annotations
+
+import openpyxl
+import pytest
+
+import costing.sheets.legs as legs
+import costing.sheets.rowxml as rowxml
+
+LONG = "Depot with a name far longer than sixty characters, so that it wraps in its column"
+
+
+def _write(cli, tmp_path, name: str, fast: bool, monkeypatch, inp: str | None = None) -> str:
+    monkeypatch.setattr(rowxml, "FAST_ROWS", fast)
+    args = ("run", inp, "-o", str(tmp_path / name)) if inp else ("demo", "-o", str(tmp_path / name))
+    code, _out, err = cli(*args)
+    assert code == 0, err
+    return str(tmp_path / name)
+
+
+def _cells(path: str, sheet: str):
+    wb = openpyxl.load_workbook(path)
+    cached = openpyxl.load_workbook(path, data_only=True)
+    ws, wc = wb[sheet], cached[sheet]
+    out = {}
+    for row in ws.iter_rows():
+        for c in row:
+            if c.value is None and not c.has_style:
+                continue
+            out[c.coordinate] = (c.value, c.data_type, wc[c.coordinate].value, c.number_format,
+                                 bool(c.font.b), bool(c.alignment.wrap_text))
+    widths = {k: round(d.width or 0, 2) for k, d in ws.column_dimensions.items()}
+    heights = {k: d.height for k, d in ws.row_dimensions.items() if d.height}
+    return out, widths, heights, ws.dimensions, ws.auto_filter.ref, ws.freeze_panes
+
+
+def _same(a: str, b: str, sheets) -> int:
+    n = 0
+    for sheet in sheets:
+        ca, cb = _cells(a, sheet), _cells(b, sheet)
+        assert ca[0] == cb[0], [(k, ca[0].get(k), cb[0].get(k)) for k in set(ca[0]) ^ set(cb[0])
+                                or [k for k in ca[0] if ca[0][k] != cb[0][k]]][:5]
+        assert ca[1:] == cb[1:], sheet
+        n += len(ca[0])
+    return n
+
+
+@pytest.mark.parametrize("streaming", [False, True])
+def test_fast_legs_are_the_cells_xlsxwriter_writes(cli, tmp_path, monkeypatch, streaming):
+    if streaming:  # xlsxwriter's constant_memory mode: inline strings, rows written as added
+        monkeypatch.setattr(legs, "STREAMING_LEGS", 1)
+    slow = _write(cli, tmp_path, "slow.xlsx", False, monkeypatch)
+    fast = _write(cli, tmp_path, "fast.xlsx", True, monkeypatch)
+    names = openpyxl.load_workbook(fast, read_only=True).sheetnames
+    assert names == openpyxl.load_workbook(slow, read_only=True).sheetnames
+    assert "Legs" in names and "Scenario legs" in names
+    checked = _same(slow, fast, [n for n in names if n.startswith(("Legs", "Scenario legs"))])
+    assert checked > 2000
+    # the sheets around them too: the Legs rows' shared strings and formats must not shift theirs
+    # (the Run sheet differs by its timings)
+    around = ("Summary", "Vehicle runs", "Scenario vehicle runs", "Lane usage", "Problems")
+    _same(slow, fast, [n for n in names if n in around])
+
+
+def test_fast_legs_over_several_sheets_and_long_text(cli, tmp_path, monkeypatch, make_input):
+    # Legs continue on Legs 2, 3... and a depot id over 60 characters wraps with a taller row,
+    # as the layout does for cells xlsxwriter writes
+    from tests.conftest import base_data
+
+    data = base_data()
+    old = data["Depots"][0]["depot_id"]
+    for sheet in ("Depots", "Lanes", "Shipments"):
+        for row in data.get(sheet, []):
+            for k, v in row.items():
+                if v == old:
+                    row[k] = LONG
+    inp = make_input(data)
+    monkeypatch.setattr(legs, "LEGS_SHEET_ROWS", 3)
+    slow = _write(cli, tmp_path, "slow.xlsx", False, monkeypatch, inp)
+    fast = _write(cli, tmp_path, "fast.xlsx", True, monkeypatch, inp)
+    names = openpyxl.load_workbook(fast, read_only=True).sheetnames
+    assert "Legs 2" in names
+    _same(slow, fast, [n for n in names if n.startswith("Legs")])
+    ws = openpyxl.load_workbook(fast)["Legs"]
+    assert any(c.value == LONG for row in ws.iter_rows() for c in row)
+    assert _cells(fast, "Legs")[2], "the long text's row is taller"
+
+
+def test_rows_out_of_order_are_refused(tmp_path):
+    import datetime as dt
+
+    from costing.model import Model, Settings
+    from costing.sheets.formats import Writer
+    from costing.sheets.rowxml import NUMBER, Column, RowBlock, Shape
+
+    w = Writer(str(tmp_path / "x.xlsx"), Model(Settings(), (), (), (), ()), dt.datetime(2026, 1, 1))
+    ws = w.wb.add_worksheet("S")
+    ws.write_string(0, 0, "head")
+    block = RowBlock(ws, 1)
+    shape = Shape([Column(0, NUMBER)])
+    block.add(1, shape, [1.5])
+    with pytest.raises(ValueError):
+        block.add(1, shape, [2.5])
+    block.finish()
+    w.wb.close()
+    assert openpyxl.load_workbook(tmp_path / "x.xlsx")["S"]["A2"].value == 1.5
