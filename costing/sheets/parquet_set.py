@@ -57,6 +57,9 @@ TABLES = {
 
 BATCH = 65_536  # rows held before they go to the file as one row group
 
+# the costed workbook's other sheets, not written beside a Parquet set
+LEFT_OUT = tuple(name for name in out.SHEETS if name not in TABLES and name not in (out.PROBLEMS, out.RUN))
+
 
 def parquet_folder(output: str) -> str:
     """The folder of the Parquet set beside the workbook `output`: ``costed.xlsx`` -> ``costed.parquet``."""
@@ -294,8 +297,7 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
         f"{label}/ beside this workbook ({reason or 'asked for'}): the Summary shipment rows, Legs, Vehicle "
         "runs and Carrier charges as Parquet files, one row per spreadsheet row, columns as the workbook's "
         "(each formula's value); this workbook keeps the Summary TOTAL row, Problems and Run, and the "
-        "reconciliation below as values. Not written in this mode: Cost per customer, Lane usage, "
-        "Charts, Map, Comparison, Trade-offs, Invoice check and the scenario sheets")
+        f"reconciliation below as values. Not written in this mode: {', '.join(LEFT_OUT)}")
     for sheet, (name, columns) in TABLES.items():
         if name in written:
             info.extra[f"Parquet file: {label}/{name}"] = (
