@@ -67,6 +67,10 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--scheduler", metavar="ADDRESS", default=None,
                    help="run on the Dask cluster whose scheduler is at ADDRESS (e.g. tcp://10.0.0.5:8786); "
                    "its workers need this version of costing installed")
+    r.add_argument("--parquet", action="store_true",
+                   help="write the Summary shipment rows, Legs and Vehicle runs as Parquet files in a folder "
+                   "beside OUTPUT (OUTPUT.parquet/); OUTPUT keeps the totals, Problems and Run (needs "
+                   "costing[parquet]); automatic when the shipments pass the spreadsheet's row limit")
 
     d = sub.add_parser("demo", help="cost the bundled example workbook",
                        description="Write the bundled example input and cost it: the quickest way to "
@@ -377,6 +381,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         print(f"costing: {len(errors)} error(s) in {input_path}; nothing written. "
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT
+    parquet = _parquet_choice(model, output, args)
     options = pipeline.Options(objective=args.objective, progress=_Progress)
     if getattr(args, "workers", None) is not None or getattr(args, "scheduler", None):
         costed = _run_distributed(model, options, args)
@@ -385,8 +390,8 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     results, scenario_runs, analysis = costed.results, costed.scenarios, costed.analysis
     problems = costed.problems
     t0 = time.perf_counter()
-    map_png = draw_map(model, analysis.lanes, f"{input_label or os.path.basename(input_path)}: "
-                       "lanes and routed tonnes")
+    title = f"{input_label or os.path.basename(input_path)}: lanes and routed tonnes"
+    map_png = None if parquet else draw_map(model, analysis.lanes, title)
     times.update(costed.seconds)
     times["map"] = time.perf_counter() - t0
     stats = costed.stats
@@ -396,9 +401,12 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         info.extra["network file"] = _network_file_note(input_path, model.settings.network_file)
     t0 = time.perf_counter()
     try:
-        bridges = _scenario_bridges(model, results, scenario_runs)
-        _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
-                                                        scenario_runs, costed.runs, bridges))
+        if parquet:
+            _write_parquet_set(output, parquet, model, results, problems, info, costed.runs)
+        else:
+            bridges = _scenario_bridges(model, results, scenario_runs)
+            _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
+                                                            scenario_runs, costed.runs, bridges))
     except OutputLimitError as e:
         print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
         return EXIT_INPUT
@@ -410,10 +418,72 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         unrouted = len(results) - routed
         extra = f" ({unrouted} not routed: see the note on the Summary sheet)" if unrouted else ""
         scen = f"; {len(scenario_runs)} scenario(s) on the Scenario comparison sheet" if scenario_runs else ""
+        if parquet:
+            scen = (f"; {len(scenario_runs)} scenario(s) costed but not written (no scenario sheets beside a "
+                    "Parquet set)") if scenario_runs else ""
+            output = f"{output} and {parquet[0]}{os.sep}"
         print(f"{routed} of {len(results)} shipments routed{extra}; total {total:,.2f} "
               f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s; "
               "hours and CO2e are planning estimates, not legal or compliance advice")
     return EXIT_OK
+
+
+def _parquet_choice(model, output: str, args) -> tuple[str, str] | None:
+    """(folder, reason) when the run writes a Parquet set beside OUTPUT (``--parquet``, or more
+    shipments than one Summary sheet holds and pyarrow installed), else None."""
+    from costing.sheets import parquet_set
+    from costing.sheets.formats import MAX_ROWS
+
+    asked = bool(getattr(args, "parquet", False))
+    over = len(model.shipments) + 2 > MAX_ROWS
+    if not (asked or over):
+        return None
+    if not parquet_set.have_pyarrow():
+        if asked:
+            raise UsageError(parquet_set.PARQUET_MISSING)
+        return None  # the writer stops at the row limit with a message naming the fix
+    folder = parquet_set.parquet_folder(output)
+    problem = parquet_set.check_folder(folder, args.overwrite)
+    if problem:
+        raise UsageError(problem)
+    if asked:
+        return folder, "--parquet"
+    reason = (f"{len(model.shipments):,} shipments do not fit on one Summary sheet ({MAX_ROWS:,} rows, "
+              "the spreadsheet's limit)")
+    if not args.quiet:
+        print(f"costing: {reason}: the Summary shipment rows, Legs and Vehicle runs go to Parquet files in "
+              f"{folder}{os.sep}; {output} keeps the totals, Problems and Run", file=sys.stderr)
+    return folder, reason
+
+
+def _write_parquet_set(output: str, parquet: tuple[str, str], model, results, problems, info, runs) -> None:
+    """The Parquet set and the summary workbook, each put in place only when complete: the files
+    go to a part folder beside OUTPUT, renamed into place just before the workbook is."""
+    import shutil
+
+    from costing.sheets import parquet_set
+
+    folder, reason = parquet
+    tmp = tempfile.mkdtemp(prefix=".costing-", suffix=".parquet.part",
+                           dir=os.path.dirname(os.path.abspath(output)))
+    placed = False
+
+    def write(path: str) -> None:
+        nonlocal placed
+        parquet_set.write_parquet_set(path, tmp, model, results, problems, info, runs,
+                                      label=os.path.basename(folder), reason=reason)
+        parquet_set.commit_folder(tmp, folder)
+        placed = True
+
+    try:
+        _atomic_write(output, write)
+    except BaseException:
+        if placed and os.path.isdir(folder):
+            shutil.rmtree(folder)
+        raise
+    finally:
+        if os.path.isdir(tmp):
+            shutil.rmtree(tmp)
 
 
 def _network_file_note(input_path: str, name: str) -> str:

@@ -169,3 +169,88 @@ def test_benchmark_quick_run_on_worker_processes(capsys):
     out = capsys.readouterr().out
     assert [name for name, _s in rows] == ["single process (pipeline.run)", "Dask, 2 local workers"]
     assert "identical results: yes" in out and "| run | wall s |" in out
+
+
+def _example_model(tmp_path, consolidate: str | None = None):
+    path = str(tmp_path / "in.xlsx")
+    write_example(path)
+    if consolidate:
+        _edit(path, consolidate=consolidate)
+    model, _p, _ = pipeline.load(path)
+    return model
+
+
+@pytest.mark.parametrize("consolidate", ["yes", "no"])
+def test_packed_shard_rebuilds_the_same_records(tmp_path, consolidate):
+    # Oracle: the records pipeline.run returns, compared with dataclasses' own field-by-field
+    # equality (and the float bits of every Leg field), before and after the columns travel
+    # through pickle as a worker's answer does.
+    import pickle
+
+    model = _example_model(tmp_path, consolidate)
+    opts = pipeline.Options(analyses=False, scenarios=False)
+    expect = pipeline.run(model, opts)
+    costed = pipeline.run(model, opts)
+    known = {"rates": model.rates, "lanes": model.lanes, "depots": model.depots, "ships": model.shipments}
+    packed = pickle.loads(pickle.dumps(distributed.pack_shard(costed, known), protocol=5))
+    whole = [list(range(len(model.shipments)))]
+    got = distributed.gather(model, whole, [(packed, 0)], analyses=False)
+    assert isinstance(got.results, distributed.PackedResults) and len(got.results) == len(expect.results)
+    assert list(got.results) == expect.results and list(got.runs) == expect.runs
+    assert got.results == expect.results and got.results[-1] == expect.results[-1]
+    assert got.results[3:7] == expect.results[3:7]
+    for a, b in zip(got.results, expect.results):
+        assert a.shipment is b.shipment  # the Model's own records, not copies
+        for ga, gb in zip(a.legs, b.legs):
+            assert ga.card is gb.card and ga.use.lane is gb.use.lane
+            for name, va in ga.__dict__.items():
+                vb = gb.__dict__[name]
+                assert type(va) is type(vb), name
+                if isinstance(va, float):
+                    assert va.hex() == vb.hex(), name  # the same bits, -0.0 and all
+    assert got.analysis.lanes == expect.analysis.lanes
+
+
+def test_packed_columns_keep_none_signed_zero_and_types():
+    # Oracle: Python's own values (float.hex for the bits, type() for int against float).
+    import numpy as np
+
+    from costing.distributed import _Packer, _Reader, _unpack
+
+    values = [[1.5, -0.0, 0.0, float("inf")], [None, 2.0, None, 3.25], [1, 2, 3, 2 ** 40],
+              [True, False, True, True], ["a", "", "a", "b"], [(), ("x",), ("y", "z"), ()],
+              [(0.5, -0.0), (), (1.0,), (2.0, 3.0)],
+              [_dt.date(2026, 12, 7), None, _dt.date(2026, 12, 8), None], [7, 7, 7, 7], [1, 1.0, 1, None]]
+    packer = _Packer({})
+    reader = _Reader({}, {})
+    for col in values:
+        packed = packer.column(col)
+        back = _unpack(packed, np.arange(len(col)), reader)
+        assert [type(x) for x in back] == [type(x) for x in col]
+        assert [x.hex() if isinstance(x, float) else x for x in back] == \
+            [x.hex() if isinstance(x, float) else x for x in col]
+        part = _unpack(packed, np.array([3, 0], dtype=np.int64), reader)
+        assert [repr(x) for x in part] == [repr(col[3]), repr(col[0])]
+
+
+def test_parquet_set_of_a_distributed_run_equals_the_single_process_one(tmp_path, cli, threads_cluster):
+    # Oracle: the single-process run's Parquet set (itself checked against its full workbook in
+    # tests/test_parquet_set.py), read back with pandas: the same rows, value for value.
+    pd = pytest.importorskip("pandas")
+    pytest.importorskip("pyarrow", reason="pyarrow not installed: pip install -e '.[test]'")
+    inp = str(tmp_path / "in.xlsx")
+    write_example(inp)
+    os.mkdir(tmp_path / "one")
+    os.mkdir(tmp_path / "two")
+    one, two = str(tmp_path / "one" / "w.xlsx"), str(tmp_path / "two" / "w.xlsx")  # the same names
+    assert cli("run", inp, "-o", one, "--parquet", "--quiet")[0] == 0
+    code, _out, err = cli("run", inp, "-o", two, "--parquet", "--workers", "2", "--quiet")
+    assert code == 0, err
+    names = sorted(os.listdir(tmp_path / "one" / "w.parquet"))
+    assert names == sorted(os.listdir(tmp_path / "two" / "w.parquet")) and "legs.parquet" in names
+    for name in names:
+        a = pd.read_parquet(tmp_path / "one" / "w.parquet" / name)
+        b = pd.read_parquet(tmp_path / "two" / "w.parquet" / name)
+        pd.testing.assert_frame_equal(a, b, check_exact=True)
+    a, b = _cells(one), _cells(two)
+    assert {k: (a[k], b.get(k)) for k in a if a[k] != b.get(k)} == {} and a.keys() == b.keys()

@@ -54,7 +54,10 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
                          "pass Costed.runs with Costed.results")
     if len(results) + 2 > MAX_ROWS:
         raise OutputLimitError(f"{len(results):,} shipments do not fit on one Summary sheet "
-                               f"({MAX_ROWS:,} rows)", "cost the shipments in batches of under a million")
+                               f"({MAX_ROWS:,} rows)",
+                               "install pyarrow (pip install 'costing[parquet]') and the run writes them as "
+                               "Parquet files beside a summary workbook (costing run --parquet), or cost the "
+                               "shipments in batches of under a million")
     n_legs = sum(len(r.legs) for r in results)
     n_scenario_legs = sum(len(r.legs) for run in scenario_runs for r in run.results)
     if len(scenario_runs) * len(results) + 2 > MAX_ROWS:
