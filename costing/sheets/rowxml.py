@@ -211,6 +211,8 @@ class RowBlock:
     def _measure(self, row: int, shape: Shape, values: Sequence) -> None:
         measures = self.measures
         cells = 0
+        if shape.columns and shape.columns[-1].col > self.last_col:  # dates are not measured
+            self.last_col = shape.columns[-1].col
         lay = getattr(self.ws, "_costing_layout", None)
         for c, v in zip(shape.columns, values):
             if (v is None and c.kind != TEXT) or c.kind == DATE:
@@ -223,8 +225,6 @@ class RowBlock:
             if m is None:
                 nf = c.fmt.num_format if c.fmt is not None else self._column_nf(c.col)
                 m = measures[key] = _Measure(c.fmt, nf)
-                if c.col > self.last_col:
-                    self.last_col = c.col
             if c.kind == TEXT or isinstance(v, str):
                 s = "" if v is None else v
                 n = _line(s)
