@@ -139,6 +139,7 @@ class RowBlock:
         self.next = first_row
         self.last_col = -1
         self.streaming = bool(ws.constant_memory)
+        self.lay = getattr(ws, "_costing_layout", None)  # the layout measuring this worksheet
         self.rows: list[tuple] = []  # normal mode: (row, shape, values, rr)
         self.measures: dict[tuple[int, int], _Measure] = {}
         self.counted: dict[int, int] = {}  # rows < _MEASURED_ROWS -> cells (layout's caption rule)
@@ -192,7 +193,7 @@ class RowBlock:
             ws.dim_colmax = self.last_col
         if self.streaming:
             ws.previous_row = last_row + 1  # xlsxwriter's next row, after ours
-        lay = getattr(ws, "_costing_layout", None)
+        lay = self.lay
         if lay is None:
             return
         counts = dict(lay.row_cells)  # the reports below are not cells: keep the layout's count
@@ -213,7 +214,7 @@ class RowBlock:
         cells = 0
         if shape.columns and shape.columns[-1].col > self.last_col:  # dates are not measured
             self.last_col = shape.columns[-1].col
-        lay = getattr(self.ws, "_costing_layout", None)
+        lay = self.lay
         for c, v in zip(shape.columns, values):
             if (v is None and c.kind != TEXT) or c.kind == DATE:
                 continue
