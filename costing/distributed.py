@@ -2,7 +2,8 @@
 
 Dask (``dask.distributed``, an optional dependency: ``pip install costing[dask]``) runs the
 shards; nothing here routes, plans or prices. Each worker gets the Model without its shipments
-once (``Client.scatter(..., broadcast=True)``: depots, lanes, rates, settings); each task is
+once, as one pickled blob (``Client.scatter(..., broadcast=True)`` of bytes: depots, lanes, rates,
+settings; each worker process unpickles it once and keeps it, ``_network``); each task is
 ``pipeline.run`` on that Model with one shard's shipments, analyses as the caller asks,
 scenarios off. The driver gathers the shards' results into one ``pipeline.Costed``; each
 scenario is costed the same way on its changed Model, as ``pipeline.run`` costs it.
@@ -39,8 +40,11 @@ wall time of the distributed run.
 from __future__ import annotations
 
 import datetime as _dt
+import pickle
 import re
+import threading
 import time
+import uuid
 from collections.abc import Callable, Sequence
 from dataclasses import fields, replace
 from itertools import islice
@@ -360,10 +364,35 @@ class PackedRuns(_Lazy):
     ``R0001``... as read."""
 
 
-def _run_shard(base: Model, shipments: tuple, options: pipeline.Options):
-    """On a worker: ``pipeline.run`` on `base` with `shipments`, its results and vehicle runs
-    packed as columns (``pack_shard``); the Model is left out of the answer (the driver has it),
-    and the number of late-arrival problems (raised last) is added."""
+_NETWORKS: dict[str, Model] = {}  # per worker process: token -> the unpickled network Model
+_KEEP = 2  # networks a worker keeps (the base run's and one scenario's)
+_NET_LOCK = threading.Lock()
+
+
+def _network(token: str, blob: bytes) -> Model:
+    """On a worker: the Model (without shipments) that `blob` pickles, unpickled once per worker
+    process and token (a worker with several threads unpickles it once too).
+
+    Why a blob: scattering the Model object itself made dask pickle it on the driver and unpickle
+    it in each worker's communication thread; at 100,000 depots and 300,000 lanes (a 61 MB
+    pickle, about 1 s to load) a broadcast to 4 local workers on 2 cores never finished, while
+    bytes are broadcast in well under a second and unpickled here, in the task, once."""
+    with _NET_LOCK:
+        model = _NETWORKS.get(token)
+        if model is None:
+            model = pickle.loads(blob)
+            while len(_NETWORKS) >= _KEEP:
+                _NETWORKS.pop(next(iter(_NETWORKS)))
+            _NETWORKS[token] = model
+        return model
+
+
+def _run_shard(token: str, blob: bytes, shipments: tuple, options: pipeline.Options):
+    """On a worker: ``pipeline.run`` on the network Model of `blob` (``_network``) with
+    `shipments`, its results and vehicle runs packed as columns (``pack_shard``); the Model is
+    left out of the answer (the driver has it), and the number of late-arrival problems (raised
+    last) is added."""
+    base = _network(token, blob)
     model = replace(base, shipments=shipments)
     costed = pipeline.run(model, options)
     start = first_day(model)
@@ -581,18 +610,20 @@ def run(model: Model, options: pipeline.Options | None = None, client=None, shar
         for net_model, future in networks.values():
             if _same_network(net_model, m):
                 return future
-        # hash=False: no content key (tokenizing 100,000 depots and 300,000 lanes took longer than
-        # sending them)
-        future = client.scatter(replace(m, shipments=(), scenarios=()), broadcast=True, hash=False)
-        networks[len(networks)] = (m, future)
-        return future
+        # bytes, not the Model (``_network``); hash=False: no content key (tokenizing 61 MB takes
+        # longer than sending it)
+        blob = pickle.dumps(replace(m, shipments=(), scenarios=()), protocol=pickle.HIGHEST_PROTOCOL)
+        future = client.scatter(blob, broadcast=True, hash=False)
+        token = uuid.uuid4().hex
+        networks[len(networks)] = (m, (token, future))
+        return token, future
 
     def submit(m: Model, opts: pipeline.Options):
         parts = make_shards(m, count)
-        net = shipped(m)
+        token, net = shipped(m)
         # each shard's shipments go to the cluster as data (not inside the task), once
         ships = client.scatter([tuple(m.shipments[i] for i in part) for part in parts], hash=False)
-        futures = [client.submit(_run_shard, net, sh, opts, pure=False) for sh in ships]
+        futures = [client.submit(_run_shard, token, net, sh, opts, pure=False) for sh in ships]
         return parts, futures, ships  # the data futures are held until gathered, or dask drops them
 
     jobs = [(model, options.analyses, *submit(model, base_options))]
