@@ -182,6 +182,24 @@ def shipment_value(res: CostedShipment, col: str) -> float:
     return round_money(total, res.places) if kind == "money" else total
 
 
+_SUMMED_LEG_COLS = tuple(dict.fromkeys(c for cols in SUMMED.values() for c in cols))
+_SUMMED_MONEY = {col: SUMMARY_COLUMNS[SUM[col]][2] == "money" for col in SUMMED}
+
+
+def shipment_values(res: CostedShipment) -> dict[str, float]:
+    """``shipment_value(res, col)`` for every summed Summary column at once: each leg's figures
+    are read once, and each column is summed in the same order (leg by leg, its Legs columns in
+    turn), so the values are the same floats."""
+    rows = [[leg_value(leg, c) for c in _SUMMED_LEG_COLS] for leg in res.legs]
+    at = {c: i for i, c in enumerate(_SUMMED_LEG_COLS)}
+    out = {}
+    for col, legs_cols in SUMMED.items():
+        idx = [at[c] for c in legs_cols]
+        total = sum(row[i] for row in rows for i in idx)
+        out[col] = round_money(total, res.places) if _SUMMED_MONEY[col] else total
+    return out
+
+
 # --- layout: widths from what is shown, print set-up -----------------------------------------
 # Every worksheet of a Writer's workbook is measured as it is written (`install_layout`), and
 # when the workbook closes each sheet gets: column widths from its formatted values (bold cells

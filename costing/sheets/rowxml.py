@@ -145,6 +145,7 @@ class RowBlock:
         self.counted: dict[int, int] = {}  # rows < _MEASURED_ROWS -> cells (layout's caption rule)
         self._styles: dict[int, str] = {}
         self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
+        self._measure_plans: dict[int, list] = {}  # id(shape) -> its measured cells (`_measure_plan`)
         if self.streaming:
             if first_row <= ws.previous_row and ws.table:
                 raise ValueError("a row block starts below the rows written through xlsxwriter")
@@ -210,27 +211,23 @@ class RowBlock:
 
     # -- private --
     def _measure(self, row: int, shape: Shape, values: Sequence) -> None:
-        measures = self.measures
-        cells = 0
-        if shape.columns and shape.columns[-1].col > self.last_col:  # dates are not measured
-            self.last_col = shape.columns[-1].col
+        plan = self._measure_plans.get(id(shape))
+        if plan is None:
+            plan = self._measure_plan(shape)
         lay = self.lay
-        for c, v in zip(shape.columns, values):
-            if (v is None and c.kind != TEXT) or c.kind == DATE:
+        cells = 0
+        for i, m, text, own_formula in plan:
+            v = values[i]
+            if v is None and not text:
                 continue
-            if c.kind == FORMULA and c.template is None:
+            if own_formula:
                 v = v[1]
             cells += 1
-            key = (c.col, id(c.fmt))
-            m = measures.get(key)
-            if m is None:
-                nf = c.fmt.num_format if c.fmt is not None else self._column_nf(c.col)
-                m = measures[key] = _Measure(c.fmt, nf)
-            if c.kind == TEXT or isinstance(v, str):
+            if text or isinstance(v, str):
                 s = "" if v is None else v
                 n = _line(s)
                 if n > 40 and lay is not None:
-                    lay.text(row, c.col, s, c.fmt)  # long text and caption rules: as written
+                    lay.text(row, shape.columns[i].col, s, m.fmt)  # long text and caption rules: as written
                     cells -= 1  # counted by the layout itself
                 elif m.text is None or n > _line(m.text):
                     m.text, m.text_row = s, row
@@ -244,6 +241,25 @@ class RowBlock:
                 m.neg, m.neg_row = v, row
         if row < _MEASURED_ROWS:
             self.counted[row] = self.counted.get(row, 0) + cells
+
+    def _measure_plan(self, shape: Shape) -> list[tuple]:
+        """Per measured column of `shape` (dates are not measured): (its index in the row's
+        values, the _Measure of its column and format, whether it is text, whether it is a
+        formula of its own whose value is a (text, cached value) pair); made once per shape."""
+        if shape.columns and shape.columns[-1].col > self.last_col:  # dates count for the extent
+            self.last_col = shape.columns[-1].col
+        plan = []
+        for i, c in enumerate(shape.columns):
+            if c.kind == DATE:
+                continue
+            key = (c.col, id(c.fmt))
+            m = self.measures.get(key)
+            if m is None:
+                nf = c.fmt.num_format if c.fmt is not None else self._column_nf(c.col)
+                m = self.measures[key] = _Measure(c.fmt, nf)
+            plan.append((i, m, c.kind == TEXT, c.kind == FORMULA and c.template is None))
+        self._measure_plans[id(shape)] = plan
+        return plan
 
     def _column_nf(self, col: int):
         info = self.ws.col_info.get(col)

@@ -11,7 +11,7 @@ from costing.contract.outputs import LEG, RATIOS, SUM, SUMMARY_COLUMNS, SUMMED
 from costing.money import round_money
 from costing.plan.week import late_hours
 from costing.price.cost import ROUTED
-from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_value
+from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_values
 from costing.sheets.rowxml import RowSink
 
 
@@ -28,6 +28,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     f = w.f
     out = RowSink(ws, 1)  # the shipment rows as worksheet XML (costing.sheets.rowxml)
     r = 0
+    summed: dict[int, dict[str, float]] = {}  # id(result) -> its summed columns' cached values
     for r, res in enumerate(results, start=1):
         x = r + 1
         s = res.shipment
@@ -54,12 +55,13 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         out.write_number(r, c["vehicles"], res.vehicles)
         out.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
+        values = summed[id(res)] = shipment_values(res)
         for col, legs_cols in SUMMED.items():
             kind = SUMMARY_COLUMNS[c[col]][2]
             expr = "+".join(f"SUM({sh}!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
             if kind == "money":
                 expr = w.round_f(expr)
-            out.write_formula(r, c[col], "=" + expr, f[kind], shipment_value(res, col))
+            out.write_formula(r, c[col], "=" + expr, f[kind], values[col])
         for col, (num, den, k) in RATIOS.items():  # e.g. g CO2e per tonne-km
             out.write_formula(r, c[col], f"=IF({S[den]}{x}=0,0,{S[num]}{x}*{k}/{S[den]}{x})", f["plain"],
                              getattr(res, col))
@@ -74,7 +76,8 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     t = last + 1
     ws.write_string(t, 0, "TOTAL", f["total_text"])
     routed = [x for x in results if x.status == ROUTED]
-    totals: dict[str, float] = {col: sum(shipment_value(x, col) for x in routed) for col in SUMMED}
+    values = [summed.get(id(x)) or shipment_values(x) for x in routed]
+    totals: dict[str, float] = {col: sum(v[col] for v in values) for col in SUMMED}
     totals["legs"] = sum(len(x.legs) for x in routed)
     totals["weight_t"] = sum(x.shipment.weight_t for x in results)
     totals["min_charge_uplift"] = sum(x.min_charge_uplift for x in routed)
