@@ -5,7 +5,9 @@
     python -m benchmarks.bench_recalc --week --smoke  # a small week
 
 With LibreOffice's UNO bridge (python3-uno, run by the system Python) the workbook is loaded
-without recalculating and Calc's own full recalculation (calculateAll) is timed, best of three.
+without recalculating and Calc's own full recalculation (calculateAll) is timed, best of three;
+then each sheet's formulas alone (set again with automatic calculation off, so only they are
+dirty; Calc's calculate timed).
 Without it, the difference of two headless conversions is taken: Calc's "recalculation on file
 load" for Excel 2007 and newer files (registry key org.openoffice.Office.Calc/Formula/Load/
 OOXMLRecalcMode: 0 always, 1 never), set in a throwaway profile. Prints seconds; asserts nothing.
@@ -78,16 +80,44 @@ try:
         t0 = time.perf_counter()
         doc.calculateAll()
         runs.append(time.perf_counter() - t0)
+    # each sheet on its own: its formulas set again with automatic calculation off (so they are
+    # dirty, and nothing else is), then Calc's calculate() recalculates the dirty cells alone
+    from com.sun.star.sheet.CellFlags import FORMULA
+    doc.enableAutomaticCalculation(False)
+    sheets = []
+    for name in doc.Sheets.ElementNames:
+        sheet = doc.Sheets.getByName(name)
+        cursor = sheet.createCursor()
+        cursor.gotoEndOfUsedArea(False)
+        end = cursor.RangeAddress
+        if end.EndRow == 0 and end.EndColumn == 0:
+            continue
+        cells = sheet.getCellRangeByPosition(0, 0, end.EndColumn, end.EndRow)
+        count = 0
+        ranges = cells.queryContentCells(FORMULA)
+        for addr in ranges.RangeAddresses:
+            count += (addr.EndRow - addr.StartRow + 1) * (addr.EndColumn - addr.StartColumn + 1)
+        if not count:
+            continue
+        cells.setFormulaArray(cells.getFormulaArray())
+        t0 = time.perf_counter()
+        doc.calculate()
+        sheets.append("%s\t%d\t%r" % (name, count, time.perf_counter() - t0))
     doc.close(True)
     print(load, min(runs))
+    for line in sheets:
+        print(line)
 finally:
     proc.terminate()
 """
 
 
-def uno_seconds(path: str, port: int = 2317) -> tuple[float, float] | None:
-    """(load seconds, best of three full recalculations in seconds) in LibreOffice Calc through
-    its UNO bridge (the system Python's python3-uno), or None when that bridge is missing."""
+def uno_seconds(path: str, port: int = 2317) -> tuple[float, float, list] | None:
+    """(load seconds, best of three full recalculations in seconds, per sheet with formulas:
+    (name, formula cells, seconds to recalculate that sheet's formulas alone)) in LibreOffice
+    Calc through its UNO bridge (the system Python's python3-uno), or None when that bridge is
+    missing. A sheet alone: its formulas are set again with automatic calculation off, which
+    makes them (and nothing else) dirty, and Calc's ``calculate`` is timed, once."""
     exe = shutil.which("soffice") or shutil.which("libreoffice")
     python = shutil.which("python3", path="/usr/bin") or "python3"
     if exe is None or subprocess.run([python, "-c", "import uno"], capture_output=True).returncode:
@@ -98,11 +128,13 @@ def uno_seconds(path: str, port: int = 2317) -> tuple[float, float] | None:
             f.write(PROFILE.format(mode=1))  # never recalculate on load: calculateAll is timed alone
         out = subprocess.run([python, "-c", UNO_SCRIPT, exe, profile, path, str(port)],
                              capture_output=True, text=True, timeout=3600)
+    lines = out.stdout.splitlines()
     try:
-        load, calc = (float(x) for x in out.stdout.split())
-    except ValueError:
+        load, calc = (float(x) for x in lines[0].split())
+        sheets = [(name, int(n), float(secs)) for name, n, secs in (x.split("\t") for x in lines[1:])]
+    except (ValueError, IndexError):
         raise SystemExit(f"LibreOffice did not load {path}: {out.stderr[-500:]}") from None
-    return load, calc
+    return load, calc, sheets
 
 
 def measure(path: str) -> dict:
@@ -111,7 +143,7 @@ def measure(path: str) -> dict:
     timed = uno_seconds(path)
     if timed is not None:
         return {"file": os.path.basename(path), "how": "calculateAll through UNO, best of 3",
-                "load s": timed[0], "recalculation s": timed[1]}
+                "load s": timed[0], "recalculation s": timed[1], "sheets": timed[2]}
     convert_seconds(path, False)  # a first start warms LibreOffice's own files
     never = min(convert_seconds(path, False) for _ in range(2))
     always = min(convert_seconds(path, True) for _ in range(2))
@@ -143,6 +175,10 @@ def main(argv=None) -> list[dict]:
             rows.append(row)
             print(f"{row['file']}: load {row['load s']:.1f} s; every formula recalculated in "
                   f"{row['recalculation s']:.2f} s ({row['how']})")
+            if row.get("sheets"):
+                print("\n| sheet | formula cells | its formulas alone, s |\n|---|---:|---:|")
+                for name, n, secs in row["sheets"]:
+                    print(f"| {name} | {n:,} | {secs:.3f} |")
     return rows
 
 

@@ -38,6 +38,20 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
     L = {name: xl_col_to_name(i + shift) for name, i in LEG.items()}
     COL = {name: i + shift for name, i in RUN_COL.items()}
     out = RowSink(ws, 1)  # the rows as worksheet XML (costing.sheets.rowxml)
+    # each formula with the row's cells as {x}, made once: a row fills in its row number only
+    row_refs = {name: f"{col}{{x}}" for name, col in R.items()}
+    row_refs["d"] = str(w.places)
+    cost_names = ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
+                  "handling_start_cost", "handling_end_cost", "trip_cost")
+    T = {name: "=" + LEG_CELLS[name][1].format(**row_refs) for name in cost_names}
+    T["run_cost"] = "=" + LEG_CELLS["leg_cost"][1].format(**row_refs)
+    T["load_factor"] = "=MIN(1,{tonnes}/{vehicles}/{payload_t})".format(**row_refs)
+    T["fuel_used_l_per_100km"] = (
+        '=IF({co2e_basis}="fuel",IF({fuel_empty_l_per_100km}="",{fuel_l_per_100km},'
+        "{fuel_empty_l_per_100km}+({fuel_l_per_100km}-{fuel_empty_l_per_100km})*{load_factor}),0)"
+    ).format(**row_refs)
+    T["co2e_kg"] = ('=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
+                    "{wtw_co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)").format(**row_refs)
     r = 0
     for r, run in enumerate(runs, start=1):
         x = r + 1
@@ -45,8 +59,6 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
             out.write_string(r, 0, cell_text(key[1][r - 1]))
         k = None if key is None else key[1][r - 1]
         g, card = run.leg, run.leg.card
-        refs = {name: f"{col}{x}" for name, col in R.items()}
-        refs["d"] = str(w.places)
 
         def legs_sum(col: str, run=run, k=k) -> str:
             """The loads' Legs cells of column `col`, added in load order."""
@@ -89,12 +101,9 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
             if value is not None:
                 fill = f"={R[amount_col]}{x}/({R['vehicles']}{x}*{R[cap_col]}{x})"
                 out.write_formula(r, COL[name], fill, f["pct"], value)
-        for name in ("km_cost", "hour_cost", "toll_cost", "fixed_cost", "fuel_surcharge", "stop_cost",
-                     "handling_start_cost", "handling_end_cost", "trip_cost"):
-            value, formula = LEG_CELLS[name][0](None, g), LEG_CELLS[name][1]
-            out.write_formula(r, COL[name], "=" + formula.format(**refs), f["money"], value)
-        out.write_formula(r, COL["run_cost"], "=" + LEG_CELLS["leg_cost"][1].format(**refs), f["money"],
-                         run.run_cost)
+        for name in cost_names:
+            out.write_formula(r, COL[name], T[name].format(x=x), f["money"], LEG_CELLS[name][0](None, g))
+        out.write_formula(r, COL["run_cost"], T["run_cost"].format(x=x), f["money"], run.run_cost)
         if not run.loads:  # an empty return: no loads, no tonne-km, shared as Summary empty_return_cost
             out.write_number(r, COL["tonne_km"], 0.0)
         else:
@@ -107,21 +116,15 @@ def write_vehicle_runs(w: Writer, ws, runs, ranges: dict, key: tuple[str, list[s
             out.write_formula(r, COL["tonne_km"], "=" + legs_sum("tonne_km"), f["km"], run.tonne_km)
         # emissions of the run's vehicles at the run's load (the Legs formulas, for the run)
         lf = min(1.0, run.tonnes / run.vehicles / card.payload_t)
-        out.write_formula(r, COL["load_factor"], "=MIN(1,{tonnes}/{vehicles}/{payload_t})".format(**refs),
-                         f["plain"], lf)
+        out.write_formula(r, COL["load_factor"], T["load_factor"].format(x=x), f["plain"], lf)
         if card.fuel_empty_l_per_100km is not None:
             out.write_number(r, COL["fuel_empty_l_per_100km"], card.fuel_empty_l_per_100km)
         if g.wtw_kg_per_litre is not None:
             out.write_number(r, COL["wtw_co2e_kg_per_litre"], g.wtw_kg_per_litre)
         fuel = fuel_use(card, lf) if g.co2e_basis == "fuel" else 0.0
-        out.write_formula(r, COL["fuel_used_l_per_100km"], (
-            '=IF({co2e_basis}="fuel",IF({fuel_empty_l_per_100km}="",{fuel_l_per_100km},'
-            "{fuel_empty_l_per_100km}+({fuel_l_per_100km}-{fuel_empty_l_per_100km})*{load_factor}),0)"
-        ).format(**refs), f["plain"], fuel)
-        out.write_formula(r, COL["co2e_kg"],
-                         '=IF({co2e_basis}="fuel",{vehicles}*{distance_km}*{fuel_used_l_per_100km}/100*'
-                         "{wtw_co2e_kg_per_litre},{tonne_km}*{intensity_g_per_tkm}/1000)".format(**refs),
-                         f["kg"], run.co2e_kg)
+        out.write_formula(r, COL["fuel_used_l_per_100km"], T["fuel_used_l_per_100km"].format(x=x), f["plain"],
+                         fuel)
+        out.write_formula(r, COL["co2e_kg"], T["co2e_kg"].format(x=x), f["kg"], run.co2e_kg)
     out.finish()
     ws.autofilter(0, 0, max(r, 1), len(columns) - 1)
     return r + 1
