@@ -9,8 +9,9 @@ amount exactly, with no rounding penny left over or missing.
 Method, for a total of T minor units (T = total x 10**places, an integer) and keys k_1..k_n
 with K = k_1 + ... + k_n > 0:
 
-1. the quota of load i is q_i = T x k_i / K, computed exactly (rational arithmetic on the
-   keys' binary values: no floating-point error);
+1. the quota of load i is q_i = T x k_i / K, computed exactly (integer arithmetic on the
+   keys' binary values, each float being an integer over a power of two: no floating-point
+   error);
 2. every load first gets floor(q_i) units;
 3. the R = T - sum floor(q_i) units left over go one each to the R loads with the largest
    fractional parts q_i - floor(q_i); equal fractional parts go to the earlier load.
@@ -50,16 +51,20 @@ def _units(amount: float, places: int, what: str) -> int:
     return int(units)
 
 
-def _check_keys(keys: Sequence[float]) -> list[Fraction]:
-    out = []
+def _check_keys(keys: Sequence[float]) -> list[int]:
+    """The keys as integers in the same exact ratios: a finite float is num / 2**e exactly
+    (``float.as_integer_ratio``), so multiplying every key by the largest such denominator
+    gives integers proportional to the keys' binary values, with nothing rounded."""
+    ratios = []
     for i, k in enumerate(keys):
         if not math.isfinite(k):
             raise ValueError(f"allocation key {i} must be a finite number, not {k!r}")
         if k < 0:
             raise ValueError(f"allocation key {i} is negative ({k!r}); keys are tonne-km "
                              f"or another non-negative quantity")
-        out.append(Fraction(k))
-    return out
+        ratios.append(k.as_integer_ratio() if isinstance(k, float) else Fraction(k).as_integer_ratio())
+    scale = max((den for _num, den in ratios), default=1)  # denominators are powers of two
+    return [num * (scale // den) for num, den in ratios]
 
 
 def allocate_units(total_units: int, keys: Sequence[float]) -> list[int]:
@@ -80,7 +85,13 @@ def allocate_units(total_units: int, keys: Sequence[float]) -> list[int]:
     Raises
     ------
     ValueError
-        A key is negative or not finite, or there are no keys but a non-zero total."""
+        A key is negative or not finite, or there are no keys but a non-zero total.
+
+    Notes
+    -----
+    Exact in integers: with the keys as integers K_i in the same ratios (``_check_keys``) and
+    W their sum, the quota T x K_i / W has floor (T x K_i) // W and fractional part
+    ((T x K_i) mod W) / W, so comparing the remainders compares the fractional parts."""
     ks = _check_keys(keys)
     if not ks:
         if total_units:
@@ -89,13 +100,13 @@ def allocate_units(total_units: int, keys: Sequence[float]) -> list[int]:
     if total_units < 0:
         return [-u for u in allocate_units(-total_units, keys)]
     if sum(ks) == 0:
-        ks = [Fraction(1)] * len(ks)
+        ks = [1] * len(ks)
     whole = sum(ks)
-    quotas = [total_units * k / whole for k in ks]
-    shares = [math.floor(q) for q in quotas]
+    parts = [divmod(total_units * k, whole) for k in ks]
+    shares = [q for q, _r in parts]
     left = total_units - sum(shares)
     # largest fractional part first; equal parts: earlier position first
-    order = sorted(range(len(ks)), key=lambda i: (-(quotas[i] - shares[i]), i))
+    order = sorted(range(len(ks)), key=lambda i: (-parts[i][1], i))
     for i in order[:left]:
         shares[i] += 1
     return shares
