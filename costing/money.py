@@ -45,6 +45,8 @@ def round_money(value: float, places: int) -> float:
     Fast path: when the scaled value is clearly not near a half, the answer does not depend on
     those last digits, and integer / 10**places is the correctly rounded float of the decimal
     result, the same float the decimal path returns. Near a half, the decimal path decides."""
+    if value == 0:  # zero rates are common (tolls, fixed charges): what the paths below give
+        return 0.0
     scale = _SCALES[places] if 0 <= places < len(_SCALES) else 10.0 ** places
     t = abs(value) * scale
     if t < 1e15:
