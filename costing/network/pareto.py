@@ -309,11 +309,15 @@ class FrontierNetwork:
 
     The bounds. For a set of exits, h_cost(v) is the least cost of any route from v to an exit
     plus that exit's cost weight, and h_time(v) the same in time, each computed by one reverse
-    search of the search core (`costing.network.search.dijkstra_all` from the exits, their exit
-    weights as start weights, over the reversed arcs). A remaining route's cost is at least its
-    least cost, so both are admissible; they are also consistent, h(u) <= w(u, v) + h(v), being
-    least weights (the triangle inequality of shortest paths), and inf exactly where no exit is
-    reachable, which drops those labels. So the module's guarantees hold, and no label is kept
+    search from the exits, their exit weights as start weights, over the reversed arcs: by
+    scipy's compiled Dijkstra (`_compiled_all`, the way the array engine computes its landmark
+    tables) from a virtual node joined to each exit by an arc of its exit weight, or with
+    ``compiled = False`` by the search core (`costing.network.search.dijkstra_all`). Both
+    compute the same floats (tested equal): each node's value is the least, over its reversed
+    in-arcs, of the float sum exit weight + w1 + w2 + ... added in the same order from the exit.
+    A remaining route's cost is at least its least cost, so both are admissible; they are also
+    consistent, h(u) <= w(u, v) + h(v), being least weights (the triangle inequality of shortest
+    paths), and inf exactly where no exit is reachable, which drops those labels. So the module's guarantees hold, and no label is kept
     that cannot reach an exit. The bounds are cached per key (the caller's name for the set of
     exits, e.g. the destination), up to about ``BOUND_ENTRIES`` node entries in all; past that
     the cache starts again.
@@ -330,6 +334,7 @@ class FrontierNetwork:
     """
 
     BOUND_ENTRIES = 2_000_000
+    compiled = True  # bounds by scipy's compiled search (`_compiled_all`); False: the search core
 
     def __init__(self, adj: Adjacency):
         from costing.network.search import Arcs
@@ -345,6 +350,7 @@ class FrontierNetwork:
                 rev_c[v].append((u, wc, e))
                 rev_t[v].append((u, wt, e))
         self._reverse = (Arcs.from_rows(rev_c), Arcs.from_rows(rev_t))
+        self._csr = (_reverse_csr(rev_c), _reverse_csr(rev_t))
         self._bounds: dict = {}
         self.reverse_searches = 0  # statistics: reverse searches run for bounds
 
@@ -357,9 +363,13 @@ class FrontierNetwork:
         got = self._bounds.get(key) if key is not None else None
         if got is not None:
             return got
-        rc, rt = self._reverse
-        hc = dijkstra_all(rc, [(x, ce) for x, (ce, _te) in exits.items()])
-        ht = dijkstra_all(rt, [(x, te) for x, (_ce, te) in exits.items()])
+        if self.compiled:
+            hc = _compiled_all(self._csr[0], [(x, ce) for x, (ce, _te) in exits.items()])
+            ht = _compiled_all(self._csr[1], [(x, te) for x, (_ce, te) in exits.items()])
+        else:
+            rc, rt = self._reverse
+            hc = dijkstra_all(rc, [(x, ce) for x, (ce, _te) in exits.items()])
+            ht = dijkstra_all(rt, [(x, te) for x, (_ce, te) in exits.items()])
         hc += (0.0, 0.0)
         ht += (0.0, 0.0)
         self.reverse_searches += 2
@@ -396,3 +406,49 @@ class FrontierNetwork:
         res = _search(_Rows(self.adj, starts, exits), n, n + 1, hc, ht, max_routes, max_labels)
         routes = tuple(ParetoRoute(r.cost, r.time, r.nodes[1:-1], r.edges[1:-1]) for r in res.routes)
         return ParetoResult(routes, res.capped, res.labels_expanded, res.labels_pushed)
+
+
+def _reverse_csr(rows: list[list[tuple[int, float, int]]]) -> tuple:
+    """(indptr, heads, weights) of reversed rows as CSR arrays with one row more for a virtual
+    source (empty here), keeping the least weight of parallel arcs (scipy would add them up) and
+    leaving out unusable (inf) arcs, which can lower no bound."""
+    import numpy as np
+
+    n = len(rows)
+    tail = np.repeat(np.arange(n, dtype=np.int64), [len(r) for r in rows])
+    flat = [(v, w) for r in rows for v, w, _e in r]
+    head = np.array([v for v, _w in flat], dtype=np.int64)
+    weight = np.array([w for _v, w in flat], dtype=float)
+    keep = np.isfinite(weight)
+    tail, head, weight = tail[keep], head[keep], weight[keep]
+    order = np.lexsort((weight, head, tail))
+    tail, head, weight = tail[order], head[order], weight[order]
+    first = np.ones(tail.size, dtype=bool)
+    first[1:] = (tail[1:] != tail[:-1]) | (head[1:] != head[:-1])
+    tail, head, weight = tail[first], head[first], weight[first]
+    indptr = np.zeros(n + 2, dtype=np.int64)
+    np.cumsum(np.bincount(tail, minlength=n), out=indptr[1:n + 1])
+    indptr[n + 1] = indptr[n]
+    return indptr, head, weight
+
+
+def _compiled_all(csr: tuple, starts: list[tuple[int, float]]) -> list[float]:
+    """`dijkstra_all` of the search core, by scipy: least (start + route) weight from the
+    `starts` (node, start weight) to every node of the CSR arrays of `_reverse_csr`, through a
+    virtual node n whose arcs are the start weights; inf where none reaches."""
+    import numpy as np
+    from scipy.sparse import csr_matrix
+    from scipy.sparse.csgraph import dijkstra
+
+    indptr, head, weight = csr
+    n = indptr.size - 2
+    best: dict[int, float] = {}
+    for x, w in starts:  # a node listed twice starts at its least weight; inf starts nowhere
+        if w < best.get(x, math.inf):
+            best[x] = w
+    ptr = indptr.copy()
+    ptr[n + 1] += len(best)
+    g = csr_matrix((np.concatenate([weight, np.fromiter(best.values(), float, len(best))]),
+                    np.concatenate([head, np.fromiter(best.keys(), np.int64, len(best))]), ptr),
+                   shape=(n + 1, n + 1))
+    return dijkstra(g, directed=True, indices=n)[:n].tolist()
