@@ -317,10 +317,10 @@ class FrontierNetwork:
     in-arcs, of the float sum exit weight + w1 + w2 + ... added in the same order from the exit.
     A remaining route's cost is at least its least cost, so both are admissible; they are also
     consistent, h(u) <= w(u, v) + h(v), being least weights (the triangle inequality of shortest
-    paths), and inf exactly where no exit is reachable, which drops those labels. So the module's guarantees hold, and no label is kept
-    that cannot reach an exit. The bounds are cached per key (the caller's name for the set of
-    exits, e.g. the destination), up to about ``BOUND_ENTRIES`` node entries in all; past that
-    the cache starts again.
+    paths), and inf exactly where no exit is reachable, which drops those labels. So the module's
+    guarantees hold, and no label is kept that cannot reach an exit. The bounds are cached per key
+    (the caller's name for the set of exits, e.g. the destination), up to about
+    ``BOUND_ENTRIES`` node entries in all; past that the cache starts again.
 
     Per query the work is the two reverse searches (none when the key is cached) and the labels:
     the sources and exits are joined by a virtual source and end (`_Rows`) without copying the
