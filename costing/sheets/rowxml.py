@@ -20,7 +20,9 @@ xlsxwriter's cell table) and the XML is made when the workbook closes, inside th
 own row writer, so row heights and column formats set late (the layout pass) apply as they do to
 cells written by xlsxwriter. Streaming mode (xlsxwriter's constant_memory): each row's XML goes
 to the worksheet's row file as it is added, after xlsxwriter's own pending row, so rows stay in
-order, as xlsxwriter does itself in that mode.
+order, as xlsxwriter does itself in that mode. One difference: xlsxwriter keeps a sheet's last
+row pending until the workbook closes, so that row alone gets the column formats the layout sets
+at close (the wrap of a long-text column); a block writes its last row like the others.
 
 What the block requires, and checks: its rows are added in increasing row order, below every row
 written through xlsxwriter on that worksheet so far (the header); rows written through xlsxwriter
