@@ -429,13 +429,16 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
 
 def _parquet_choice(model, output: str, args) -> tuple[str, str] | None:
     """(folder, reason) when the run writes a Parquet set beside OUTPUT (``--parquet``, or more
-    shipments than one Summary sheet holds and pyarrow installed), else None."""
+    shipments than one Summary sheet holds, or more scenario rows than one Scenario shipments sheet
+    holds, and pyarrow installed), else None."""
     from costing.sheets import parquet_set
     from costing.sheets.formats import MAX_ROWS
 
     asked = bool(getattr(args, "parquet", False))
     over = len(model.shipments) + 2 > MAX_ROWS
-    if not (asked or over):
+    scenario_rows = len(model.scenarios) * len(model.shipments)
+    over_scenarios = not over and scenario_rows + 2 > MAX_ROWS
+    if not (asked or over or over_scenarios):
         return None
     if not parquet_set.have_pyarrow():
         if asked:
@@ -449,6 +452,9 @@ def _parquet_choice(model, output: str, args) -> tuple[str, str] | None:
         return folder, "--parquet"
     reason = (f"{len(model.shipments):,} shipments do not fit on one Summary sheet ({MAX_ROWS:,} rows, "
               "the spreadsheet's limit)")
+    if over_scenarios:
+        reason = (f"{len(model.scenarios)} scenarios of {len(model.shipments):,} shipments do not fit on one "
+                  f"Scenario shipments sheet ({MAX_ROWS:,} rows, the spreadsheet's limit)")
     if not args.quiet:
         print(f"costing: {reason}: the Summary shipment rows, Legs, Vehicle runs (and any scenario rows) "
               f"go to Parquet files in {folder}{os.sep}; {output} keeps the totals, Problems and Run",

@@ -283,6 +283,27 @@ def test_past_the_row_limit_the_run_switches_to_parquet(tmp_path, cli, monkeypat
         wb.close()
 
 
+def test_past_the_row_limit_of_the_scenario_rows_the_run_switches_to_parquet(tmp_path, cli, monkeypatch):
+    # 47 shipments fit on a Summary sheet of 60 rows, their two scenarios' 94 rows do not fit on
+    # one Scenario shipments sheet: the run writes a Parquet set, the scenario rows in it
+    import costing.sheets.formats as formats
+
+    inp = str(tmp_path / "in.xlsx")
+    write_example(inp)
+    monkeypatch.setattr(formats, "MAX_ROWS", 60)
+    code, _out, err = cli("run", inp, "-o", str(tmp_path / "w.xlsx"))
+    assert code == 0, err
+    assert "2 scenarios of 47 shipments do not fit on one Scenario shipments sheet (60 rows" in err
+    assert set(SCENARIO_FILES) <= set(os.listdir(tmp_path / "w.parquet"))
+    assert len(pq.read_table(tmp_path / "w.parquet" / "scenario_shipments.parquet")) == 94
+    wb = openpyxl.load_workbook(str(tmp_path / "w.xlsx"))
+    try:
+        run = {r[0]: r[1] for r in wb[out.RUN].iter_rows(values_only=True) if r[0]}
+        assert "2 scenarios of 47 shipments do not fit" in run["Parquet set"]
+    finally:
+        wb.close()
+
+
 def test_parquet_refusals_write_nothing(tmp_path, cli, monkeypatch):
     inp = str(tmp_path / "in.xlsx")
     write_example(inp)
