@@ -1,8 +1,9 @@
 """Past the spreadsheet's row limit: the long tables as a Parquet set beside a summary workbook.
 
 ``costing run ... --parquet`` (and any run whose shipments do not fit on one Summary sheet, or
-whose scenarios x shipments do not fit on one Scenario shipments sheet) writes the Summary shipment rows, the Legs, the Vehicle runs and, when carriers priced any
-shipment, the Carrier charges as one Parquet file each (``summary.parquet``, ``legs.parquet``,
+whose scenarios x shipments do not fit on one Scenario shipments sheet) writes the Summary
+shipment rows, the Legs, the Vehicle runs and, when carriers priced any shipment, the Carrier
+charges as one Parquet file each (``summary.parquet``, ``legs.parquet``,
 ``vehicle_runs.parquet``, ``carrier_charges.parquet``) in a folder beside the workbook
 (``costed.xlsx`` -> ``costed.parquet/``). The workbook keeps the Summary TOTAL row, the Problems
 and the Run sheet, which names each Parquet file with its row count and its columns.
