@@ -8,7 +8,8 @@ included; the Scenario comparison and Scenario bridge sheets the summary workboo
 full workbook's values cell for cell; (2) pandas' own groupby and sum over the Parquet rows (a
 general-purpose reference library): each shipment's legs add up to its Summary subtotal and the
 shipments to the workbook's TOTAL row, each scenario's shipments to its Scenario comparison
-total, each bridge step's column to its amount, to the cent.
+total, each bridge step's column to its amount, to the cent; (3) LibreOffice Calc recalculating
+the summary workbook: the formulas it keeps give the values cached beside them.
 Inputs: the invented Hollowmere example (costing.example, two scenarios), and the same with four
 more scenarios (six) and a small legs sheet so Legs and Scenario legs continue over several
 sheets. SOURCE_DATE_EPOCH is fixed."""
@@ -262,6 +263,22 @@ def test_several_scenarios_over_several_sheets(tmp_path, cli, monkeypatch):
     assert counts["scenario_shipments.parquet"] == 6 * 47 and counts["scenario_legs.parquet"] > 500
     _check_scenarios(full, summary, folder, counts,
                      ["fuel_up_12", "blerick_rail_closed"] + [row[0] for row in more])
+
+
+@pytest.mark.needs_soffice
+def test_libreoffice_recalculates_the_summary_workbook_to_its_values(tmp_path, cli):
+    # LibreOffice Calc as the outside reference: the formulas the summary workbook keeps (within
+    # Scenario comparison and Scenario bridge: deltas, running totals, chart bars) recalculate to
+    # the values cached beside them
+    from tests.spreadsheet_app import recalc_mismatches
+
+    inp = str(tmp_path / "in.xlsx")
+    write_example(inp)
+    summary = str(tmp_path / "week.xlsx")
+    assert cli("run", inp, "-o", summary, "--parquet", "--quiet")[0] == 0
+    (tmp_path / "recalc").mkdir()
+    checked, mismatches = recalc_mismatches(summary, str(tmp_path / "recalc"))
+    assert checked > 50 and not mismatches, mismatches[:10]
 
 
 def test_past_the_row_limit_the_run_switches_to_parquet(tmp_path, cli, monkeypatch):
