@@ -401,10 +401,11 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         info.extra["network file"] = _network_file_note(input_path, model.settings.network_file)
     t0 = time.perf_counter()
     try:
+        bridges = _scenario_bridges(model, results, scenario_runs)
         if parquet:
-            _write_parquet_set(output, parquet, model, results, problems, info, costed.runs)
+            _write_parquet_set(output, parquet, model, results, problems, info, costed.runs, scenario_runs,
+                               bridges)
         else:
-            bridges = _scenario_bridges(model, results, scenario_runs)
             _atomic_write(output, lambda p: write_costed(p, model, results, problems, info, analysis, map_png,
                                                             scenario_runs, costed.runs, bridges))
     except OutputLimitError as e:
@@ -419,8 +420,6 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
         extra = f" ({unrouted} not routed: see the note on the Summary sheet)" if unrouted else ""
         scen = f"; {len(scenario_runs)} scenario(s) on the Scenario comparison sheet" if scenario_runs else ""
         if parquet:
-            scen = (f"; {len(scenario_runs)} scenario(s) costed but not written (no scenario sheets beside a "
-                    "Parquet set)") if scenario_runs else ""
             output = f"{output} and {parquet[0]}{os.sep}"
         print(f"{routed} of {len(results)} shipments routed{extra}; total {total:,.2f} "
               f"{model.settings.currency}{scen}; wrote {output} in {time.perf_counter() - started:.1f} s; "
@@ -430,13 +429,16 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
 
 def _parquet_choice(model, output: str, args) -> tuple[str, str] | None:
     """(folder, reason) when the run writes a Parquet set beside OUTPUT (``--parquet``, or more
-    shipments than one Summary sheet holds and pyarrow installed), else None."""
+    shipments than one Summary sheet holds, or more scenario rows than one Scenario shipments sheet
+    holds, and pyarrow installed), else None."""
     from costing.sheets import parquet_set
     from costing.sheets.formats import MAX_ROWS
 
     asked = bool(getattr(args, "parquet", False))
     over = len(model.shipments) + 2 > MAX_ROWS
-    if not (asked or over):
+    scenario_rows = len(model.scenarios) * len(model.shipments)
+    over_scenarios = not over and scenario_rows + 2 > MAX_ROWS
+    if not (asked or over or over_scenarios):
         return None
     if not parquet_set.have_pyarrow():
         if asked:
@@ -450,15 +452,21 @@ def _parquet_choice(model, output: str, args) -> tuple[str, str] | None:
         return folder, "--parquet"
     reason = (f"{len(model.shipments):,} shipments do not fit on one Summary sheet ({MAX_ROWS:,} rows, "
               "the spreadsheet's limit)")
+    if over_scenarios:
+        reason = (f"{len(model.scenarios)} scenarios of {len(model.shipments):,} shipments do not fit on one "
+                  f"Scenario shipments sheet ({MAX_ROWS:,} rows, the spreadsheet's limit)")
     if not args.quiet:
-        print(f"costing: {reason}: the Summary shipment rows, Legs and Vehicle runs go to Parquet files in "
-              f"{folder}{os.sep}; {output} keeps the totals, Problems and Run", file=sys.stderr)
+        print(f"costing: {reason}: the Summary shipment rows, Legs, Vehicle runs (and any scenario rows) "
+              f"go to Parquet files in {folder}{os.sep}; {output} keeps the totals, Problems and Run",
+              file=sys.stderr)
     return folder, reason
 
 
-def _write_parquet_set(output: str, parquet: tuple[str, str], model, results, problems, info, runs) -> None:
+def _write_parquet_set(output: str, parquet: tuple[str, str], model, results, problems, info, runs,
+                       scenario_runs=(), bridges=()) -> None:
     """The Parquet set and the summary workbook, each put in place only when complete: the files
-    go to a part folder beside OUTPUT, renamed into place just before the workbook is."""
+    go to a part folder beside OUTPUT, renamed into place just before the workbook is. The
+    scenarios' rows go to the set, their Scenario comparison and bridge to the workbook."""
     import shutil
 
     from costing.sheets import parquet_set
@@ -471,7 +479,8 @@ def _write_parquet_set(output: str, parquet: tuple[str, str], model, results, pr
     def write(path: str) -> None:
         nonlocal placed
         parquet_set.write_parquet_set(path, tmp, model, results, problems, info, runs,
-                                      label=os.path.basename(folder), reason=reason)
+                                      label=os.path.basename(folder), reason=reason,
+                                      scenario_runs=scenario_runs, scenario_bridges=bridges)
         parquet_set.commit_folder(tmp, folder)
         placed = True
 

@@ -248,6 +248,12 @@ def test_parquet_set_of_a_distributed_run_equals_the_single_process_one(tmp_path
     assert code == 0, err
     names = sorted(os.listdir(tmp_path / "one" / "w.parquet"))
     assert names == sorted(os.listdir(tmp_path / "two" / "w.parquet")) and "legs.parquet" in names
+    # the example's two scenarios, gathered from the shards (costed.scenarios): their files too
+    assert {"scenario_shipments.parquet", "scenario_vehicle_runs.parquet", "scenario_legs.parquet",
+            "scenario_bridge_shipments.parquet"} <= set(names)
+    ships = pd.read_parquet(tmp_path / "two" / "w.parquet" / "scenario_shipments.parquet")
+    assert list(dict.fromkeys(ships["scenario"])) == ["fuel_up_12", "blerick_rail_closed"]
+    assert len(ships) == 2 * 47
     for name in names:
         a = pd.read_parquet(tmp_path / "one" / "w.parquet" / name)
         b = pd.read_parquet(tmp_path / "two" / "w.parquet" / name)

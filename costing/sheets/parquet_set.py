@@ -1,11 +1,29 @@
 """Past the spreadsheet's row limit: the long tables as a Parquet set beside a summary workbook.
 
-``costing run ... --parquet`` (and any run whose shipments do not fit on one Summary sheet)
-writes the Summary shipment rows, the Legs, the Vehicle runs and, when carriers priced any
-shipment, the Carrier charges as one Parquet file each (``summary.parquet``, ``legs.parquet``,
+``costing run ... --parquet`` (and any run whose shipments do not fit on one Summary sheet, or
+whose scenarios x shipments do not fit on one Scenario shipments sheet) writes the Summary
+shipment rows, the Legs, the Vehicle runs and, when carriers priced any shipment, the Carrier
+charges as one Parquet file each (``summary.parquet``, ``legs.parquet``,
 ``vehicle_runs.parquet``, ``carrier_charges.parquet``) in a folder beside the workbook
 (``costed.xlsx`` -> ``costed.parquet/``). The workbook keeps the Summary TOTAL row, the Problems
 and the Run sheet, which names each Parquet file with its row count and its columns.
+
+A run with what-if scenarios adds the scenarios' long tables to the set, one file per sheet of
+the full workbook, every scenario in one file keyed by its first column ``scenario`` (the
+output contract's SCENARIO_KEY), as on the sheets: ``scenario_shipments.parquet`` (Scenario
+shipments), ``scenario_vehicle_runs.parquet`` (Scenario vehicle runs), ``scenario_legs.parquet``
+(Scenario legs, Scenario legs 2, ... as one file) and ``scenario_bridge_shipments.parquet``
+(Scenario bridge shipments: each shipment's share of every bridge step). They grow with
+scenarios x shipments, so they go where the other long tables go. The two summary-level scenario
+sheets stay in the summary workbook, as in the full workbook and beside the TOTAL row they
+start from: **Scenario comparison** (a row per scenario: totals by cost component, the
+difference from the base case, shipments re-routed, and what each scenario changes) and
+**Scenario bridge** (per scenario the steps from the base total to the scenario's, its chart and
+the largest shipments behind each step). A finance reviewer opens the workbook and reads the
+scenario totals and bridges there; each names the Parquet file holding the rows behind it. Their
+figures that sum rows now in the Parquet set are written as values (the full workbook's cached
+values); formulas within the sheet (a bridge's running total, a delta against the base row) stay
+live formulas with their values cached.
 
 What this guarantees:
 
@@ -21,7 +39,9 @@ What this guarantees:
   blank is null (an empty text stays an empty text).
 - **The workbook's totals are the sums of the Parquet rows**: the TOTAL row and the Run sheet's
   reconciliation are the values the full workbook caches, written as numbers (the rows their
-  formulas would add up are in the files).
+  formulas would add up are in the files); so are the scenario totals and bridge steps.
+- **No row limit for scenarios**: the full workbook stops when scenarios x shipments pass one
+  sheet's rows; the Parquet set has no such limit.
 
 Needs pyarrow (``pip install 'costing[parquet]'``); ``PARQUET_MISSING`` says so.
 """
@@ -36,11 +56,19 @@ from costing import __version__
 from costing.contract import outputs as out
 from costing.model import Model, Problem
 from costing.sheets import rowxml
+from costing.sheets.bridge import BridgeFormats, write_scenario_bridge
 from costing.sheets.carrier_charges import carrier_rows, write_carrier_charges
 from costing.sheets.formats import Writer, cell_text
 from costing.sheets.legs import legs_sheet_names, write_legs
 from costing.sheets.problems import write_problems
 from costing.sheets.run import RunInfo, write_run
+from costing.sheets.scenario_legs import (
+    scenario_legs_sheet_names,
+    write_scenario_legs,
+    write_scenario_vehicle_runs,
+)
+from costing.sheets.scenario_sheet import write_scenarios
+from costing.sheets.scenario_shipments import write_scenario_shipments
 from costing.sheets.summary import write_summary
 from costing.sheets.vehicle_runs import write_vehicle_runs
 
@@ -53,12 +81,23 @@ TABLES = {
     out.LEGS: ("legs.parquet", out.LEG_COLUMNS),
     out.VEHICLE_RUNS: ("vehicle_runs.parquet", out.RUN_COLUMNS),
     out.CARRIER_CHARGES: ("carrier_charges.parquet", out.CARRIER_COLUMNS),
+    out.SCENARIO_SHIPMENTS: ("scenario_shipments.parquet", out.SCENARIO_SHIPMENT_COLUMNS),
+    out.SCENARIO_VEHICLE_RUNS: ("scenario_vehicle_runs.parquet", out.SCENARIO_RUN_COLUMNS),
+    out.SCENARIO_LEGS: ("scenario_legs.parquet", out.SCENARIO_LEG_COLUMNS),
+    # the columns costing.sheets.bridge writes on Scenario bridge shipments: the key, then the
+    # contract's Bridge shipments columns
+    out.SCENARIO_BRIDGE_SHIPMENTS: ("scenario_bridge_shipments.parquet",
+                                    [(out.SCENARIO_KEY, 14, "text"), *out.BRIDGE_SHIPMENT_COLUMNS]),
 }
+
+# the summary-level scenario sheets, kept in the summary workbook (module docstring)
+IN_WORKBOOK = (out.SCENARIO_COMPARISON, out.SCENARIO_BRIDGE)
 
 BATCH = 65_536  # rows held before they go to the file as one row group
 
 # the costed workbook's other sheets, not written beside a Parquet set
-LEFT_OUT = tuple(name for name in out.SHEETS if name not in TABLES and name not in (out.PROBLEMS, out.RUN))
+LEFT_OUT = tuple(name for name in out.SHEETS
+                 if name not in TABLES and name not in (out.PROBLEMS, out.RUN, *IN_WORKBOOK))
 
 
 def parquet_folder(output: str) -> str:
@@ -192,14 +231,21 @@ def _ignore(*_args, **_kwargs) -> None:
 
 class ValuesOnly:
     """A worksheet whose formulas are written as their cached values (the Run sheet's
-    reconciliation refers to rows that are in the Parquet files, not in the workbook)."""
+    reconciliation refers to rows that are in the Parquet files, not in the workbook). With
+    `keep_local`, a formula that names no other sheet (no ``!``) stays a live formula, its value
+    cached."""
 
-    def __init__(self, ws):
+    def __init__(self, ws, keep_local: bool = False):
         self._ws = ws
+        self._keep_local = keep_local
 
     def write_formula(self, row, col, formula, cell_format=None, value=0):
-        if isinstance(value, str):
+        if self._keep_local and "!" not in formula:
+            self._ws.write_formula(row, col, formula, cell_format, value)
+        elif isinstance(value, str):
             self._ws.write_string(row, col, value, cell_format)
+        elif value is None:
+            self._ws.write_blank(row, col, None, cell_format)
         else:
             self._ws.write_number(row, col, value, cell_format)
 
@@ -208,14 +254,16 @@ class ValuesOnly:
 
 
 def write_parquet_set(path: str, folder: str, model: Model, results, problems: list[Problem], info: RunInfo,
-                      runs=(), label: str | None = None, reason: str = "") -> dict[str, int]:
+                      runs=(), label: str | None = None, reason: str = "", scenario_runs=(),
+                      scenario_bridges=()) -> dict[str, int]:
     """Write the Parquet set into `folder` (which must exist, empty) and the summary workbook to
     `path`.
 
     Parameters
     ----------
     path : str
-        The summary workbook (.xlsx): Summary (header and TOTAL row), Problems, Run.
+        The summary workbook (.xlsx): Summary (header and TOTAL row), with scenarios Scenario
+        comparison and Scenario bridge, Problems, Run.
     folder : str
         Where the Parquet files go (the caller renames it into place, ``commit_folder``).
     model, results, problems, info, runs
@@ -224,6 +272,12 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
         The folder's name as the Run sheet shows it (default: `folder`'s base name).
     reason : str
         Why the run wrote a Parquet set (the option, or the row limit), for the Run sheet.
+    scenario_runs : sequence of costing.plan.analysis.ScenarioRun
+        The scenarios (``Costed.scenarios``): their Scenario shipments, vehicle runs and legs go
+        to the set, their Scenario comparison to the workbook.
+    scenario_bridges : sequence of (scenario name, costing.compare.bridge.Bridge)
+        As for ``write_costed``: the Scenario bridge goes to the workbook, its shipment rows to
+        the set.
 
     Returns
     -------
@@ -235,6 +289,7 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
     if len(named) != len(loaded) or any(run.run_id not in named for run in loaded):
         raise ValueError(f"the results' legs name {len(named)} vehicle runs but {len(runs)} were given: "
                          "pass Costed.runs with Costed.results")
+    scenario_runs, scenario_bridges = list(scenario_runs), list(scenario_bridges)
     label = label or os.path.basename(folder)
     w = Writer(path, model, info.created, streaming=False)
     meta = {"costing": __version__, "currency": model.settings.currency}
@@ -242,6 +297,20 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
     def table(sheet: str, last_row: int | None = None) -> TableSheet:
         name, columns = TABLES[sheet]
         return TableSheet(os.path.join(folder, name), columns, {**meta, "sheet": sheet}, last_row)
+
+    def where(sheet: str) -> str:
+        return f"{label}/{TABLES[sheet][0]}"
+
+    # the workbook's sheets in the full workbook's order (the tables below write the bridge)
+    summary = w.wb.add_worksheet(out.SUMMARY)
+    comparison_ws = w.wb.add_worksheet(out.SCENARIO_COMPARISON) if scenario_runs else None
+    bridge_ws = None
+    if scenario_bridges:  # lays itself out (hidden chart columns), as in write_costed
+        import xlsxwriter
+
+        bridge_ws = xlsxwriter.Workbook.add_worksheet(w.wb, out.SCENARIO_BRIDGE)
+    problems_ws = w.wb.add_worksheet(out.PROBLEMS)
+    run_ws = w.wb.add_worksheet(out.RUN)
 
     written: dict[str, int] = {}
     sheets: list[TableSheet] = []
@@ -262,6 +331,34 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
         summary_ts = table(out.SUMMARY, last_row=len(results))
         sheets.append(summary_ts)
         last_row = write_summary(w, summary_ts, results, ranges, quoted)
+        if scenario_runs:
+            sc_legs_ts = table(out.SCENARIO_LEGS)
+            sheets.append(sc_legs_ts)
+            sc_ranges, sc_legs_last = write_scenario_legs(
+                w, [(name, sc_legs_ts) for name in scenario_legs_sheet_names(scenario_runs)], scenario_runs)
+            sc_runs_ts = table(out.SCENARIO_VEHICLE_RUNS)
+            sheets.append(sc_runs_ts)
+            write_scenario_vehicle_runs(w, sc_runs_ts, scenario_runs, sc_ranges)
+            sc_ships_ts = table(out.SCENARIO_SHIPMENTS)
+            sheets.append(sc_ships_ts)
+            _rows, ship_last = write_scenario_shipments(w, sc_ships_ts, scenario_runs, sc_ranges, results)
+            comparison = ValuesOnly(comparison_ws, keep_local=True)
+            write_scenarios(w, comparison, results, scenario_runs, last_row, sc_legs_last, ship_last)
+            comparison.write_string(1, 0, cell_text(
+                f"Written beside a Parquet set: the scenario rows these totals add up are in "
+                f"{where(out.SCENARIO_LEGS)} and {where(out.SCENARIO_SHIPMENTS)} (their vehicle runs in "
+                f"{where(out.SCENARIO_VEHICLE_RUNS)}); figures summed from them are values here."))
+        if scenario_bridges:
+            bridge_rows_ts = table(out.SCENARIO_BRIDGE_SHIPMENTS)
+            sheets.append(bridge_rows_ts)
+            bridge = ValuesOnly(bridge_ws, keep_local=True)
+            write_scenario_bridge(w.wb, bridge, bridge_rows_ts, scenario_bridges,
+                                  BridgeFormats(w.wb, model.settings.currency, w.places))
+            bridge.write_string(1, 0, cell_text(
+                f"Written beside a Parquet set: every shipment's share of every step (the "
+                f"{out.SCENARIO_BRIDGE_SHIPMENTS} sheet of a full workbook) is in "
+                f"{where(out.SCENARIO_BRIDGE_SHIPMENTS)}; the step amounts, its column sums, are values "
+                "here."))
         for ts in sheets:
             written[os.path.basename(ts.path)] = ts.close()
     except BaseException:
@@ -276,9 +373,6 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
         rowxml.FAST_ROWS = fast
     total = summary_ts.after.get(last_row + 1, {})
 
-    summary = w.wb.add_worksheet(out.SUMMARY)
-    problems_ws = w.wb.add_worksheet(out.PROBLEMS)
-    run_ws = w.wb.add_worksheet(out.RUN)
     w.header(summary, out.SUMMARY_COLUMNS)
     f = w.f
     for c, (_name, _width, kind) in enumerate(out.SUMMARY_COLUMNS):
@@ -287,17 +381,22 @@ def write_parquet_set(path: str, folder: str, model: Model, results, problems: l
             summary.write_string(1, c, value, f["total_text"])
         elif value is not None:
             summary.write_number(1, c, value, f.get("total_" + kind, f["total_text"]))
+    scen = (f"; the scenarios' rows in {label}/scenario_*.parquet (totals per scenario on "
+            f"{out.SCENARIO_COMPARISON})") if scenario_runs else ""
     summary.write_string(3, 0, cell_text(
-        f"TOTAL of {len(results):,} shipments; the shipment rows are in {label}/{TABLES[out.SUMMARY][0]}, "
-        f"their legs in {label}/{TABLES[out.LEGS][0]}, the vehicle runs in "
-        f"{label}/{TABLES[out.VEHICLE_RUNS][0]} "
+        f"TOTAL of {len(results):,} shipments; the shipment rows are in {where(out.SUMMARY)}, "
+        f"their legs in {where(out.LEGS)}, the vehicle runs in {where(out.VEHICLE_RUNS)}{scen} "
         "(the Run sheet lists each file's rows and columns)"))
     write_problems(w, problems_ws, problems)
+    kept = [name for name, ws in ((out.SCENARIO_COMPARISON, comparison_ws), (out.SCENARIO_BRIDGE, bridge_ws))
+            if ws is not None]
+    in_set = [sheet for sheet, (name, _c) in TABLES.items() if name in written]
     info.extra["Parquet set"] = (
-        f"{label}/ beside this workbook ({reason or 'asked for'}): the Summary shipment rows, Legs, Vehicle "
-        "runs and Carrier charges as Parquet files, one row per spreadsheet row, columns as the workbook's "
-        "(each formula's value); this workbook keeps the Summary TOTAL row, Problems and Run, and the "
-        f"reconciliation below as values. Not written in this mode: {', '.join(LEFT_OUT)}")
+        f"{label}/ beside this workbook ({reason or 'asked for'}): {', '.join(in_set)} as Parquet files "
+        "(Legs and Scenario legs one file each), one row per spreadsheet row, columns as the workbook's "
+        "(each formula's value); this workbook keeps the Summary TOTAL row, "
+        f"{''.join(k + ', ' for k in kept)}Problems and Run, and the reconciliation below as values. "
+        f"Not written in this mode: {', '.join(LEFT_OUT)}")
     for sheet, (name, columns) in TABLES.items():
         if name in written:
             info.extra[f"Parquet file: {label}/{name}"] = (
