@@ -63,7 +63,9 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if len(scenario_runs) * len(results) + 2 > MAX_ROWS:
         raise OutputLimitError(f"{len(scenario_runs)} scenarios of {len(results):,} shipments do not fit on "
                                f"one {out.SCENARIO_SHIPMENTS} sheet ({MAX_ROWS:,} rows)",
-                               "run fewer scenarios at a time, or cost the shipments in smaller batches")
+                               "install pyarrow (pip install 'costing[parquet]') and the run writes the "
+                               "scenario rows as Parquet files beside a summary workbook (costing run "
+                               "--parquet), or run fewer scenarios at a time")
     w = Writer(path, model, info.created, streaming=n_legs + n_scenario_legs >= legs.STREAMING_LEGS)
     summary = w.wb.add_worksheet(out.SUMMARY)
     sheets = {}
