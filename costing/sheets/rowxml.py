@@ -23,6 +23,8 @@ to the worksheet's row file as it is added, after xlsxwriter's own pending row, 
 order, as xlsxwriter does itself in that mode. One difference: xlsxwriter keeps a sheet's last
 row pending until the workbook closes, so that row alone gets the column formats the layout sets
 at close (the wrap of a long-text column); a block writes its last row like the others.
+And a block's cells are not in xlsxwriter's cell table, so a chart over them would get no cached
+points: sheets that a chart reads (Trade-offs, Lane usage, Charts) are written through xlsxwriter.
 
 What the block requires, and checks: its rows are added in increasing row order, below every row
 written through xlsxwriter on that worksheet so far (the header); rows written through xlsxwriter

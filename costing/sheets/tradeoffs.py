@@ -7,7 +7,6 @@ from xlsxwriter.utility import xl_col_to_name
 from costing.contract.outputs import TRADEOFF_COLUMNS
 from costing.money import round_money
 from costing.sheets.formats import Writer, cell_text, route_text
-from costing.sheets.rowxml import RowSink
 
 
 def write_tradeoffs(w: Writer, ws, results, analysis) -> dict[str, tuple[int, int]]:
@@ -27,7 +26,6 @@ def write_tradeoffs(w: Writer, ws, results, analysis) -> dict[str, tuple[int, in
     f = w.f
     cur = w.model.settings.currency
     rows: dict[str, tuple[int, int]] = {}
-    out = RowSink(ws, 1)  # the rows as worksheet XML (costing.sheets.rowxml)
     r = 1
     for res in results:
         routes, capped = analysis.frontiers.get(res.shipment.shipment_id, ([], False))
@@ -38,26 +36,25 @@ def write_tradeoffs(w: Writer, ws, results, analysis) -> dict[str, tuple[int, in
         for k, alt in enumerate(routes, start=1):
             x = r + 1
             hours = alt.quantity("hours")
-            out.write_string(r, c["shipment_id"], cell_text(res.shipment.shipment_id))
-            out.write_number(r, c["option"], k)
-            out.write_number(r, c["total_cost"], alt.total_cost, f["money"])
-            out.write_number(r, c["hours"], hours, f["hours"])
-            out.write_number(r, c["elapsed_hours"], alt.elapsed_hours, f["hours"])
-            out.write_number(r, c["distance_km"], alt.distance_km, f["km"])
-            out.write_number(r, c["co2e_kg"], alt.co2e_kg, f["kg"])
+            ws.write_string(r, c["shipment_id"], cell_text(res.shipment.shipment_id))
+            ws.write_number(r, c["option"], k)
+            ws.write_number(r, c["total_cost"], alt.total_cost, f["money"])
+            ws.write_number(r, c["hours"], hours, f["hours"])
+            ws.write_number(r, c["elapsed_hours"], alt.elapsed_hours, f["hours"])
+            ws.write_number(r, c["distance_km"], alt.distance_km, f["km"])
+            ws.write_number(r, c["co2e_kg"], alt.co2e_kg, f["kg"])
             more = round_money(alt.total_cost - cheapest.total_cost, w.places)
             sooner = cheapest.quantity("hours") - hours
             tc, hc = col["total_cost"], col["hours"]
-            out.write_formula(r, c["pay_more"], "=" + w.round_f(f"{tc}{x}-{tc}{first}"), f["money"], more)
-            out.write_formula(r, c["hours_sooner"], f"={hc}{first}-{hc}{x}", f["hours"], sooner)
+            ws.write_formula(r, c["pay_more"], "=" + w.round_f(f"{tc}{x}-{tc}{first}"), f["money"], more)
+            ws.write_formula(r, c["hours_sooner"], f"={hc}{first}-{hc}{x}", f["hours"], sooner)
             text = "cheapest" if k == 1 else f"pay {more:,.2f} {cur} more, arrive {sooner:.2f} h sooner"
-            out.write_string(r, c["read_out"], text)
-            out.write_string(r, c["vehicle"], cell_text(alt.vehicle))
-            out.write_string(r, c["route"], cell_text(route_text(alt)))
+            ws.write_string(r, c["read_out"], text)
+            ws.write_string(r, c["vehicle"], cell_text(alt.vehicle))
+            ws.write_string(r, c["route"], cell_text(route_text(alt)))
             if k == len(routes) and capped:
-                out.write_string(r, c["note"], "more trade-offs exist: raise frontier_max_routes to see them")
+                ws.write_string(r, c["note"], "more trade-offs exist: raise frontier_max_routes to see them")
             r += 1
         rows[res.shipment.shipment_id] = (first, r)
-    out.finish()
     ws.autofilter(0, 0, max(r - 1, 1), len(TRADEOFF_COLUMNS) - 1)
     return rows
