@@ -127,6 +127,7 @@ class Router:
         self.clock_fallbacks: set[str] = set()  # shipments searched without the clock (too many labels)
         self._reverse: dict = {}  # profile -> reversed rows of its compact network (clock bounds)
         self._costed: dict = {}  # (shipment id, route key) -> priced route (`price`)
+        self._charges: dict = {}  # lane step's charges by their arguments (cost_route's memo)
 
     def network(self, profile: Profile) -> CompactNetwork:
         """The compact network of `profile`, built once and cached (its build time is recorded)."""
@@ -293,7 +294,7 @@ class Router:
                                     for card, uses in runs))
         hit = self._costed.get(key)
         if hit is None:
-            hit = self._costed[key] = cost_route(self.model, s, obj, runs)
+            hit = self._costed[key] = cost_route(self.model, s, obj, runs, memo=self._charges)
         elif hit.objective != obj:
             hit = replace(hit, objective=obj)
         return hit

@@ -291,8 +291,13 @@ def _charges(use: LaneUse, card: RateCard, n: int, paid_hours: float, start_rate
 
 def cost_route(model: Model, shipment: Shipment, objective: str,
                runs: list[tuple[RateCard, list[LaneUse]]], settled: int = 0,
-               pushed: int = 0) -> CostedShipment:
-    """Price a route given as vehicle runs: (rate card, its consecutive lane steps)."""
+               pushed: int = 0, memo: dict | None = None) -> CostedShipment:
+    """Price a route given as vehicle runs: (rate card, its consecutive lane steps).
+
+    `memo`, a dict the caller keeps for one Model (its Settings and currency fixed), holds each
+    lane step's rounded charges by everything they depend on (the lane step, the card, the
+    vehicles, the paid stop hours, the handling, trip and toll rates), so a step priced for one
+    route is not priced again for another: the same arguments give the same charges."""
     settings = model.settings
     places = minor_unit(settings.currency)
     depots: dict[str, Depot] = model.depot_index
@@ -316,8 +321,15 @@ def cost_route(model: Model, shipment: Shipment, objective: str,
             brk, rest = stops[i]
             paid = (brk if settings.break_hours_paid == "yes" else 0.0) + \
                 (rest if settings.rest_hours_paid == "yes" else 0.0)
-            lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = _charges(
-                use, card, n, paid, start_rate, end_rate, trip_rate, settings, places, toll)
+            if memo is None:
+                got = _charges(use, card, n, paid, start_rate, end_rate, trip_rate, settings, places, toll)
+            else:
+                key = (use, card, n, paid, start_rate, end_rate, trip_rate, toll)
+                got = memo.get(key)
+                if got is None:
+                    got = memo[key] = _charges(use, card, n, paid, start_rate, end_rate, trip_rate, settings,
+                                               places, toll)
+            lc, stop_cost, sh_cost, eh_cost, trip_cost, leg_cost = got
             em = emissions(use.km, card, n, shipment.weight_t)
             legs.append(Leg(len(legs) + 1, use, card, n, start_rate, end_rate, hours, trip_rate,
                             lc.km_cost, lc.hour_cost, lc.toll_cost, lc.fixed_cost, lc.fuel_surcharge,
