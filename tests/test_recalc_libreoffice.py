@@ -61,3 +61,31 @@ def test_libreoffice_recalculates_both_kinds_of_lane_usage_formulas(cli, tmp_pat
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(tmp_path / "lanes.xlsx"), str(tmp_path / "recalc"))
     assert checked > 1000 and not mismatches, mismatches[:10]
+
+
+def test_lane_usage_named_sums_stay_under_the_formula_limit(tmp_path):
+    # a spreadsheet formula holds at most 8,192 characters (Excel specifications and limits,
+    # "length of formula contents"; from memory): a lane of NAMED_RUNS runs on rows past a
+    # million must still fit, or fall back to SUMIFS
+    import datetime as dt
+    from types import SimpleNamespace
+
+    from costing.model import Model, Settings
+    from costing.plan.analysis import LaneTotals
+    from costing.sheets import lane_usage
+    from costing.sheets.formats import Writer
+
+    lane = SimpleNamespace(lane_id="L1")
+    runs = [SimpleNamespace(leg=SimpleNamespace(use=SimpleNamespace(lane=lane)))] * lane_usage.NAMED_RUNS
+    other = SimpleNamespace(leg=SimpleNamespace(use=SimpleNamespace(lane=SimpleNamespace(lane_id="L0"))))
+    runs = [other] * 1_040_000 + runs  # the lane's runs on rows 1,040,002 and after
+    analysis = SimpleNamespace(lanes=[LaneTotals("L1", "A", "B", "road", runs=lane_usage.NAMED_RUNS)])
+    path = str(tmp_path / "lane_limit.xlsx")
+    w = Writer(path, Model(Settings(), (), (), (), ()), dt.datetime(2026, 1, 1))
+    lane_usage.write_lane_usage(w, w.wb.add_worksheet("Lane usage"), analysis, len(runs), runs)
+    w.wb.close()
+    ws = openpyxl.load_workbook(path)["Lane usage"]
+    formulas = [c.value for row in ws.iter_rows(min_row=2) for c in row if isinstance(c.value, str)
+                and c.value.startswith("=")]
+    assert formulas and max(len(f) for f in formulas) <= 8192
+    assert any("'Vehicle runs'!" in f and "SUMIFS" not in f for f in formulas), "named sums kept"

@@ -14,8 +14,12 @@ C_VEHICLES = xl_col_to_name(RUN_COL["vehicles"])
 
 
 # a lane with at most this many vehicle runs adds its runs' cells by name; more, SUMIFS over the
-# whole Vehicle runs sheet (SUM takes at most 255 arguments)
-NAMED_RUNS = 40
+# whole Vehicle runs sheet. 120 keeps the longest formula (vehicles x km, about 50 characters a
+# run) near 6,000 characters, under the 8,192 a spreadsheet formula may hold, and COUNT's list
+# under its 255 arguments. On the 5,000-shipment week of benchmarks/bench_week.py 116 of 1,547
+# lanes had more than 40 runs, each with formulas over every run row.
+NAMED_RUNS = 120
+MAX_FORMULA = 8000  # characters; a longer named sum falls back to SUMIFS (the limit is 8,192)
 
 
 def write_lane_usage(w: Writer, ws, analysis, n_runs: int, runs=None) -> None:
@@ -56,7 +60,8 @@ def write_lane_usage(w: Writer, ws, analysis, n_runs: int, runs=None) -> None:
         ws.write_string(r, c["to_depot"], cell_text(u.to_depot))
         ws.write_string(r, c["mode"], u.mode)
         rows = rows_of.get(u.lane_id, [])
-        if rows and len(rows) <= NAMED_RUNS:
+        longest = named("vehicles", rows, "distance_km") if rows and len(rows) <= NAMED_RUNS else ""
+        if rows and len(rows) <= NAMED_RUNS and len(longest) < MAX_FORMULA:
             # the runs counted by their vehicles cell (a number on every run row)
             ws.write_formula(r, c["runs"], f"=COUNT({','.join(f'{vr}!{C_VEHICLES}{y}' for y in rows)})",
                              w.f["int"], u.runs)
