@@ -28,7 +28,9 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     f = w.f
     out = RowSink(ws, 1)  # the shipment rows as worksheet XML (costing.sheets.rowxml)
     r = 0
-    summed: dict[int, dict[str, float]] = {}  # id(result) -> its summed columns' cached values
+    # row -> the shipment's summed columns' cached values, by position (a distributed run's
+    # results are rebuilt as they are read, so an object's id names no shipment for long)
+    summed: dict[int, dict[str, float]] = {}
     for r, res in enumerate(results, start=1):
         x = r + 1
         s = res.shipment
@@ -55,7 +57,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         out.write_number(r, c["vehicles"], res.vehicles)
         out.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
-        values = summed[id(res)] = shipment_values(res)
+        values = summed[r] = shipment_values(res)
         for col, legs_cols in SUMMED.items():
             kind = SUMMARY_COLUMNS[c[col]][2]
             expr = "+".join(f"SUM({sh}!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
@@ -75,8 +77,11 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     # totals row: each column's sum, cached from the same figures
     t = last + 1
     ws.write_string(t, 0, "TOTAL", f["total_text"])
-    routed = [x for x in results if x.status == ROUTED]
-    values = [summed.get(id(x)) or shipment_values(x) for x in routed]
+    routed, values = [], []
+    for k, x in enumerate(results, start=1):
+        if x.status == ROUTED:
+            routed.append(x)
+            values.append(summed.get(k) or shipment_values(x))
     totals: dict[str, float] = {col: sum(v[col] for v in values) for col in SUMMED}
     totals["legs"] = sum(len(x.legs) for x in routed)
     totals["weight_t"] = sum(x.shipment.weight_t for x in results)
