@@ -289,152 +289,342 @@ def vehicles_for(sizes: Iterable[Sequence[float]], cap: Capacity) -> int:
     return len(bins)
 
 
+class _Packer:
+    """First-fit decreasing for one card's capacity, on loads named by their index: the count
+    ``vehicles_for`` gives for the same loads in index order (the same pieces, the same test of
+    all of them in one vehicle summed in the same order, the same order of pieces and the same
+    first fit, with the same float arithmetic), each load's pieces and sort key worked out once."""
+
+    def __init__(self, cap: Capacity, loads: Sequence[Load]):
+        self.cap = cap
+        self.loads = loads
+        self.dims = [(i, c) for i, c in enumerate(cap.dims()) if c is not None]
+        self.lims = tuple(c + _EPS * max(1.0, c) for _i, c in self.dims)
+        # load index -> (sort key, one piece's sizes in the capacity's dims, that per dim repeated
+        # for each piece)
+        self._info: dict[int, tuple] = {}
+        self._alone: dict[int, int] = {}
+
+    def info(self, li: int) -> tuple:
+        inf = self._info.get(li)
+        if inf is None:
+            pieces = _pieces(self.loads[li].size(), self.cap)
+            it = pieces[0]
+            key = (max(it[i] / c for i, c in self.dims), tuple(it)) if self.dims else ()
+            vals = tuple(it[i] for i, _c in self.dims)
+            inf = self._info[li] = (key, vals, tuple((v,) * len(pieces) for v in vals))
+        return inf
+
+    def alone(self, li: int) -> int:
+        """Vehicles of load li alone."""
+        n = self._alone.get(li)
+        if n is None:
+            n = self._alone[li] = self.count([li])
+        return n
+
+    def count(self, members: Sequence[int]) -> int:
+        """First-fit decreasing vehicles of the loads `members` (ascending indices)."""
+        if not members:
+            return 0
+        if not self.dims:
+            return 1
+        infos = [self.info(li) for li in members]
+        # all of it in one vehicle: vehicles_for's test, its sums in the same order
+        if all(sum([x for inf in infos for x in inf[2][d]]) <= lim for d, lim in enumerate(self.lims)):
+            return 1
+        # decreasing by the key; pieces with equal keys are equal, so their order does not matter
+        infos.sort(key=_first, reverse=True)
+        items = [inf[1] for inf in infos for _x in inf[2][0]]
+        return _first_fit(items, self.lims)
+
+
+def _first(t: tuple):
+    return t[0]
+
+
+def _first_fit(items: list[tuple[float, ...]], lims: tuple[float, ...]) -> int:
+    """Bins that first fit opens for `items` (in order; sizes in the capacity's dims) under the
+    limits `lims`: each item into the first bin where it fits in every dim, else a new bin (the
+    loop of ``vehicles_for``, the same additions and comparisons)."""
+    if len(lims) == 1:
+        (lim,) = lims
+        one: list[float] = []
+        for (w,) in items:
+            for j, b in enumerate(one):
+                if b + w <= lim:
+                    one[j] = b + w
+                    break
+            else:
+                one.append(w)
+        return len(one)
+    if len(lims) == 2:
+        l0, l1 = lims
+        b0: list[float] = []
+        b1: list[float] = []
+        for w, p in items:
+            for j in range(len(b0)):
+                if b0[j] + w <= l0 and b1[j] + p <= l1:
+                    b0[j] += w
+                    b1[j] += p
+                    break
+            else:
+                b0.append(w)
+                b1.append(p)
+        return len(b0)
+    bins: list[list[float]] = []
+    for it in items:
+        for b in bins:
+            if all(b[k] + it[k] <= lim for k, lim in enumerate(lims)):
+                for k in range(len(lims)):
+                    b[k] += it[k]
+                break
+        else:
+            bins.append(list(it))
+    return len(bins)
+
+
+class _Packing:
+    """First-fit decreasing vehicles of one set of loads on one card, and of that set with one
+    load more or less (any run of that card with those members has these counts)."""
+
+    __slots__ = ("order", "packer", "_base", "plus", "minus")
+
+    def __init__(self, order: list[int], packer: _Packer):
+        self.order = order  # the members, ascending
+        self.packer = packer
+        self._base: int | None = None
+        self.plus: dict[int, int] = {}
+        self.minus: dict[int, int] = {}
+
+    @property
+    def base(self) -> int:
+        if self._base is None:
+            self._base = self.packer.count(self.order)
+        return self._base
+
+    def with_(self, li: int) -> int:
+        """Vehicles of the members and load li (not a member)."""
+        n = self.plus.get(li)
+        if n is None:
+            order = self.order.copy()
+            bisect.insort(order, li)
+            n = self.plus[li] = self.packer.count(order)
+        return n
+
+    def without(self, li: int) -> int:
+        """Vehicles of the members but load li (a member)."""
+        n = self.minus.get(li)
+        if n is None:
+            n = self.minus[li] = self.packer.count([i for i in self.order if i != li])
+        return n
+
+
+class _Run:
+    """The loads on one (day, step key, card) and their running aggregates."""
+
+    __slots__ = ("rk", "card", "cpv", "packer", "members", "sums", "alone_sum", "counts", "ex",
+                 "stamp", "packing", "_maxcols")
+
+    def __init__(self, rk: tuple, cpv: float, packer: _Packer):
+        self.rk = rk
+        self.card = rk[2]
+        self.cpv = cpv
+        self.packer = packer
+        self.members: set[int] = set()
+        self.sums = [0.0, 0.0, 0.0]  # total weight t, pallets, m3 of the members
+        self.alone_sum = 0.0  # sum of the members' costs on vehicles of their own
+        self.counts: dict[tuple, int] = {}  # extras vector -> members placed with it
+        self.ex: dict[int, tuple[float, ...]] = {}  # member -> the extras it is placed with
+        self.stamp = 0  # the State's clock when the run last changed
+        self.packing: _Packing | None = None  # of the current members (None: look it up)
+        self._maxcols: tuple[list[float], bool] | None = None
+
+
 class _State:
-    """Loads on each (day, step key, card) and the cost of that run, with a packing cache."""
+    """The loads on each (day, step key, card) and the cost of that run.
+
+    Packing counts are kept per (card, set of members), with the count for one load more or less,
+    so a run is packed once per membership and each load tried on it once. Every run carries the
+    clock of its last change (members, their extras, or the floats of its running sums), so a
+    load whose candidate runs are all unchanged since it was last tried (and stayed) is known to
+    stay again without trying it (``settled``)."""
 
     def __init__(self, loads: Sequence[Load], capacities: dict):
         self.loads = loads
         self.capacities = capacities
-        self.members: dict[tuple, set[int]] = {}
-        self.cpv: dict[tuple, float] = {}
-        self.extras: dict[tuple, tuple[float, ...]] = {}  # (run key, load index) -> its extras
-        self._cache: dict[tuple, int] = {}
-        self._alone_cost: dict[tuple, float] = {}
-        # running aggregates of each run's members (kept by place/remove), for large runs
-        self.size_sums: dict[tuple, list[float]] = {}
-        self.alone_sum: dict[tuple, float] = {}
-        self.extra_counts: dict[tuple, dict[tuple, int]] = {}
-        self._packed_now: dict[tuple, int] = {}
-        for li, load in enumerate(loads):
+        self.runs: dict[tuple, _Run] = {}
+        self.placed: dict[tuple, _Run] = {}  # the runs in the order loads were first placed on them
+        self.packers: dict = {}
+        self._packings: dict[tuple, _Packing] = {}
+        self.clock = 1
+        self.seen = [-1] * len(loads)  # the clock when each load was last tried (-1: never)
+        self.steps: list[list[tuple[tuple[_Run, tuple[float, ...]], ...]]] = []
+        self.tried_runs: list[tuple[_Run, ...]] = []  # every step's run of every route, in order
+        for load in loads:
+            routes = []
             for route in load.routes:
+                steps = []
                 for st in route:
                     rk = (load.day, st.key, st.card)
-                    self.extras[(rk, li)] = st.extras
-                    old = self.cpv.setdefault(rk, st.cost_per_vehicle)
-                    if abs(old - st.cost_per_vehicle) > _COST_EPS:
+                    run = self.runs.get(rk)
+                    if run is None:
+                        if st.card not in capacities:
+                            raise ValueError(f"no capacity given for card {st.card!r} "
+                                             f"(load {load.load_id!r}, step {st.key!r})")
+                        packer = self.packers.get(st.card)
+                        if packer is None:
+                            packer = self.packers[st.card] = _Packer(capacities[st.card], loads)
+                        run = self.runs[rk] = _Run(rk, st.cost_per_vehicle, packer)
+                    elif abs(run.cpv - st.cost_per_vehicle) > _COST_EPS:
                         raise ValueError(
-                            f"step {st.key!r} with card {st.card!r} costs {old} per vehicle for one "
+                            f"step {st.key!r} with card {st.card!r} costs {run.cpv} per vehicle for one "
                             f"load but {st.cost_per_vehicle} for load {load.load_id!r}; a shared run "
                             f"has one cost: put what differs per load in the step key")
-                    if st.card not in capacities:
-                        raise ValueError(f"no capacity given for card {st.card!r} "
-                                         f"(load {load.load_id!r}, step {st.key!r})")
+                    steps.append((run, st.extras))
+                routes.append(tuple(steps))
+            self.steps.append(routes)
+            self.tried_runs.append(tuple(run for steps in routes for run, _ex in steps))
 
-    def vehicles(self, rk: tuple, members: frozenset[int]) -> int:
-        """First-fit decreasing vehicles of `members` on run `rk` (cached)."""
-        key = (rk, members)
-        n = self._cache.get(key)
-        if n is None:
-            n = vehicles_for((self.loads[i].size() for i in sorted(members)),
-                             self.capacities[rk[2]])
-            self._cache[key] = n
-        return n
+    # -- packing -------------------------------------------------------------------------------
 
-    def _alone(self, rk: tuple, i: int, extras: tuple[float, ...] | None = None) -> float:
-        """Load i on run rk with vehicles of its own (with `extras`, else those of the route it
-        is placed on)."""
-        ex = self.extras[(rk, i)] if extras is None else extras
-        a = self._alone_cost.get((rk, i, ex))
-        if a is None:
-            a = self._alone_cost[(rk, i, ex)] = self.vehicles(rk, frozenset((i,))) * (self.cpv[rk] + sum(ex))
-        return a
+    def _packing(self, run: _Run) -> _Packing:
+        p = run.packing
+        if p is None:
+            key = (run.card, frozenset(run.members))
+            p = self._packings.get(key)
+            if p is None:
+                p = self._packings[key] = _Packing(sorted(run.members), run.packer)
+            run.packing = p
+        return p
 
-    def _lower_bound(self, rk: tuple, sums: list[float]) -> int:
+    def vehicles(self, rk: tuple, members: Iterable[int]) -> int:
+        """First-fit decreasing vehicles of `members` on run `rk` (kept)."""
+        key = (rk[2], frozenset(members))
+        p = self._packings.get(key)
+        if p is None:
+            p = self._packings[key] = _Packing(sorted(key[1]), self.runs[rk].packer)
+        return p.base
+
+    @staticmethod
+    def _alone(run: _Run, i: int, extras: tuple[float, ...]) -> float:
+        """Load i on the run with vehicles of its own, paying `extras`."""
+        return run.packer.alone(i) * (run.cpv + sum(extras))
+
+    def _lower_bound(self, run: _Run, sums: list[float]) -> int:
         """ceil(total / capacity) in the tightest dimension: no packing needs fewer vehicles."""
         n = 0
-        for x, c in zip(sums, self.capacities[rk[2]].dims()):
+        for x, c in zip(sums, run.packer.cap.dims()):
             if c is not None:
                 n = max(n, math.ceil(x / c - _EPS))
         return max(n, 1)
 
-    def _estimate(self, rk: tuple, members: set[int], li: int) -> int:
-        """Vehicles of `members` plus load li: exact first-fit decreasing for small runs; for a
-        run of more than EXACT_PACKING loads, its current packing's slack over the lower bound
-        added to the lower bound with li (the final count is always packed exactly)."""
-        m = members | {li}
-        if len(m) <= EXACT_PACKING:
-            return self.vehicles(rk, frozenset(m))
-        base = frozenset(members)
-        slack = self.vehicles(rk, base) - self._lower_bound(rk, self._sums(rk))
-        add = self.loads[li].size()
-        return max(self._lower_bound(rk, [a + b for a, b in zip(self._sums(rk), add)]) + slack, 1)
+    # -- the largest extras ----------------------------------------------------------------------
 
-    def _sums(self, rk: tuple) -> list[float]:
-        return self.size_sums.setdefault(rk, [0.0, 0.0, 0.0])
+    @staticmethod
+    def _vectors(run: _Run) -> list[tuple[float, ...]]:
+        return [v for v, k in run.counts.items() if k > 0]
 
-    def _cost(self, rk: tuple, vehicles: int, members: set[int], li: int | None,
-              tried: tuple[float, ...] = ()) -> float:
-        """min(shared, alone) for `members` (the run's current members; plus li with extras
-        `tried` when given) with `vehicles` shared vehicles, from the run's running aggregates."""
-        count = len(members) + (li is not None)
-        if not count:
-            return 0.0
-        shared = vehicles * (self.cpv[rk] + sum(self._max_extras(rk, tried if li is not None else None)))
-        if count == 1:
-            return shared
-        alone = self.alone_sum.get(rk, 0.0) + (self._alone(rk, li, tried) if li is not None else 0.0)
-        return min(shared, alone)
+    def _maxcols(self, run: _Run) -> tuple[list[float], bool]:
+        """The largest of each extra over the members, and whether there is any member (kept
+        until they change)."""
+        m = run._maxcols
+        if m is None:
+            vectors = self._vectors(run)
+            m = run._maxcols = ([max(col) for col in zip(*vectors)] if vectors else [], bool(vectors))
+        return m
 
-    def _max_extras(self, rk: tuple, extra: tuple[float, ...] | None) -> list[float]:
-        """The largest of each extra over the run's members (and `extra`, when given)."""
-        seen = self.extra_counts.get(rk, {})
-        vectors = [v for v, k in seen.items() if k > 0]
-        if extra is not None:
-            vectors.append(extra)
-        return [max(col) for col in zip(*vectors)] if vectors else []
+    @staticmethod
+    def _with(cols: list[float], any_member: bool, extra: tuple[float, ...]) -> list[float]:
+        """`cols` (the largest of each extra over some members, if `any_member`) with `extra`
+        too: max over the column with one more value is max(the column's max, that value)."""
+        if not any_member:
+            return list(extra)
+        return [max(m, e) for m, e in zip(cols, extra)]
 
-    def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
-        """The cheaper of one shared run (vehicles x (shared cost + the largest extras)) and
-        every member on vehicles of its own: loads may always run separately."""
-        m = set(members)
-        if not m:
-            return 0.0
-        cpv = self.cpv[rk]
-        own = [self.extras[(rk, i)] for i in m]
-        shared = self.vehicles(rk, frozenset(m)) * (cpv + sum(max(col) for col in zip(*own)))
-        if len(m) == 1:
-            return shared
-        return min(shared, sum(self._alone(rk, i) for i in m))
+    # -- what a load adds --------------------------------------------------------------------------
 
-    def marginal(self, li: int, route: tuple[Step, ...]) -> float:
-        """What load `li` adds to the runs of `route`, given every other load where it is."""
-        day = self.loads[li].day
+    def marginal(self, li: int, r: int) -> float:
+        """What load `li` adds to the runs of its route `r`, given every other load where it is."""
         add = 0.0
-        for st in route:
-            rk = (day, st.key, st.card)
-            members = self.members.get(rk, set())
-            if len(members) + (li not in members) > EXACT_PACKING:
-                add += self._added_big(rk, members, li, st.extras)
-            elif li in members:  # evaluate as if it were not there
-                self._leave(rk, li)
-                members.discard(li)
-                try:
-                    add += self._added(rk, members, li, st.extras)
-                finally:
-                    members.add(li)
-                    self._join(rk, li)
+        for run, tried in self.steps[li][r]:
+            members = run.members
+            if li in members:
+                if len(members) > EXACT_PACKING:
+                    add += self._added_big(run, li, tried)
+                else:
+                    add += self._added_member(run, li, tried)
+            elif len(members) + 1 > EXACT_PACKING:
+                add += self._added_big(run, li, tried)
             else:
-                add += self._added(rk, members, li, st.extras)
+                add += self._added_new(run, li, tried)
         return add
 
-    def _packed(self, rk: tuple) -> int:
-        """Exact first-fit decreasing vehicles of the run's current members (kept until they change)."""
-        n = self._packed_now.get(rk)
-        if n is None:
-            members = self.members[rk]
-            n = self._packed_now[rk] = vehicles_for((self.loads[i].size() for i in sorted(members)),
-                                                    self.capacities[rk[2]])
-        return n
+    def _added_new(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
+        """Run cost with li (extras `tried`; li not a member) - run cost now: each the cheaper
+        of one shared run and every load alone (``run_cost``)."""
+        k = len(run.members)
+        cpv = run.cpv
+        packing = self._packing(run)
+        cols, any_member = self._maxcols(run)
+        if k:
+            shared = packing.base * (cpv + sum(cols))
+            before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
+        else:
+            before = 0.0
+        shared = packing.with_(li) * (cpv + sum(self._with(cols, any_member, tried)))
+        after = shared if k == 0 else min(shared, run.alone_sum + self._alone(run, li, tried))
+        return after - before
 
-    def _added_big(self, rk: tuple, members: set[int], li: int, tried: tuple[float, ...]) -> float:
-        """`_added` for a run of more than EXACT_PACKING loads, without changing the run: the
+    def _added_member(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
+        """Run cost with member li on extras `tried` - run cost without li, for a run of at most
+        EXACT_PACKING loads. The run's sums are taken down by li and put back as the loads
+        leaving and joining do (the same float operations); if that changes a float, the run
+        counts as changed."""
+        members, sums, counts, cpv = run.members, run.sums, run.counts, run.cpv
+        size = self.loads[li].size()
+        old_sums, old_alone = sums.copy(), run.alone_sum
+        packing = self._packing(run)
+        placed = run.ex[li]
+        for k, x in enumerate(size):
+            sums[k] -= x
+        run.alone_sum -= self._alone(run, li, placed)
+        counts[placed] -= 1
+        members.discard(li)
+        try:
+            k = len(members)
+            if counts[placed] > 0:
+                cols, any_member = self._maxcols(run)
+            else:
+                vectors = self._vectors(run)
+                cols, any_member = ([max(col) for col in zip(*vectors)] if vectors else []), bool(vectors)
+            if k:
+                shared = packing.without(li) * (cpv + sum(cols))
+                before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
+            else:
+                before = 0.0
+            shared = packing.base * (cpv + sum(self._with(cols, any_member, tried)))
+            after = shared if k == 0 else min(shared, run.alone_sum + self._alone(run, li, tried))
+            added = after - before
+        finally:
+            members.add(li)
+            for k, x in enumerate(size):
+                sums[k] += x
+            run.alone_sum = run.alone_sum + self._alone(run, li, placed)
+            counts[placed] = counts.get(placed, 0) + 1
+        if sums != old_sums or run.alone_sum != old_alone:
+            self._changed(run)
+        return added
+
+    def _added_big(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
+        """What li adds to a run of more than EXACT_PACKING loads, without changing the run: the
         vehicles with and without li are its exact packing and the lower bound plus that
         packing's slack, the shares from the running aggregates."""
-        cpv, sums, size = self.cpv[rk], self._sums(rk), self.loads[li].size()
-        packed = self._packed(rk)
-        slack = packed - self._lower_bound(rk, sums)
-        alone_all, own = self.alone_sum.get(rk, 0.0), self._alone(rk, li, tried)
-        counts = dict(self.extra_counts.get(rk, {}))
+        cpv, sums, size = run.cpv, run.sums, self.loads[li].size()
+        members = run.members
+        packed = self._packing(run).base
+        slack = packed - self._lower_bound(run, sums)
+        alone_all, own = run.alone_sum, self._alone(run, li, tried)
+        counts = dict(run.counts)
 
         def cost(n: int, k: int, alone: float) -> float:
             vectors = [v for v, c in counts.items() if c > 0]
@@ -443,64 +633,99 @@ class _State:
 
         k = len(members)
         if li in members:  # placed here with its route's extras; tried with `tried`
-            placed = self.extras[(rk, li)]
+            placed = run.ex[li]
             counts[placed] -= 1
-            rest = alone_all - self._alone(rk, li)
-            n = max(self._lower_bound(rk, [a - b for a, b in zip(sums, size)]) + slack, 1)
+            rest = alone_all - self._alone(run, li, placed)
+            n = max(self._lower_bound(run, [a - b for a, b in zip(sums, size)]) + slack, 1)
             before = cost(n, k - 1, rest) if k > 1 else 0.0
             counts[tried] = counts.get(tried, 0) + 1
             after = cost(packed, k, rest + own)
         else:
             before = cost(packed, k, alone_all) if k else 0.0
             counts[tried] = counts.get(tried, 0) + 1
-            n = max(self._lower_bound(rk, [a + b for a, b in zip(sums, size)]) + slack, 1)
+            n = max(self._lower_bound(run, [a + b for a, b in zip(sums, size)]) + slack, 1)
             after = cost(n, k + 1, alone_all + own)
         return after - before
 
-    def _added(self, rk: tuple, others: set[int], li: int, tried: tuple[float, ...]) -> float:
-        """run cost with li (its extras `tried`) - run cost without it (`others`: the run's
-        members, li not among them)."""
-        before = self._cost(rk, self.vehicles(rk, frozenset(others)), others, None) if others else 0.0
-        after = self._cost(rk, self._estimate(rk, others, li), others, li, tried)
-        return after - before
+    # -- changes ------------------------------------------------------------------------------------
 
-    def _join(self, rk: tuple, li: int) -> None:
-        self._packed_now.pop(rk, None)
+    def _changed(self, run: _Run) -> None:
+        self.clock += 1
+        run.stamp = self.clock
+
+    def settled(self, li: int) -> bool:
+        """Whether load li was tried before, stayed, and no run of its candidate routes has
+        changed since: trying it again would compute the same marginal costs from the same
+        state, so it would stay again. Then the set operations that trying it makes are made
+        (they change nothing, but may move a member to another slot of the set, and ``run_cost``
+        adds in the set's order), and True is returned; else it is marked as tried now."""
+        seen = self.seen[li]
+        runs = self.tried_runs[li]
+        if seen < 0 or any(run.stamp > seen for run in runs):
+            self.seen[li] = self.clock
+            return False
+        for run in runs:
+            m = run.members
+            if li in m and len(m) <= EXACT_PACKING:
+                m.discard(li)
+                m.add(li)
+        return True
+
+    def _join(self, run: _Run, li: int) -> None:
         for k, x in enumerate(self.loads[li].size()):
-            self._sums(rk)[k] += x
-        self.alone_sum[rk] = self.alone_sum.get(rk, 0.0) + self._alone(rk, li)
-        counts = self.extra_counts.setdefault(rk, {})
-        v = self.extras[(rk, li)]
-        counts[v] = counts.get(v, 0) + 1
+            run.sums[k] += x
+        v = run.ex[li]
+        run.alone_sum = run.alone_sum + self._alone(run, li, v)
+        run.counts[v] = run.counts.get(v, 0) + 1
 
-    def _leave(self, rk: tuple, li: int) -> None:
-        self._packed_now.pop(rk, None)
+    def _leave(self, run: _Run, li: int) -> None:
         for k, x in enumerate(self.loads[li].size()):
-            self._sums(rk)[k] -= x
-        self.alone_sum[rk] -= self._alone(rk, li)
-        self.extra_counts[rk][self.extras[(rk, li)]] -= 1
+            run.sums[k] -= x
+        v = run.ex[li]
+        run.alone_sum -= self._alone(run, li, v)
+        run.counts[v] -= 1
 
-    def place(self, li: int, route: tuple[Step, ...]) -> None:
-        """Put load li on `route`: it joins each run with that route's extras on the step (a
-        step can have different extras on different candidate routes: unloading where one ends,
-        none where another goes on)."""
-        for st in route:
-            rk = (self.loads[li].day, st.key, st.card)
-            m = self.members.setdefault(rk, set())
+    def place(self, li: int, r: int) -> None:
+        """Put load li on its route `r`: it joins each run with that route's extras on the step
+        (a step can have different extras on different candidate routes: unloading where one
+        ends, none where another goes on)."""
+        for run, ex in self.steps[li][r]:
+            self.placed.setdefault(run.rk, run)
+            m = run.members
             if li in m:
-                self._leave(rk, li)
+                self._leave(run, li)
             else:
                 m.add(li)
-            self.extras[(rk, li)] = st.extras
-            self._join(rk, li)
+                run.packing = None
+            run.ex[li] = ex
+            self._join(run, li)
+            run._maxcols = None
+            self._changed(run)
 
-    def remove(self, li: int, route: tuple[Step, ...]) -> None:
-        for st in route:
-            rk = (self.loads[li].day, st.key, st.card)
-            m = self.members[rk]
+    def remove(self, li: int, r: int) -> None:
+        """Take load li off the runs of its route `r`."""
+        for run, _ex in self.steps[li][r]:
+            m = run.members
             if li in m:
                 m.discard(li)
-                self._leave(rk, li)
+                self._leave(run, li)
+                run.packing = None
+                run._maxcols = None
+                self._changed(run)
+
+    def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
+        """The cheaper of one shared run (vehicles x (shared cost + the largest extras)) and
+        every member on vehicles of its own: loads may always run separately."""
+        m = set(members)
+        if not m:
+            return 0.0
+        run = self.runs[rk]
+        cpv = run.cpv
+        own = [run.ex[i] for i in m]
+        shared = self.vehicles(rk, m) * (cpv + sum(max(col) for col in zip(*own)))
+        if len(m) == 1:
+            return shared
+        return min(shared, sum(self._alone(run, i, run.ex[i]) for i in m))
 
 
 def _check(loads: Sequence[Load]) -> None:
@@ -552,22 +777,22 @@ def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int], days: s
             partners.update(members[bisect.bisect_right(members, i):])
         for j in sorted(partners):  # the pairs (i, j), j > i, in the order of a sweep over all pairs
             lj = loads[j]
-            ri, rj = li.routes[choice[i]], lj.routes[choice[j]]
+            ri, rj = choice[i], choice[j]
             state.remove(j, rj)
             before = state.marginal(i, ri) + state.marginal(j, rj)
             state.remove(i, ri)
             best = (before - _COST_EPS, choice[i], choice[j])
-            for a, ra in enumerate(li.routes):
-                state.place(i, ra)
-                for b, rb in enumerate(lj.routes):
+            for a in range(len(li.routes)):
+                state.place(i, a)
+                for b in range(len(lj.routes)):
                     if (a, b) == (choice[i], choice[j]):
                         continue
-                    after = state.marginal(i, ra) + state.marginal(j, rb)
+                    after = state.marginal(i, a) + state.marginal(j, b)
                     if after < best[0]:
                         best = (after, a, b)
-                state.remove(i, ra)
-            state.place(i, li.routes[best[1]])
-            state.place(j, lj.routes[best[2]])
+                state.remove(i, a)
+            state.place(i, best[1])
+            state.place(j, best[2])
             if (best[1], best[2]) != (choice[i], choice[j]):
                 choice[i], choice[j] = best[1], best[2]
                 made += 1
@@ -614,15 +839,16 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     choice: list[int] = []
     alone: dict = {}
     alone_route: dict = {}
-    for load in loads:
-        costs = [sum(vehicles_for([load.size()], capacities[st.card]) * (st.cost_per_vehicle + sum(st.extras))
+    for li, load in enumerate(loads):
+        # vehicles_for([load.size()], capacities[st.card]): the same count, worked out once per card
+        costs = [sum(state.packers[st.card].alone(li) * (st.cost_per_vehicle + sum(st.extras))
                      for st in route) for route in load.routes]
         best = min(range(len(costs)), key=lambda r: (costs[r], r))
         choice.append(start.get(load.load_id, best) if start else best)
         alone[load.load_id] = costs[best]
         alone_route[load.load_id] = best
-    for li, load in enumerate(loads):
-        state.place(li, load.routes[choice[li]])
+    for li in range(len(loads)):
+        state.place(li, choice[li])
 
     per_day: dict = {}
     for load in loads:
@@ -636,14 +862,14 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         improved = False
         sweeps += 1
         for li, load in enumerate(loads):
-            if len(load.routes) < 2:
+            if len(load.routes) < 2 or state.settled(li):
                 continue
-            margins = [state.marginal(li, route) for route in load.routes]
+            margins = [state.marginal(li, r) for r in range(len(load.routes))]
             best = min(range(len(margins)), key=lambda r: (margins[r], r))
             if margins[best] < margins[choice[li]] - _COST_EPS:
-                state.remove(li, load.routes[choice[li]])
+                state.remove(li, choice[li])
                 choice[li] = best
-                state.place(li, load.routes[best])
+                state.place(li, best)
                 moves += 1
                 improved = True
         if not improved and pair_moves:
@@ -654,7 +880,8 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     if improved:
         notes.append(f"stopped after {max_sweeps} sweeps (max_sweeps)")
     runs = []
-    for rk, members in state.members.items():
+    for rk, run in state.placed.items():
+        members = run.members
         if not members:
             continue
         ids = sorted(members)
@@ -662,7 +889,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         km = next(st.km for st in loads[ids[0]].routes[choice[ids[0]]]
                   if st.key == key and st.card == card)
         n = state.vehicles(rk, frozenset(members))
-        runs.append(Run(day, key, card, tuple(loads[i].load_id for i in ids), n, state.cpv[rk],
+        runs.append(Run(day, key, card, tuple(loads[i].load_id for i in ids), n, run.cpv,
                         state.run_cost(rk, members), tuple(loads[i].weight_t * km for i in ids)))
     total = sum(r.cost for r in runs)
     return Plan({load.load_id: choice[li] for li, load in enumerate(loads)}, tuple(runs), total,
