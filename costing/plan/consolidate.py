@@ -423,7 +423,7 @@ class _Run:
     """The loads on one (day, step key, card) and their running aggregates."""
 
     __slots__ = ("rk", "card", "cpv", "packer", "members", "sums", "alone_sum", "counts", "ex",
-                 "stamp", "packing", "_maxcols")
+                 "stamp", "packing", "_maxcols", "added")
 
     def __init__(self, rk: tuple, cpv: float, packer: _Packer):
         self.rk = rk
@@ -438,6 +438,8 @@ class _Run:
         self.stamp = 0  # the State's clock when the run last changed
         self.packing: _Packing | None = None  # of the current members (None: look it up)
         self._maxcols: tuple[list[float], bool] | None = None
+        # (load, extras) -> what the load on those extras adds to the run as it is now
+        self.added: dict[tuple, float] = {}
 
 
 class _State:
@@ -544,19 +546,33 @@ class _State:
     # -- what a load adds --------------------------------------------------------------------------
 
     def marginal(self, li: int, r: int) -> float:
-        """What load `li` adds to the runs of its route `r`, given every other load where it is."""
+        """What load `li` adds to the runs of its route `r`, given every other load where it is.
+
+        What it adds to one run (with the step's extras) is kept until the run changes: it is a
+        function of the run's state alone."""
         add = 0.0
         for run, tried in self.steps[li][r]:
             members = run.members
+            x = run.added.get((li, tried))
+            if x is not None:
+                if li in members and len(members) <= EXACT_PACKING:
+                    members.discard(li)  # as _added_member does (see settled)
+                    members.add(li)
+                add += x
+                continue
+            stamp = run.stamp
             if li in members:
                 if len(members) > EXACT_PACKING:
-                    add += self._added_big(run, li, tried)
+                    x = self._added_big(run, li, tried)
                 else:
-                    add += self._added_member(run, li, tried)
+                    x = self._added_member(run, li, tried)
             elif len(members) + 1 > EXACT_PACKING:
-                add += self._added_big(run, li, tried)
+                x = self._added_big(run, li, tried)
             else:
-                add += self._added_new(run, li, tried)
+                x = self._added_new(run, li, tried)
+            if run.stamp == stamp:
+                run.added[(li, tried)] = x
+            add += x
         return add
 
     def _added_new(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
@@ -652,6 +668,7 @@ class _State:
     def _changed(self, run: _Run) -> None:
         self.clock += 1
         run.stamp = self.clock
+        run.added.clear()
 
     def settled(self, li: int) -> bool:
         """Whether load li was tried before, stayed, and no run of its candidate routes has
