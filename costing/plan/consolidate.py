@@ -337,6 +337,43 @@ class _Packer:
         items = [inf[1] for inf in infos for _x in inf[2][0]]
         return _first_fit(items, self.lims)
 
+    def count_with(self, packing: _Packing, li: int) -> int:
+        """``count`` of the members of `packing` and load li (not a member), from the packing's
+        sorted pieces and totals."""
+        if not packing.order:
+            return self.alone(li)
+        if not self.dims:
+            return 1
+        inf = self.info(li)
+        desc, keys, totals, pieces = packing.sorted_pieces()
+        n = pieces + len(inf[2][0])
+        # all of it in one vehicle? `count` sums each dim in index order; the totals here are
+        # summed in another order. Two float sums of the same n numbers >= 0 differ by at most
+        # 2 (n - 1) u (u = 2**-53) of their exact sum, which is at most t (1 + n u): so outside
+        # t +- 4.5e-16 n t the test comes out the same either way; inside it, it is made as
+        # `count` makes it.
+        fits, sure = True, True
+        for d, lim in enumerate(self.lims):
+            t = totals[d] + sum(inf[2][d])
+            tol = 4.5e-16 * n * t
+            if t - tol > lim:
+                fits = False
+                break
+            if t + tol > lim:
+                sure = False
+        if fits and not sure:
+            order = packing.order.copy()
+            bisect.insort(order, li)
+            infos = [self.info(i) for i in order]
+            fits = all(sum([x for f in infos for x in f[2][d]]) <= lim for d, lim in enumerate(self.lims))
+        if fits:
+            return 1
+        p = len(keys) - bisect.bisect_left(keys, inf[0])  # desc[:p]: the pieces with keys >= li's
+        items = [f[1] for f in desc[:p] for _x in f[2][0]]
+        items.extend(inf[1] for _x in inf[2][0])
+        items.extend(f[1] for f in desc[p:] for _x in f[2][0])
+        return _first_fit(items, self.lims)
+
 
 def _first(t: tuple):
     return t[0]
@@ -387,7 +424,7 @@ class _Packing:
     """First-fit decreasing vehicles of one set of loads on one card, and of that set with one
     load more or less (any run of that card with those members has these counts)."""
 
-    __slots__ = ("order", "packer", "_base", "plus", "minus")
+    __slots__ = ("order", "packer", "_base", "plus", "minus", "_sorted")
 
     def __init__(self, order: list[int], packer: _Packer):
         self.order = order  # the members, ascending
@@ -395,6 +432,17 @@ class _Packing:
         self._base: int | None = None
         self.plus: dict[int, int] = {}
         self.minus: dict[int, int] = {}
+        self._sorted: tuple | None = None
+
+    def sorted_pieces(self) -> tuple:
+        """The members' packing data decreasing by sort key, their keys ascending, the total
+        of each dim (summed in that order) and the number of pieces (members and dims >= 1)."""
+        if self._sorted is None:
+            infos = sorted((self.packer.info(i) for i in self.order), key=_first, reverse=True)
+            keys = [f[0] for f in reversed(infos)]
+            totals = tuple(sum(x for f in infos for x in f[2][d]) for d in range(len(self.packer.dims)))
+            self._sorted = (infos, keys, totals, sum(len(f[2][0]) for f in infos))
+        return self._sorted
 
     @property
     def base(self) -> int:
@@ -406,9 +454,7 @@ class _Packing:
         """Vehicles of the members and load li (not a member)."""
         n = self.plus.get(li)
         if n is None:
-            order = self.order.copy()
-            bisect.insort(order, li)
-            n = self.plus[li] = self.packer.count(order)
+            n = self.plus[li] = self.packer.count_with(self, li)
         return n
 
     def without(self, li: int) -> int:
