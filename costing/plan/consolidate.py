@@ -506,6 +506,10 @@ class _State:
         self._packings: dict[tuple, _Packing] = {}
         self.clock = 1
         self.seen = [-1] * len(loads)  # the clock when each load was last tried (-1: never)
+        # while a cycle is being checked (_Cycle): every set operation on the runs' members and
+        # every value of a run's size sums, in order
+        self.log: list | None = None
+        self.trail: list | None = None
         self.steps: list[list[tuple[tuple[_Run, tuple[float, ...]], ...]]] = []
         self.tried_runs: list[tuple[_Run, ...]] = []  # every step's run of every route, in order
         for load in loads:
@@ -604,6 +608,8 @@ class _State:
                 if li in members and len(members) <= EXACT_PACKING:
                     members.discard(li)  # as _added_member does (see settled)
                     members.add(li)
+                    if self.log is not None:
+                        self.log.append((run, li, 2))
                 add += x
                 continue
             stamp = run.stamp
@@ -649,6 +655,8 @@ class _State:
         placed = run.ex[li]
         for k, x in enumerate(size):
             sums[k] -= x
+        if self.trail is not None:
+            self.trail.append((run, tuple(sums)))
         run.alone_sum -= self._alone(run, li, placed)
         counts[placed] -= 1
         members.discard(li)
@@ -673,6 +681,10 @@ class _State:
                 sums[k] += x
             run.alone_sum = run.alone_sum + self._alone(run, li, placed)
             counts[placed] = counts.get(placed, 0) + 1
+            if self.log is not None:
+                self.log.append((run, li, 2))
+            if self.trail is not None:
+                self.trail.append((run, tuple(sums)))
         if sums != old_sums or run.alone_sum != old_alone:
             self._changed(run)
         return added
@@ -732,11 +744,15 @@ class _State:
             if li in m and len(m) <= EXACT_PACKING:
                 m.discard(li)
                 m.add(li)
+                if self.log is not None:
+                    self.log.append((run, li, 2))
         return True
 
     def _join(self, run: _Run, li: int) -> None:
         for k, x in enumerate(self.loads[li].size()):
             run.sums[k] += x
+        if self.trail is not None:
+            self.trail.append((run, tuple(run.sums)))
         v = run.ex[li]
         run.alone_sum = run.alone_sum + self._alone(run, li, v)
         run.counts[v] = run.counts.get(v, 0) + 1
@@ -744,6 +760,8 @@ class _State:
     def _leave(self, run: _Run, li: int) -> None:
         for k, x in enumerate(self.loads[li].size()):
             run.sums[k] -= x
+        if self.trail is not None:
+            self.trail.append((run, tuple(run.sums)))
         v = run.ex[li]
         run.alone_sum -= self._alone(run, li, v)
         run.counts[v] -= 1
@@ -760,6 +778,8 @@ class _State:
             else:
                 m.add(li)
                 run.packing = None
+                if self.log is not None:
+                    self.log.append((run, li, 1))
             run.ex[li] = ex
             self._join(run, li)
             run._maxcols = None
@@ -771,6 +791,8 @@ class _State:
             m = run.members
             if li in m:
                 m.discard(li)
+                if self.log is not None:
+                    self.log.append((run, li, 0))
                 self._leave(run, li)
                 run.packing = None
                 run._maxcols = None
@@ -789,6 +811,178 @@ class _State:
         if len(m) == 1:
             return shared
         return min(shared, sum(self._alone(run, i, run.ex[i]) for i in m))
+
+    def order_matters(self, run: _Run) -> bool:
+        """Whether ``run_cost`` of the run's members could depend on the order of its set (the
+        sum of the members alone, in set order, is the cost when it is not more than shared):
+        False when the run has at most two members (a + b == b + a) or when shared is below
+        every order's sum (float sums of n numbers >= 0 in two orders differ by at most
+        2 (n - 1) u of the exact sum, u = 2**-53)."""
+        m = run.members
+        if len(m) < 3:
+            return False
+        alone = [self._alone(run, i, run.ex[i]) for i in m]
+        if min(alone) < 0:
+            return True
+        total = sum(alone)
+        shared = self.vehicles(run.rk, m) * (run.cpv + sum(max(col) for col in zip(*(run.ex[i] for i in m))))
+        return not shared < total * (1.0 - 4.5e-16 * len(m)) - 1e-300
+
+
+def _snapshot(run: _Run) -> tuple:
+    """What of a run the moves read: members, size sums, alone sum, extras counts (in their
+    order) and the members' extras."""
+    m = sorted(run.members)
+    return m, tuple(run.sums), run.alone_sum, tuple(run.counts.items()), [run.ex[i] for i in m]
+
+
+class _Cycle:
+    """A check that the improvement loop has entered a cycle, and the jump over its repeats.
+
+    The loop (a sweep of single moves, and pair moves after a sweep without one) is a function
+    of its state: the choices; per run the members, their extras, the extras counts (in order),
+    the alone sum and the size sums. Moves of runs of more than EXACT_PACKING loads are
+    estimated, so a move can raise the true total and the loop can come back to an earlier
+    plan and repeat it until ``max_sweeps``. Taking a load off a run and putting it back
+    changes the size sums by rounding only, so the state does not repeat exactly; but the size
+    sums are read only through ``ceil(sum / capacity - _EPS)`` (``_State._lower_bound``).
+
+    At a loop start where the choices equal those of `period` loops before, the state is
+    recorded (A), the next `period` loops run as usual while every value the size sums take is
+    recorded, and the state at the end (B) is compared with A. If all of it but some size sums
+    is equal, the next loops repeat these `period` loops exactly as long as every lower bound
+    they compute comes out the same: the size sums then go through the same additions, each
+    off by at most the difference at the loop start plus one ulp per addition, so that the
+    drift after t repeats is at most t (|B - A| + additions x ulp). When every bound computed
+    from every recorded value of a drifting sum (with or without any load that may try the
+    run) is the same integer at both ends of that margin, the remaining repeats are skipped:
+    moves and sweeps are counted as they would be, and the set operations of the skipped
+    loops are replayed on the runs whose ``run_cost`` depends on the order of their set, so the
+    plan returned is the one the loops would have returned. Otherwise the loop just goes on."""
+
+    WINDOW = 8  # periods looked for: 1 to WINDOW loops
+    ATTEMPTS = 6  # checks that may fail before no more are made
+
+    def __init__(self, state: _State, max_sweeps: int):
+        self.state = state
+        self.max_sweeps = max_sweeps
+        self.history: list[tuple[int, ...]] = []  # the choices at the last WINDOW loop starts
+        self.failed = 0
+        self.wait = 0
+        self.on = False
+
+    def start(self, choice: list[int], sweeps: int) -> None:
+        """At a loop start: record the choices; start a check if they repeat."""
+        now = tuple(choice)
+        if not self.on and self.failed < self.ATTEMPTS and self.wait <= 0:
+            for p in range(1, len(self.history) + 1):
+                if self.history[-p] == now and self.max_sweeps - sweeps > 3 * p:
+                    self._begin(p, sweeps)
+                    break
+        self.wait -= 1
+        self.history.append(now)
+        del self.history[:-self.WINDOW]
+        if self.on and sweeps - self.first == self.phase:
+            self.sensitive = [run for run in self.state.placed.values() if self.state.order_matters(run)]
+
+    def _begin(self, period: int, sweeps: int) -> None:
+        state = self.state
+        self.on, self.period, self.first, self.a_choice = True, period, sweeps, self.history[-period]
+        self.phase = (self.max_sweeps - sweeps) % period  # the loop start the skipped loops end at
+        self.clock = state.clock
+        self.a = {rk: _snapshot(run) for rk, run in state.placed.items()}
+        self.placed = len(state.placed)
+        self.moves: list[int] = []
+        state.log, state.trail = [], []
+
+    def end(self, moves: int) -> None:
+        """After a loop of the check: the moves it made."""
+        if self.on:
+            self.moves.append(moves)
+
+    def jump(self, choice: list[int], sweeps: int) -> tuple[int, int] | None:
+        """At a loop start after `period` loops of a check: (moves, sweeps) to add when the
+        loops repeat (the skipped loops' set operations then replayed), else None."""
+        if not self.on or sweeps - self.first < self.period:
+            return None
+        state = self.state
+        log, trail = state.log, state.trail
+        state.log = state.trail = None
+        self.on = False
+        drift = self._drift() if tuple(choice) == self.a_choice else None
+        q = (self.max_sweeps - sweeps) // self.period
+        if drift is None or not self._safe(drift, trail, q):
+            self.failed += 1
+            self.wait = self.period * 2 ** self.failed
+            return None
+        sensitive = {id(run) for run in self.sensitive}
+        ops = [(run.members, li, kind) for run, li, kind in log if id(run) in sensitive]
+        for _ in range(q):
+            for m, li, kind in ops:
+                if kind == 0:
+                    m.discard(li)
+                elif kind == 1:
+                    m.add(li)
+                else:
+                    m.discard(li)
+                    m.add(li)
+        return q * sum(self.moves), q * self.period
+
+    def _drift(self) -> dict | None:
+        """(run, dim) -> |B - A| for the size sums that differ, when nothing else does; None
+        when something else does."""
+        state = self.state
+        if len(state.placed) != self.placed:
+            return None
+        out = {}
+        for rk, run in state.placed.items():
+            if run.stamp <= self.clock:
+                continue  # unchanged since A
+            a, b = self.a[rk], _snapshot(run)
+            if a[0] != b[0] or a[2] != b[2] or a[3] != b[3] or a[4] != b[4]:
+                return None
+            for d, (x, y) in enumerate(zip(a[1], b[1])):
+                if x != y:
+                    out[(run, d)] = abs(y - x)
+        return out
+
+    def _safe(self, drift: dict, trail: list, q: int) -> bool:
+        """Whether every lower bound the repeats can compute from a drifting size sum is the
+        same at both ends of its margin (see the class docstring)."""
+        if not drift:
+            return True
+        state = self.state
+        values: dict[tuple, list[float]] = {}
+        for run, sums in trail:
+            for d in range(3):
+                if (run, d) in drift:
+                    values.setdefault((run, d), []).append(sums[d])
+        runs = {run for run, _d in drift}
+        users: dict = {run: set() for run in runs}
+        for li, tried in enumerate(state.tried_runs):
+            for run in tried:
+                if run in users:
+                    users[run].add(li)
+        checks = 0
+        for (run, d), delta in drift.items():
+            c = run.packer.cap.dims()[d]
+            if c is None:
+                continue
+            seen = values.get((run, d), []) + [self.a[run.rk][1][d]]
+            sizes = [state.loads[li].size()[d] for li in users[run]]
+            big = 2.0 * (max(abs(v) for v in seen) + max((abs(x) for x in sizes), default=0.0) + 1.0)
+            ulp = math.ulp(big)
+            margin = (q + 1) * (delta + (len(seen) + 1) * ulp) + 4 * ulp
+            if margin > 1e-6 * c:
+                return False
+            checks += len(seen) * (2 * len(sizes) + 1)
+            if checks > 2_000_000:
+                return False
+            for s in seen:
+                for v in [s] + [s + x for x in sizes] + [s - x for x in sizes]:
+                    if math.ceil((v - margin) / c - _EPS) != math.ceil((v + margin) / c - _EPS):
+                        return False
+        return True
 
 
 def _check(loads: Sequence[Load]) -> None:
@@ -921,9 +1115,18 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
              for d, k in per_day.items() if pair_moves and k > pair_limit]
     moves = sweeps = 0
     improved = True
+    cycle = _Cycle(state, max_sweeps)
     while improved and sweeps < max_sweeps:
+        cycle.start(choice, sweeps)
+        skipped = cycle.jump(choice, sweeps)
+        if skipped is not None:  # the loops repeat: their moves and sweeps counted, not made
+            moves += skipped[0]
+            sweeps += skipped[1]
+            if sweeps >= max_sweeps:
+                break
         improved = False
         sweeps += 1
+        made_before = moves
         for li, load in enumerate(loads):
             if len(load.routes) < 2 or state.settled(li):
                 continue
@@ -939,6 +1142,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
             made = _pair_sweep(state, loads, choice, pair_days)
             moves += made
             improved = made > 0
+        cycle.end(moves - made_before)
 
     if improved:
         notes.append(f"stopped after {max_sweeps} sweeps (max_sweeps)")
