@@ -301,7 +301,7 @@ class _Packer:
         self.dims = [(i, c) for i, c in enumerate(cap.dims()) if c is not None]
         self.lims = tuple(c + _EPS * max(1.0, c) for _i, c in self.dims)
         # load index -> (sort key, one piece's sizes in the capacity's dims, that per dim repeated
-        # for each piece)
+        # for each piece, the pieces' sizes)
         self._info: dict[int, tuple] = {}
         self._alone: dict[int, int] = {}
 
@@ -312,7 +312,7 @@ class _Packer:
             it = pieces[0]
             key = (max(it[i] / c for i, c in self.dims), tuple(it)) if self.dims else ()
             vals = tuple(it[i] for i, _c in self.dims)
-            inf = self._info[li] = (key, vals, tuple((v,) * len(pieces) for v in vals))
+            inf = self._info[li] = (key, vals, tuple((v,) * len(pieces) for v in vals), [vals] * len(pieces))
         return inf
 
     def alone(self, li: int) -> int:
@@ -334,7 +334,9 @@ class _Packer:
             return 1
         # decreasing by the key; pieces with equal keys are equal, so their order does not matter
         infos.sort(key=_first, reverse=True)
-        items = [inf[1] for inf in infos for _x in inf[2][0]]
+        items = []
+        for inf in infos:
+            items += inf[3]
         return _first_fit(items, self.lims)
 
     def count_with(self, packing: _Packing, li: int) -> int:
@@ -342,37 +344,53 @@ class _Packer:
         sorted pieces and totals."""
         if not packing.order:
             return self.alone(li)
+        return self._count_changed(packing, li, 1)
+
+    def count_without(self, packing: _Packing, li: int) -> int:
+        """``count`` of the members of `packing` but load li (a member)."""
+        if len(packing.order) == 1:
+            return 0
+        return self._count_changed(packing, li, -1)
+
+    def _count_changed(self, packing: _Packing, li: int, sign: int) -> int:
         if not self.dims:
             return 1
         inf = self.info(li)
-        desc, keys, totals, pieces = packing.sorted_pieces()
-        n = pieces + len(inf[2][0])
+        items, keys, totals = packing.sorted_pieces()
+        n = len(items) + len(inf[3])
         # all of it in one vehicle? `count` sums each dim in index order; the totals here are
-        # summed in another order. Two float sums of the same n numbers >= 0 differ by at most
-        # 2 (n - 1) u (u = 2**-53) of their exact sum, which is at most t (1 + n u): so outside
-        # t +- 4.5e-16 n t the test comes out the same either way; inside it, it is made as
-        # `count` makes it.
+        # summed in another order, then li's pieces added or taken off. Two float sums of the
+        # same n numbers >= 0 differ by at most 2 (n - 1) u (u = 2**-53) of their exact sum,
+        # which is at most the members' total (1 + n u), taking li's pieces off adds one
+        # rounding of that size: so outside t +- 4.5e-16 n T (T the larger of the two totals)
+        # the test comes out the same either way; inside it, it is made as `count` makes it.
         fits, sure = True, True
         for d, lim in enumerate(self.lims):
-            t = totals[d] + sum(inf[2][d])
-            tol = 4.5e-16 * n * t
+            own = sum(inf[2][d])
+            t = totals[d] + own if sign > 0 else totals[d] - own
+            tol = 4.5e-16 * n * max(t, totals[d])
             if t - tol > lim:
                 fits = False
                 break
             if t + tol > lim:
                 sure = False
         if fits and not sure:
-            order = packing.order.copy()
-            bisect.insort(order, li)
+            if sign > 0:
+                order = packing.order.copy()
+                bisect.insort(order, li)
+            else:
+                order = [i for i in packing.order if i != li]
             infos = [self.info(i) for i in order]
             fits = all(sum([x for f in infos for x in f[2][d]]) <= lim for d, lim in enumerate(self.lims))
         if fits:
             return 1
-        p = len(keys) - bisect.bisect_left(keys, inf[0])  # desc[:p]: the pieces with keys >= li's
-        items = [f[1] for f in desc[:p] for _x in f[2][0]]
-        items.extend(inf[1] for _x in inf[2][0])
-        items.extend(f[1] for f in desc[p:] for _x in f[2][0])
-        return _first_fit(items, self.lims)
+        # items: decreasing by key; keys: the same keys ascending. Pieces with equal keys are
+        # equal, so li's pieces go (or come off) anywhere among the pieces with their key.
+        if sign > 0:
+            p = len(keys) - bisect.bisect_left(keys, inf[0])  # items[:p]: keys >= li's
+            return _first_fit(items[:p] + inf[3] + items[p:], self.lims)
+        p = len(keys) - bisect.bisect_right(keys, inf[0])  # items[p:p + m]: li's key
+        return _first_fit(items[:p] + items[p + len(inf[3]):], self.lims)
 
 
 def _first(t: tuple):
@@ -435,13 +453,18 @@ class _Packing:
         self._sorted: tuple | None = None
 
     def sorted_pieces(self) -> tuple:
-        """The members' packing data decreasing by sort key, their keys ascending, the total
-        of each dim (summed in that order) and the number of pieces (members and dims >= 1)."""
+        """The members' pieces (sizes in the capacity's dims) decreasing by sort key, the
+        pieces' keys ascending and the total of each dim (members and dims >= 1)."""
         if self._sorted is None:
             infos = sorted((self.packer.info(i) for i in self.order), key=_first, reverse=True)
-            keys = [f[0] for f in reversed(infos)]
+            items: list = []
+            keys: list = []
+            for f in reversed(infos):
+                keys += [f[0]] * len(f[3])
+            for f in infos:
+                items += f[3]
             totals = tuple(sum(x for f in infos for x in f[2][d]) for d in range(len(self.packer.dims)))
-            self._sorted = (infos, keys, totals, sum(len(f[2][0]) for f in infos))
+            self._sorted = (items, keys, totals)
         return self._sorted
 
     @property
@@ -461,7 +484,7 @@ class _Packing:
         """Vehicles of the members but load li (a member)."""
         n = self.minus.get(li)
         if n is None:
-            n = self.minus[li] = self.packer.count([i for i in self.order if i != li])
+            n = self.minus[li] = self.packer.count_without(self, li)
         return n
 
 
