@@ -30,18 +30,34 @@ Speed. A run of more than ``EXACT_PACKING`` loads is not repacked at every move:
 one more load are estimated as the lower bound (total / capacity in the tightest dimension) plus
 the slack of its current exact packing, from running sums kept as loads join and leave; shares,
 handling maxima and stand-alone sums are kept the same way. The final runs are packed exactly.
+Nothing below changes a plan (the same moves in the same order, the same float arithmetic):
+- Packing counts are kept per (card, set of members), with the counts of that set with one load
+  more or less, each packed by the first-fit decreasing of ``vehicles_for`` (same pieces, same
+  order, same sums); a run is packed once per membership, each load tried on it once.
+- What a load adds to a run (on given extras) is kept until the run changes (members, their
+  extras, or a float of its running sums); a load none of whose candidate runs changed since it
+  was last tried and stayed is not tried again (it would compute the same and stay).
+- Estimated moves can lower the estimate but raise the true total, and the sweeps can then
+  repeat a few plans until ``max_sweeps``. Such a cycle is recognised (``_Cycle``): when its
+  state repeats exactly but for rounding drift of the size sums that provably changes no lower
+  bound the remaining repeats would compute, the repeats are counted, not made, and the plan
+  returned is the one the sweeps would have returned.
 
 Guarantees.
-- Terminates: every move strictly lowers the total, and there are finitely many assignments,
-  so no assignment is visited twice.
-- Never worse than every load alone: in the starting plan each run's vehicles are at most the
+- Terminates: every move strictly lowers the total as the moves compute it; with every run
+  packed exactly that is the true total, there are finitely many assignments and none is
+  visited twice. A move estimated on a run of more than ``EXACT_PACKING`` loads can raise the
+  true total, so plans can repeat: ``max_sweeps`` then stops the sweeps (noted in the plan).
+- Never worse than every load alone (where moves are not estimated): in the starting plan each
+  run's vehicles are at most the
   sum of what its loads need alone (first-fit decreasing opens a vehicle only for an item that
   fits in no open one, so it uses at most one vehicle per piece, and a load alone needs one
   vehicle per piece), so the start costs at most the sum of the loads' stand-alone cheapest
-  costs; moves only lower it.
-- A local optimum with respect to single-load moves (and pair moves, when on): no load (no two
-  loads) can be moved to other candidate routes to lower the total (for runs of more than
-  ``EXACT_PACKING`` loads, the total as estimated above).
+  costs; moves only lower it (for runs of more than ``EXACT_PACKING`` loads, as estimated: see
+  Terminates).
+- When the sweeps stop before ``max_sweeps``, a local optimum with respect to single-load moves
+  (and pair moves, when on): no load (no two loads) can be moved to other candidate routes to
+  lower the total (for runs of more than ``EXACT_PACKING`` loads, the total as estimated above).
 - Not globally optimal in general: moving three or more loads together can lower the total when
   no single or pair move does (without pair moves already two: both onto a shared trunk that is
   dearer for either alone), and first-fit decreasing may use more vehicles than the best
@@ -463,7 +479,7 @@ class _Packing:
                 keys += [f[0]] * len(f[3])
             for f in infos:
                 items += f[3]
-            totals = tuple(sum(x for f in infos for x in f[2][d]) for d in range(len(self.packer.dims)))
+            totals = tuple(sum([it[d] for it in items]) for d in range(len(self.packer.dims)))
             self._sorted = (items, keys, totals)
         return self._sorted
 
@@ -507,7 +523,7 @@ class _Run:
         self.stamp = 0  # the State's clock when the run last changed
         self.packing: _Packing | None = None  # of the current members (None: look it up)
         self._maxcols: tuple[list[float], bool] | None = None
-        # (load, extras) -> what the load on those extras adds to the run as it is now
+        # (load, its extras' number) -> what the load on those extras adds to the run as it is now
         self.added: dict[tuple, float] = {}
 
 
@@ -533,9 +549,11 @@ class _State:
         # every value of a run's size sums, in order
         self.log: list | None = None
         self.trail: list | None = None
-        self.steps: list[list[tuple[tuple[_Run, tuple[float, ...]], ...]]] = []
+        # per load and route: (run, the step's extras, (load, extras number)) per step
+        self.steps: list[list[tuple[tuple[_Run, tuple[float, ...], tuple[int, int]], ...]]] = []
         self.tried_runs: list[tuple[_Run, ...]] = []  # every step's run of every route, in order
-        for load in loads:
+        extras_ids: dict[tuple, int] = {}  # extras vector -> its number (for the keys of _Run.added)
+        for li, load in enumerate(loads):
             routes = []
             for route in load.routes:
                 steps = []
@@ -555,10 +573,11 @@ class _State:
                             f"step {st.key!r} with card {st.card!r} costs {run.cpv} per vehicle for one "
                             f"load but {st.cost_per_vehicle} for load {load.load_id!r}; a shared run "
                             f"has one cost: put what differs per load in the step key")
-                    steps.append((run, st.extras))
+                    eid = extras_ids.setdefault(st.extras, len(extras_ids))
+                    steps.append((run, st.extras, (li, eid)))
                 routes.append(tuple(steps))
             self.steps.append(routes)
-            self.tried_runs.append(tuple(run for steps in routes for run, _ex in steps))
+            self.tried_runs.append(tuple(step[0] for steps in routes for step in steps))
 
     # -- packing -------------------------------------------------------------------------------
 
@@ -624,9 +643,9 @@ class _State:
         What it adds to one run (with the step's extras) is kept until the run changes: it is a
         function of the run's state alone."""
         add = 0.0
-        for run, tried in self.steps[li][r]:
+        for run, tried, key in self.steps[li][r]:
             members = run.members
-            x = run.added.get((li, tried))
+            x = run.added.get(key)
             if x is not None:
                 if li in members and len(members) <= EXACT_PACKING:
                     members.discard(li)  # as _added_member does (see settled)
@@ -646,7 +665,7 @@ class _State:
             else:
                 x = self._added_new(run, li, tried)
             if run.stamp == stamp:
-                run.added[(li, tried)] = x
+                run.added[key] = x
             add += x
         return add
 
@@ -655,14 +674,17 @@ class _State:
         of one shared run and every load alone (``run_cost``)."""
         k = len(run.members)
         cpv = run.cpv
-        packing = self._packing(run)
-        cols, any_member = self._maxcols(run)
+        packing = run.packing or self._packing(run)
+        cols, any_member = run._maxcols or self._maxcols(run)
         if k:
             shared = packing.base * (cpv + sum(cols))
             before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
         else:
             before = 0.0
-        shared = packing.with_(li) * (cpv + sum(self._with(cols, any_member, tried)))
+        n = packing.plus.get(li)
+        if n is None:
+            n = packing.with_(li)
+        shared = n * (cpv + sum([max(m, e) for m, e in zip(cols, tried)] if any_member else tried))
         after = shared if k == 0 else min(shared, run.alone_sum + self._alone(run, li, tried))
         return after - before
 
@@ -793,7 +815,7 @@ class _State:
         """Put load li on its route `r`: it joins each run with that route's extras on the step
         (a step can have different extras on different candidate routes: unloading where one
         ends, none where another goes on)."""
-        for run, ex in self.steps[li][r]:
+        for run, ex, _key in self.steps[li][r]:
             self.placed.setdefault(run.rk, run)
             m = run.members
             if li in m:
@@ -810,7 +832,7 @@ class _State:
 
     def remove(self, li: int, r: int) -> None:
         """Take load li off the runs of its route `r`."""
-        for run, _ex in self.steps[li][r]:
+        for run, _ex, _key in self.steps[li][r]:
             m = run.members
             if li in m:
                 m.discard(li)
@@ -1097,8 +1119,10 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         the day's loads, so its work grows with the square of their number (measured: 300 loads
         on one day take minutes, 100 a few seconds). Larger days get single moves only (noted).
     max_sweeps : int
-        Safety bound on improvement sweeps (the method terminates on its own; this only caps
-        work on very large inputs, and the plan is then still never worse than alone).
+        Bound on improvement sweeps. With every run packed exactly the method terminates on its
+        own; estimated moves on runs of more than EXACT_PACKING loads can repeat plans, which
+        this bound stops (repeats of a recognised cycle are counted, not made: module
+        docstring, Speed).
     start : dict, optional
         load id -> index of the route to start from instead of its cheapest alone (loads not
         named start from their cheapest alone). The "never worse than alone" guarantee then

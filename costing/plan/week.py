@@ -28,8 +28,9 @@ With ``consolidate = yes`` (the default):
    over payload, pallet places and volume. A shared run pays, per vehicle, the lane's charges
    once and the largest of its loads' start handling, end handling and trip rates (a vehicle is
    loaded where any of its loads starts, unloaded where any ends). Its
-   module docstring states the method and its guarantees: it terminates, it is a local optimum
-   for single and pair moves, it is never worse than every load alone.
+   module docstring states the method and its guarantees: it stops (at a local optimum for
+   single and pair moves, or at its bound on sweeps when estimated moves on large runs repeat
+   plans), and where no move is estimated it is never worse than every load alone.
 3. **Price.** Each run is priced for its vehicles. A run of several loads that saves no vehicle,
    or would not cost less than its loads' legs alone, is split back into one run per load
    (without a vehicle saved, sharing changes only the rounding of ROUND(n x rate)).
