@@ -317,7 +317,7 @@ class _Packer:
         self.dims = [(i, c) for i, c in enumerate(cap.dims()) if c is not None]
         self.lims = tuple(c + _EPS * max(1.0, c) for _i, c in self.dims)
         # load index -> (sort key, one piece's sizes in the capacity's dims, that per dim repeated
-        # for each piece, the pieces' sizes)
+        # for each piece, the pieces' sizes, the load's total per dim)
         self._info: dict[int, tuple] = {}
         self._alone: dict[int, int] = {}
 
@@ -328,7 +328,8 @@ class _Packer:
             it = pieces[0]
             key = (max(it[i] / c for i, c in self.dims), tuple(it)) if self.dims else ()
             vals = tuple(it[i] for i, _c in self.dims)
-            inf = self._info[li] = (key, vals, tuple((v,) * len(pieces) for v in vals), [vals] * len(pieces))
+            reps = tuple((v,) * len(pieces) for v in vals)
+            inf = self._info[li] = (key, vals, reps, [vals] * len(pieces), tuple(sum(r) for r in reps))
         return inf
 
     def alone(self, li: int) -> int:
@@ -371,8 +372,8 @@ class _Packer:
     def _count_changed(self, packing: _Packing, li: int, sign: int) -> int:
         if not self.dims:
             return 1
-        inf = self.info(li)
-        items, keys, totals = packing.sorted_pieces()
+        inf = self._info.get(li) or self.info(li)
+        items, keys, totals = packing._sorted or packing.sorted_pieces()
         n = len(items) + len(inf[3])
         # all of it in one vehicle? `count` sums each dim in index order; the totals here are
         # summed in another order, then li's pieces added or taken off. Two float sums of the
@@ -382,7 +383,7 @@ class _Packer:
         # the test comes out the same either way; inside it, it is made as `count` makes it.
         fits, sure = True, True
         for d, lim in enumerate(self.lims):
-            own = sum(inf[2][d])
+            own = inf[4][d]
             t = totals[d] + own if sign > 0 else totals[d] - own
             tol = 4.5e-16 * n * max(t, totals[d])
             if t - tol > lim:
@@ -531,7 +532,7 @@ class _Run:
     """The loads on one (day, step key, card) and their running aggregates."""
 
     __slots__ = ("rk", "card", "cpv", "packer", "members", "sums", "alone_sum", "counts", "ex",
-                 "stamp", "packing", "_maxcols", "added")
+                 "stamp", "packing", "_maxcols", "added", "cost_now")
 
     def __init__(self, rk: tuple, cpv: float, packer: _Packer):
         self.rk = rk
@@ -548,6 +549,7 @@ class _Run:
         self._maxcols: tuple[list[float], bool] | None = None
         # (load, its extras' number) -> what the load on those extras adds to the run as it is now
         self.added: dict[tuple, float] = {}
+        self.cost_now: float | None = None  # _added_new's cost of the run as it is
 
 
 class _State:
@@ -699,17 +701,24 @@ class _State:
         cpv = run.cpv
         packing = run.packing or self._packing(run)
         cols, any_member = run._maxcols or self._maxcols(run)
-        if k:
-            shared = packing.base * (cpv + sum(cols))
-            before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
-        else:
-            before = 0.0
+        before = run.cost_now
+        if before is None:  # the run's cost as it is (kept until it changes)
+            if k:
+                shared = packing.base * (cpv + sum(cols))
+                before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
+            else:
+                before = 0.0
+            run.cost_now = before
         n = packing.plus.get(li)
         if n is None:
             n = packing.with_(li)
         shared = n * (cpv + sum([max(m, e) for m, e in zip(cols, tried)] if any_member else tried))
-        after = shared if k == 0 else min(shared, run.alone_sum + self._alone(run, li, tried))
-        return after - before
+        if k == 0:
+            return shared - before
+        alone = run.packer._alone.get(li)
+        if alone is None:
+            alone = run.packer.alone(li)
+        return min(shared, run.alone_sum + alone * (cpv + sum(tried))) - before
 
     def _added_member(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
         """Run cost with member li on extras `tried` - run cost without li, for a run of at most
@@ -795,6 +804,7 @@ class _State:
         self.clock += 1
         run.stamp = self.clock
         run.added.clear()
+        run.cost_now = None
 
     def settled(self, li: int) -> bool:
         """Whether load li was tried before, stayed, and no run of its candidate routes has
