@@ -931,9 +931,10 @@ class _Cycle:
     is equal, the next loops repeat these `period` loops exactly as long as every lower bound
     they compute comes out the same: the size sums then go through the same additions, each
     off by at most the difference at the loop start plus one ulp per addition, so that the
-    drift after t repeats is at most t (|B - A| + additions x ulp). When every bound computed
-    from every recorded value of a drifting sum (with or without any load that may try the
-    run) is the same integer at both ends of that margin, the remaining repeats are skipped:
+    drift during the t-th repeat is at most (t + 1) (|B - A| + additions x ulp). When every
+    bound computed from every recorded value of a drifting sum (with or without any load that
+    may try the run) is the same integer at both ends of that margin, the remaining repeats
+    are skipped:
     moves and sweeps are counted as they would be, and the set operations of the skipped
     loops are replayed on the runs whose ``run_cost`` depends on the order of their set, so the
     plan returned is the one the loops would have returned. Otherwise the loop just goes on."""
@@ -1050,7 +1051,7 @@ class _Cycle:
             sizes = [state.loads[li].size()[d] for li in users[run]]
             big = 2.0 * (max(abs(v) for v in seen) + max((abs(x) for x in sizes), default=0.0) + 1.0)
             ulp = math.ulp(big)
-            margin = (q + 1) * (delta + (len(seen) + 1) * ulp) + 4 * ulp
+            margin = (q + 2) * (delta + (len(seen) + 1) * ulp) + 4 * ulp  # repeats 1..q, then the rest
             if margin > 1e-6 * c:
                 return False
             checks += len(seen) * (2 * len(sizes) + 1)
