@@ -149,9 +149,10 @@ def _plain(monkeypatch) -> None:
     monkeypatch.setattr(consolidate._Cycle, "ATTEMPTS", 0)
 
 
-def _instance(seed: int, n: int, keys: int) -> list[Load]:
+def _instance(seed: int, n: int, keys: int, least_t: float = 0.5, extras: float = 60.0) -> list[Load]:
     """Loads of one day over a few shared steps: runs of more than EXACT_PACKING loads (whose
-    moves are estimated) as well as small ones."""
+    moves are estimated) as well as small ones; weights from `least_t` to 24 t, handling and trip
+    charges up to `extras`."""
     rng = random.Random(seed)
     cost = {f"K{k}": round(rng.uniform(200, 900), 2) for k in range(keys)}
     loads = []
@@ -159,10 +160,10 @@ def _instance(seed: int, n: int, keys: int) -> list[Load]:
         routes = []
         for _r in range(rng.randint(2, 3)):
             ks = rng.sample(sorted(cost), rng.randint(1, 3))
-            routes.append(tuple(Step(k, "a", cost[k], 100.0, (round(rng.uniform(0, 60), 2),
-                                                              round(rng.uniform(0, 60), 2), 0.0))
+            routes.append(tuple(Step(k, "a", cost[k], 100.0, (round(rng.uniform(0, extras), 2),
+                                                              round(rng.uniform(0, extras), 2), 0.0))
                                 for k in ks))
-        loads.append(Load(i, "d", round(rng.uniform(0.5, 24), 1),
+        loads.append(Load(i, "d", round(rng.uniform(least_t, 24), 1),
                           float(rng.randint(1, 26)) if rng.random() < 0.5 else 0.0, 0.0, tuple(routes)))
     return loads
 
@@ -183,24 +184,32 @@ def test_plan_same_without_what_it_keeps(seed, n, keys, monkeypatch):
         assert _same(p, q)
 
 
-def test_a_cycle_is_skipped_to_the_same_plan(monkeypatch):
-    # seed 378: estimated moves on runs of more than EXACT_PACKING loads make the loop repeat two
-    # plans; the repeats are skipped (checked by hand: the check starts at sweep 7), and the
-    # plan at max_sweeps is the one the loop reaches without skipping, for even and odd counts
-    loads = _instance(378, 80, 10)
+@pytest.mark.parametrize("seed,n,keys,least_t,extras,order_matters",
+                         [(378, 80, 10, 0.5, 60.0, False), (2308, 100, 10, 10.0, 300.0, True)])
+def test_a_cycle_is_skipped_to_the_same_plan(seed, n, keys, least_t, extras, order_matters, monkeypatch):
+    # estimated moves on runs of more than EXACT_PACKING loads make the loop repeat two plans
+    # (found by a search over seeds); the repeats are skipped, and the plan at max_sweeps is
+    # the one the loop reaches without skipping, for even and odd counts. In the second some
+    # runs cost their loads alone, summed in the order of their set: the set operations of the
+    # skipped loops are replayed on those
+    loads = _instance(seed, n, keys, least_t, extras)
     cap = {"a": Capacity(24.5, 33.0)}
     jumps = []
+    replayed = []
     jump = consolidate._Cycle.jump
 
     def spy(self, choice, sweeps):
+        ready = self.on and sweeps - self.first >= self.period
         out = jump(self, choice, sweeps)
         if out is not None:
             jumps.append(out)
+            replayed.append(len(self.sensitive) if ready else 0)
         return out
 
     monkeypatch.setattr(consolidate._Cycle, "jump", spy)
     skipped = [plan(loads, cap, max_sweeps=ms, pair_moves=False) for ms in (300, 301)]
     assert len(jumps) == 2 and all(j[1] > 200 for j in jumps)
+    assert all(bool(k) == order_matters for k in replayed)
     assert all(p.notes == [f"stopped after {ms} sweeps (max_sweeps)"] for p, ms in zip(skipped, (300, 301)))
     monkeypatch.setattr(consolidate._Cycle, "ATTEMPTS", 0)
     walked = [plan(loads, cap, max_sweeps=ms, pair_moves=False) for ms in (300, 301)]
