@@ -3,6 +3,11 @@ the same run, over the same seeded network, through the one pipeline (costing.pi
 
     python -m benchmarks.bench_consolidation                    # 2,000 depots, 10,000 shipments
     python -m benchmarks.bench_consolidation --smoke            # a small run that takes seconds
+    python -m benchmarks.bench_consolidation --shipments 2500 --depots 1000 --lanes 4000 --digest
+
+``--digest`` adds a fingerprint of each plan (every run's loads, vehicles and cost, every
+shipment's total and leg shares): equal fingerprints before and after a change to the plan stage
+show that it changed no plan.
 
 The network is bench_workbook's (depots in a 600 x 600 km region, nearest-neighbour and trunk
 road lanes); 1 depot in 100 is a consolidation hub; shipments leave from 50 origins over five
@@ -15,6 +20,7 @@ from __future__ import annotations
 
 import argparse
 import datetime as dt
+import hashlib
 import os
 import random
 import resource
@@ -46,7 +52,21 @@ def week_model(depots: int, lanes: int, shipments: int, origins: int, seed: int 
                                        for d in model.depots), shipments=ships, rates=rates)
 
 
-def run(model, consolidate: str) -> dict:
+def digest(costed) -> str:
+    """A fingerprint of the plan: every run's id, day, loads, vehicles, cost, tonne-km and
+    emissions, every shipment's status, totals, message and leg shares (reprs of the floats)."""
+    h = hashlib.sha256()
+    for r in costed.runs:
+        h.update(repr((r.run_id, r.day, r.loads, r.vehicles, r.run_cost, r.tonne_km, r.co2e_kg,
+                       r.empty_for)).encode())
+    for r in costed.results:
+        h.update(repr((r.shipment.shipment_id, r.status, r.total_cost, r.standalone_cost, r.message,
+                       [(g.run_id, g.cost_share, g.share_adjust, g.co2e_share, g.leg_cost)
+                        for g in r.legs])).encode())
+    return h.hexdigest()[:16]
+
+
+def run(model, consolidate: str, with_digest: bool = False) -> dict:
     m = replace(model, settings=replace(model.settings, consolidate=consolidate))
     t0 = time.perf_counter()
     costed = pipeline.run(m, pipeline.Options(analyses=False, scenarios=False))
@@ -57,7 +77,8 @@ def run(model, consolidate: str) -> dict:
             "runs": len(costed.runs), "vehicles": sum(r.vehicles for r in costed.runs),
             "shared runs": sum(len(r.loads) > 1 for r in costed.runs),
             "total": round(sum(r.total_cost for r in routed), 2),
-            "standalone": round(sum(r.standalone_cost for r in routed), 2)}
+            "standalone": round(sum(r.standalone_cost for r in routed), 2),
+            **({"plan digest": digest(costed)} if with_digest else {})}
 
 
 def main(argv=None) -> None:
@@ -66,16 +87,18 @@ def main(argv=None) -> None:
     p.add_argument("--lanes", type=int, default=8000)
     p.add_argument("--shipments", type=int, default=10_000)
     p.add_argument("--origins", type=int, default=50)
+    p.add_argument("--seed", type=int, default=11)
     p.add_argument("--smoke", action="store_true", help="200 depots, 500 shipments")
+    p.add_argument("--digest", action="store_true", help="print a fingerprint of each plan")
     args = p.parse_args(argv)
     if args.smoke:
         args.depots, args.lanes, args.shipments, args.origins = 200, 800, 500, 10
     t0 = time.perf_counter()
-    model = week_model(args.depots, args.lanes, args.shipments, args.origins)
+    model = week_model(args.depots, args.lanes, args.shipments, args.origins, seed=args.seed)
     print(f"week: {len(model.depots):,} depots ({sum(d.kind == 'hub' for d in model.depots)} hubs), "
           f"{len(model.lanes):,} lanes, {len(model.shipments):,} shipments over 5 days "
           f"(input built and read in {time.perf_counter() - t0:.1f} s)")
-    rows = [run(model, "no"), run(model, "yes")]
+    rows = [run(model, "no", args.digest), run(model, "yes", args.digest)]
     table = pd.DataFrame(rows).set_index("consolidate").T
     print(table.to_string())
     off, on = rows

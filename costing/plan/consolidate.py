@@ -30,18 +30,34 @@ Speed. A run of more than ``EXACT_PACKING`` loads is not repacked at every move:
 one more load are estimated as the lower bound (total / capacity in the tightest dimension) plus
 the slack of its current exact packing, from running sums kept as loads join and leave; shares,
 handling maxima and stand-alone sums are kept the same way. The final runs are packed exactly.
+Nothing below changes a plan (the same moves in the same order, the same float arithmetic):
+- Packing counts are kept per (card, set of members), with the counts of that set with one load
+  more or less, each packed by the first-fit decreasing of ``vehicles_for`` (same pieces, same
+  order, same sums); a run is packed once per membership, each load tried on it once.
+- What a load adds to a run (on given extras) is kept until the run changes (members, their
+  extras, or a float of its running sums); a load none of whose candidate runs changed since it
+  was last tried and stayed is not tried again (it would compute the same and stay).
+- Estimated moves can lower the estimate but raise the true total, and the sweeps can then
+  repeat a few plans until ``max_sweeps``. Such a cycle is recognised (``_Cycle``): when its
+  state repeats exactly but for rounding drift of the size sums that provably changes no lower
+  bound the remaining repeats would compute, the repeats are counted, not made, and the plan
+  returned is the one the sweeps would have returned.
 
 Guarantees.
-- Terminates: every move strictly lowers the total, and there are finitely many assignments,
-  so no assignment is visited twice.
-- Never worse than every load alone: in the starting plan each run's vehicles are at most the
+- Terminates: every move strictly lowers the total as the moves compute it; with every run
+  packed exactly that is the true total, there are finitely many assignments and none is
+  visited twice. A move estimated on a run of more than ``EXACT_PACKING`` loads can raise the
+  true total, so plans can repeat: ``max_sweeps`` then stops the sweeps (noted in the plan).
+- Never worse than every load alone (where moves are not estimated): in the starting plan each
+  run's vehicles are at most the
   sum of what its loads need alone (first-fit decreasing opens a vehicle only for an item that
   fits in no open one, so it uses at most one vehicle per piece, and a load alone needs one
   vehicle per piece), so the start costs at most the sum of the loads' stand-alone cheapest
-  costs; moves only lower it.
-- A local optimum with respect to single-load moves (and pair moves, when on): no load (no two
-  loads) can be moved to other candidate routes to lower the total (for runs of more than
-  ``EXACT_PACKING`` loads, the total as estimated above).
+  costs; moves only lower it (for runs of more than ``EXACT_PACKING`` loads, as estimated: see
+  Terminates).
+- When the sweeps stop before ``max_sweeps``, a local optimum with respect to single-load moves
+  (and pair moves, when on): no load (no two loads) can be moved to other candidate routes to
+  lower the total (for runs of more than ``EXACT_PACKING`` loads, the total as estimated above).
 - Not globally optimal in general: moving three or more loads together can lower the total when
   no single or pair move does (without pair moves already two: both onto a shared trunk that is
   dearer for either alone), and first-fit decreasing may use more vehicles than the best
@@ -289,152 +305,477 @@ def vehicles_for(sizes: Iterable[Sequence[float]], cap: Capacity) -> int:
     return len(bins)
 
 
+class _Packer:
+    """First-fit decreasing for one card's capacity, on loads named by their index: the count
+    ``vehicles_for`` gives for the same loads in index order (the same pieces, the same test of
+    all of them in one vehicle summed in the same order, the same order of pieces and the same
+    first fit, with the same float arithmetic), each load's pieces and sort key worked out once."""
+
+    def __init__(self, cap: Capacity, loads: Sequence[Load]):
+        self.cap = cap
+        self.loads = loads
+        self.dims = [(i, c) for i, c in enumerate(cap.dims()) if c is not None]
+        self.lims = tuple(c + _EPS * max(1.0, c) for _i, c in self.dims)
+        # load index -> (sort key, one piece's sizes in the capacity's dims, that per dim repeated
+        # for each piece, the pieces' sizes, the load's total per dim)
+        self._info: dict[int, tuple] = {}
+        self._alone: dict[int, int] = {}
+
+    def info(self, li: int) -> tuple:
+        inf = self._info.get(li)
+        if inf is None:
+            pieces = _pieces(self.loads[li].size(), self.cap)
+            it = pieces[0]
+            key = (max(it[i] / c for i, c in self.dims), tuple(it)) if self.dims else ()
+            vals = tuple(it[i] for i, _c in self.dims)
+            reps = tuple((v,) * len(pieces) for v in vals)
+            inf = self._info[li] = (key, vals, reps, [vals] * len(pieces), tuple(sum(r) for r in reps))
+        return inf
+
+    def alone(self, li: int) -> int:
+        """Vehicles of load li alone."""
+        n = self._alone.get(li)
+        if n is None:
+            n = self._alone[li] = self.count([li])
+        return n
+
+    def count(self, members: Sequence[int]) -> int:
+        """First-fit decreasing vehicles of the loads `members` (ascending indices)."""
+        if not members:
+            return 0
+        if not self.dims:
+            return 1
+        infos = [self.info(li) for li in members]
+        # all of it in one vehicle: vehicles_for's test, its sums in the same order
+        if all(sum([x for inf in infos for x in inf[2][d]]) <= lim for d, lim in enumerate(self.lims)):
+            return 1
+        # decreasing by the key; pieces with equal keys are equal, so their order does not matter
+        infos.sort(key=_first, reverse=True)
+        items = []
+        for inf in infos:
+            items += inf[3]
+        return _first_fit(items, self.lims)
+
+    def count_with(self, packing: _Packing, li: int) -> int:
+        """``count`` of the members of `packing` and load li (not a member), from the packing's
+        sorted pieces and totals."""
+        if not packing.order:
+            return self.alone(li)
+        return self._count_changed(packing, li, 1)
+
+    def count_without(self, packing: _Packing, li: int) -> int:
+        """``count`` of the members of `packing` but load li (a member)."""
+        if len(packing.order) == 1:
+            return 0
+        return self._count_changed(packing, li, -1)
+
+    def _count_changed(self, packing: _Packing, li: int, sign: int) -> int:
+        if not self.dims:
+            return 1
+        inf = self._info.get(li) or self.info(li)
+        items, keys, totals = packing._sorted or packing.sorted_pieces()
+        n = len(items) + len(inf[3])
+        # all of it in one vehicle? `count` sums each dim in index order; the totals here are
+        # summed in another order, then li's pieces added or taken off. Two float sums of the
+        # same n numbers >= 0 differ by at most 2 (n - 1) u (u = 2**-53) of their exact sum,
+        # which is at most the members' total (1 + n u), taking li's pieces off adds one
+        # rounding of that size: so outside t +- 4.5e-16 n T (T the larger of the two totals)
+        # the test comes out the same either way; inside it, it is made as `count` makes it.
+        fits, sure = True, True
+        for d, lim in enumerate(self.lims):
+            own = inf[4][d]
+            t = totals[d] + own if sign > 0 else totals[d] - own
+            tol = 4.5e-16 * n * max(t, totals[d])
+            if t - tol > lim:
+                fits = False
+                break
+            if t + tol > lim:
+                sure = False
+        if fits and not sure:
+            if sign > 0:
+                order = packing.order.copy()
+                bisect.insort(order, li)
+            else:
+                order = [i for i in packing.order if i != li]
+            infos = [self.info(i) for i in order]
+            fits = all(sum([x for f in infos for x in f[2][d]]) <= lim for d, lim in enumerate(self.lims))
+        if fits:
+            return 1
+        # items: decreasing by key; keys: the same keys ascending. Pieces with equal keys are
+        # equal, so li's pieces go (or come off) anywhere among the pieces with their key.
+        if sign > 0:
+            p = len(keys) - bisect.bisect_left(keys, inf[0])  # items[:p]: keys >= li's
+            return _first_fit(items[:p] + inf[3] + items[p:], self.lims)
+        p = len(keys) - bisect.bisect_right(keys, inf[0])  # items[p:p + m]: li's key
+        return _first_fit(items[:p] + items[p + len(inf[3]):], self.lims)
+
+
+def _first(t: tuple):
+    return t[0]
+
+
+def _first_fit(items: list[tuple[float, ...]], lims: tuple[float, ...]) -> int:
+    """Bins that first fit opens for `items` (in order; sizes in the capacity's dims) under the
+    limits `lims`: each item into the first bin where it fits in every dim, else a new bin (the
+    loop of ``vehicles_for``, the same additions and comparisons)."""
+    if len(lims) == 1:
+        (lim,) = lims
+        one: list[float] = []
+        for (w,) in items:
+            for j, b in enumerate(one):
+                if b + w <= lim:
+                    one[j] = b + w
+                    break
+            else:
+                one.append(w)
+        return len(one)
+    if len(lims) == 2:
+        l0, l1 = lims
+        b0: list[float] = []
+        b1: list[float] = []
+        if len(items) > 40:
+            # bins before `first` take none of the items left: each lacks room for the least of
+            # them in some dim (sums only grow and float addition is monotone), so first fit
+            # starts there
+            w_min, p_min = [0.0] * len(items), [0.0] * len(items)
+            mw = mp = math.inf
+            for i in range(len(items) - 1, -1, -1):
+                mw, mp = min(mw, items[i][0]), min(mp, items[i][1])
+                w_min[i], p_min[i] = mw, mp
+            first = 0
+            for i, (w, p) in enumerate(items):
+                mw, mp = w_min[i], p_min[i]
+                while first < len(b0) and (b0[first] + mw > l0 or b1[first] + mp > l1):
+                    first += 1
+                for j in range(first, len(b0)):
+                    if b0[j] + w <= l0 and b1[j] + p <= l1:
+                        b0[j] += w
+                        b1[j] += p
+                        break
+                else:
+                    b0.append(w)
+                    b1.append(p)
+            return len(b0)
+        for w, p in items:
+            for j in range(len(b0)):
+                if b0[j] + w <= l0 and b1[j] + p <= l1:
+                    b0[j] += w
+                    b1[j] += p
+                    break
+            else:
+                b0.append(w)
+                b1.append(p)
+        return len(b0)
+    bins: list[list[float]] = []
+    for it in items:
+        for b in bins:
+            if all(b[k] + it[k] <= lim for k, lim in enumerate(lims)):
+                for k in range(len(lims)):
+                    b[k] += it[k]
+                break
+        else:
+            bins.append(list(it))
+    return len(bins)
+
+
+class _Packing:
+    """First-fit decreasing vehicles of one set of loads on one card, and of that set with one
+    load more or less (any run of that card with those members has these counts)."""
+
+    __slots__ = ("order", "packer", "_base", "plus", "minus", "_sorted")
+
+    def __init__(self, order: list[int], packer: _Packer):
+        self.order = order  # the members, ascending
+        self.packer = packer
+        self._base: int | None = None
+        self.plus: dict[int, int] = {}
+        self.minus: dict[int, int] = {}
+        self._sorted: tuple | None = None
+
+    def sorted_pieces(self) -> tuple:
+        """The members' pieces (sizes in the capacity's dims) decreasing by sort key, the
+        pieces' keys ascending and the total of each dim (members and dims >= 1)."""
+        if self._sorted is None:
+            infos = sorted((self.packer.info(i) for i in self.order), key=_first, reverse=True)
+            items: list = []
+            keys: list = []
+            for f in reversed(infos):
+                keys += [f[0]] * len(f[3])
+            for f in infos:
+                items += f[3]
+            totals = tuple(sum([it[d] for it in items]) for d in range(len(self.packer.dims)))
+            self._sorted = (items, keys, totals)
+        return self._sorted
+
+    @property
+    def base(self) -> int:
+        if self._base is None:
+            self._base = self.packer.count(self.order)
+        return self._base
+
+    def with_(self, li: int) -> int:
+        """Vehicles of the members and load li (not a member)."""
+        n = self.plus.get(li)
+        if n is None:
+            n = self.plus[li] = self.packer.count_with(self, li)
+        return n
+
+    def without(self, li: int) -> int:
+        """Vehicles of the members but load li (a member)."""
+        n = self.minus.get(li)
+        if n is None:
+            n = self.minus[li] = self.packer.count_without(self, li)
+        return n
+
+
+class _Run:
+    """The loads on one (day, step key, card) and their running aggregates."""
+
+    __slots__ = ("rk", "card", "cpv", "packer", "members", "sums", "alone_sum", "counts", "ex",
+                 "stamp", "packing", "_maxcols", "added", "cost_now")
+
+    def __init__(self, rk: tuple, cpv: float, packer: _Packer):
+        self.rk = rk
+        self.card = rk[2]
+        self.cpv = cpv
+        self.packer = packer
+        self.members: set[int] = set()
+        self.sums = [0.0, 0.0, 0.0]  # total weight t, pallets, m3 of the members
+        self.alone_sum = 0.0  # sum of the members' costs on vehicles of their own
+        self.counts: dict[tuple, int] = {}  # extras vector -> members placed with it
+        self.ex: dict[int, tuple[float, ...]] = {}  # member -> the extras it is placed with
+        self.stamp = 0  # the State's clock when the run last changed
+        self.packing: _Packing | None = None  # of the current members (None: look it up)
+        self._maxcols: tuple[list[float], bool] | None = None
+        # (load, its extras' number) -> what the load on those extras adds to the run as it is now
+        self.added: dict[tuple, float] = {}
+        self.cost_now: float | None = None  # _added_new's cost of the run as it is
+
+
 class _State:
-    """Loads on each (day, step key, card) and the cost of that run, with a packing cache."""
+    """The loads on each (day, step key, card) and the cost of that run.
+
+    Packing counts are kept per (card, set of members), with the count for one load more or less,
+    so a run is packed once per membership and each load tried on it once. Every run carries the
+    clock of its last change (members, their extras, or the floats of its running sums), so a
+    load whose candidate runs are all unchanged since it was last tried (and stayed) is known to
+    stay again without trying it (``settled``)."""
 
     def __init__(self, loads: Sequence[Load], capacities: dict):
         self.loads = loads
         self.capacities = capacities
-        self.members: dict[tuple, set[int]] = {}
-        self.cpv: dict[tuple, float] = {}
-        self.extras: dict[tuple, tuple[float, ...]] = {}  # (run key, load index) -> its extras
-        self._cache: dict[tuple, int] = {}
-        self._alone_cost: dict[tuple, float] = {}
-        # running aggregates of each run's members (kept by place/remove), for large runs
-        self.size_sums: dict[tuple, list[float]] = {}
-        self.alone_sum: dict[tuple, float] = {}
-        self.extra_counts: dict[tuple, dict[tuple, int]] = {}
-        self._packed_now: dict[tuple, int] = {}
+        self.runs: dict[tuple, _Run] = {}
+        self.placed: dict[tuple, _Run] = {}  # the runs in the order loads were first placed on them
+        self.packers: dict = {}
+        self._packings: dict[tuple, _Packing] = {}
+        self.clock = 1
+        self.seen = [-1] * len(loads)  # the clock when each load was last tried (-1: never)
+        # while a cycle is being checked (_Cycle): every set operation on the runs' members and
+        # every value of a run's size sums, in order
+        self.log: list | None = None
+        self.trail: list | None = None
+        # per load and route: (run, the step's extras, (load, extras number)) per step
+        self.steps: list[list[tuple[tuple[_Run, tuple[float, ...], tuple[int, int]], ...]]] = []
+        self.tried_runs: list[tuple[_Run, ...]] = []  # every step's run of every route, in order
+        extras_ids: dict[tuple, int] = {}  # extras vector -> its number (for the keys of _Run.added)
         for li, load in enumerate(loads):
+            routes = []
             for route in load.routes:
+                steps = []
                 for st in route:
                     rk = (load.day, st.key, st.card)
-                    self.extras[(rk, li)] = st.extras
-                    old = self.cpv.setdefault(rk, st.cost_per_vehicle)
-                    if abs(old - st.cost_per_vehicle) > _COST_EPS:
+                    run = self.runs.get(rk)
+                    if run is None:
+                        if st.card not in capacities:
+                            raise ValueError(f"no capacity given for card {st.card!r} "
+                                             f"(load {load.load_id!r}, step {st.key!r})")
+                        packer = self.packers.get(st.card)
+                        if packer is None:
+                            packer = self.packers[st.card] = _Packer(capacities[st.card], loads)
+                        run = self.runs[rk] = _Run(rk, st.cost_per_vehicle, packer)
+                    elif abs(run.cpv - st.cost_per_vehicle) > _COST_EPS:
                         raise ValueError(
-                            f"step {st.key!r} with card {st.card!r} costs {old} per vehicle for one "
+                            f"step {st.key!r} with card {st.card!r} costs {run.cpv} per vehicle for one "
                             f"load but {st.cost_per_vehicle} for load {load.load_id!r}; a shared run "
                             f"has one cost: put what differs per load in the step key")
-                    if st.card not in capacities:
-                        raise ValueError(f"no capacity given for card {st.card!r} "
-                                         f"(load {load.load_id!r}, step {st.key!r})")
+                    eid = extras_ids.setdefault(st.extras, len(extras_ids))
+                    steps.append((run, st.extras, (li, eid)))
+                routes.append(tuple(steps))
+            self.steps.append(routes)
+            self.tried_runs.append(tuple(step[0] for steps in routes for step in steps))
 
-    def vehicles(self, rk: tuple, members: frozenset[int]) -> int:
-        """First-fit decreasing vehicles of `members` on run `rk` (cached)."""
-        key = (rk, members)
-        n = self._cache.get(key)
-        if n is None:
-            n = vehicles_for((self.loads[i].size() for i in sorted(members)),
-                             self.capacities[rk[2]])
-            self._cache[key] = n
-        return n
+    # -- packing -------------------------------------------------------------------------------
 
-    def _alone(self, rk: tuple, i: int, extras: tuple[float, ...] | None = None) -> float:
-        """Load i on run rk with vehicles of its own (with `extras`, else those of the route it
-        is placed on)."""
-        ex = self.extras[(rk, i)] if extras is None else extras
-        a = self._alone_cost.get((rk, i, ex))
-        if a is None:
-            a = self._alone_cost[(rk, i, ex)] = self.vehicles(rk, frozenset((i,))) * (self.cpv[rk] + sum(ex))
-        return a
+    def _packing(self, run: _Run) -> _Packing:
+        p = run.packing
+        if p is None:
+            key = (run.card, frozenset(run.members))
+            p = self._packings.get(key)
+            if p is None:
+                p = self._packings[key] = _Packing(sorted(run.members), run.packer)
+            run.packing = p
+        return p
 
-    def _lower_bound(self, rk: tuple, sums: list[float]) -> int:
+    def vehicles(self, rk: tuple, members: Iterable[int]) -> int:
+        """First-fit decreasing vehicles of `members` on run `rk` (kept)."""
+        key = (rk[2], frozenset(members))
+        p = self._packings.get(key)
+        if p is None:
+            p = self._packings[key] = _Packing(sorted(key[1]), self.runs[rk].packer)
+        return p.base
+
+    @staticmethod
+    def _alone(run: _Run, i: int, extras: tuple[float, ...]) -> float:
+        """Load i on the run with vehicles of its own, paying `extras`."""
+        return run.packer.alone(i) * (run.cpv + sum(extras))
+
+    def _lower_bound(self, run: _Run, sums: list[float]) -> int:
         """ceil(total / capacity) in the tightest dimension: no packing needs fewer vehicles."""
         n = 0
-        for x, c in zip(sums, self.capacities[rk[2]].dims()):
+        for x, c in zip(sums, run.packer.cap.dims()):
             if c is not None:
                 n = max(n, math.ceil(x / c - _EPS))
         return max(n, 1)
 
-    def _estimate(self, rk: tuple, members: set[int], li: int) -> int:
-        """Vehicles of `members` plus load li: exact first-fit decreasing for small runs; for a
-        run of more than EXACT_PACKING loads, its current packing's slack over the lower bound
-        added to the lower bound with li (the final count is always packed exactly)."""
-        m = members | {li}
-        if len(m) <= EXACT_PACKING:
-            return self.vehicles(rk, frozenset(m))
-        base = frozenset(members)
-        slack = self.vehicles(rk, base) - self._lower_bound(rk, self._sums(rk))
-        add = self.loads[li].size()
-        return max(self._lower_bound(rk, [a + b for a, b in zip(self._sums(rk), add)]) + slack, 1)
+    # -- the largest extras ----------------------------------------------------------------------
 
-    def _sums(self, rk: tuple) -> list[float]:
-        return self.size_sums.setdefault(rk, [0.0, 0.0, 0.0])
+    @staticmethod
+    def _vectors(run: _Run) -> list[tuple[float, ...]]:
+        return [v for v, k in run.counts.items() if k > 0]
 
-    def _cost(self, rk: tuple, vehicles: int, members: set[int], li: int | None,
-              tried: tuple[float, ...] = ()) -> float:
-        """min(shared, alone) for `members` (the run's current members; plus li with extras
-        `tried` when given) with `vehicles` shared vehicles, from the run's running aggregates."""
-        count = len(members) + (li is not None)
-        if not count:
-            return 0.0
-        shared = vehicles * (self.cpv[rk] + sum(self._max_extras(rk, tried if li is not None else None)))
-        if count == 1:
-            return shared
-        alone = self.alone_sum.get(rk, 0.0) + (self._alone(rk, li, tried) if li is not None else 0.0)
-        return min(shared, alone)
+    def _maxcols(self, run: _Run) -> tuple[list[float], bool]:
+        """The largest of each extra over the members, and whether there is any member (kept
+        until they change)."""
+        m = run._maxcols
+        if m is None:
+            vectors = self._vectors(run)
+            m = run._maxcols = ([max(col) for col in zip(*vectors)] if vectors else [], bool(vectors))
+        return m
 
-    def _max_extras(self, rk: tuple, extra: tuple[float, ...] | None) -> list[float]:
-        """The largest of each extra over the run's members (and `extra`, when given)."""
-        seen = self.extra_counts.get(rk, {})
-        vectors = [v for v, k in seen.items() if k > 0]
-        if extra is not None:
-            vectors.append(extra)
-        return [max(col) for col in zip(*vectors)] if vectors else []
+    @staticmethod
+    def _with(cols: list[float], any_member: bool, extra: tuple[float, ...]) -> list[float]:
+        """`cols` (the largest of each extra over some members, if `any_member`) with `extra`
+        too: max over the column with one more value is max(the column's max, that value)."""
+        if not any_member:
+            return list(extra)
+        return [max(m, e) for m, e in zip(cols, extra)]
 
-    def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
-        """The cheaper of one shared run (vehicles x (shared cost + the largest extras)) and
-        every member on vehicles of its own: loads may always run separately."""
-        m = set(members)
-        if not m:
-            return 0.0
-        cpv = self.cpv[rk]
-        own = [self.extras[(rk, i)] for i in m]
-        shared = self.vehicles(rk, frozenset(m)) * (cpv + sum(max(col) for col in zip(*own)))
-        if len(m) == 1:
-            return shared
-        return min(shared, sum(self._alone(rk, i) for i in m))
+    # -- what a load adds --------------------------------------------------------------------------
 
-    def marginal(self, li: int, route: tuple[Step, ...]) -> float:
-        """What load `li` adds to the runs of `route`, given every other load where it is."""
-        day = self.loads[li].day
+    def marginal(self, li: int, r: int) -> float:
+        """What load `li` adds to the runs of its route `r`, given every other load where it is.
+
+        What it adds to one run (with the step's extras) is kept until the run changes: it is a
+        function of the run's state alone."""
         add = 0.0
-        for st in route:
-            rk = (day, st.key, st.card)
-            members = self.members.get(rk, set())
-            if len(members) + (li not in members) > EXACT_PACKING:
-                add += self._added_big(rk, members, li, st.extras)
-            elif li in members:  # evaluate as if it were not there
-                self._leave(rk, li)
-                members.discard(li)
-                try:
-                    add += self._added(rk, members, li, st.extras)
-                finally:
+        for run, tried, key in self.steps[li][r]:
+            members = run.members
+            x = run.added.get(key)
+            if x is not None:
+                if li in members and len(members) <= EXACT_PACKING:
+                    members.discard(li)  # as _added_member does (see settled)
                     members.add(li)
-                    self._join(rk, li)
+                    if self.log is not None:
+                        self.log.append((run, li, 2))
+                add += x
+                continue
+            stamp = run.stamp
+            if li in members:
+                if len(members) > EXACT_PACKING:
+                    x = self._added_big(run, li, tried)
+                else:
+                    x = self._added_member(run, li, tried)
+            elif len(members) + 1 > EXACT_PACKING:
+                x = self._added_big(run, li, tried)
             else:
-                add += self._added(rk, members, li, st.extras)
+                x = self._added_new(run, li, tried)
+            if run.stamp == stamp:
+                run.added[key] = x
+            add += x
         return add
 
-    def _packed(self, rk: tuple) -> int:
-        """Exact first-fit decreasing vehicles of the run's current members (kept until they change)."""
-        n = self._packed_now.get(rk)
+    def _added_new(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
+        """Run cost with li (extras `tried`; li not a member) - run cost now: each the cheaper
+        of one shared run and every load alone (``run_cost``)."""
+        k = len(run.members)
+        cpv = run.cpv
+        packing = run.packing or self._packing(run)
+        cols, any_member = run._maxcols or self._maxcols(run)
+        before = run.cost_now
+        if before is None:  # the run's cost as it is (kept until it changes)
+            if k:
+                shared = packing.base * (cpv + sum(cols))
+                before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
+            else:
+                before = 0.0
+            run.cost_now = before
+        n = packing.plus.get(li)
         if n is None:
-            members = self.members[rk]
-            n = self._packed_now[rk] = vehicles_for((self.loads[i].size() for i in sorted(members)),
-                                                    self.capacities[rk[2]])
-        return n
+            n = packing.with_(li)
+        shared = n * (cpv + sum([max(m, e) for m, e in zip(cols, tried)] if any_member else tried))
+        if k == 0:
+            return shared - before
+        alone = run.packer._alone.get(li)
+        if alone is None:
+            alone = run.packer.alone(li)
+        return min(shared, run.alone_sum + alone * (cpv + sum(tried))) - before
 
-    def _added_big(self, rk: tuple, members: set[int], li: int, tried: tuple[float, ...]) -> float:
-        """`_added` for a run of more than EXACT_PACKING loads, without changing the run: the
+    def _added_member(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
+        """Run cost with member li on extras `tried` - run cost without li, for a run of at most
+        EXACT_PACKING loads. The run's sums are taken down by li and put back as the loads
+        leaving and joining do (the same float operations); if that changes a float, the run
+        counts as changed."""
+        members, sums, counts, cpv = run.members, run.sums, run.counts, run.cpv
+        size = self.loads[li].size()
+        old_sums, old_alone = sums.copy(), run.alone_sum
+        packing = self._packing(run)
+        placed = run.ex[li]
+        for k, x in enumerate(size):
+            sums[k] -= x
+        if self.trail is not None:
+            self.trail.append((run, tuple(sums)))
+        run.alone_sum -= self._alone(run, li, placed)
+        counts[placed] -= 1
+        members.discard(li)
+        try:
+            k = len(members)
+            if counts[placed] > 0:
+                cols, any_member = self._maxcols(run)
+            else:
+                vectors = self._vectors(run)
+                cols, any_member = ([max(col) for col in zip(*vectors)] if vectors else []), bool(vectors)
+            if k:
+                shared = packing.without(li) * (cpv + sum(cols))
+                before = shared if k == 1 else min(shared, run.alone_sum + 0.0)
+            else:
+                before = 0.0
+            shared = packing.base * (cpv + sum(self._with(cols, any_member, tried)))
+            after = shared if k == 0 else min(shared, run.alone_sum + self._alone(run, li, tried))
+            added = after - before
+        finally:
+            members.add(li)
+            for k, x in enumerate(size):
+                sums[k] += x
+            run.alone_sum = run.alone_sum + self._alone(run, li, placed)
+            counts[placed] = counts.get(placed, 0) + 1
+            if self.log is not None:
+                self.log.append((run, li, 2))
+            if self.trail is not None:
+                self.trail.append((run, tuple(sums)))
+        if sums != old_sums or run.alone_sum != old_alone:
+            self._changed(run)
+        return added
+
+    def _added_big(self, run: _Run, li: int, tried: tuple[float, ...]) -> float:
+        """What li adds to a run of more than EXACT_PACKING loads, without changing the run: the
         vehicles with and without li are its exact packing and the lower bound plus that
         packing's slack, the shares from the running aggregates."""
-        cpv, sums, size = self.cpv[rk], self._sums(rk), self.loads[li].size()
-        packed = self._packed(rk)
-        slack = packed - self._lower_bound(rk, sums)
-        alone_all, own = self.alone_sum.get(rk, 0.0), self._alone(rk, li, tried)
-        counts = dict(self.extra_counts.get(rk, {}))
+        cpv, sums, size = run.cpv, run.sums, self.loads[li].size()
+        members = run.members
+        packed = self._packing(run).base
+        slack = packed - self._lower_bound(run, sums)
+        alone_all, own = run.alone_sum, self._alone(run, li, tried)
+        counts = dict(run.counts)
 
         def cost(n: int, k: int, alone: float) -> float:
             vectors = [v for v, c in counts.items() if c > 0]
@@ -443,64 +784,284 @@ class _State:
 
         k = len(members)
         if li in members:  # placed here with its route's extras; tried with `tried`
-            placed = self.extras[(rk, li)]
+            placed = run.ex[li]
             counts[placed] -= 1
-            rest = alone_all - self._alone(rk, li)
-            n = max(self._lower_bound(rk, [a - b for a, b in zip(sums, size)]) + slack, 1)
+            rest = alone_all - self._alone(run, li, placed)
+            n = max(self._lower_bound(run, [a - b for a, b in zip(sums, size)]) + slack, 1)
             before = cost(n, k - 1, rest) if k > 1 else 0.0
             counts[tried] = counts.get(tried, 0) + 1
             after = cost(packed, k, rest + own)
         else:
             before = cost(packed, k, alone_all) if k else 0.0
             counts[tried] = counts.get(tried, 0) + 1
-            n = max(self._lower_bound(rk, [a + b for a, b in zip(sums, size)]) + slack, 1)
+            n = max(self._lower_bound(run, [a + b for a, b in zip(sums, size)]) + slack, 1)
             after = cost(n, k + 1, alone_all + own)
         return after - before
 
-    def _added(self, rk: tuple, others: set[int], li: int, tried: tuple[float, ...]) -> float:
-        """run cost with li (its extras `tried`) - run cost without it (`others`: the run's
-        members, li not among them)."""
-        before = self._cost(rk, self.vehicles(rk, frozenset(others)), others, None) if others else 0.0
-        after = self._cost(rk, self._estimate(rk, others, li), others, li, tried)
-        return after - before
+    # -- changes ------------------------------------------------------------------------------------
 
-    def _join(self, rk: tuple, li: int) -> None:
-        self._packed_now.pop(rk, None)
+    def _changed(self, run: _Run) -> None:
+        self.clock += 1
+        run.stamp = self.clock
+        run.added.clear()
+        run.cost_now = None
+
+    def settled(self, li: int) -> bool:
+        """Whether load li was tried before, stayed, and no run of its candidate routes has
+        changed since: trying it again would compute the same marginal costs from the same
+        state, so it would stay again. Then the set operations that trying it makes are made
+        (they change nothing, but may move a member to another slot of the set, and ``run_cost``
+        adds in the set's order), and True is returned; else it is marked as tried now."""
+        seen = self.seen[li]
+        runs = self.tried_runs[li]
+        if seen < 0 or any(run.stamp > seen for run in runs):
+            self.seen[li] = self.clock
+            return False
+        for run in runs:
+            m = run.members
+            if li in m and len(m) <= EXACT_PACKING:
+                m.discard(li)
+                m.add(li)
+                if self.log is not None:
+                    self.log.append((run, li, 2))
+        return True
+
+    def _join(self, run: _Run, li: int) -> None:
         for k, x in enumerate(self.loads[li].size()):
-            self._sums(rk)[k] += x
-        self.alone_sum[rk] = self.alone_sum.get(rk, 0.0) + self._alone(rk, li)
-        counts = self.extra_counts.setdefault(rk, {})
-        v = self.extras[(rk, li)]
-        counts[v] = counts.get(v, 0) + 1
+            run.sums[k] += x
+        if self.trail is not None:
+            self.trail.append((run, tuple(run.sums)))
+        v = run.ex[li]
+        run.alone_sum = run.alone_sum + self._alone(run, li, v)
+        run.counts[v] = run.counts.get(v, 0) + 1
 
-    def _leave(self, rk: tuple, li: int) -> None:
-        self._packed_now.pop(rk, None)
+    def _leave(self, run: _Run, li: int) -> None:
         for k, x in enumerate(self.loads[li].size()):
-            self._sums(rk)[k] -= x
-        self.alone_sum[rk] -= self._alone(rk, li)
-        self.extra_counts[rk][self.extras[(rk, li)]] -= 1
+            run.sums[k] -= x
+        if self.trail is not None:
+            self.trail.append((run, tuple(run.sums)))
+        v = run.ex[li]
+        run.alone_sum -= self._alone(run, li, v)
+        run.counts[v] -= 1
 
-    def place(self, li: int, route: tuple[Step, ...]) -> None:
-        """Put load li on `route`: it joins each run with that route's extras on the step (a
-        step can have different extras on different candidate routes: unloading where one ends,
-        none where another goes on)."""
-        for st in route:
-            rk = (self.loads[li].day, st.key, st.card)
-            m = self.members.setdefault(rk, set())
+    def place(self, li: int, r: int) -> None:
+        """Put load li on its route `r`: it joins each run with that route's extras on the step
+        (a step can have different extras on different candidate routes: unloading where one
+        ends, none where another goes on)."""
+        for run, ex, _key in self.steps[li][r]:
+            self.placed.setdefault(run.rk, run)
+            m = run.members
             if li in m:
-                self._leave(rk, li)
+                self._leave(run, li)
             else:
                 m.add(li)
-            self.extras[(rk, li)] = st.extras
-            self._join(rk, li)
+                run.packing = None
+                if self.log is not None:
+                    self.log.append((run, li, 1))
+            run.ex[li] = ex
+            self._join(run, li)
+            run._maxcols = None
+            self._changed(run)
 
-    def remove(self, li: int, route: tuple[Step, ...]) -> None:
-        for st in route:
-            rk = (self.loads[li].day, st.key, st.card)
-            m = self.members[rk]
+    def remove(self, li: int, r: int) -> None:
+        """Take load li off the runs of its route `r`."""
+        for run, _ex, _key in self.steps[li][r]:
+            m = run.members
             if li in m:
                 m.discard(li)
-                self._leave(rk, li)
+                if self.log is not None:
+                    self.log.append((run, li, 0))
+                self._leave(run, li)
+                run.packing = None
+                run._maxcols = None
+                self._changed(run)
+
+    def run_cost(self, rk: tuple, members: Iterable[int]) -> float:
+        """The cheaper of one shared run (vehicles x (shared cost + the largest extras)) and
+        every member on vehicles of its own: loads may always run separately."""
+        m = set(members)
+        if not m:
+            return 0.0
+        run = self.runs[rk]
+        cpv = run.cpv
+        own = [run.ex[i] for i in m]
+        shared = self.vehicles(rk, m) * (cpv + sum(max(col) for col in zip(*own)))
+        if len(m) == 1:
+            return shared
+        return min(shared, sum(self._alone(run, i, run.ex[i]) for i in m))
+
+    def order_matters(self, run: _Run) -> bool:
+        """Whether ``run_cost`` of the run's members could depend on the order of its set (the
+        sum of the members alone, in set order, is the cost when it is not more than shared):
+        False when the run has at most two members (a + b == b + a) or when shared is below
+        every order's sum (float sums of n numbers >= 0 in two orders differ by at most
+        2 (n - 1) u of the exact sum, u = 2**-53)."""
+        m = run.members
+        if len(m) < 3:
+            return False
+        alone = [self._alone(run, i, run.ex[i]) for i in m]
+        if min(alone) < 0:
+            return True
+        total = sum(alone)
+        shared = self.vehicles(run.rk, m) * (run.cpv + sum(max(col) for col in zip(*(run.ex[i] for i in m))))
+        return not shared < total * (1.0 - 4.5e-16 * len(m)) - 1e-300
+
+
+def _snapshot(run: _Run) -> tuple:
+    """What of a run the moves read: members, size sums, alone sum, extras counts (in their
+    order) and the members' extras."""
+    m = sorted(run.members)
+    return m, tuple(run.sums), run.alone_sum, tuple(run.counts.items()), [run.ex[i] for i in m]
+
+
+class _Cycle:
+    """A check that the improvement loop has entered a cycle, and the jump over its repeats.
+
+    The loop (a sweep of single moves, and pair moves after a sweep without one) is a function
+    of its state: the choices; per run the members, their extras, the extras counts (in order),
+    the alone sum and the size sums. Moves of runs of more than EXACT_PACKING loads are
+    estimated, so a move can raise the true total and the loop can come back to an earlier
+    plan and repeat it until ``max_sweeps``. Taking a load off a run and putting it back
+    changes the size sums by rounding only, so the state does not repeat exactly; but the size
+    sums are read only through ``ceil(sum / capacity - _EPS)`` (``_State._lower_bound``).
+
+    At a loop start where the choices equal those of `period` loops before, the state is
+    recorded (A), the next `period` loops run as usual while every value the size sums take is
+    recorded, and the state at the end (B) is compared with A. If all of it but some size sums
+    is equal, the next loops repeat these `period` loops exactly as long as every lower bound
+    they compute comes out the same: the size sums then go through the same additions, each
+    off by at most the difference at the loop start plus one ulp per addition, so that the
+    drift during the t-th repeat is at most (t + 1) (|B - A| + additions x ulp). When every
+    bound computed from every recorded value of a drifting sum (with or without any load that
+    may try the run) is the same integer at both ends of that margin, the remaining repeats
+    are skipped:
+    moves and sweeps are counted as they would be, and the set operations of the skipped
+    loops are replayed on the runs whose ``run_cost`` depends on the order of their set, so the
+    plan returned is the one the loops would have returned. Otherwise the loop just goes on."""
+
+    WINDOW = 8  # periods looked for: 1 to WINDOW loops
+    ATTEMPTS = 6  # checks that may fail before no more are made
+
+    def __init__(self, state: _State, max_sweeps: int):
+        self.state = state
+        self.max_sweeps = max_sweeps
+        self.history: list[tuple[int, ...]] = []  # the choices at the last WINDOW loop starts
+        self.failed = 0
+        self.wait = 0
+        self.on = False
+
+    def start(self, choice: list[int], sweeps: int) -> None:
+        """At a loop start: record the choices; start a check if they repeat."""
+        now = tuple(choice)
+        if not self.on and self.failed < self.ATTEMPTS and self.wait <= 0:
+            for p in range(1, len(self.history) + 1):
+                if self.history[-p] == now and self.max_sweeps - sweeps > 3 * p:
+                    self._begin(p, sweeps)
+                    break
+        self.wait -= 1
+        self.history.append(now)
+        del self.history[:-self.WINDOW]
+        if self.on and sweeps - self.first == self.phase:
+            self.sensitive = [run for run in self.state.placed.values() if self.state.order_matters(run)]
+
+    def _begin(self, period: int, sweeps: int) -> None:
+        state = self.state
+        self.on, self.period, self.first, self.a_choice = True, period, sweeps, self.history[-period]
+        self.phase = (self.max_sweeps - sweeps) % period  # the loop start the skipped loops end at
+        self.clock = state.clock
+        self.a = {rk: _snapshot(run) for rk, run in state.placed.items()}
+        self.placed = len(state.placed)
+        self.moves: list[int] = []
+        state.log, state.trail = [], []
+
+    def end(self, moves: int) -> None:
+        """After a loop of the check: the moves it made."""
+        if self.on:
+            self.moves.append(moves)
+
+    def jump(self, choice: list[int], sweeps: int) -> tuple[int, int] | None:
+        """At a loop start after `period` loops of a check: (moves, sweeps) to add when the
+        loops repeat (the skipped loops' set operations then replayed), else None."""
+        if not self.on or sweeps - self.first < self.period:
+            return None
+        state = self.state
+        log, trail = state.log, state.trail
+        state.log = state.trail = None
+        self.on = False
+        drift = self._drift() if tuple(choice) == self.a_choice else None
+        q = (self.max_sweeps - sweeps) // self.period
+        if drift is None or not self._safe(drift, trail, q):
+            self.failed += 1
+            self.wait = self.period * 2 ** self.failed
+            return None
+        sensitive = {id(run) for run in self.sensitive}
+        ops = [(run.members, li, kind) for run, li, kind in log if id(run) in sensitive]
+        for _ in range(q):
+            for m, li, kind in ops:
+                if kind == 0:
+                    m.discard(li)
+                elif kind == 1:
+                    m.add(li)
+                else:
+                    m.discard(li)
+                    m.add(li)
+        return q * sum(self.moves), q * self.period
+
+    def _drift(self) -> dict | None:
+        """(run, dim) -> |B - A| for the size sums that differ, when nothing else does; None
+        when something else does."""
+        state = self.state
+        if len(state.placed) != self.placed:
+            return None
+        out = {}
+        for rk, run in state.placed.items():
+            if run.stamp <= self.clock:
+                continue  # unchanged since A
+            a, b = self.a[rk], _snapshot(run)
+            if a[0] != b[0] or a[2] != b[2] or a[3] != b[3] or a[4] != b[4]:
+                return None
+            for d, (x, y) in enumerate(zip(a[1], b[1])):
+                if x != y:
+                    out[(run, d)] = abs(y - x)
+        return out
+
+    def _safe(self, drift: dict, trail: list, q: int) -> bool:
+        """Whether every lower bound the repeats can compute from a drifting size sum is the
+        same at both ends of its margin (see the class docstring)."""
+        if not drift:
+            return True
+        state = self.state
+        values: dict[tuple, list[float]] = {}
+        for run, sums in trail:
+            for d in range(3):
+                if (run, d) in drift:
+                    values.setdefault((run, d), []).append(sums[d])
+        runs = {run for run, _d in drift}
+        users: dict = {run: set() for run in runs}
+        for li, tried in enumerate(state.tried_runs):
+            for run in tried:
+                if run in users:
+                    users[run].add(li)
+        checks = 0
+        for (run, d), delta in drift.items():
+            c = run.packer.cap.dims()[d]
+            if c is None:
+                continue
+            seen = values.get((run, d), []) + [self.a[run.rk][1][d]]
+            sizes = [state.loads[li].size()[d] for li in users[run]]
+            big = 2.0 * (max(abs(v) for v in seen) + max((abs(x) for x in sizes), default=0.0) + 1.0)
+            ulp = math.ulp(big)
+            margin = (q + 2) * (delta + (len(seen) + 1) * ulp) + 4 * ulp  # repeats 1..q, then the rest
+            if margin > 1e-6 * c:
+                return False
+            checks += len(seen) * (2 * len(sizes) + 1)
+            if checks > 2_000_000:
+                return False
+            for s in seen:
+                for v in [s] + [s + x for x in sizes] + [s - x for x in sizes]:
+                    if math.ceil((v - margin) / c - _EPS) != math.ceil((v + margin) / c - _EPS):
+                        return False
+        return True
 
 
 def _check(loads: Sequence[Load]) -> None:
@@ -552,22 +1113,22 @@ def _pair_sweep(state: _State, loads: Sequence[Load], choice: list[int], days: s
             partners.update(members[bisect.bisect_right(members, i):])
         for j in sorted(partners):  # the pairs (i, j), j > i, in the order of a sweep over all pairs
             lj = loads[j]
-            ri, rj = li.routes[choice[i]], lj.routes[choice[j]]
+            ri, rj = choice[i], choice[j]
             state.remove(j, rj)
             before = state.marginal(i, ri) + state.marginal(j, rj)
             state.remove(i, ri)
             best = (before - _COST_EPS, choice[i], choice[j])
-            for a, ra in enumerate(li.routes):
-                state.place(i, ra)
-                for b, rb in enumerate(lj.routes):
+            for a in range(len(li.routes)):
+                state.place(i, a)
+                for b in range(len(lj.routes)):
                     if (a, b) == (choice[i], choice[j]):
                         continue
-                    after = state.marginal(i, ra) + state.marginal(j, rb)
+                    after = state.marginal(i, a) + state.marginal(j, b)
                     if after < best[0]:
                         best = (after, a, b)
-                state.remove(i, ra)
-            state.place(i, li.routes[best[1]])
-            state.place(j, lj.routes[best[2]])
+                state.remove(i, a)
+            state.place(i, best[1])
+            state.place(j, best[2])
             if (best[1], best[2]) != (choice[i], choice[j]):
                 choice[i], choice[j] = best[1], best[2]
                 made += 1
@@ -592,8 +1153,10 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         the day's loads, so its work grows with the square of their number (measured: 300 loads
         on one day take minutes, 100 a few seconds). Larger days get single moves only (noted).
     max_sweeps : int
-        Safety bound on improvement sweeps (the method terminates on its own; this only caps
-        work on very large inputs, and the plan is then still never worse than alone).
+        Bound on improvement sweeps. With every run packed exactly the method terminates on its
+        own; estimated moves on runs of more than EXACT_PACKING loads can repeat plans, which
+        this bound stops (repeats of a recognised cycle are counted, not made: module
+        docstring, Speed).
     start : dict, optional
         load id -> index of the route to start from instead of its cheapest alone (loads not
         named start from their cheapest alone). The "never worse than alone" guarantee then
@@ -614,15 +1177,16 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
     choice: list[int] = []
     alone: dict = {}
     alone_route: dict = {}
-    for load in loads:
-        costs = [sum(vehicles_for([load.size()], capacities[st.card]) * (st.cost_per_vehicle + sum(st.extras))
+    for li, load in enumerate(loads):
+        # vehicles_for([load.size()], capacities[st.card]): the same count, worked out once per card
+        costs = [sum(state.packers[st.card].alone(li) * (st.cost_per_vehicle + sum(st.extras))
                      for st in route) for route in load.routes]
         best = min(range(len(costs)), key=lambda r: (costs[r], r))
         choice.append(start.get(load.load_id, best) if start else best)
         alone[load.load_id] = costs[best]
         alone_route[load.load_id] = best
-    for li, load in enumerate(loads):
-        state.place(li, load.routes[choice[li]])
+    for li in range(len(loads)):
+        state.place(li, choice[li])
 
     per_day: dict = {}
     for load in loads:
@@ -632,29 +1196,40 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
              for d, k in per_day.items() if pair_moves and k > pair_limit]
     moves = sweeps = 0
     improved = True
+    cycle = _Cycle(state, max_sweeps)
     while improved and sweeps < max_sweeps:
+        cycle.start(choice, sweeps)
+        skipped = cycle.jump(choice, sweeps)
+        if skipped is not None:  # the loops repeat: their moves and sweeps counted, not made
+            moves += skipped[0]
+            sweeps += skipped[1]
+            if sweeps >= max_sweeps:
+                break
         improved = False
         sweeps += 1
+        made_before = moves
         for li, load in enumerate(loads):
-            if len(load.routes) < 2:
+            if len(load.routes) < 2 or state.settled(li):
                 continue
-            margins = [state.marginal(li, route) for route in load.routes]
+            margins = [state.marginal(li, r) for r in range(len(load.routes))]
             best = min(range(len(margins)), key=lambda r: (margins[r], r))
             if margins[best] < margins[choice[li]] - _COST_EPS:
-                state.remove(li, load.routes[choice[li]])
+                state.remove(li, choice[li])
                 choice[li] = best
-                state.place(li, load.routes[best])
+                state.place(li, best)
                 moves += 1
                 improved = True
         if not improved and pair_moves:
             made = _pair_sweep(state, loads, choice, pair_days)
             moves += made
             improved = made > 0
+        cycle.end(moves - made_before)
 
     if improved:
         notes.append(f"stopped after {max_sweeps} sweeps (max_sweeps)")
     runs = []
-    for rk, members in state.members.items():
+    for rk, run in state.placed.items():
+        members = run.members
         if not members:
             continue
         ids = sorted(members)
@@ -662,7 +1237,7 @@ def plan(loads: Sequence[Load], capacities: dict, max_sweeps: int = 1000,
         km = next(st.km for st in loads[ids[0]].routes[choice[ids[0]]]
                   if st.key == key and st.card == card)
         n = state.vehicles(rk, frozenset(members))
-        runs.append(Run(day, key, card, tuple(loads[i].load_id for i in ids), n, state.cpv[rk],
+        runs.append(Run(day, key, card, tuple(loads[i].load_id for i in ids), n, run.cpv,
                         state.run_cost(rk, members), tuple(loads[i].weight_t * km for i in ids)))
     total = sum(r.cost for r in runs)
     return Plan({load.load_id: choice[li] for li, load in enumerate(loads)}, tuple(runs), total,

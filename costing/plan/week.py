@@ -28,8 +28,9 @@ With ``consolidate = yes`` (the default):
    over payload, pallet places and volume. A shared run pays, per vehicle, the lane's charges
    once and the largest of its loads' start handling, end handling and trip rates (a vehicle is
    loaded where any of its loads starts, unloaded where any ends). Its
-   module docstring states the method and its guarantees: it terminates, it is a local optimum
-   for single and pair moves, it is never worse than every load alone.
+   module docstring states the method and its guarantees: it stops (at a local optimum for
+   single and pair moves, or at its bound on sweeps when estimated moves on large runs repeat
+   plans), and where no move is estimated it is never worse than every load alone.
 3. **Price.** Each run is priced for its vehicles. A run of several loads that saves no vehicle,
    or would not cost less than its loads' legs alone, is split back into one run per load
    (without a vehicle saved, sharing changes only the rounding of ROUND(n x rate)).
@@ -293,20 +294,33 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
     return out, bases
 
 
-def _load(index: int, res_list: list[CostedShipment], model: Model, day) -> Load:
+def _load(index: int, res_list: list[CostedShipment], model: Model, day,
+          steps_seen: dict | None = None) -> Load:
+    """Shipment `index` as the planner's load: each candidate route as steps priced for one
+    vehicle. `steps_seen` keeps the steps already made: a step is the same for every leg with
+    the same lane use and card objects and the same paid stop hours and rates (the arguments of
+    the leg's repricing), so it is made once."""
     s = res_list[0].shipment
     routes = []
     places = minor_unit(model.settings.currency)
+    if steps_seen is None:
+        steps_seen = {}
     for res in res_list:
         if res.bought:  # the carrier option (costing.plan.buy): a fixed price for this load alone
             routes.append(carrier_route(res, index))
             continue
         steps = []
         for g in res.legs:
-            one = reprice_leg(model, g, 1)
-            extras = (one.start_handling_cost, one.end_handling_cost, one.trip_cost)
-            shared = round_money(one.leg_cost - sum(extras), places)
-            steps.append(Step((_step_key(g),), _card_key(g.card), shared, g.use.km, extras))
+            key = (id(g.use), id(g.card), g.paid_stop_hours, g.start_handling_rate, g.end_handling_rate,
+                   g.trip_rate, g.toll_rate)
+            hit = steps_seen.get(key)
+            if hit is None or hit[0] is not g.use or hit[1] is not g.card:
+                one = reprice_leg(model, g, 1)
+                extras = (one.start_handling_cost, one.end_handling_cost, one.trip_cost)
+                shared = round_money(one.leg_cost - sum(extras), places)
+                hit = steps_seen[key] = (g.use, g.card,
+                                         Step((_step_key(g),), _card_key(g.card), shared, g.use.km, extras))
+            steps.append(hit[2])
         routes.append(tuple(steps) + part_steps(res, index))  # parts bought: fixed prices
     return Load(index, day, s.weight_t, s.pallets or 0.0, s.volume_m3 or 0.0, tuple(routes))
 
@@ -453,7 +467,8 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             if res.status == ROUTED:
                 cands[i] = cands[i] + part_options(model, res, bases[i], day_of(res.shipment))
         idx = [i for i, c in enumerate(cands) if c[0].status == ROUTED]
-        loads = [_load(i, cands[i], model, day_of(results[i].shipment)) for i in idx]
+        steps_seen: dict = {}
+        loads = [_load(i, cands[i], model, day_of(results[i].shipment), steps_seen) for i in idx]
         capacities = {_card_key(c): Capacity(c.payload_t, c.pallet_places, c.volume_m3) for c in model.rates}
         capacities.update(carrier_capacities(model))
         p = plan_with_carriers(loads, capacities) if model.tariffs else plan(loads, capacities)
