@@ -271,6 +271,7 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                 + [replace(results[i].shipment, origin=h) for i, hubs in tries.items() for h in hubs])
     out: list[list] = []
     bases: list[list] = []
+    memo: dict = {}  # the lane steps' charges, shared by every route through a hub (cost_route)
     for i, res in enumerate(results):
         cands = [res]
         lone = [] if res.status != ROUTED or per_day[day_of(res.shipment)] > 1 else [res]
@@ -282,7 +283,7 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                 b = route(replace(s, origin=h))
                 if a.status != ROUTED or b.status != ROUTED:
                     continue
-                via = cost_route(model, s, "cost", _join(_route_runs(a), _route_runs(b)))
+                via = cost_route(model, s, "cost", _join(_route_runs(a), _route_runs(b)), memo=memo)
                 keys = [(_step_key(g), _card_key(g.card)) for g in via.legs]
                 if len(set(keys)) != len(keys):
                     continue  # a route through the hub that repeats a step is never the cheapest
