@@ -28,9 +28,9 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     f = w.f
     out = RowSink(ws, 1)  # the shipment rows as worksheet XML (costing.sheets.rowxml)
     r = 0
-    # row -> the shipment's summed columns' cached values, by position (a distributed run's
-    # results are rebuilt as they are read, so an object's id names no shipment for long)
-    summed: dict[int, dict[str, float]] = {}
+    # the TOTAL row's summed columns, added shipment by shipment in the order of the rows (the
+    # order of the sum of the rows above); nothing is kept per shipment
+    summed = dict.fromkeys(SUMMED, 0)
     for r, res in enumerate(results, start=1):
         x = r + 1
         s = res.shipment
@@ -49,6 +49,9 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         if res.status != ROUTED:
             out.write_number(r, c["legs"], 0)
             continue
+        values = shipment_values(res)
+        for col in SUMMED:
+            summed[col] += values[col]
         if res.bought:
             write_bought(w, out, r, res, S)
             continue
@@ -57,7 +60,6 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
         out.write_number(r, c["vehicles"], res.vehicles)
         out.write_formula(r, c["legs"], f"=COUNT({sh}!{L['seq']}{a}:{L['seq']}{b})", f["int"],
                          len(res.legs))
-        values = summed[r] = shipment_values(res)
         for col, legs_cols in SUMMED.items():
             kind = SUMMARY_COLUMNS[c[col]][2]
             expr = "+".join(f"SUM({sh}!{L[lc]}{a}:{L[lc]}{b})" for lc in legs_cols)
@@ -77,12 +79,8 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
     # totals row: each column's sum, cached from the same figures
     t = last + 1
     ws.write_string(t, 0, "TOTAL", f["total_text"])
-    routed, values = [], []
-    for k, x in enumerate(results, start=1):
-        if x.status == ROUTED:
-            routed.append(x)
-            values.append(summed.get(k) or shipment_values(x))
-    totals: dict[str, float] = {col: sum(v[col] for v in values) for col in SUMMED}
+    routed = [x for x in results if x.status == ROUTED]
+    totals: dict[str, float] = dict(summed)
     totals["legs"] = sum(len(x.legs) for x in routed)
     totals["weight_t"] = sum(x.shipment.weight_t for x in results)
     totals["min_charge_uplift"] = sum(x.min_charge_uplift for x in routed)
