@@ -433,31 +433,23 @@ def _first_fit(items: list[tuple[float, ...]], lims: tuple[float, ...]) -> int:
         l0, l1 = lims
         b0: list[float] = []
         b1: list[float] = []
-        if len(items) > 40:
-            # bins before `first` take none of the items left: each lacks room for the least of
-            # them in some dim (sums only grow and float addition is monotone), so first fit
-            # starts there
+        # on a long list, bins before `first` take none of the items left: each lacks room for
+        # the least of them in some dim (sums only grow and float addition is monotone), so first
+        # fit starts there; a short list starts at the first bin
+        skip = len(items) > 40
+        if skip:
             w_min, p_min = [0.0] * len(items), [0.0] * len(items)
             mw = mp = math.inf
             for i in range(len(items) - 1, -1, -1):
                 mw, mp = min(mw, items[i][0]), min(mp, items[i][1])
                 w_min[i], p_min[i] = mw, mp
-            first = 0
-            for i, (w, p) in enumerate(items):
+        first = 0
+        for i, (w, p) in enumerate(items):
+            if skip:
                 mw, mp = w_min[i], p_min[i]
                 while first < len(b0) and (b0[first] + mw > l0 or b1[first] + mp > l1):
                     first += 1
-                for j in range(first, len(b0)):
-                    if b0[j] + w <= l0 and b1[j] + p <= l1:
-                        b0[j] += w
-                        b1[j] += p
-                        break
-                else:
-                    b0.append(w)
-                    b1.append(p)
-            return len(b0)
-        for w, p in items:
-            for j in range(len(b0)):
+            for j in range(first, len(b0)):
                 if b0[j] + w <= l0 and b1[j] + p <= l1:
                     b0[j] += w
                     b1[j] += p
