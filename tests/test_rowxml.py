@@ -117,3 +117,46 @@ def test_rows_out_of_order_are_refused(tmp_path):
     block.finish()
     w.wb.close()
     assert openpyxl.load_workbook(tmp_path / "x.xlsx")["S"]["A2"].value == 1.5
+
+
+@pytest.mark.parametrize("streaming", [False, True])
+def test_compiled_row_writer_gives_the_cell_by_cell_xml(tmp_path, streaming):
+    """The row writer made once per shape (`_compile`) gives, for every kind of value, the XML of
+    the cell-by-cell path (`RowBlock._xml_cells`, the path the file-level tests above compare
+    with xlsxwriter's own cells)."""
+    import datetime as dt
+    import random
+
+    from costing.model import Model, Settings
+    from costing.sheets.formats import Writer
+    from costing.sheets.rowxml import DATE, FORMULA, NUMBER, TEXT, Column, RowBlock, Shape
+
+    w = Writer(str(tmp_path / "x.xlsx"), Model(Settings(), (), (), (), ()), dt.datetime(2026, 1, 1))
+    if streaming:
+        w.wb.constant_memory = True
+    ws = w.wb.add_worksheet("S")
+    ws.write_string(0, 0, "head")
+    money = w.wb.add_format({"num_format": "#,##0.00"})
+    shape = Shape([
+        Column(0, TEXT), Column(1, NUMBER), Column(2, NUMBER, money), Column(3, DATE),
+        Column(4, FORMULA, money, "ROUND(B{r}*C{r},2)"),
+        Column(5, FORMULA, None, "IF('Vehicle runs'!K{rr}=0,\"\",B{r}&\"{{x}}\")"),  # quotes, braces
+        Column(6, FORMULA, None, "B{r}<C{r}"),  # escaped for XML
+        Column(7, FORMULA),  # a formula of its own per row
+        Column(30, TEXT),
+    ])
+    rng = random.Random(7)
+    texts = ["", "plain", " padded ", "a & b < c", "tab\there", "ctl\x01x", "it's \"quoted\""]
+    cached = [0.0, 1.25, -3.5e-7, 12, True, False, "", "text & more", "#N/A", "#DIV/0!", None]
+    block = RowBlock(ws, 1)
+    for row in range(1, 400):
+        values = [rng.choice(texts), rng.choice([None, 0, 1.5, -2.25, 1e20, 7]),
+                  rng.choice([None, 0.1 + 0.2, 3, 1 / 3]), rng.choice([None, 46000.5]),
+                  rng.choice(cached), rng.choice(cached), rng.choice(cached),
+                  rng.choice([None, ("SUM(A1:A3)", 6.0), ("\"a<b\"&\"{c}\"", "a<b{c}"), ("1=1", True)]),
+                  rng.choice(texts + [None])]
+        rr = rng.randint(2, 900)
+        if not streaming:  # texts are shared-string indexes by then (`add`)
+            values = [rng.randint(0, 50) if c.kind == TEXT else v for c, v in zip(shape.columns, values)]
+        assert block._xml(row, shape, values, rr) == block._xml_cells(row, shape, values, rr)
+    w.wb.close()

@@ -42,6 +42,12 @@ distinct value; for text the longest line, and every text over 40 characters as 
 layout's long-text and caption rules look at those). The widths are therefore the ones the
 cell-by-cell path gives (tested).
 
+How a row's XML is made. Once per shape, the cells' XML pieces (tag, cell reference, style,
+formula template) are put into one generated function of (row number, values, rr) that returns
+the row as one string: a row costs no loop over its columns (`_compile`). It gives the XML of
+the cell-by-cell method `RowBlock._xml_cells` for every kind of value (tested), which remains
+the path of a row that has a format of its own.
+
 The equivalence with xlsxwriter's own cells is tested by writing the same sheet both ways and
 comparing every cell read back with openpyxl (value, formula, number format, style), and by a
 LibreOffice recalculation of the fast path's formulas (tests/test_rowxml.py).
@@ -150,6 +156,7 @@ class RowBlock:
         self._styles: dict[int, str] = {}
         self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
         self._measure_plans: dict[int, list] = {}  # id(shape) -> its measured cells (`_measure_plan`)
+        self._compiled: dict[int, object] = {}  # id(shape) -> its row writer (`_compile`)
         if self.streaming:
             if first_row <= ws.previous_row and ws.table:
                 raise ValueError("a row block starts below the rows written through xlsxwriter")
@@ -309,6 +316,19 @@ class RowBlock:
         return plan
 
     def _xml(self, row: int, shape: Shape, values: Sequence, rr: int) -> str:
+        """The row's XML: by the shape's compiled row writer (`_compile`), or, for a row with a
+        format of its own, cell by cell (`_xml_cells`)."""
+        info = self.ws.row_info.get(row)
+        if info is not None and info.row_format:
+            return self._xml_cells(row, shape, values, rr)
+        write = self._compiled.get(id(shape))
+        if write is None:
+            write = self._compiled[id(shape)] = _compile(self._plan(shape, row), self.streaming,
+                                                         self._text)
+        return write(row + 1, values, rr)
+
+    def _xml_cells(self, row: int, shape: Shape, values: Sequence, rr: int) -> str:
+        """The row's XML cell by cell (the reference `_compile` is tested against)."""
         n = row + 1
         parts = [f'<row r="{n}">']
         add = parts.append
@@ -354,6 +374,73 @@ class RowBlock:
                 xml = xml[xml.index(">") + 1:]
             fh.write(xml)
         self.rows = []
+
+
+def _cached(v, text: str) -> str:
+    """The end of a formula cell after its style: the type of the cached value `v`, the formula
+    `text` and the value, as `RowBlock._xml_cells` writes them."""
+    t = ""
+    if isinstance(v, bool):
+        t, v = ' t="b"', int(v)
+    elif isinstance(v, str):
+        if v in _ERROR_CODES:
+            t = ' t="e"'
+        elif v:
+            t = ' t="str"'
+        v = _escape(v)
+    return f"{t}><f>{text}</f><v>{v}</v></c>"
+
+
+def _own_formula(v, head: str, n: int, style: str) -> str:
+    """A formula cell of its own (`v` = (text, cached value) or None: no cell)."""
+    if v is None:
+        return ""
+    return f"{head}{n}{style}" + _cached(v[1], _escape(v[0]))
+
+
+def _source(text: str) -> str:
+    """`text` as the inside of a single-quoted string literal."""
+    quoted = repr(text)
+    return quoted[1:-1] if quoted[0] == "'" else quoted[1:-1].replace("'", "\\'")
+
+
+def _literal(text: str) -> str:
+    """`text` as the inside of a single-quoted f-string that gives `text` (braces doubled)."""
+    return _source(text.replace("{", "{{").replace("}", "}}"))
+
+
+def _compile(plan: list[tuple], streaming: bool, text_cell) -> object:
+    """A function (row number, values, rr) -> the row's XML for one shape's `plan`
+    (`RowBlock._plan`): the cells of `RowBlock._xml_cells` in one expression made once per shape,
+    so that a row costs no loop over its columns. A formula template's ``{r}`` and ``{rr}`` are
+    the function's arguments (the template's doubled braces stay doubled in the f-string, so it
+    gives the text ``str.format`` gives). `text_cell` writes a streamed text (its escaping
+    and inline string)."""
+    names = [f"v{i}" for i in range(len(plan))]
+    pieces = []
+    for (kind, head, style, formula), v in zip(plan, names):
+        opening = _literal(head) + "{r}" + _literal(style)
+        if kind == NUMBER or kind == DATE:
+            pieces.append(f"('' if {v} is None else f'{opening}><v>{{{v}:.16G}}</v></c>')")
+        elif kind == TEXT:
+            if streaming:
+                pieces.append(f"(lambda t: f'{opening}{{t[0]}}>{{t[1]}}</c>')"
+                              f"(text_cell('' if {v} is None else {v}))")
+            else:
+                pieces.append(f"f'{opening} t=\"s\"><v>{{{v}}}</v></c>'")
+        elif formula is None:
+            pieces.append(f"own({v}, {head!r}, r, {style!r})")
+        else:
+            text = _source(formula)  # a template: its braces are doubled already
+            pieces.append(f"(f'{opening}><f>{text}</f><v>{{{v}}}</v></c>' if type({v}) is float "
+                          f"else f'{opening}' + cached({v}, f'{text}'))")
+    unpack = f"    {', '.join(names)}, = values\n" if names else ""
+    source = (f"def row_xml(r, values, rr):\n{unpack}"
+              f"    return ''.join((f'<row r=\"{{r}}\">', {', '.join(pieces)}{',' if pieces else ''} "
+              f"'</row>'))\n")
+    scope = {"own": _own_formula, "cached": _cached, "text_cell": text_cell}
+    exec(compile(source, "<costing.sheets.rowxml row writer>", "exec"), scope)  # noqa: S102
+    return scope["row_xml"]
 
 
 def _line(s: str) -> int:
