@@ -277,6 +277,7 @@ class Layout:
         self.row_cells: dict[int, int] = {}
         self.col_fmt: dict[int, object] = {}
         self.declared: dict[int, float] = {}
+        self.col_opts: dict[int, dict] = {}  # set_column options (outline level, hidden) kept
         self.max_row = -1
         self.max_col = -1
         self.drawings: list[tuple[int, int, float, float]] = []  # row, col, width px, height px
@@ -364,7 +365,7 @@ class Layout:
             fmt = self.col_fmt.get(c)
             if c in wrapped_cols and fmt is None:
                 fmt = wrap
-            ws.set_column(c, c, round(w, 1), fmt)
+            ws.set_column(c, c, round(w, 1), fmt, self.col_opts.get(c))
         heights: dict[int, float] = {}
         for r, c, n, bold in self.long:
             if (r, c) in captions:
@@ -515,6 +516,8 @@ def install_layout(wb, streaming: bool) -> None:
                     lay.col_fmt[c] = cell_format
                     if width is not None:
                         lay.declared[c] = width
+                    if options:
+                        lay.col_opts[c] = options
             return ws_set_column(first_col, last_col, width, cell_format, options)
 
         def insert_chart(row, col, chart, options=None):

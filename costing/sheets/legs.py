@@ -103,6 +103,53 @@ KEY_WIDTH = 14
 STREAMING_LEGS = 100_000
 
 
+# Cost components collapsed when 0 on every leg written, each with the rate columns that only
+# feed it (hidden with them when they are empty or 0 on every leg too); the columns stay, grouped
+# (outline level 1) and hidden, one click on the outline's + shows them.
+COLLAPSIBLE = {
+    "toll_cost": ("toll",),
+    "fixed_cost": ("fixed_cost_rate",),
+    "fuel_surcharge": ("fuel_price", "fuel_included_at"),
+    "stop_cost": ("paid_stop_hours",),
+    "handling_start_cost": ("handling_start_rate",),
+    "handling_end_cost": ("handling_end_rate",),
+    "trip_cost": ("per_trip",),
+}
+
+
+def zero_columns(results) -> list[str]:
+    """The LEG_COLUMNS names to collapse on a sheet of these results' legs: each cost component
+    of COLLAPSIBLE that is 0 on every leg, and those of its rate columns that are empty or 0 on
+    every leg. None when there are no legs."""
+    legs = [(res, leg) for res in results for leg in res.legs]
+    if not legs:
+        return []
+
+    def zero(name: str) -> bool:
+        value_of = LEG_CELLS[name][0]
+        return all(not value_of(res, leg) for res, leg in legs)
+
+    out = []
+    for cost, rates in COLLAPSIBLE.items():
+        if zero(cost):
+            out.append(cost)
+            out.extend(r for r in rates if zero(r))
+    return out
+
+
+def collapse(ws, columns: list[str], shift: int = 0) -> None:
+    """Group and hide the Legs `columns` of `ws` (LEG_COLUMNS names; `shift` columns to the
+    right on a keyed sheet); their widths stay the layout's."""
+    lay = getattr(ws, "_costing_layout", None)
+    for name in columns:
+        c = LEG[name] + shift
+        info = ws.col_info.get(c)  # the column's format and declared width stay
+        ws.set_column(c, c, lay.declared.get(c) if lay is not None else None,
+                      info.column_format if info is not None else None, {"level": 1, "hidden": True})
+    if columns:
+        ws.outline_settings(True, False, True, False)  # the + above the columns shows them
+
+
 def legs_sheet_names(results, base: str = LEGS) -> list[str]:
     """Names of the Legs sheets the results need (Legs, Legs 2, ...; `base`, `base` 2, ... for
     another long sheet of legs), at most LEGS_SHEET_ROWS legs each; a shipment's legs are never
@@ -233,4 +280,7 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
         block.finish()
     ws.autofilter(0, 0, max(r - 1, 1), len(columns) - 1)
     last[name] = r
+    hidden = zero_columns(results)
+    for _name, sheet in legs_sheets[:k + 1]:
+        collapse(sheet, hidden, shift)
     return ranges, last
