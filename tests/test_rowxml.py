@@ -160,3 +160,56 @@ def test_compiled_row_writer_gives_the_cell_by_cell_xml(tmp_path, streaming):
             values = [rng.randint(0, 50) if c.kind == TEXT else v for c, v in zip(shape.columns, values)]
         assert block._xml(row, shape, values, rr) == block._xml_cells(row, shape, values, rr)
     w.wb.close()
+
+
+@pytest.mark.parametrize("streaming", [False, True])
+def test_shared_formulas_read_back_as_each_rows_own(tmp_path, monkeypatch, streaming):
+    """Formulas of a row's own cells written as shared groups (OOXML shared formulas) read back,
+    through openpyxl's own translation of shared formulas (an independent reader), as each
+    row's formula; groups end at a gap in the rows, at a shape of another share key, at a row
+    with a format of its own and at SHARED_ROWS rows."""
+    import datetime as dt
+    import re
+    import zipfile
+
+    from costing.model import Model, Settings
+    from costing.sheets.formats import Writer
+    from costing.sheets.rowxml import FORMULA, NUMBER, Column, RowBlock, Shape
+
+    monkeypatch.setattr(rowxml, "SHARED_ROWS", 4)
+    path = str(tmp_path / "x.xlsx")
+    w = Writer(path, Model(Settings(), (), (), (), ()), dt.datetime(2026, 1, 1))
+    if streaming:
+        w.wb.constant_memory = True
+    ws = w.wb.add_worksheet("S")
+    ws.write_string(0, 0, "head")
+    own = "ROUND(A{r}*B{r},2)"
+    a = Shape([Column(0, NUMBER), Column(1, NUMBER), Column(2, FORMULA, None, own, shared=True),
+               Column(3, FORMULA, None, "A{r}+$B$2", shared=True), Column(4, FORMULA, None, "A{rr}")])
+    b = Shape([Column(0, NUMBER), Column(1, NUMBER), Column(2, FORMULA, None, own, shared=True),
+               Column(3, FORMULA, None, "A{r}+$B$2", shared=True), Column(4, FORMULA, None, "B{r}")])
+    c = Shape([Column(0, NUMBER), Column(1, NUMBER), Column(2, FORMULA, None, "A{r}-B{r}", shared=True)])
+    if not streaming:
+        ws.set_row(9, None, w.wb.add_format({"bold": True}))  # row 10 has a format of its own
+    block = RowBlock(ws, 1)
+    rows = [(1, a), (2, b), (3, a), (4, a), (5, a), (6, b), (7, c), (8, c), (9, a), (10, a), (11, a),
+            (13, a), (14, b)]  # row 13 (0-based 12) skipped
+    expect = {}
+    for row, shape in rows:
+        values = [row, 2.5] + [float(row)] * (len(shape.columns) - 2)
+        block.add(row, shape, values, rr=row + 100)
+        for col in shape.columns[2:]:
+            expect[(row + 1, col.col + 1)] = "=" + col.template.format(r=row + 1, rr=row + 100)
+    block.finish()
+    w.wb.close()
+    got = {(cell.row, cell.column): cell.value for r in openpyxl.load_workbook(path)["S"].iter_rows(min_row=2)
+           for cell in r if isinstance(cell.value, str) and cell.value.startswith("=")}
+    assert got == expect
+    xml = zipfile.ZipFile(path).read("xl/worksheets/sheet1.xml").decode()
+    refs = re.findall(r'<f t="shared" ref="([A-Z]+\d+:[A-Z]+\d+)" si="(\d+)">', xml)
+    firsts = sorted({int(re.match(r"[A-Z]+(\d+)", ref).group(1)) for ref, _si in refs})
+    # groups: rows 2-5 (four rows, the cap), 6-7, 8-9 (shape c), 10-12 (or 11-12 with row 10's
+    # own format), 14-15; ids unique on the worksheet
+    assert firsts == ([2, 6, 8, 10, 14] if streaming else [2, 6, 8, 11, 14])
+    assert len({si for _ref, si in refs}) == len(refs)
+    assert "{" not in xml and "}" not in xml

@@ -95,6 +95,11 @@ LEG_SPEC = [(name, width, kind, *LEG_CELLS[name]) for name, width, kind in LEG_C
 LEGS_SHEET_ROWS = MAX_ROWS - 1
 
 
+# The formulas of a leg's own cells written as shared formulas over up to rowxml.SHARED_ROWS rows
+# next to each other (the fast path only); False: every cell with its own formula text.
+SHARED = True
+
+
 # width of the key column of a long sheet of several runs (write_legs' `key`), characters
 KEY_WIDTH = 14
 
@@ -171,7 +176,8 @@ def _shapes(w: Writer, shift: int, letters: dict[str, str], runs: str, run_lette
             keyed: bool) -> dict[bool, Shape]:
     """The two row shapes of a Legs sheet (costing.sheets.rowxml): a leg of a vehicle run (its
     share formulas name the run's row ``{rr}`` on the runs sheet) and a leg that is its own run.
-    The formulas are LEG_CELLS' own, with this row as ``{r}``."""
+    The formulas are LEG_CELLS' own, with this row as ``{r}``; those that name no run cell refer
+    to the leg's own row only and are the same in both shapes, so they are shared (SHARED)."""
     own = {name: f"{col}{{r}}" for name, col in letters.items()}
     own["d"] = str(w.places)
     planned = {**own, **{ref: f"{runs}!{col}{{rr}}" for ref, col in run_letter.items()}}
@@ -181,8 +187,9 @@ def _shapes(w: Writer, shift: int, letters: dict[str, str], runs: str, run_lette
     for is_planned, refs in ((True, planned), (False, alone)):
         cols = [Column(0, TEXT)] if keyed else []
         for c, (_name, _width, kind, _value_of, formula) in enumerate(LEG_SPEC, start=shift):
-            if formula is not None:
-                cols.append(Column(c, FORMULA, w.f[kind], formula.format(**refs)))
+            if formula is not None:  # a formula of the leg's own cells only: filled down, shared
+                cols.append(Column(c, FORMULA, w.f[kind], formula.format(**refs),
+                                   shared=SHARED and "{run_" not in formula))
             else:
                 cols.append(Column(c, TEXT if kind == "text" else NUMBER))
         shapes[is_planned] = Shape(cols)

@@ -42,6 +42,21 @@ distinct value; for text the longest line, and every text over 40 characters as 
 layout's long-text and caption rules look at those). The widths are therefore the ones the
 cell-by-cell path gives (tested).
 
+Shared formulas. A formula column marked ``shared`` (its template names only its own row's cells
+and absolute references) is written as OOXML shared formulas (ECMA-376 Part 1, 18.3.1.40, the
+``f`` element with ``t="shared"``): over a group of up to SHARED_ROWS rows next to each other
+whose shapes have the same shared templates, the first row's cell holds the formula with the
+group's range (``ref``) and an id (``si``, unique on the worksheet), the other rows' cells only
+the id; a reader shifts the first row's relative references by the row offset, which gives each
+row exactly its own template's formula, because the template refers to nothing else. Every cell
+keeps its cached value. The rows of a group are held until the group ends (a gap, another share
+key, a row with a format of its own, SHARED_ROWS rows or `finish`), in streaming mode too, so a
+streamed block's last rows reach the file at `finish`: rows below it through xlsxwriter come
+after that call. Tested through openpyxl's translation of shared formulas and a LibreOffice
+recalculation (tests/test_rowxml.py, tests/test_recalc_libreoffice.py). Measured on a week of
+12,493 legs: the Legs XML 11 % smaller, and LibreOffice loads the workbook in 2.1 s instead of
+4.1 s and recalculates it in 0.26 s instead of 0.49 s (it reads a group's formula once).
+
 How a row's XML is made. Once per shape, the cells' XML pieces (tag, cell reference, style,
 formula template) are put into one generated function of (row number, values, rr) that returns
 the row as one string: a row costs no loop over its columns (`_compile`). It gives the XML of
@@ -64,6 +79,11 @@ from xlsxwriter.worksheet import _preserve_whitespace
 from costing.sheets.formats import _MEASURED_ROWS, _parse_number_format
 
 TEXT, NUMBER, FORMULA = "text", "number", "formula"
+PLAIN, MASTER, FOLLOW = "plain", "master", "follow"  # how a row writes its shared formulas
+
+# Rows of one shared formula group at most: the group's rows are held until it is written (in
+# streaming mode too), and a group ends at this many rows.
+SHARED_ROWS = 1024
 DATE = "date"  # a number (a date's serial) that the layout does not measure, as xlsxwriter's dates
 
 # The large sheets write their rows through this module; False: cell by cell through xlsxwriter
@@ -96,12 +116,17 @@ class Column:
         For a formula: its text without ``=``, naming this row's number as ``{r}`` and another
         row's (e.g. a vehicle run's) as ``{rr}``; braces of the formula itself doubled. None:
         each row's value is the pair (formula text without ``=``, cached value).
+    shared : bool
+        The template refers to cells of its own row (``{r}``) and to absolute references only,
+        never to ``{rr}``: the same formula filled down, which rows next to each other may
+        write as one shared formula (see the module docstring). The sheet module vouches for it.
     """
 
     col: int
     kind: str
     fmt: object = None
     template: str | None = None
+    shared: bool = False
 
 
 class Shape:
@@ -114,6 +139,11 @@ class Shape:
         self.formulas = tuple(_escape(c.template) if c.template is not None else None
                               for c in self.columns)
         self.texts = tuple(i for i, c in enumerate(self.columns) if c.kind == TEXT)
+        for c in self.columns:
+            if c.shared and (c.kind != FORMULA or c.template is None or "{rr}" in c.template):
+                raise ValueError(f"column {c.col}: only a formula template without {{rr}} is shared")
+        # rows whose shapes have the same key may be one shared group (`RowBlock._group`)
+        self.share_key = tuple((c.col, c.template) for c in self.columns if c.shared) or None
 
 
 class _Measure:
@@ -156,7 +186,8 @@ class RowBlock:
         self._styles: dict[int, str] = {}
         self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
         self._measure_plans: dict[int, list] = {}  # id(shape) -> its measured cells (`_measure_plan`)
-        self._compiled: dict[int, object] = {}  # id(shape) -> its row writer (`_compile`)
+        self._compiled: dict[tuple, object] = {}  # (id(shape), share) -> its row writer (`_compile`)
+        self._group: list[tuple] = []  # rows that may share their formulas, not yet written (`_take`)
         if self.streaming:
             if first_row <= ws.previous_row and ws.table:
                 raise ValueError("a row block starts below the rows written through xlsxwriter")
@@ -178,7 +209,7 @@ class RowBlock:
         self.next = row + 1
         self._measure(row, shape, values)
         if self.streaming:
-            self.ws.fh.write(self._xml(row, shape, values, rr))
+            self._take(row, shape, values, rr, self._out_streamed)
         else:  # texts take their shared-string index now, in cell order, as xlsxwriter's do
             index = self.ws.str_table._get_shared_string_index
             values = list(values)
@@ -193,6 +224,8 @@ class RowBlock:
         ws = self.ws
         if self.next == self.first:
             return
+        if self.streaming:
+            self._flush(self._out_streamed)
         last_row = self.next - 1
         if ws.dim_rowmax is None or last_row > ws.dim_rowmax:
             ws.dim_rowmax = last_row
@@ -309,30 +342,71 @@ class RowBlock:
         own_row = info is not None and info.row_format
         plan = None if own_row else self._plans.get(id(shape))
         if plan is None:
-            plan = [(c.kind, f'<c r="{letter}', f'"{self._style(c.fmt, row, c.col)}', formula)
+            plan = [(c.kind, f'<c r="{letter}', f'"{self._style(c.fmt, row, c.col)}', formula, c.shared)
                     for c, letter, formula in zip(shape.columns, shape.letters, shape.formulas)]
             if not own_row:
                 self._plans[id(shape)] = plan
         return plan
 
-    def _xml(self, row: int, shape: Shape, values: Sequence, rr: int) -> str:
+    def _xml(self, row: int, shape: Shape, values: Sequence, rr: int, share: str = PLAIN,
+             si0: int = 0, last: int = 0) -> str:
         """The row's XML: by the shape's compiled row writer (`_compile`), or, for a row with a
-        format of its own, cell by cell (`_xml_cells`)."""
-        info = self.ws.row_info.get(row)
-        if info is not None and info.row_format:
+        format of its own, cell by cell (`_xml_cells`). `share`: the row's shared columns
+        written as usual (PLAIN), as the first cell of their shared groups (MASTER: the groups'
+        ids from `si0`, their rows to `last`, 1-based) or as a later cell of them (FOLLOW)."""
+        if self._own_format(row):
             return self._xml_cells(row, shape, values, rr)
-        write = self._compiled.get(id(shape))
+        key = (id(shape), share)
+        write = self._compiled.get(key)
         if write is None:
-            write = self._compiled[id(shape)] = _compile(self._plan(shape, row), self.streaming,
-                                                         self._text)
-        return write(row + 1, values, rr)
+            write = self._compiled[key] = _compile(self._plan(shape, row), self.streaming,
+                                                   self._text, share)
+        return write(row + 1, values, rr, si0, last)
+
+    def _own_format(self, row: int) -> bool:
+        info = self.ws.row_info.get(row)
+        return info is not None and bool(info.row_format)
+
+    def _take(self, row: int, shape: Shape, values: Sequence, rr: int, out) -> None:
+        """Pass a row on to `out` (a function of the row and its XML), through the pending
+        group of rows that may share their formulas (`_group`): a row joins it when its shape
+        has the group's share key and it is the next row, while the group is under SHARED_ROWS."""
+        key = None if shape.share_key is None or self._own_format(row) else shape.share_key
+        group = self._group
+        if group and (key != group[0][1].share_key or row != group[-1][0] + 1
+                      or len(group) >= SHARED_ROWS):
+            self._flush(out)
+        if key is None:
+            out(row, self._xml(row, shape, values, rr))
+        else:
+            self._group.append((row, shape, values, rr))
+
+    def _flush(self, out) -> None:
+        """Write the pending group: one row alone as usual; else its first row opens a shared
+        formula per shared column over the group's rows, and the other rows refer to it."""
+        group = self._group
+        if not group:
+            return
+        if len(group) == 1:
+            row, shape, values, rr = group[0]
+            out(row, self._xml(row, shape, values, rr))
+        else:
+            ws = self.ws
+            si0 = getattr(ws, "_costing_si", 0)
+            ws._costing_si = si0 + len(group[0][1].share_key)  # ids unique on the worksheet
+            last = group[-1][0] + 1
+            share = MASTER
+            for row, shape, values, rr in group:
+                out(row, self._xml(row, shape, values, rr, share, si0, last))
+                share = FOLLOW
+        self._group = []
 
     def _xml_cells(self, row: int, shape: Shape, values: Sequence, rr: int) -> str:
         """The row's XML cell by cell (the reference `_compile` is tested against)."""
         n = row + 1
         parts = [f'<row r="{n}">']
         add = parts.append
-        for (kind, head, style, formula), v in zip(self._plan(shape, row), values):
+        for (kind, head, style, formula, _shared), v in zip(self._plan(shape, row), values):
             if kind == NUMBER or kind == DATE:
                 if v is not None:
                     add(f"{head}{n}{style}><v>{v:.16G}</v></c>")
@@ -362,23 +436,30 @@ class RowBlock:
         add("</row>")
         return "".join(parts)
 
+    def _out_streamed(self, _row: int, xml: str) -> None:
+        self.ws.fh.write(xml)
+
     def _write(self, fh) -> None:
         """Normal mode, at close: the rows' XML, with row attributes xlsxwriter would write."""
         ws = self.ws
         info = ws.row_info
-        for row, shape, values, rr in self.rows:
-            xml = self._xml(row, shape, values, rr)
+
+        def out(row: int, xml: str) -> None:
             ri = info.get(row)
             if ri is not None:  # a height or format set later (layout): xlsxwriter's row element
                 ws._write_row(row, None, ri)
                 xml = xml[xml.index(">") + 1:]
             fh.write(xml)
+
+        for row, shape, values, rr in self.rows:
+            self._take(row, shape, values, rr, out)
+        self._flush(out)
         self.rows = []
 
 
 def _cached(v, text: str) -> str:
     """The end of a formula cell after its style: the type of the cached value `v`, the formula
-    `text` and the value, as `RowBlock._xml_cells` writes them."""
+    element `text` and the value, as `RowBlock._xml_cells` writes them."""
     t = ""
     if isinstance(v, bool):
         t, v = ' t="b"', int(v)
@@ -388,14 +469,14 @@ def _cached(v, text: str) -> str:
         elif v:
             t = ' t="str"'
         v = _escape(v)
-    return f"{t}><f>{text}</f><v>{v}</v></c>"
+    return f"{t}>{text}<v>{v}</v></c>"
 
 
 def _own_formula(v, head: str, n: int, style: str) -> str:
     """A formula cell of its own (`v` = (text, cached value) or None: no cell)."""
     if v is None:
         return ""
-    return f"{head}{n}{style}" + _cached(v[1], _escape(v[0]))
+    return f"{head}{n}{style}" + _cached(v[1], f"<f>{_escape(v[0])}</f>")
 
 
 def _source(text: str) -> str:
@@ -409,16 +490,18 @@ def _literal(text: str) -> str:
     return _source(text.replace("{", "{{").replace("}", "}}"))
 
 
-def _compile(plan: list[tuple], streaming: bool, text_cell) -> object:
-    """A function (row number, values, rr) -> the row's XML for one shape's `plan`
+def _compile(plan: list[tuple], streaming: bool, text_cell, share: str = PLAIN) -> object:
+    """A function (row number, values, rr, si0, last) -> the row's XML for one shape's `plan`
     (`RowBlock._plan`): the cells of `RowBlock._xml_cells` in one expression made once per shape,
     so that a row costs no loop over its columns. A formula template's ``{r}`` and ``{rr}`` are
     the function's arguments (the template's doubled braces stay doubled in the f-string, so it
     gives the text ``str.format`` gives). `text_cell` writes a streamed text (its escaping
-    and inline string)."""
+    and inline string). `share` (`RowBlock._xml`): how the shared columns' formulas are
+    written; the k-th shared column of the shape is shared group ``si0 + k``."""
     names = [f"v{i}" for i in range(len(plan))]
     pieces = []
-    for (kind, head, style, formula), v in zip(plan, names):
+    k = -1
+    for (kind, head, style, formula, shared), v in zip(plan, names):
         opening = _literal(head) + "{r}" + _literal(style)
         if kind == NUMBER or kind == DATE:
             pieces.append(f"('' if {v} is None else f'{opening}><v>{{{v}:.16G}}</v></c>')")
@@ -432,10 +515,16 @@ def _compile(plan: list[tuple], streaming: bool, text_cell) -> object:
             pieces.append(f"own({v}, {head!r}, r, {style!r})")
         else:
             text = _source(formula)  # a template: its braces are doubled already
-            pieces.append(f"(f'{opening}><f>{text}</f><v>{{{v}}}</v></c>' if type({v}) is float "
-                          f"else f'{opening}' + cached({v}, f'{text}'))")
+            element = f"<f>{text}</f>"
+            if shared and share != PLAIN:
+                k += 1
+                letter = _literal(head[len('<c r="'):])
+                element = (f'<f t="shared" ref="{letter}{{r}}:{letter}{{last}}" si="{{si0 + {k}}}">'
+                           f"{text}</f>" if share == MASTER else f'<f t="shared" si="{{si0 + {k}}}"/>')
+            pieces.append(f"(f'{opening}>{element}<v>{{{v}}}</v></c>' if type({v}) is float "
+                          f"else f'{opening}' + cached({v}, f'{element}'))")
     unpack = f"    {', '.join(names)}, = values\n" if names else ""
-    source = (f"def row_xml(r, values, rr):\n{unpack}"
+    source = (f"def row_xml(r, values, rr, si0, last):\n{unpack}"
               f"    return ''.join((f'<row r=\"{{r}}\">', {', '.join(pieces)}{',' if pieces else ''} "
               f"'</row>'))\n")
     scope = {"own": _own_formula, "cached": _cached, "text_cell": text_cell}
