@@ -53,6 +53,7 @@ import os
 import shutil
 
 from costing import __version__
+from costing.collector import fewer_collections
 from costing.contract import outputs as out
 from costing.model import Model, Problem
 from costing.sheets import rowxml
@@ -253,6 +254,7 @@ class ValuesOnly:
         return getattr(self._ws, name)
 
 
+@fewer_collections()  # costing.collector: the same results, fewer full collections
 def write_parquet_set(path: str, folder: str, model: Model, results, problems: list[Problem], info: RunInfo,
                       runs=(), label: str | None = None, reason: str = "", scenario_runs=(),
                       scenario_bridges=()) -> dict[str, int]:

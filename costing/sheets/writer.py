@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import xlsxwriter
 
+from costing.collector import fewer_collections
 from costing.contract import outputs as out
 from costing.errors import OutputLimitError
 from costing.model import Model, Problem
@@ -38,6 +39,7 @@ from costing.sheets.vehicle_runs import write_vehicle_runs
 __all__ = ["OutputLimitError", "RunInfo", "run_time", "write_costed"]
 
 
+@fewer_collections()  # costing.collector: the same results, fewer full collections
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
                  info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=(),
                  runs=(), scenario_bridges=()) -> None:

@@ -1,0 +1,66 @@
+"""The collector's thresholds during a run (costing.collector): raised while a week is costed and
+written, put back after it, also when the run fails; the costed workbook is the same cell for cell
+with the interpreter's default thresholds (the collector frees memory, it never changes a value).
+Reference: Python's own gc module (documented thresholds, gc.get_threshold)."""
+
+from __future__ import annotations
+
+import doctest
+import gc
+
+import openpyxl
+import pytest
+
+import costing.collector as collector
+from costing import pipeline
+
+
+def test_docstring_examples():
+    assert doctest.testmod(collector).failed == 0
+
+
+def test_thresholds_raised_in_the_run_and_put_back(monkeypatch, tmp_path):
+    from costing.example import write_example
+
+    path = str(tmp_path / "in.xlsx")
+    write_example(path)
+    model, problems, _note = pipeline.load(path)
+    assert model is not None
+    before = gc.get_threshold()
+    seen = []
+    real = pipeline.plan_week
+
+    def spy(*args, **kwargs):
+        seen.append(gc.get_threshold())
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(pipeline, "plan_week", spy)
+    pipeline.run(model)
+    assert seen and all(t == collector.THRESHOLDS for t in seen)
+    assert gc.get_threshold() == before
+
+    def fail(*_a, **_k):
+        raise RuntimeError("stop")
+
+    monkeypatch.setattr(pipeline, "plan_week", fail)
+    with pytest.raises(RuntimeError):
+        pipeline.run(model)
+    assert gc.get_threshold() == before
+
+
+def test_same_workbook_with_the_default_thresholds(cli, tmp_path, monkeypatch):
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")
+    code, _o, err = cli("demo", "-o", str(tmp_path / "tuned.xlsx"))
+    assert code == 0, err
+    monkeypatch.setattr(collector, "THRESHOLDS", gc.get_threshold())
+    code, _o, err = cli("demo", "-o", str(tmp_path / "default.xlsx"))
+    assert code == 0, err
+    a = openpyxl.load_workbook(tmp_path / "tuned.xlsx")
+    b = openpyxl.load_workbook(tmp_path / "default.xlsx")
+    assert a.sheetnames == b.sheetnames
+    for name in a.sheetnames:
+        if name == "Run":  # run times differ
+            continue
+        va = [[c.value for c in row] for row in a[name].iter_rows()]
+        vb = [[c.value for c in row] for row in b[name].iter_rows()]
+        assert va == vb, name
