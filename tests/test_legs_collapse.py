@@ -6,8 +6,10 @@ openpyxl (an independent reader), cell by cell, against the rule itself."""
 from __future__ import annotations
 
 import openpyxl
+import pytest
 
 from costing.contract.outputs import LEG_COLUMNS
+from costing.sheets import rowxml
 from costing.sheets.legs import COLLAPSIBLE
 from tests.conftest import base_data
 
@@ -27,7 +29,9 @@ def _legs(path: str):
     return header, hidden, rows, wf
 
 
-def test_zero_cost_columns_are_collapsed_not_removed(cli, make_input, tmp_path):
+@pytest.mark.parametrize("fast", [True, False])
+def test_zero_cost_columns_are_collapsed_not_removed(cli, make_input, tmp_path, monkeypatch, fast):
+    monkeypatch.setattr(rowxml, "FAST_ROWS", fast)  # the zeros tracked while writing, or found after
     data = base_data()
     data["Lanes"][0]["toll"] = 0  # no toll anywhere: toll_cost is 0 on every leg
     out = str(tmp_path / "out.xlsx")

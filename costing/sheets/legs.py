@@ -122,17 +122,23 @@ COLLAPSIBLE = {
 }
 
 
-def zero_columns(results) -> list[str]:
+# the columns COLLAPSIBLE names, which zero_columns looks at
+WATCHED = tuple(dict.fromkeys(name for cost, rates in COLLAPSIBLE.items() for name in (cost, *rates)))
+
+
+def zero_columns(results, zeros: set[str] | None = None) -> list[str]:
     """The LEG_COLUMNS names to collapse on a sheet of these results' legs: each cost component
     of COLLAPSIBLE that is 0 on every leg, and those of its rate columns that are empty or 0 on
-    every leg. None when there are no legs."""
-    legs = [(res, leg) for res in results for leg in res.legs]
-    if not legs:
+    every leg. `zeros`: the WATCHED names known empty or 0 on every leg (the writer tracks them
+    as it writes); None: found from the results. Nothing when there are no legs."""
+    if not any(res.legs for res in results):
         return []
+    if zeros is None:
+        legs = [(res, leg) for res in results for leg in res.legs]
+        zeros = {name for name in WATCHED if all(not LEG_CELLS[name][0](res, leg) for res, leg in legs)}
 
     def zero(name: str) -> bool:
-        value_of = LEG_CELLS[name][0]
-        return all(not value_of(res, leg) for res, leg in legs)
+        return name in zeros
 
     out = []
     for cost, rates in COLLAPSIBLE.items():
@@ -232,6 +238,7 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
     shapes = _shapes(w, shift, letters, runs, run_letter, key is not None) if fast else None
     block = RowBlock(ws, 1) if fast else None
     value_of = [spec[3] for spec in LEG_SPEC]
+    watched = [LEG[name] for name in WATCHED]  # fast path: those still empty or 0 on every leg
     texts = [spec[2] == "text" for spec in LEG_SPEC]
     r = 1
     for i, res in enumerate(results):
@@ -252,6 +259,8 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
             row_key = [cell_text(key[1][i])] if key is not None else []
             for leg in res.legs:
                 values = [cell_text(v(res, leg)) if t else v(res, leg) for v, t in zip(value_of, texts)]
+                if watched:
+                    watched = [j for j in watched if not values[j]]
                 if leg.run_id:
                     block.add(r, shapes[True], row_key + values,
                               run_row(None if key is None else key[1][i], leg.run_id))
@@ -287,7 +296,7 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
         block.finish()
     ws.autofilter(0, 0, max(r - 1, 1), len(columns) - 1)
     last[name] = r
-    hidden = zero_columns(results)
+    hidden = zero_columns(results, {LEG_SPEC[j][0] for j in watched} if fast else None)
     for _name, sheet in legs_sheets[:k + 1]:
         collapse(sheet, hidden, shift)
     return ranges, last
