@@ -186,6 +186,7 @@ def run(model: Model, options: Options | None = None) -> Costed:
                   times, week.runs)
 
 
+@fewer_collections()  # costing.collector
 def load(path: str, network: bool = True) -> tuple[Model | None, list[Problem], str | None]:
     """Read and check an input workbook.
 

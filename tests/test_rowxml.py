@@ -213,3 +213,36 @@ def test_shared_formulas_read_back_as_each_rows_own(tmp_path, monkeypatch, strea
     assert firsts == ([2, 6, 8, 10, 14] if streaming else [2, 6, 8, 11, 14])
     assert len({si for _ref, si in refs}) == len(refs)
     assert "{" not in xml and "}" not in xml
+
+
+def test_streamed_texts_are_escaped_as_xlsxwriter_escapes_them(tmp_path):
+    """A streamed text cell's XML (RowBlock._text, with its shortcut for plain texts and its
+    memory of recent texts) is the XML xlsxwriter itself writes for write_string in
+    constant_memory mode (the reference: xlsxwriter's own worksheet writer)."""
+    import re
+    import zipfile
+
+    import xlsxwriter
+
+    from costing.sheets.rowxml import RowBlock
+
+    texts = ["plain", "D-0042", "", " lead", "trail ", "tab\tin", "line\nbreak", "end\n", "a & b",
+             "<tag>", "ctl\x01x", "_x0041_ literal", "_x00zz_ not one", "\ufffe odd", "quote \" '",
+             "ünïcödé ✓", "\u00a0nbsp", "x" * 300]
+    ref = str(tmp_path / "ref.xlsx")
+    wb = xlsxwriter.Workbook(ref, {"constant_memory": True})
+    ws = wb.add_worksheet("S")
+    for r, t in enumerate(texts):
+        ws.write_string(r, 0, t)
+    wb.close()
+    xml = zipfile.ZipFile(ref).read("xl/worksheets/sheet1.xml").decode()
+    theirs = re.findall(r'<c r="A\d+"( t="inlineStr">.*?</c>)', xml, re.S)
+    assert len(theirs) == len(texts)
+
+    wb2 = xlsxwriter.Workbook(str(tmp_path / "ours.xlsx"), {"constant_memory": True})
+    ws2 = wb2.add_worksheet("S")
+    ws2.write_string(0, 0, "head")
+    block = RowBlock(ws2, 1)
+    for _round in range(2):  # the second round from the block's memory of recent texts
+        assert [block._text(t) for t in texts] == theirs
+    wb2.close()

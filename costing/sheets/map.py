@@ -26,6 +26,7 @@ import os
 import warnings
 from collections import Counter
 
+from costing.collector import fewer_collections
 from costing.model import Model
 from costing.plan.analysis import LaneTotals
 
@@ -350,6 +351,7 @@ def map_figure(model: Model, lanes: list[LaneTotals], title: str):
     return fig, ax, legend, placed, skipped
 
 
+@fewer_collections()  # costing.collector
 def draw_map(model: Model, lanes: list[LaneTotals], title: str) -> bytes | None:
     """PNG bytes of the network map, or None when no two depots have coordinates."""
     import matplotlib.pyplot as plt

@@ -70,6 +70,7 @@ LibreOffice recalculation of the fast path's formulas (tests/test_rowxml.py).
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -90,6 +91,13 @@ DATE = "date"  # a number (a date's serial) that the layout does not measure, as
 # (the reference the fast path is tested against, tests/test_rowxml.py).
 FAST_ROWS = True
 _ERROR_CODES = ("#DIV/0!", "#N/A", "#NAME?", "#NULL!", "#NUM!", "#REF!", "#VALUE!")
+
+
+# A text that xlsxwriter's inline-string writing leaves as it is has none of these: a control
+# character, U+FFFE or U+FFFF, a literal ``_xHHHH_`` escape, a leading or trailing white space
+# (kept with xml:space), an XML special character.
+_PLAIN = re.compile("[\x00-\x08\x0b-\x1f\ufffe\uffff&<>]|_x[0-9a-fA-F]{4}_|^\\s|\\s$")
+_TEXTS_KEPT = 4096
 
 
 def _escape(data: str) -> str:
@@ -187,6 +195,7 @@ class RowBlock:
         self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
         self._measure_plans: dict[int, list] = {}  # id(shape) -> its measured cells (`_measure_plan`)
         self._compiled: dict[tuple, object] = {}  # (id(shape), share) -> its row writer (`_compile`)
+        self._texts: dict[str, str] = {}  # streamed text -> its cell's end (`_text`)
         self._group: list[tuple] = []  # rows that may share their formulas, not yet written (`_take`)
         if self.streaming:
             if first_row <= ws.previous_row and ws.table:
@@ -328,11 +337,24 @@ class RowBlock:
             s = self._styles[id(fmt)] = f' s="{fmt._get_xf_index()}"'
         return s
 
-    def _text(self, text: str) -> tuple[str, str]:
-        """(type attribute, inner XML) of a text cell written inline (streaming mode)."""
-        text = self.ws._escape_control_characters(text)
-        preserve = ' xml:space="preserve"' if _preserve_whitespace(text) else ""
-        return ' t="inlineStr"', f"<is><t{preserve}>{_escape(text)}</t></is>"
+    def _text(self, text: str) -> str:
+        """The end of a text cell written inline (streaming mode), after its style: its type
+        attribute, the string escaped as xlsxwriter escapes it, the cell's end. A text with
+        nothing to escape or keep (`_PLAIN`) skips xlsxwriter's escaping; the last few
+        thousand texts are remembered (ids, depots and modes repeat)."""
+        done = self._texts.get(text)
+        if done is not None:
+            return done
+        if _PLAIN.search(text) is None:
+            done = f' t="inlineStr"><is><t>{text}</t></is></c>'
+        else:
+            escaped = self.ws._escape_control_characters(text)
+            preserve = ' xml:space="preserve"' if _preserve_whitespace(escaped) else ""
+            done = f' t="inlineStr"><is><t{preserve}>{_escape(escaped)}</t></is></c>'
+        if len(self._texts) >= _TEXTS_KEPT:
+            self._texts.clear()
+        self._texts[text] = done
+        return done
 
     def _plan(self, shape: Shape, row: int) -> list[tuple]:
         """Per column of `shape`: (kind, the cell's opening up to its row number, the rest of
@@ -412,8 +434,7 @@ class RowBlock:
                     add(f"{head}{n}{style}><v>{v:.16G}</v></c>")
             elif kind == TEXT:
                 if self.streaming:
-                    t, inner = self._text("" if v is None else v)
-                    add(f"{head}{n}{style}{t}>{inner}</c>")
+                    add(f"{head}{n}{style}" + self._text("" if v is None else v))
                 else:
                     add(f'{head}{n}{style} t="s"><v>{v}</v></c>')
             else:
@@ -507,8 +528,7 @@ def _compile(plan: list[tuple], streaming: bool, text_cell, share: str = PLAIN) 
             pieces.append(f"('' if {v} is None else f'{opening}><v>{{{v}:.16G}}</v></c>')")
         elif kind == TEXT:
             if streaming:
-                pieces.append(f"(lambda t: f'{opening}{{t[0]}}>{{t[1]}}</c>')"
-                              f"(text_cell('' if {v} is None else {v}))")
+                pieces.append(f"f'{opening}' + text_cell('' if {v} is None else {v})")
             else:
                 pieces.append(f"f'{opening} t=\"s\"><v>{{{v}}}</v></c>'")
         elif formula is None:
