@@ -227,3 +227,41 @@ def test_libreoffice_recomputes_the_shares(tmp_path):
     (tmp_path / "recalc").mkdir()
     checked, mismatches = recalc_mismatches(str(tmp_path / "out.xlsx"), str(tmp_path / "recalc"))
     assert checked > 50 and not mismatches, mismatches[:10]
+
+
+def test_a_long_run_names_ten_co_travellers_and_counts_the_rest(tmp_path):
+    # 30 loads of 0.5 t on one day fit one artic (15 t of 24.5): one run of 30 loads. Each load
+    # shares it with 29 others; its note and travels_with name the first ten in input order and
+    # count the other 19 (costing.plan.week.TRAVEL_NAMES); Vehicle runs lists all 30.
+    ships = [_ship(f"S{k:02d}", 0.5, ready_date=DAY) for k in range(1, 31)]
+    model = _model(ships)
+    costed = _run(model)
+    assert len(costed.runs) == 1 and len(costed.runs[0].loads) == 30
+    first, last = costed.results[0], costed.results[-1]
+    assert first.shared_with == tuple(f"S{k:02d}" for k in range(2, 12)) and first.shared_count == 29
+    assert last.shared_with == tuple(f"S{k:02d}" for k in range(1, 11)) and last.shared_count == 29
+    assert "travels with S02, S03, S04, S05, S06, S07, S08, S09, S10, S11 and 19 more on L1" in first.message
+    # on a load's second shared run the count is of the union: a second lane C-D, ten of the
+    # loads going on to D (the other 20 stop at C): S01 shares run A-C with 29, run C-D with 9
+    # of the same loads: still 29 in all
+    depots = (Depot("A", "Ashby", None, None, "depot"), Depot("C", "Corrin", None, None, "depot"),
+              Depot("D", "Dunmere", None, None, "customer"))
+    lanes = (Lane("L1", "A", "C", "road", 250.0, 3.5), Lane("L2", "C", "D", "road", 40.0, 0.7))
+    ships = [_ship(f"S{k:02d}", 0.5, ready_date=DAY, destination="D" if k <= 10 else "C")
+             for k in range(1, 31)]
+    costed = _run(_model(ships, depots=depots, lanes=lanes))
+    s01 = costed.results[0]
+    assert {len(r.loads) for r in costed.runs} == {30, 10}
+    assert s01.shared_count == 29 and s01.shared_with == tuple(f"S{k:02d}" for k in range(2, 12))
+    # the Summary cell says the same; the Vehicle runs row lists every load of the run
+    path = tmp_path / "out.xlsx"
+    info = RunInfo("test", "0" * 64, None, dt.datetime(2026, 12, 3), costed.stats)
+    write_costed(str(path), costed.model, costed.results, costed.problems, info, None, None, (), costed.runs)
+    wb = openpyxl.load_workbook(path, data_only=True)
+    summary, runs = wb["Summary"], wb["Vehicle runs"]
+    head = [c.value for c in summary[1]]
+    assert summary.cell(2, head.index("travels_with") + 1).value == \
+        "S02, S03, S04, S05, S06, S07, S08, S09, S10, S11 and 19 more"
+    head = [c.value for c in runs[1]]
+    listed = {runs.cell(r, head.index("shipments") + 1).value for r in range(2, runs.max_row + 1)}
+    assert ", ".join(f"S{k:02d}" for k in range(1, 31)) in listed

@@ -344,7 +344,8 @@ HEADER_NOTES = {
     "allocated_cost": "Sum of the shipment's cost_share on the Legs sheet: its share of the vehicle "
                       "runs it rides in.",
     "saving": "standalone_cost - total_cost: what sharing vehicles saves.",
-    "travels_with": "Shipments that share a vehicle run with this one (blank: none).",
+    "travels_with": "Shipments that share a vehicle run with this one (blank: none); past ten, the "
+                    "first ten in input order and how many more (Vehicle runs lists each run's loads).",
     "late_hours": "Hours the shipment arrives after the end of its due_date, leaving at the start "
                   "of its ready_date (0: on time; blank: no due_date).",
     "loads": "Shipments carried on the run.",

@@ -82,6 +82,11 @@ from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_
 from costing.price.rates import fuel_use, load_factor, wtw_per_litre
 
 MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
+# co-travellers a shipment's note and `shared_with` name, the first in input order; the rest are
+# counted ("and 442 more"): a run of thousands of loads would otherwise repeat its whole list on
+# every load's row (beyond a cell's 32,767 characters), and build it in time and memory that grow
+# with the square of the run; the Vehicle runs sheet lists each run's loads
+TRAVEL_NAMES = 10
 
 
 @dataclass(frozen=True)
@@ -413,6 +418,22 @@ def _empty_returns(model: Model, route: Callable, chosen: list[CostedShipment], 
     return out_runs, empty, notes
 
 
+def _travels_with(parts: list[list[int]], i: int, sids: list[str]) -> tuple[tuple[str, ...], int]:
+    """(the ids of the first TRAVEL_NAMES shipments other than `i` in the shared `parts` (each
+    the sorted input positions of one run's loads), their number in all). The first few of a
+    union are among the first few of each part, so only those are merged; the count takes the
+    union only for a shipment on several shared runs."""
+    if not parts:
+        return (), 0
+    if len(parts) == 1:
+        count = len(parts[0]) - 1
+        first = [j for j in parts[0][:TRAVEL_NAMES + 1] if j != i][:TRAVEL_NAMES]
+    else:
+        count = len(set().union(*parts)) - 1
+        first = sorted({j for part in parts for j in part[:TRAVEL_NAMES + 1]} - {i})[:TRAVEL_NAMES]
+    return tuple(sids[j] for j in first), count
+
+
 def _capacity(card: RateCard) -> Capacity:
     return Capacity(card.payload_t, card.pallet_places, card.volume_m3)
 
@@ -491,7 +512,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
     # runs in order: by day, then by first use
     order = sorted(groups, key=lambda key: (key[0] is not None, key[0] or _dt.date.min))
     legs: dict[tuple[int, int], Leg] = {}
-    shared: dict[int, set[int]] = {}
+    shared: dict[int, list[list[int]]] = {}  # shipment -> its shared parts' members, sorted
     capped: dict[int, list[str]] = {}
     runs: list[VehicleRun] = []
     for key in order:
@@ -516,7 +537,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             cut: list[int] = []
             if len(part) > 1:
                 cost_shares, cut = cap_at_standalone(cost_shares, alone, places)
-            together = {j for j, _k in part}
+            together = sorted({j for j, _k in part})
             for pos, ((i, k), g) in enumerate(zip(part, part_legs)):
                 q = _quota(rl.leg_cost, g.tonne_km, tkm, len(part))
                 legs[(i, k)] = with_share(g, run_id=run_id, cost_share=cost_shares[pos],
@@ -524,7 +545,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
                                                                    places),
                                           co2e_share=_quota(co2e, g.tonne_km, tkm, len(part)))
                 if len(part) > 1:
-                    shared.setdefault(i, set()).update(together)  # i itself is left out below
+                    shared.setdefault(i, []).append(together)  # i itself is left out below
                 if pos in cut:
                     capped.setdefault(i, []).append(g.use.lane.lane_id)
             ships = [chosen[i].shipment for i, _k in part]
@@ -545,7 +566,7 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
             out.append(replace(res, day=day_of(res.shipment)))
             continue
         new_legs = tuple(legs[(i, k)] for k in range(len(res.legs)))
-        with_ids = tuple(map(sids.__getitem__, sorted(shared.get(i, set()) - {i})))
+        with_ids, with_count = _travels_with(shared.get(i, ()), i, sids)
         msg = [res.message] if res.message else []
         if res.parts:
             msg = [m for m in [results[i].message] if m]
@@ -559,14 +580,16 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
                        f"for {old.standalone_cost:.{places}f})")
         if with_ids:
             steps = list(dict.fromkeys(g.use.lane.lane_id for g in new_legs if g.run_id in multi))
-            msg.append(f"travels with {', '.join(with_ids)} on {', '.join(steps)}")
+            more = f" and {with_count - len(with_ids)} more" if with_count > len(with_ids) else ""
+            msg.append(f"travels with {', '.join(with_ids)}{more} on {', '.join(steps)}")
         if i in capped:
             msg.append(f"share capped at its stand-alone cost on {', '.join(dict.fromkeys(capped[i]))}")
         share, alone = empty.get(i, (0.0, 0.0))
         if alone:
             msg.append(f"empty return {share:.{places}f} (alone {alone:.{places}f})")
-        new = replace(res, legs=new_legs, shared_with=with_ids, day=day_of(res.shipment),
-                      message="; ".join(msg), empty_return_cost=share, empty_return_alone=alone)
+        new = replace(res, legs=new_legs, shared_with=with_ids, shared_count=with_count,
+                      day=day_of(res.shipment), message="; ".join(msg), empty_return_cost=share,
+                      empty_return_alone=alone)
         late = late_hours(new, start)
         if late:
             s = res.shipment

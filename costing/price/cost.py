@@ -115,10 +115,13 @@ class CostedShipment:
     pushed: int = 0
     places: int = 2
     value_of_time: float = 0.0  # per hour, for the blended objective
-    shared_with: tuple[str, ...] = ()  # shipment ids sharing a vehicle run with it (plan stage)
+    # shipment ids sharing a vehicle run with it (plan stage): the first TRAVEL_NAMES of them in
+    # input order (costing.plan.week), and how many there are in all
+    shared_with: tuple[str, ...] = ()
     day: object = None  # the plan's day (ready_date, or the first day of the run)
     empty_return_cost: float = 0.0  # its share of empty returns (Settings return_empty), currency
     empty_return_alone: float = 0.0  # its own vehicles' empty return alone, currency
+    shared_count: int = 0  # shipments sharing a vehicle run with it, in all (`shared_with` names the first)
     # make or buy (costing.plan.buy): the carrier option and what was chosen
     quote: object = None  # costing.price.tariffs.CarrierCharge: the cheapest carrier, if a tariff fits
     bought: bool = False  # True: the shipment goes by carrier at quote.charge (no legs, no runs)

@@ -70,6 +70,14 @@ def cell_text(value: object) -> str:
     return s
 
 
+def travels_with(res) -> str:
+    """The travels_with cell of a result: the shipments it shares vehicle runs with (the first
+    ten, and how many more; costing.plan.week.TRAVEL_NAMES)."""
+    text = ", ".join(res.shared_with)
+    more = res.shared_count - len(res.shared_with)
+    return cell_text(f"{text} and {more} more" if more > 0 else text)
+
+
 class Writer:
     def __init__(self, path: str, model: Model, created: _dt.datetime, streaming: bool = False):
         # streaming: rows go to disk as written (xlsxwriter's constant_memory), for large outputs;

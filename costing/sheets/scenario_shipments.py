@@ -10,7 +10,7 @@ from xlsxwriter.utility import xl_col_to_name
 from costing.contract.outputs import SCENARIO_LEG_COLUMNS, SCENARIO_SHIPMENT_COLUMNS, SUM
 from costing.money import round_money
 from costing.price.cost import ROUTED
-from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value
+from costing.sheets.formats import Writer, cell_text, route_text, sheet_ref, shipment_value, travels_with
 from costing.sheets.summary import route_with_parts, write_cost_cells
 
 COL = {name: i for i, (name, _w, _k) in enumerate(SCENARIO_SHIPMENT_COLUMNS)}
@@ -67,7 +67,7 @@ def write_scenario_shipments(w: Writer, ws, runs, ranges, base) -> tuple[dict[tu
                                  ("subtotal", w.round_f(f"SUM({over('leg_cost')})")),
                                  ("co2e_kg", f"SUM({over('co2e_share')})")):
                 ws.write_formula(r, COL[col], "=" + formula, f[KIND[col]], shipment_value(res, col))
-            ws.write_string(r, COL["travels_with"], ", ".join(res.shared_with))
+            ws.write_string(r, COL["travels_with"], travels_with(res))
             ws.write_formula(r, COL["allocated_cost"], "=" + w.round_f(f"SUM({over('cost_share')})"),
                              f["money"], res.allocated_cost)
             write_cost_cells(w, ws, r, res, COL, S)  # the Summary's formulas

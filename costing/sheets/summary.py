@@ -11,7 +11,7 @@ from costing.contract.outputs import LEG, RATIOS, SUM, SUMMARY_COLUMNS, SUMMED
 from costing.money import round_money
 from costing.plan.week import late_hours
 from costing.price.cost import ROUTED
-from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_values
+from costing.sheets.formats import Writer, cell_text, sheet_ref, shipment_values, travels_with
 from costing.sheets.rowxml import RowSink
 
 
@@ -39,7 +39,7 @@ def write_summary(w: Writer, ws, results, ranges, carrier_rows=None) -> int:
                            ("vehicle", res.vehicle), ("customer", s.customer), ("note", res.message)):
             out.write_string(r, c[col], cell_text(value))
         out.write_number(r, c["weight_t"], s.weight_t)
-        out.write_string(r, c["travels_with"], ", ".join(res.shared_with))
+        out.write_string(r, c["travels_with"], travels_with(res))
         for col, day in (("ready_date", s.ready_date or w.first_day), ("due_date", s.due_date)):
             if day is not None:
                 out.write_datetime(r, c[col], _dt.datetime.combine(day, _dt.time()), f["date"])
