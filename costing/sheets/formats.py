@@ -36,7 +36,8 @@ def basis(flag: bool) -> str:
 # The only functions our formulas use. xlsxwriter rewrites newer ("future") function names with
 # some thirty regular expressions per formula; ours need none of that, and on a million legs it
 # is most of the writing time.
-_OUR_FUNCTIONS = {"ROUND", "SUM", "IF", "OR", "MAX", "COUNT", "COUNTIF", "SUMIFS", "SUMPRODUCT"}
+_OUR_FUNCTIONS = {"ROUND", "ROUNDUP", "SUM", "IF", "OR", "MIN", "MAX", "COUNT", "COUNTIF", "SUMIFS",
+                  "SUMPRODUCT"}
 
 
 _FUNCTION_NAME = re.compile(r"([A-Za-z_][A-Za-z0-9_.]*)\(")
