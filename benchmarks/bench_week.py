@@ -29,6 +29,7 @@ import time
 import pandas as pd
 
 from benchmarks.bench_workbook import make_input
+from costing.collector import fewer_collections
 
 FLOOR_COLUMNS = 15
 SHEET_WRITERS = ("write_legs", "write_vehicle_runs", "write_summary", "write_scenarios",
@@ -75,6 +76,7 @@ def _timed(store: dict[str, float], name: str, fn):
     return wrapper
 
 
+@fewer_collections()  # as the command line runs load, run, map and write (costing.collector)
 def costed_run(inp: str, out: str) -> tuple[list[tuple[str, str, float]], dict]:
     """Run the pipeline and write the workbook; returns the stage rows (group, stage, seconds)
     and a few counts."""

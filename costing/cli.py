@@ -16,6 +16,7 @@ import time
 from collections import Counter
 
 from costing import __version__
+from costing.collector import fewer_collections
 from costing.contract.inputs import OBJECTIVES
 from costing.errors import UsageError
 from costing.model import ERROR, WARNING, Problem
@@ -363,6 +364,7 @@ class _Progress:
 PROGRESS_DELAY = 2.0  # seconds a stage runs before its progress bar appears
 
 
+@fewer_collections()  # costing.collector: one block for load, run, map and write
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
     from costing import pipeline
     from costing.sheets.map import draw_map

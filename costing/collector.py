@@ -16,9 +16,13 @@ the usual thresholds apply again. Nothing is disabled and no result depends on i
 collector frees memory, it never changes a value.
 
 Where: `pipeline.load`, `pipeline.run`, `sheets.map.draw_map`, `sheets.writer.write_costed` and
-`sheets.parquet_set.write_parquet_set` run under it. Outside them the heap a finished week leaves
-is scanned as usual: on the 50,000-shipment week of `benchmarks.bench_workbook` importing the map's
-plotting library between run and write took 4.3 s of full passes before the map ran under it.
+`sheets.parquet_set.write_parquet_set` run under it, and the command line's whole run (`costing
+run`, `costing demo`) is one block around them: each block's end puts the default thresholds
+back, and the next allocation may then start the full pass that was put off (0.8 s on the week
+of `benchmarks.bench_week` after the map, when the map was a block of its own). Outside them
+the heap a finished week leaves is scanned as usual: on the 50,000-shipment week of
+`benchmarks.bench_workbook` importing the map's plotting library between run and write took
+4.3 s of full passes before the map ran under it.
 
 Measured on the week of `benchmarks.bench_week` (4,992 shipments, every sheet on), 2026-12-03:
 26.3 s end to end with the default thresholds, 21.5 s with these; peak memory 1,108 MB and

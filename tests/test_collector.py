@@ -64,3 +64,23 @@ def test_same_workbook_with_the_default_thresholds(cli, tmp_path, monkeypatch):
         va = [[c.value for c in row] for row in a[name].iter_rows()]
         vb = [[c.value for c in row] for row in b[name].iter_rows()]
         assert va == vb, name
+
+
+def test_the_command_line_run_is_one_block(cli, tmp_path, monkeypatch):
+    """Between the run and the writing (the map's imports and figure), the thresholds stay raised:
+    `costing run` is one block; after it the previous thresholds are back."""
+    import costing.sheets.map as map_module
+
+    before = gc.get_threshold()
+    seen = []
+    real = map_module.draw_map
+
+    def spy(*args, **kwargs):
+        seen.append(gc.get_threshold())
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(map_module, "draw_map", spy)
+    code, _o, err = cli("demo", "-o", str(tmp_path / "out.xlsx"))
+    assert code == 0, err
+    assert seen == [collector.THRESHOLDS]
+    assert gc.get_threshold() == before
