@@ -91,6 +91,9 @@ MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
 # pause the cyclic garbage collector while a week is planned (``plan_week``); False plans with it
 # running, as before (the same plans, slower: tests/test_hub_candidates.py compares)
 PAUSE_COLLECTOR = True
+# keep the straight-line km of the depot pairs measured when choosing hubs (``_hubs_near``); False
+# measures every pair again (the same floats: tests/test_hub_candidates.py compares)
+FAST_CANDIDATES = True
 
 
 @dataclass(frozen=True)
@@ -234,19 +237,29 @@ def _card_key(card: RateCard) -> tuple[str, str]:
     return card.vehicle, card.mode
 
 
-def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str]) -> list[str]:
+def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str],
+               km: dict | None = None) -> list[str]:
     """Up to MAX_HUBS of `hubs` not already on the route: those on other loads' routes of the
-    day (`used`) first, then the least straight-line detour first."""
+    day (`used`) first, then the least straight-line detour first. `km` keeps the straight-line
+    km of each pair of depots already measured (the same function of the same coordinates)."""
     s = res.shipment
     on_route = {s.origin, s.destination} | {leg.use.to_depot for leg in res.legs}
     out = [h for h in hubs if h not in on_route]
+    if km is None:
+        km = {}
+
+    def line(x, y) -> float:
+        key = (x.depot_id, y.depot_id)
+        d = km.get(key)
+        if d is None:
+            d = km[key] = great_circle_km(x.latitude, x.longitude, y.latitude, y.longitude)
+        return d
 
     def detour(h: str) -> float:
         a, b, c = model.depot(s.origin), model.depot(h), model.depot(s.destination)
         if None in (a.latitude, b.latitude, c.latitude):
             return 0.0
-        return (great_circle_km(a.latitude, a.longitude, b.latitude, b.longitude)
-                + great_circle_km(b.latitude, b.longitude, c.latitude, c.longitude))
+        return line(a, b) + line(b, c)
 
     return sorted(out, key=lambda h: (h not in used, detour(h), h))[:MAX_HUBS]
 
@@ -269,15 +282,19 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                     if d in hub_ids:
                         per_day_hubs.setdefault(day_of(res.shipment), {}).setdefault(d, set()).add(i)
     tries: dict[int, list[str]] = {}
+    km: dict | None = {} if FAST_CANDIDATES else None
     for i, res in enumerate(results):
         if res.status == ROUTED and res.objective == "cost" and hub_ids and (
                 per_day[day_of(res.shipment)] > 1 or may_buy_part(model, res)):
             day_hubs = per_day_hubs.get(day_of(res.shipment), {})
             used = {h for h, users in day_hubs.items() if users - {i}}
-            tries[i] = _hubs_near(model, res, hub_ids, used)
+            tries[i] = _hubs_near(model, res, hub_ids, used, km)
+    # each try's halves: the shipment to the hub and from it (made once, for prepare and route)
+    halves = {i: [(replace(results[i].shipment, destination=h), replace(results[i].shipment, origin=h))
+                  for h in hubs] for i, hubs in tries.items()}
     if prepare is not None:  # the halves searched together, one search per origin where it pays
-        prepare([replace(results[i].shipment, destination=h) for i, hubs in tries.items() for h in hubs]
-                + [replace(results[i].shipment, origin=h) for i, hubs in tries.items() for h in hubs])
+        prepare([to for pairs in halves.values() for to, _fr in pairs]
+                + [fr for pairs in halves.values() for _to, fr in pairs])
     out: list[list] = []
     bases: list[list] = []
     memo: dict = {}  # the lane steps' charges, shared by every route through a hub (cost_route)
@@ -287,9 +304,9 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
         if i in tries:
             s = res.shipment
             on_time = (late_hours(res, start) or 0.0) == 0.0
-            for h in tries[i]:
-                a = route(replace(s, destination=h))
-                b = route(replace(s, origin=h))
+            for to_hub, from_hub in halves[i]:
+                a = route(to_hub)
+                b = route(from_hub)
                 if a.status != ROUTED or b.status != ROUTED:
                     continue
                 via = cost_route(model, s, "cost", _join(_route_runs(a), _route_runs(b)), memo=memo)
