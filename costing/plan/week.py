@@ -54,9 +54,23 @@ not once per load; every load of a day leaves at the start of the day, so waitin
 vehicle is 0 h; candidates through hubs are the cheapest route through each of a few hubs, not
 every route.
 
-Speed. Python's cyclic garbage collector is paused while a week is planned (``PAUSE_COLLECTOR``;
-its state is restored after): the plan stage makes millions of records and no reference cycle,
-and every full collection would scan the whole heap. Nothing is computed differently.
+Speed. Nothing below changes a candidate or a plan (each has a switch; the tests compare):
+
+- Python's cyclic garbage collector is paused while a week is planned (``PAUSE_COLLECTOR``; its
+  state is restored after): the plan stage makes millions of records and no reference cycle,
+  and every full collection would scan the whole heap.
+- A half of a route through a hub (the shipment to the hub, or from it) is routed once per
+  *search key* (``SHARE_HALVES``): its origin and destination, the vehicle it names and its
+  search profile over every rate card (``costing.plan.route.make_profile``: each card's vehicles
+  for its size, the lane steps its dangerous goods and loaded weight close, its tonnes where
+  the objective needs them). What the Router's ``route`` answers under the cost objective is a
+  function of these alone: its card sets are those of the vehicle named (by minimum charge), each
+  set's profile is the key's restricted to those cards, the search depends on the profile and the
+  ends, and the comparison of the sets on their totals, which depend on the route and each card's
+  vehicles. Only the half's vehicle runs are used (the route through the hub is priced for the
+  shipment itself), so shipments with the same key share them. The Run sheet's work counters
+  (searches, nodes settled) count the searches made: fewer where halves are shared.
+- The straight-line km of the depot pairs measured to choose hubs are kept (``FAST_CANDIDATES``).
 """
 
 from __future__ import annotations
@@ -83,6 +97,7 @@ from costing.plan.buy import (
     settle,
 )
 from costing.plan.consolidate import Capacity, Load, Step, plan
+from costing.plan.route import make_profile
 from costing.price.allocate import allocate, cap_at_standalone
 from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg, with_share
 from costing.price.rates import fuel_use, load_factor, wtw_per_litre
@@ -94,6 +109,10 @@ PAUSE_COLLECTOR = True
 # keep the straight-line km of the depot pairs measured when choosing hubs (``_hubs_near``); False
 # measures every pair again (the same floats: tests/test_hub_candidates.py compares)
 FAST_CANDIDATES = True
+# route each half of a route through a hub once per search key (origin, destination, vehicle
+# named, the shipment's search profile over every rate card), not once per shipment; False routes
+# every half (the same candidates: tests/test_hub_candidates.py compares)
+SHARE_HALVES = True
 
 
 @dataclass(frozen=True)
@@ -298,6 +317,23 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
     out: list[list] = []
     bases: list[list] = []
     memo: dict = {}  # the lane steps' charges, shared by every route through a hub (cost_route)
+    found: dict = {}  # a half's search key -> its vehicle runs (None: no route)
+    cards = list(model.rates)
+
+    def runs_of(half) -> list | None:
+        """The half's route as vehicle runs (None when it has none): routed once per search key
+        (``SHARE_HALVES``, module docstring)."""
+        key = None
+        if SHARE_HALVES:
+            key = (half.origin, half.destination, half.vehicle, make_profile(model, half, "cost", cards))
+            if key in found:
+                return found[key]
+        got = route(half)
+        runs = _route_runs(got) if got.status == ROUTED else None
+        if key is not None:
+            found[key] = runs
+        return runs
+
     for i, res in enumerate(results):
         cands = [res]
         lone = [] if res.status != ROUTED or per_day[day_of(res.shipment)] > 1 else [res]
@@ -305,11 +341,11 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
             s = res.shipment
             on_time = (late_hours(res, start) or 0.0) == 0.0
             for to_hub, from_hub in halves[i]:
-                a = route(to_hub)
-                b = route(from_hub)
-                if a.status != ROUTED or b.status != ROUTED:
+                ra = runs_of(to_hub)
+                rb = runs_of(from_hub)
+                if ra is None or rb is None:
                     continue
-                via = cost_route(model, s, "cost", _join(_route_runs(a), _route_runs(b)), memo=memo)
+                via = cost_route(model, s, "cost", _join(ra, rb), memo=memo)
                 keys = [(_step_key(g), _card_key(g.card)) for g in via.legs]
                 if len(set(keys)) != len(keys):
                     continue  # a route through the hub that repeats a step is never the cheapest
@@ -462,7 +498,9 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         Settings ``consolidate`` decides whether loads share vehicles.
     route : callable
         ``route(shipment) -> CostedShipment``: the cheapest route of a (changed) shipment under
-        the cost objective, for candidates through hubs (the pipeline passes the Router's).
+        the cost objective, for candidates through hubs (the pipeline passes the Router's). Its
+        lane steps and cards must depend only on the search key of the module docstring (Speed):
+        halves with the same key are routed once.
     results : list of CostedShipment
         The routing stage's results, in the Model's order.
     prepare : callable, optional
