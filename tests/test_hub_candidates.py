@@ -113,8 +113,8 @@ def mixed_week(small_week):
     return replace(m, rates=(artic, rigid), shipments=ships, lanes=lanes)
 
 
-@pytest.mark.parametrize("switch", ["FAST_CANDIDATES", "SHARE_HALVES"])
-@pytest.mark.parametrize("which", ["small_week", "mixed_week"])
+@pytest.mark.parametrize("switch,which", [("FAST_CANDIDATES", "small_week"), ("SHARE_HALVES", "small_week"),
+                                          ("SHARE_HALVES", "mixed_week")])
 def test_same_candidates_with_the_switch_off(request, monkeypatch, switch, which):
     model = request.getfixturevalue(which)
     calls = []
