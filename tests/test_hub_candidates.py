@@ -7,6 +7,7 @@ All inputs are invented (benchmarks.bench_consolidation's seeded week)."""
 from __future__ import annotations
 
 import gc
+import threading
 from dataclasses import replace
 from decimal import ROUND_HALF_UP, Decimal
 
@@ -52,6 +53,53 @@ def test_collector_paused_while_planning_and_restored(small_week, monkeypatch, w
         gc.enable()
     assert seen and not any(seen)  # paused while the halves through hubs are routed
     assert after == was_enabled
+
+
+def test_collector_paused_until_the_last_of_overlapping_plans_ends(small_week, monkeypatch):
+    # two weeks planned at once in two threads (as a distributed run on threads does): the first
+    # ends while the second still plans; the collector stays paused until the second ends, and
+    # is on again after both
+    plan_week = week.plan_week
+    first_in, second_in, first_out = threading.Event(), threading.Event(), threading.Event()
+    seen: dict = {}
+
+    def spy(model, route, results, prepare=None):
+        name = threading.current_thread().name
+        calls = []
+
+        def route_spy(s):
+            if not calls:
+                if name == "first":
+                    first_in.set()
+                    assert second_in.wait(60)
+                else:
+                    second_in.set()
+                    assert first_out.wait(60)
+                    seen["second, after the first ended"] = gc.isenabled()
+            calls.append(s)
+            return route(s)
+        try:
+            return plan_week(model, route_spy, results, prepare)
+        finally:
+            if name == "first":
+                first_out.set()
+
+    monkeypatch.setattr(pipeline, "plan_week", spy)
+    out: dict = {}
+
+    def work(name):
+        if name == "second":
+            assert first_in.wait(60)
+        out[name] = digest(_run(small_week))
+
+    threads = [threading.Thread(target=work, args=(n,), name=n) for n in ("first", "second")]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(120)
+    assert seen == {"second, after the first ended": False}
+    assert gc.isenabled()
+    assert out["first"] == out["second"]
 
 
 def test_planning_makes_no_reference_cycle(small_week, monkeypatch):

@@ -57,8 +57,9 @@ every route.
 Speed. Nothing below changes a candidate or a plan (each has a switch; the tests compare):
 
 - Python's cyclic garbage collector is paused while a week is planned (``PAUSE_COLLECTOR``; its
-  state is restored after): the plan stage makes millions of records and no reference cycle,
-  and every full collection would scan the whole heap.
+  state is restored after, by the last of weeks planned at once in threads): the plan stage
+  makes millions of records and no reference cycle, and every full collection would scan the
+  whole heap.
 - A half of a route through a hub (the shipment to the hub, or from it) is routed once per
   *search key* (``SHARE_HALVES``): its origin and destination, the vehicle it names and its
   search profile over every rate card (``costing.plan.route.make_profile``: each card's vehicles
@@ -78,6 +79,7 @@ from __future__ import annotations
 import contextlib
 import datetime as _dt
 import gc
+import threading
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 
@@ -524,18 +526,31 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         return _plan_week(model, route, results, prepare)
 
 
+_PAUSE_LOCK = threading.Lock()
+_pause = {"depth": 0, "was_enabled": False}  # plan_week calls in the block; gc's state before the first
+
+
 @contextlib.contextmanager
 def _collector_paused():
     """Pause the cyclic garbage collector (``gc``) within the block; restore its state after.
-    Reference counting still frees every object that is not in a cycle."""
-    was = gc.isenabled()
-    if PAUSE_COLLECTOR:
-        gc.disable()
+    Reference counting still frees every object that is not in a cycle. The collector is one
+    per process: weeks planned at once in several threads (a distributed run on threads) pause
+    it from the first one in to the last one out, which restores the state the first found."""
+    if not PAUSE_COLLECTOR:
+        yield
+        return
+    with _PAUSE_LOCK:
+        if _pause["depth"] == 0:
+            _pause["was_enabled"] = gc.isenabled()
+            gc.disable()
+        _pause["depth"] += 1
     try:
         yield
     finally:
-        if was:
-            gc.enable()
+        with _PAUSE_LOCK:
+            _pause["depth"] -= 1
+            if _pause["depth"] == 0 and _pause["was_enabled"]:
+                gc.enable()
 
 
 def _plan_week(model: Model, route: Callable[..., CostedShipment],
