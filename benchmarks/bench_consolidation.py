@@ -4,6 +4,7 @@ the same run, over the same seeded network, through the one pipeline (costing.pi
     python -m benchmarks.bench_consolidation                    # 2,000 depots, 10,000 shipments
     python -m benchmarks.bench_consolidation --smoke            # a small run that takes seconds
     python -m benchmarks.bench_consolidation --shipments 2500 --depots 1000 --lanes 4000 --digest
+    python -m benchmarks.bench_consolidation --split            # the plan stage's parts timed too
 
 ``--digest`` adds a fingerprint of each plan (every run's loads, vehicles and cost, every
 shipment's total and leg shares): equal fingerprints before and after a change to the plan stage
@@ -19,6 +20,7 @@ the consolidated run to the other, the vehicles and the saving; asserts nothing 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import datetime as dt
 import hashlib
 import os
@@ -66,14 +68,48 @@ def digest(costed) -> str:
     return h.hexdigest()[:16]
 
 
-def run(model, consolidate: str, with_digest: bool = False) -> dict:
+@contextlib.contextmanager
+def plan_split(seconds: dict):
+    """Time the plan stage's parts (into `seconds`): the candidate routes through hubs
+    (``week._candidates``) and the planner (``week.plan`` / ``plan_with_carriers``)."""
+    import costing.plan.week as week
+
+    saved = {name: getattr(week, name) for name in ("_candidates", "plan", "plan_with_carriers")}
+
+    def timed(name, label):
+        fn = saved[name]
+
+        def wrapper(*a, **k):
+            t0 = time.perf_counter()
+            try:
+                return fn(*a, **k)
+            finally:
+                seconds[label] = seconds.get(label, 0.0) + time.perf_counter() - t0
+        return wrapper
+
+    for name, label in (("_candidates", "  candidates through hubs"), ("plan", "  planner"),
+                        ("plan_with_carriers", "  planner")):
+        setattr(week, name, timed(name, label))
+    try:
+        yield
+    finally:
+        for name, fn in saved.items():
+            setattr(week, name, fn)
+
+
+def run(model, consolidate: str, with_digest: bool = False, split: bool = False) -> dict:
     m = replace(model, settings=replace(model.settings, consolidate=consolidate))
+    parts: dict = {}
     t0 = time.perf_counter()
-    costed = pipeline.run(m, pipeline.Options(analyses=False, scenarios=False))
+    with plan_split(parts) if split else contextlib.nullcontext():
+        costed = pipeline.run(m, pipeline.Options(analyses=False, scenarios=False))
     wall = time.perf_counter() - t0
     routed = [r for r in costed.results if r.status == "routed"]
+    seconds = dict(costed.seconds)
+    if split:
+        seconds.update({k: parts.get(k, 0.0) for k in ("  candidates through hubs", "  planner")})
     return {"consolidate": consolidate, "wall s": round(wall, 2),
-            **{f"{k} s": round(v, 2) for k, v in costed.seconds.items()},
+            **{f"{k} s": round(v, 2) for k, v in seconds.items()},
             "runs": len(costed.runs), "vehicles": sum(r.vehicles for r in costed.runs),
             "shared runs": sum(len(r.loads) > 1 for r in costed.runs),
             "total": round(sum(r.total_cost for r in routed), 2),
@@ -90,6 +126,8 @@ def main(argv=None) -> None:
     p.add_argument("--seed", type=int, default=11)
     p.add_argument("--smoke", action="store_true", help="200 depots, 500 shipments")
     p.add_argument("--digest", action="store_true", help="print a fingerprint of each plan")
+    p.add_argument("--split", action="store_true",
+                   help="also time the plan stage's candidates through hubs and its planner")
     args = p.parse_args(argv)
     if args.smoke:
         args.depots, args.lanes, args.shipments, args.origins = 200, 800, 500, 10
@@ -98,7 +136,7 @@ def main(argv=None) -> None:
     print(f"week: {len(model.depots):,} depots ({sum(d.kind == 'hub' for d in model.depots)} hubs), "
           f"{len(model.lanes):,} lanes, {len(model.shipments):,} shipments over 5 days "
           f"(input built and read in {time.perf_counter() - t0:.1f} s)")
-    rows = [run(model, "no", args.digest), run(model, "yes", args.digest)]
+    rows = [run(model, "no", args.digest, args.split), run(model, "yes", args.digest, args.split)]
     table = pd.DataFrame(rows).set_index("consolidate").T
     print(table.to_string())
     off, on = rows

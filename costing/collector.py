@@ -33,15 +33,22 @@ from __future__ import annotations
 
 import contextlib
 import gc
+import threading
 from collections.abc import Iterator
 
 THRESHOLDS = (100_000, 50, 1_000)
 
 
+_LOCK = threading.Lock()
+_held = {"depth": 0, "before": (700, 10, 10)}  # blocks open in the process; thresholds found by the first
+
+
 @contextlib.contextmanager
 def fewer_collections() -> Iterator[None]:
     """Run the block with the collector's thresholds at THRESHOLDS (module docstring), then put
-    the previous thresholds back.
+    the previous thresholds back. The collector is one per process: blocks open at once, nested
+    or in several threads (a distributed run on threads), hold the raised thresholds from the
+    first one in to the last one out, which puts back what the first found.
 
     Examples
     --------
@@ -53,9 +60,15 @@ def fewer_collections() -> Iterator[None]:
     >>> gc.get_threshold() == before
     True
     """
-    before = gc.get_threshold()
-    gc.set_threshold(*THRESHOLDS)
+    with _LOCK:
+        if _held["depth"] == 0:
+            _held["before"] = gc.get_threshold()
+            gc.set_threshold(*THRESHOLDS)
+        _held["depth"] += 1
     try:
         yield
     finally:
-        gc.set_threshold(*before)
+        with _LOCK:
+            _held["depth"] -= 1
+            if _held["depth"] == 0:
+                gc.set_threshold(*_held["before"])

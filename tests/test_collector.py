@@ -84,3 +84,38 @@ def test_the_command_line_run_is_one_block(cli, tmp_path, monkeypatch):
     assert code == 0, err
     assert seen == [collector.THRESHOLDS]
     assert gc.get_threshold() == before
+
+
+def test_blocks_in_two_threads_hold_the_thresholds_until_the_last_ends():
+    # two blocks open at once in two threads (as weeks costed at once on threads are): the first
+    # ends while the second is still open; the raised thresholds stay until the second ends, and
+    # the thresholds found before the first are back after both (Python's gc module is one per
+    # process)
+    import threading
+
+    before = gc.get_threshold()
+    first_in, second_in, first_out = threading.Event(), threading.Event(), threading.Event()
+    seen = {}
+
+    def first():
+        with collector.fewer_collections():
+            first_in.set()
+            assert second_in.wait(30)
+        first_out.set()
+
+    def second():
+        assert first_in.wait(30)
+        with collector.fewer_collections():
+            second_in.set()
+            assert first_out.wait(30)
+            seen["second, after the first ended"] = gc.get_threshold()
+
+    threads = [threading.Thread(target=first), threading.Thread(target=second)]
+    # the second thread opens its block only once the first's is open; the first closes its
+    # block while the second's is open
+    threads[1].start()
+    threads[0].start()
+    for t in threads:
+        t.join(60)
+    assert seen == {"second, after the first ended": collector.THRESHOLDS}
+    assert gc.get_threshold() == before

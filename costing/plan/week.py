@@ -53,6 +53,21 @@ same; a shared run is handled once per vehicle at each end (at the largest rate 
 not once per load; every load of a day leaves at the start of the day, so waiting for a shared
 vehicle is 0 h; candidates through hubs are the cheapest route through each of a few hubs, not
 every route.
+
+Speed. Nothing below changes a candidate or a plan (each has a switch; the tests compare):
+
+- A half of a route through a hub (the shipment to the hub, or from it) is routed once per
+  *search key* (``SHARE_HALVES``): its origin and destination, the vehicle it names and its
+  search profile over every rate card (``costing.plan.route.make_profile``: each card's vehicles
+  for its size, the lane steps its dangerous goods and loaded weight close, its tonnes where
+  the objective needs them). What the Router's ``route`` answers under the cost objective is a
+  function of these alone: its card sets are those of the vehicle named (by minimum charge), each
+  set's profile is the key's restricted to those cards, the search depends on the profile and the
+  ends, and the comparison of the sets on their totals, which depend on the route and each card's
+  vehicles. Only the half's vehicle runs are used (the route through the hub is priced for the
+  shipment itself), so shipments with the same key share them. The Run sheet's work counters
+  (searches, nodes settled) count the searches made: fewer where halves are shared.
+- The straight-line km of the depot pairs measured to choose hubs are kept (``FAST_CANDIDATES``).
 """
 
 from __future__ import annotations
@@ -77,6 +92,7 @@ from costing.plan.buy import (
     settle,
 )
 from costing.plan.consolidate import Capacity, Load, Step, plan
+from costing.plan.route import make_profile
 from costing.price.allocate import allocate, cap_at_standalone
 from costing.price.cost import ROUTED, CostedShipment, Leg, cost_route, reprice_leg, with_share
 from costing.price.rates import fuel_use, load_factor, wtw_per_litre
@@ -87,6 +103,13 @@ MAX_HUBS = 3  # hubs tried per shipment for a route through a consolidation hub
 # every load's row (beyond a cell's 32,767 characters), and build it in time and memory that grow
 # with the square of the run; the Vehicle runs sheet lists each run's loads
 TRAVEL_NAMES = 10
+# keep the straight-line km of the depot pairs measured when choosing hubs (``_hubs_near``); False
+# measures every pair again (the same floats: tests/test_hub_candidates.py compares)
+FAST_CANDIDATES = True
+# route each half of a route through a hub once per search key (origin, destination, vehicle
+# named, the shipment's search profile over every rate card), not once per shipment; False routes
+# every half (the same candidates: tests/test_hub_candidates.py compares)
+SHARE_HALVES = True
 
 
 @dataclass(frozen=True)
@@ -230,19 +253,29 @@ def _card_key(card: RateCard) -> tuple[str, str]:
     return card.vehicle, card.mode
 
 
-def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str]) -> list[str]:
+def _hubs_near(model: Model, res: CostedShipment, hubs: list[str], used: set[str],
+               km: dict | None = None) -> list[str]:
     """Up to MAX_HUBS of `hubs` not already on the route: those on other loads' routes of the
-    day (`used`) first, then the least straight-line detour first."""
+    day (`used`) first, then the least straight-line detour first. `km` keeps the straight-line
+    km of each pair of depots already measured (the same function of the same coordinates)."""
     s = res.shipment
     on_route = {s.origin, s.destination} | {leg.use.to_depot for leg in res.legs}
     out = [h for h in hubs if h not in on_route]
+    if km is None:
+        km = {}
+
+    def line(x, y) -> float:
+        key = (x.depot_id, y.depot_id)
+        d = km.get(key)
+        if d is None:
+            d = km[key] = great_circle_km(x.latitude, x.longitude, y.latitude, y.longitude)
+        return d
 
     def detour(h: str) -> float:
         a, b, c = model.depot(s.origin), model.depot(h), model.depot(s.destination)
         if None in (a.latitude, b.latitude, c.latitude):
             return 0.0
-        return (great_circle_km(a.latitude, a.longitude, b.latitude, b.longitude)
-                + great_circle_km(b.latitude, b.longitude, c.latitude, c.longitude))
+        return line(a, b) + line(b, c)
 
     return sorted(out, key=lambda h: (h not in used, detour(h), h))[:MAX_HUBS]
 
@@ -265,30 +298,51 @@ def _candidates(model: Model, route: Callable, results: list[CostedShipment], da
                     if d in hub_ids:
                         per_day_hubs.setdefault(day_of(res.shipment), {}).setdefault(d, set()).add(i)
     tries: dict[int, list[str]] = {}
+    km: dict | None = {} if FAST_CANDIDATES else None
     for i, res in enumerate(results):
         if res.status == ROUTED and res.objective == "cost" and hub_ids and (
                 per_day[day_of(res.shipment)] > 1 or may_buy_part(model, res)):
             day_hubs = per_day_hubs.get(day_of(res.shipment), {})
             used = {h for h, users in day_hubs.items() if users - {i}}
-            tries[i] = _hubs_near(model, res, hub_ids, used)
+            tries[i] = _hubs_near(model, res, hub_ids, used, km)
+    # each try's halves: the shipment to the hub and from it (made once, for prepare and route)
+    halves = {i: [(replace(results[i].shipment, destination=h), replace(results[i].shipment, origin=h))
+                  for h in hubs] for i, hubs in tries.items()}
     if prepare is not None:  # the halves searched together, one search per origin where it pays
-        prepare([replace(results[i].shipment, destination=h) for i, hubs in tries.items() for h in hubs]
-                + [replace(results[i].shipment, origin=h) for i, hubs in tries.items() for h in hubs])
+        prepare([to for pairs in halves.values() for to, _fr in pairs]
+                + [fr for pairs in halves.values() for _to, fr in pairs])
     out: list[list] = []
     bases: list[list] = []
     memo: dict = {}  # the lane steps' charges, shared by every route through a hub (cost_route)
+    found: dict = {}  # a half's search key -> its vehicle runs (None: no route)
+    cards = list(model.rates)
+
+    def runs_of(half) -> list | None:
+        """The half's route as vehicle runs (None when it has none): routed once per search key
+        (``SHARE_HALVES``, module docstring)."""
+        key = None
+        if SHARE_HALVES:
+            key = (half.origin, half.destination, half.vehicle, make_profile(model, half, "cost", cards))
+            if key in found:
+                return found[key]
+        got = route(half)
+        runs = _route_runs(got) if got.status == ROUTED else None
+        if key is not None:
+            found[key] = runs
+        return runs
+
     for i, res in enumerate(results):
         cands = [res]
         lone = [] if res.status != ROUTED or per_day[day_of(res.shipment)] > 1 else [res]
         if i in tries:
             s = res.shipment
             on_time = (late_hours(res, start) or 0.0) == 0.0
-            for h in tries[i]:
-                a = route(replace(s, destination=h))
-                b = route(replace(s, origin=h))
-                if a.status != ROUTED or b.status != ROUTED:
+            for to_hub, from_hub in halves[i]:
+                ra = runs_of(to_hub)
+                rb = runs_of(from_hub)
+                if ra is None or rb is None:
                     continue
-                via = cost_route(model, s, "cost", _join(_route_runs(a), _route_runs(b)), memo=memo)
+                via = cost_route(model, s, "cost", _join(ra, rb), memo=memo)
                 keys = [(_step_key(g), _card_key(g.card)) for g in via.legs]
                 if len(set(keys)) != len(keys):
                     continue  # a route through the hub that repeats a step is never the cheapest
@@ -457,7 +511,9 @@ def plan_week(model: Model, route: Callable[..., CostedShipment],
         Settings ``consolidate`` decides whether loads share vehicles.
     route : callable
         ``route(shipment) -> CostedShipment``: the cheapest route of a (changed) shipment under
-        the cost objective, for candidates through hubs (the pipeline passes the Router's).
+        the cost objective, for candidates through hubs (the pipeline passes the Router's). Its
+        lane steps and cards must depend only on the search key of the module docstring (Speed):
+        halves with the same key are routed once.
     results : list of CostedShipment
         The routing stage's results, in the Model's order.
     prepare : callable, optional
