@@ -80,12 +80,12 @@ from xlsxwriter.worksheet import _preserve_whitespace
 from costing.sheets.formats import _MEASURED_ROWS, _parse_number_format
 
 TEXT, NUMBER, FORMULA = "text", "number", "formula"
+DATE = "date"  # a number (a date's serial) that the layout does not measure, as xlsxwriter's dates
 PLAIN, MASTER, FOLLOW = "plain", "master", "follow"  # how a row writes its shared formulas
 
 # Rows of one shared formula group at most: the group's rows are held until it is written (in
 # streaming mode too), and a group ends at this many rows.
 SHARED_ROWS = 1024
-DATE = "date"  # a number (a date's serial) that the layout does not measure, as xlsxwriter's dates
 
 # The large sheets write their rows through this module; False: cell by cell through xlsxwriter
 # (the reference the fast path is tested against, tests/test_rowxml.py).
