@@ -444,16 +444,7 @@ class RowBlock:
                     text, v = _escape(v[0]), v[1]
                 else:
                     text = formula.format(r=n, rr=rr)
-                t = ""
-                if isinstance(v, bool):
-                    t, v = ' t="b"', int(v)
-                elif isinstance(v, str):
-                    if v in _ERROR_CODES:
-                        t = ' t="e"'
-                    elif v:
-                        t = ' t="str"'
-                    v = _escape(v)
-                add(f"{head}{n}{style}{t}><f>{text}</f><v>{v}</v></c>")
+                add(f"{head}{n}{style}" + _cached(v, f"<f>{text}</f>"))
         add("</row>")
         return "".join(parts)
 
@@ -479,8 +470,9 @@ class RowBlock:
 
 
 def _cached(v, text: str) -> str:
-    """The end of a formula cell after its style: the type of the cached value `v`, the formula
-    element `text` and the value, as `RowBlock._xml_cells` writes them."""
+    """The end of a formula cell after its style: the type of the cached value `v` (a boolean,
+    an error code, a text or a number, as xlsxwriter types them), the formula element `text` and
+    the value."""
     t = ""
     if isinstance(v, bool):
         t, v = ' t="b"', int(v)
