@@ -32,6 +32,7 @@ from dataclasses import replace
 
 import pandas as pd
 
+from benchmarks.bench_week import timed
 from benchmarks.bench_workbook import make_input
 from costing import pipeline
 
@@ -76,20 +77,9 @@ def plan_split(seconds: dict):
 
     saved = {name: getattr(week, name) for name in ("_candidates", "plan", "plan_with_carriers")}
 
-    def timed(name, label):
-        fn = saved[name]
-
-        def wrapper(*a, **k):
-            t0 = time.perf_counter()
-            try:
-                return fn(*a, **k)
-            finally:
-                seconds[label] = seconds.get(label, 0.0) + time.perf_counter() - t0
-        return wrapper
-
     for name, label in (("_candidates", "  candidates through hubs"), ("plan", "  planner"),
                         ("plan_with_carriers", "  planner")):
-        setattr(week, name, timed(name, label))
+        setattr(week, name, timed(seconds, label, saved[name]))
     try:
         yield
     finally:

@@ -65,7 +65,8 @@ def floor(inp: str, out: str, rows: int) -> tuple[float, float]:
     return read, time.perf_counter() - t0
 
 
-def _timed(store: dict[str, float], name: str, fn):
+def timed(store: dict[str, float], name: str, fn):
+    """`fn` wrapped to add its wall seconds to ``store[name]`` on every call."""
     @functools.wraps(fn)
     def wrapper(*args, **kwargs):
         t0 = time.perf_counter()
@@ -107,8 +108,8 @@ def costed_run(inp: str, out: str) -> tuple[list[tuple[str, str, float]], dict]:
     close = xlsxwriter.Workbook.close
     try:
         for name in SHEET_WRITERS:
-            setattr(writer, name, _timed(sheet_secs, name, saved[name]))
-        xlsxwriter.Workbook.close = _timed(sheet_secs, "workbook close (zip)", close)
+            setattr(writer, name, timed(sheet_secs, name, saved[name]))
+        xlsxwriter.Workbook.close = timed(sheet_secs, "workbook close (zip)", close)
         info = RunInfo(os.path.basename(inp), digest, None, run_time(), costed.stats)
         t0 = time.perf_counter()
         write_costed(out, model, costed.results, costed.problems, info, costed.analysis, png,

@@ -137,14 +137,11 @@ def zero_columns(results, zeros: set[str] | None = None) -> list[str]:
         legs = [(res, leg) for res in results for leg in res.legs]
         zeros = {name for name in WATCHED if all(not LEG_CELLS[name][0](res, leg) for res, leg in legs)}
 
-    def zero(name: str) -> bool:
-        return name in zeros
-
     out = []
     for cost, rates in COLLAPSIBLE.items():
-        if zero(cost):
+        if cost in zeros:
             out.append(cost)
-            out.extend(r for r in rates if zero(r))
+            out.extend(r for r in rates if r in zeros)
     return out
 
 
