@@ -23,12 +23,14 @@ from __future__ import annotations
 import argparse
 import functools
 import os
+import resource
 import tempfile
 import time
 
 import pandas as pd
 
 from benchmarks.bench_workbook import make_input
+from costing import aside
 from costing.collector import fewer_collections
 
 FLOOR_COLUMNS = 15
@@ -78,14 +80,15 @@ def timed(store: dict[str, float], name: str, fn):
 
 
 @fewer_collections()  # as the command line runs load, run, map and write (costing.collector)
-def costed_run(inp: str, out: str) -> tuple[list[tuple[str, str, float]], dict]:
-    """Run the pipeline and write the workbook; returns the stage rows (group, stage, seconds)
-    and a few counts."""
+def costed_run(inp: str, out: str, aside: bool = True) -> tuple[list[tuple[str, str, float]], dict]:
+    """Run the pipeline and write the workbook as the command line does (with `aside`: the
+    trade-off searches and the map in a second process when forking is available,
+    `costing.aside`); returns the stage rows (group, stage, seconds) and a few counts."""
     import xlsxwriter
 
     from costing import pipeline
     from costing.sheets import writer
-    from costing.sheets.map import draw_map
+    from costing.sheets.map import start_map
     from costing.sheets.writer import RunInfo, run_time, write_costed
 
     rows: list[tuple[str, str, float]] = []
@@ -94,14 +97,15 @@ def costed_run(inp: str, out: str) -> tuple[list[tuple[str, str, float]], dict]:
     model, problems, digest = pipeline.load(inp)
     rows.append(("read", "read and validate (pipeline.load)", time.perf_counter() - t0))
     assert model is not None and not any(p.severity == "error" for p in problems), problems[:3]
-    costed = pipeline.run(model)
+    costed = pipeline.run(model, pipeline.Options(aside=aside))
     for stage, secs in costed.seconds.items():
         rows.append(("pipeline", stage, secs))
     for stage, secs in costed.stats.seconds.items():
         rows.append(("  within", stage, secs))
     t0 = time.perf_counter()
-    png = draw_map(model, costed.analysis.lanes, "bench week: lanes and routed tonnes")
-    rows.append(("write", "map picture", time.perf_counter() - t0))
+    png = start_map(model, costed.analysis.lanes, "bench week: lanes and routed tonnes", fork=aside)
+    rows.append(("write", "map picture" + (" (started aside)" if hasattr(png, "result") else ""),
+                 time.perf_counter() - t0))
 
     sheet_secs: dict[str, float] = {}
     saved = {name: getattr(writer, name) for name in SHEET_WRITERS}
@@ -133,6 +137,12 @@ def costed_run(inp: str, out: str) -> tuple[list[tuple[str, str, float]], dict]:
     return rows, counts
 
 
+def _cpu() -> float:
+    """CPU seconds (user + system) of this process and of its waited-for children."""
+    me, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return me.ru_utime + me.ru_stime + kids.ru_utime + kids.ru_stime
+
+
 def sheet_rows(path: str) -> dict[str, int]:
     import openpyxl
 
@@ -150,6 +160,8 @@ def main(argv=None) -> dict:
     p.add_argument("--shipments", type=int, default=5000)
     p.add_argument("--origins", type=int, default=40)
     p.add_argument("--smoke", action="store_true", help="200 depots, 400 lanes, 200 shipments")
+    p.add_argument("--serial", action="store_true",
+                   help="one process: no trade-off searches or map in a second process (costing.aside)")
     args = p.parse_args(argv)
     if args.smoke:
         args.depots, args.lanes, args.shipments, args.origins = 200, 400, 200, 10
@@ -158,7 +170,9 @@ def main(argv=None) -> dict:
         inp = os.path.join(tmp, "week-input.xlsx")
         make_input(inp, args.depots, args.lanes, args.shipments, args.origins, settings={})
         out = os.path.join(tmp, "week-costed.xlsx")
-        rows, counts = costed_run(inp, out)
+        cpu0 = _cpu()
+        rows, counts = costed_run(inp, out, aside=not args.serial)
+        counts["cpu"] = _cpu() - cpu0
         per_sheet = sheet_rows(out)
         n_rows = sum(per_sheet.values())
         read, write = floor(inp, os.path.join(tmp, "floor.xlsx"), n_rows)
@@ -179,6 +193,9 @@ def main(argv=None) -> dict:
                             ("floor total", base)], columns=["what", "seconds"])
     print(summary.to_string(index=False, float_format=lambda x: f"{x:,.1f}"))
     print(f"ratio end to end / floor: {counts['seconds'] / base:.2f}")
+    print(f"CPU seconds of the costing run, this process and its children: {counts['cpu']:.1f} "
+          f"(wall {counts['seconds']:.1f}; {'one process' if args.serial else 'second process allowed'}, "
+          f"{aside.cores()} cores usable)")
     return {"rows": rows, "counts": counts, "floor": base, "ratio": counts["seconds"] / base}
 
 

@@ -354,7 +354,10 @@ class _Progress:
         if self.bar is None:
             from tqdm import tqdm
 
-            self.bar = tqdm(total=total, desc=self.label, unit="shipment", file=sys.stderr,
+            class Bar(tqdm):
+                monitor_interval = 0  # no monitor thread: the run stays one thread (costing.aside)
+
+            self.bar = Bar(total=total, desc=self.label, unit="shipment", file=sys.stderr,
                             delay=PROGRESS_DELAY, leave=False, dynamic_ncols=True)
         self.bar.update(done - self.bar.n)
         if done >= total:
@@ -366,8 +369,8 @@ PROGRESS_DELAY = 2.0  # seconds a stage runs before its progress bar appears
 
 @fewer_collections()  # costing.collector: one block for load, run, map and write
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
-    from costing import pipeline
-    from costing.sheets.map import draw_map
+    from costing import aside, pipeline
+    from costing.sheets.map import start_map
     from costing.sheets.writer import OutputLimitError, RunInfo, run_time, write_costed
 
     if not os.path.exists(input_path):
@@ -384,7 +387,7 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
               f"Run `costing check {input_path}` for the full list.", file=sys.stderr)
         return EXIT_INPUT
     parquet = _parquet_choice(model, output, args)
-    options = pipeline.Options(objective=args.objective, progress=_Progress)
+    options = pipeline.Options(objective=args.objective, progress=_Progress, aside=True)
     if getattr(args, "workers", None) is not None or getattr(args, "scheduler", None):
         costed = _run_distributed(model, options, args)
     else:
@@ -393,9 +396,13 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     problems = costed.problems
     t0 = time.perf_counter()
     title = f"{input_label or os.path.basename(input_path)}: lanes and routed tonnes"
-    map_png = None if parquet else draw_map(model, analysis.lanes, title)
+    # the map is drawn in a second process while the sheets are written (costing.aside), when
+    # forking is available and the week is large enough to gain from it; else here and now
+    map_png = None if parquet else start_map(model, analysis.lanes, title,
+                                             fork=len(results) >= pipeline.ASIDE_SHIPMENTS)
     times.update(costed.seconds)
-    times["map"] = time.perf_counter() - t0
+    times["map (drawn in a second process while the sheets are written)"
+          if isinstance(map_png, aside.Job) else "map"] = time.perf_counter() - t0
     stats = costed.stats
     stats.seconds = {**times, **stats.seconds}
     info = RunInfo(input_label or os.path.basename(input_path), digest, args.objective, run_time(), stats)
@@ -413,6 +420,9 @@ def _run(input_path: str, output: str, args, input_label: str | None = None) -> 
     except OutputLimitError as e:
         print(f"costing: error: {e.message}; nothing written ({e.fix})", file=sys.stderr)
         return EXIT_INPUT
+    finally:
+        if isinstance(map_png, aside.Job):
+            map_png.close()  # a child still drawing when the write failed
     if not args.quiet:
         _print_problems(problems)
         sys.stderr.flush()

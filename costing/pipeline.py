@@ -27,6 +27,7 @@ total is the shipment's stand-alone total.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import time
 from collections.abc import Callable
@@ -34,12 +35,16 @@ from dataclasses import dataclass, field, replace
 
 from costing.collector import fewer_collections
 from costing.model import Model, Problem
-from costing.plan.analysis import Analysis, ScenarioRun, analyse, lane_usage
+from costing.plan.analysis import Analysis, Aside, ScenarioRun, analyse, lane_usage
 from costing.plan.route import Router, RunStats, objective_for
 from costing.plan.week import VehicleRun, plan_week
-from costing.price.cost import CostedShipment
+from costing.price.cost import ROUTED, CostedShipment
 
 Progress = Callable[[int, int], None]
+# a week routing this many shipments makes its analyses' searches in a second process (Options.aside):
+# below it, starting the process (a fork, the answers pickled back) costs more than it saves
+ASIDE_SHIPMENTS = 500
+PLAN_OBJECTIVE = "cost"  # the objective the plan stage routes under (hub halves, re-routes)
 
 
 def _no_progress(_done: int, _total: int) -> None:
@@ -63,12 +68,18 @@ class Options:
     progress : callable, optional
         ``progress(stage) -> callback(done, total)``; stage is ``"routing"``,
         ``"comparing"`` or ``"scenarios"``. None: silent.
+    aside : bool
+        Make the analyses' searches (the comparison's batched searches, the cost-time
+        trade-offs) in a second process (`costing.aside`) while this one plans the week, when
+        the week routes ASIDE_SHIPMENTS or more shipments and forking is available; the results
+        are the same. Off by default (the command line turns it on).
     """
 
     objective: str | None = None
     analyses: bool = True
     scenarios: bool = True
     progress: Callable[[str], Progress] | None = None
+    aside: bool = False
 
     def bar(self, stage: str) -> Progress:
         """The progress callback of `stage` (a no-op when there is no progress)."""
@@ -156,19 +167,20 @@ def run(model: Model, options: Options | None = None) -> Costed:
         bar(k + 1, total)
     times["search and cost"] = time.perf_counter() - t0
 
-    t0 = time.perf_counter()
-    week = plan_week(model, lambda s: router.route(s, "cost", notes=False), results,
-                     lambda ships: router.prepare(ships, "cost"))
-    results = week.results
-    router.problems += week.problems
-    times["plan (vehicle runs)"] = time.perf_counter() - t0
+    with _analyses_aside(model, router, results, options) as found:
+        t0 = time.perf_counter()
+        week = plan_week(model, lambda s: router.route(s, PLAN_OBJECTIVE, notes=False), results,
+                         lambda ships: router.prepare(ships, PLAN_OBJECTIVE))
+        results = week.results
+        router.problems += week.problems
+        times["plan (vehicle runs)"] = time.perf_counter() - t0
 
-    t0 = time.perf_counter()
-    if options.analyses:
-        analysis = analyse(model, router, results, options.bar("comparing"), week.runs)
-        times["comparison and trade-offs"] = time.perf_counter() - t0
-    else:
-        analysis = Analysis(lanes=lane_usage(week.runs))
+        t0 = time.perf_counter()
+        if options.analyses:
+            analysis = analyse(model, router, results, options.bar("comparing"), week.runs, found)
+            times["comparison and trade-offs"] = time.perf_counter() - t0
+        else:
+            analysis = Analysis(lanes=lane_usage(week.runs))
 
     runs: list[ScenarioRun] = []
     if options.scenarios and model.scenarios:
@@ -184,6 +196,23 @@ def run(model: Model, options: Options | None = None) -> Costed:
     router.stats.networks = len(router.networks)
     return Costed(model, results, list(model.problems) + router.problems, router.stats, analysis, runs,
                   times, week.runs)
+
+
+@contextlib.contextmanager
+def _analyses_aside(model: Model, router: Router, results: list[CostedShipment], options: Options):
+    """`costing.plan.analysis.Aside`: the analyses' searches in a second process while the block
+    runs (None when Options.aside is off, no analyses are asked, the week is small or forking
+    is not available); the child is stopped if the block ends without its answers."""
+    from costing import aside
+
+    st = model.settings
+    routed = sum(r.status == ROUTED for r in results)
+    if not (options.aside and options.analyses and routed >= ASIDE_SHIPMENTS and aside.available()
+            and (st.compare_objectives == "yes" or int(st.frontier_max_routes) > 0)):
+        yield None
+        return
+    with Aside(model, router, results, PLAN_OBJECTIVE) as found:
+        yield found
 
 
 @fewer_collections()  # costing.collector

@@ -43,6 +43,10 @@ class Lex(tuple):
     def __new__(cls, primary: float, secondary: int = 0, tertiary: int = 0) -> Lex:
         return tuple.__new__(cls, (primary, secondary, tertiary))
 
+    def __getnewargs__(self) -> tuple:
+        """pickle's arguments for `__new__` (the default would pass the whole tuple as primary)."""
+        return tuple(self)
+
     @staticmethod
     def _of(other) -> tuple:
         return other if isinstance(other, tuple) else (other, 0, 0)

@@ -16,6 +16,7 @@ from costing.price.cost import ROUTED, CostedShipment
 # the analyses' entries in RunStats.seconds (wall seconds)
 COMPARING = "comparison across objectives (within analyses)"
 TRADING = "cost-time trade-offs (within analyses)"
+ASIDE = "trade-off searches in a second process, beside the plan (within analyses)"
 
 
 @dataclass
@@ -84,40 +85,120 @@ def lane_usage(runs) -> list[LaneTotals]:
 
 
 def analyse(model: Model, router: Router, results: list[CostedShipment],
-            progress: Callable[[int, int], None] | None = None, runs=()) -> Analysis:
+            progress: Callable[[int, int], None] | None = None, runs=(),
+            aside: Aside | None = None) -> Analysis:
     """Beside the chosen routes: each routed shipment's best route under every other objective
     (when Settings ``compare_objectives`` is yes), its cost-time trade-offs (up to
     ``frontier_max_routes``) and the lane totals of the vehicle `runs`. Changes nothing;
-    returns an Analysis."""
+    returns an Analysis.
+
+    `aside` (an `Aside`) holds searches made in another process while the week was planned:
+    each is recorded here as if made here (`Router.adopt`, `Router.frontier`'s `found`), and
+    whatever it lacks is searched here. The comparison runs first over every shipment, then the
+    trade-offs: each shipment's routes are the same either way (searches and prices depend only
+    on the shipment, and the batched searches on the shipments batched, which `Aside` checks)."""
     a = Analysis(lanes=lane_usage(runs))
     compare = model.settings.compare_objectives == "yes"
     max_routes = int(model.settings.frontier_max_routes)
-    total = len(results)
-    spent = {COMPARING: 0.0, TRADING: 0.0}
+    routed = [r for r in results if r.status == ROUTED]
+    total = len(results) * (int(compare) + int(max_routes > 0))
+    done = 0
+    spent = {COMPARING: 0.0, TRADING: 0.0, ASIDE: 0.0}
     if compare:  # one one-to-many search per origin, profile and objective, not one A* each
         t0 = time.perf_counter()
-        routed = [r for r in results if r.status == ROUTED]
         for obj in OBJECTIVES:
-            router.prepare([r.shipment for r in routed if r.objective != obj], obj, force=True)
-        spent[COMPARING] += time.perf_counter() - t0
-    for k, r in enumerate(results):
-        s = r.shipment
-        if r.status == ROUTED:
-            if compare:
-                t0 = time.perf_counter()
+            ships = [r.shipment for r in routed if r.objective != obj]
+            if aside is not None:
+                aside.adopt(router, obj, ships)
+            router.prepare(ships, obj, force=True)
+        for r in results:
+            if r.status == ROUTED:
+                s = r.shipment
                 others = [o for o in OBJECTIVES if o != r.objective]
                 alts = router.alternatives(s, others)
                 alts[r.objective] = r
                 a.alternatives[s.shipment_id] = {o: alts[o] for o in OBJECTIVES}
-                spent[COMPARING] += time.perf_counter() - t0
-            if max_routes > 0:
-                t0 = time.perf_counter()
-                a.frontiers[s.shipment_id] = router.frontier(s, max_routes)
-                spent[TRADING] += time.perf_counter() - t0
-        if progress:
-            progress(k + 1, total)
+            done += 1
+            if progress:
+                progress(done, total)
+        spent[COMPARING] += time.perf_counter() - t0
+    if max_routes > 0:
+        t0 = time.perf_counter()
+        searched = aside.frontiers() if aside is not None else {}
+        for r in results:
+            if r.status == ROUTED:
+                s = r.shipment
+                a.frontiers[s.shipment_id] = router.frontier(s, max_routes, found=searched.get(s.shipment_id))
+            done += 1
+            if progress:
+                progress(done, total)
+        spent[TRADING] += time.perf_counter() - t0
+    if aside is not None:
+        spent[ASIDE] = aside.seconds
     _record(router, spent)
     return a
+
+
+class Aside:
+    """Searches of `analyse` made in a second process (`costing.aside`) while this one plans the
+    week: the batched searches of the comparison for the objectives the plan does not search
+    under (`plan_objective`), then the trade-off searches (`search_frontiers`), each sent as
+    soon as made. Start it after routing, before the plan; close it (or use it as a context
+    manager) when done.
+
+    The comparison's batches are left here when the plan searches under their objective (its
+    batches could then overlap them) and on networks the array engine searches (from
+    ENGINE_MIN_DEPOTS depots: its landmarks would be built in the other process only)."""
+
+    def __init__(self, model: Model, router: Router, results: list[CostedShipment], plan_objective: str):
+        from costing import aside
+        from costing.plan.route import ENGINE_MIN_DEPOTS
+
+        routed = [r for r in results if r.status == ROUTED]
+        calls, self._parts = [], {}
+        if model.settings.compare_objectives == "yes" and len(model.depots) < ENGINE_MIN_DEPOTS:
+            for obj in OBJECTIVES:
+                if obj != plan_objective:
+                    ships = [r.shipment for r in routed if r.objective != obj]
+                    self._parts[obj] = (len(calls), [s.shipment_id for s in ships])
+                    calls.append((router.prepared, (ships, obj, True), {}))
+        max_routes = int(model.settings.frontier_max_routes)
+        self._frontier_part = len(calls) if max_routes > 0 else None
+        if max_routes > 0:
+            calls.append((search_frontiers, (router, [r.shipment for r in routed], max_routes), {}))
+        self.job = aside.series(calls)
+        self.seconds = 0.0  # the trade-off searches' own wall seconds, in the other process
+
+    def adopt(self, router: Router, objective: str, shipments) -> None:
+        """Record the batched searches of `objective` made aside, when they were made for exactly
+        `shipments` (the plan may have changed which shipments are routed)."""
+        part = self._parts.get(objective)
+        if part is not None and part[1] == [s.shipment_id for s in shipments]:
+            router.adopt(self.job.result(part[0]))
+
+    def frontiers(self) -> dict[str, tuple]:
+        """``Router.frontier_found`` by shipment id, made aside ({} when none were asked)."""
+        if self._frontier_part is None:
+            return {}
+        found, self.seconds = self.job.result(self._frontier_part)
+        return found
+
+    def close(self) -> None:
+        self.job.close()
+
+    def __enter__(self) -> Aside:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+
+def search_frontiers(router: Router, shipments, max_routes: int) -> tuple[dict[str, tuple], float]:
+    """(``Router.frontier_found`` of each shipment by shipment id, wall seconds): the trade-off
+    searches of `analyse`, made apart from their pricing (in a child process: `costing.aside`)."""
+    t0 = time.perf_counter()
+    found = {s.shipment_id: router.frontier_found(s, max_routes) for s in shipments}
+    return found, time.perf_counter() - t0
 
 
 def _record(router: Router, spent: dict[str, float]) -> None:

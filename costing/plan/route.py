@@ -193,6 +193,33 @@ class Router:
             for d, res in zip(dests, results):
                 self._batched[(profile, origin, d)] = (cn, res)
 
+    def prepared(self, shipments, objective: str | None, force: bool = False):
+        """`prepare`, made for its answers (in another process: `costing.aside`): (the answers
+        it added as (profile, origin, destination, search result), in the order it made them;
+        what it added to the statistics: batches, batched, settled, pushed). `adopt` records
+        them in the router that asked."""
+        before = set(self._batched)
+        st = self.stats
+        counts = (st.batches, st.batched, st.settled, st.pushed)
+        self.prepare(shipments, objective, force)
+        new = [(*key, res) for key, (_cn, res) in self._batched.items() if key not in before]
+        return new, tuple(b - a for a, b in zip(counts, (st.batches, st.batched, st.settled, st.pushed)))
+
+    def adopt(self, prepared) -> None:
+        """Record `prepared` (what `prepared` returned, possibly in another process) as `prepare`
+        would have: the networks built in the same order, the answers, the statistics. Call it
+        where `prepare` would have run, on a router in the state the other one was in."""
+        new, (batches, batched, settled, pushed) = prepared
+        for profile, origin, dest, res in new:
+            key = (profile, origin, dest)
+            if key not in self._batched:
+                self._batched[key] = (self.network(profile), res)
+        st = self.stats
+        st.batches += batches
+        st.batched += batched
+        st.settled += settled
+        st.pushed += pushed
+
     def search(self, s: Shipment, profile: Profile):
         """(network, search result) of shipment `s` under `profile`: from the batched one-to-many
         search when one served it, else one search (the array engine for large one-card networks,
@@ -355,9 +382,47 @@ class Router:
             self.problems = saved
 
     def frontier(self, s: Shipment, max_routes: int,
-                 clock_labels: int | None = None) -> tuple[list[CostedShipment], bool]:
+                 clock_labels: int | None = None, found=None) -> tuple[list[CostedShipment], bool]:
         """Routes of `s` that no other route beats on both cost and time, cheapest first, and
-        whether the cap stopped the search early.
+        whether the cap stopped the search early: `frontier_routes` priced (`price`).
+
+        `found` is what ``frontier_routes(s, max_routes, clock_labels)`` returned for `s`,
+        possibly in another process (`costing.aside`); its problems and counts are recorded here
+        as the search would have recorded them. None: searched now."""
+        if s.origin == s.destination:
+            return [], False
+        if found is None:
+            routes, capped = self.frontier_routes(s, max_routes, clock_labels)
+        else:
+            routes, capped, fell_back, problems = found
+            self.stats.searches += 1
+            self.problems += problems
+            if fell_back:
+                self.__dict__.setdefault("frontier_fallbacks", set()).add(s.shipment_id)
+        pc = make_profile(self.model, s, "cost", self.pool(s))
+        cnc = self.network(pc)
+        self.network(replace(pc, objective="time"))  # the networks built are those of a search here
+        # priced once per shipment (`price`): the cheapest is usually the chosen route already
+        return [self.price(s, "cost", cnc, r) for r in routes], capped
+
+    def frontier_found(self, s: Shipment, max_routes: int, clock_labels: int | None = None):
+        """``frontier_routes`` of `s` with what it recorded: (routes, capped, whether `s` fell back
+        to the plain frontier, its problems), the `found` argument of `frontier`; the router's
+        problems are left as they were (to be recorded where `frontier` prices the routes)."""
+        if s.origin == s.destination:
+            return [], False, False, []
+        saved, self.problems = self.problems, []
+        try:
+            routes, capped = self.frontier_routes(s, max_routes, clock_labels)
+            fell_back = s.shipment_id in getattr(self, "frontier_fallbacks", ())
+            return list(routes), capped, fell_back, self.problems
+        finally:
+            self.problems = saved
+
+    def frontier_routes(self, s: Shipment, max_routes: int, clock_labels: int | None = None):
+        """The search of `frontier`: (routes, capped), each route a ParetoRoute over the compact
+        network of `s`'s cost profile (nodes and edges), cheapest first; counts the search and
+        records a fallback's problem.
 
         Time is drive + handling hours and cost the sum of the steps' costs (before the minimum
         charge). When the driving clock is in the search of the shipment's cost profile
@@ -476,8 +541,7 @@ class Router:
                     f"shipment {s.shipment_id}: trade-offs compared on drive + handling hours, without "
                     f"breaks and rests (more than {cap:,} driving-clock labels); planning estimate",
                     "nothing to do; the routes listed are costed with their stops"))
-        # priced once per shipment (`price`): the cheapest is usually the chosen route already
-        return [self.price(s, "cost", cnc, r) for r in result.routes], result.capped
+        return result.routes, result.capped
 
     def _frontier_query(self, s: Shipment):
         """(cost profile, its FrontierNetwork with the cost and time of every edge, sources as

@@ -15,6 +15,7 @@ from costing.contract.outputs import HEADER_NOTES, SUM, SUMMARY_COLUMNS, SUMMED
 from costing.model import Model
 from costing.money import round_money
 from costing.price.cost import CostedShipment
+from costing.sheets import assemble
 
 # Spreadsheet limits: Microsoft "Excel specifications and limits".
 MAX_ROWS = 1_048_576
@@ -93,6 +94,7 @@ class Writer:
 
         self.first_day = first_day(model)  # the day of shipments with no ready_date
         install_layout(self.wb, streaming)
+        assemble.install(self.wb)  # the heaviest worksheets' XML in a second process at close
         self.legs_last: dict[str, int] = {}  # Legs sheet name -> its last data row (1-based)
         cur = model.settings.currency
         from costing.money import minor_unit
@@ -504,12 +506,19 @@ def install_layout(wb, streaming: bool) -> None:
         ws_string, ws_number, ws_formula = ws._write_string, ws._write_number, ws._write_formula
         ws_set_column, ws_chart, ws_image = ws.set_column, ws.insert_chart, ws.insert_image
 
+        # every format takes its style index when first written or set, in the order the sheets
+        # are written, not when the worksheets are assembled at close: the assembly may then be
+        # split between processes (costing.sheets.assemble) and give the same styles
         def write_string(row, col, string, cell_format=None):
             lay.text(row, col, string, cell_format)
+            if cell_format is not None:
+                cell_format._get_xf_index()
             return ws_string(row, col, string, cell_format)
 
         def write_number(row, col, number, cell_format=None):
             lay.number(row, col, number, cell_format)
+            if cell_format is not None:
+                cell_format._get_xf_index()
             return ws_number(row, col, number, cell_format)
 
         def write_formula(row, col, formula, cell_format=None, value=0):
@@ -517,9 +526,13 @@ def install_layout(wb, streaming: bool) -> None:
                 lay.text(row, col, value, cell_format)
             else:
                 lay.number(row, col, value, cell_format)
+            if cell_format is not None:
+                cell_format._get_xf_index()
             return ws_formula(row, col, formula, cell_format, value)
 
         def set_column(first_col, last_col, width=None, cell_format=None, options=None):
+            if cell_format is not None:
+                cell_format._get_xf_index()
             if lay.active and isinstance(first_col, int):
                 for c in range(first_col, min(last_col, first_col + 200) + 1):
                     lay.col_fmt[c] = cell_format

@@ -226,6 +226,24 @@ def _degrees(axis: str):
     return fmt
 
 
+def drawable(model: Model) -> bool:
+    """Whether the map has anything to draw: two or more depots with coordinates (`draw_map`
+    returns None otherwise)."""
+    return sum(d.latitude is not None and d.longitude is not None for d in model.depots) >= 2
+
+
+def start_map(model: Model, lanes: list[LaneTotals], title: str, fork: bool = False):
+    """The map for `write_costed`: None when there is nothing to draw (`drawable`); with `fork`,
+    a `costing.aside.Job` drawing it in a second process when forking is available (the
+    sheets are written meanwhile; the Map sheet collects it); else the PNG bytes, drawn now."""
+    from costing import aside
+
+    if not drawable(model):
+        return None
+    job = aside.start(draw_map, model, lanes, title, fork=fork)
+    return job if job.forked else job.result()
+
+
 def map_figure(model: Model, lanes: list[LaneTotals], title: str):
     """The map's matplotlib figure: (figure, axes, legend, placed label Texts, unlabelled depot
     ids), or None when fewer than two depots have coordinates. Close the figure when done."""

@@ -303,6 +303,8 @@ class RowBlock:
             self.last_col = shape.columns[-1].col
         plan = []
         for i, c in enumerate(shape.columns):
+            if c.fmt is not None:  # indexed as the rows are added, not when the sheet is assembled
+                c.fmt._get_xf_index()  # (costing.sheets.assemble)
             if c.kind == DATE:
                 continue
             key = (c.col, id(c.fmt))

@@ -41,11 +41,12 @@ __all__ = ["OutputLimitError", "RunInfo", "run_time", "write_costed"]
 
 @fewer_collections()  # costing.collector: the same results, fewer full collections
 def write_costed(path: str, model: Model, results: list[CostedShipment], problems: list[Problem],
-                 info: RunInfo, analysis=None, map_png: bytes | None = None, scenario_runs=(),
+                 info: RunInfo, analysis=None, map_png=None, scenario_runs=(),
                  runs=(), scenario_bridges=()) -> None:
     """Write the costed workbook. `runs` (costing.plan.week.VehicleRun, ``Costed.runs``) are the
     vehicle runs the results' legs name; `analysis` (costing.plan.analysis.Analysis) adds the
-    Comparison, Trade-offs, Lane usage and Charts sheets; `map_png` a Map sheet; `scenario_runs`
+    Comparison, Trade-offs, Lane usage and Charts sheets; `map_png` (PNG bytes, or a
+    `costing.aside.Job` drawing them, collected when the Map sheet is written) a Map sheet; `scenario_runs`
     (costing.plan.analysis.ScenarioRun) the Scenario comparison, Scenario shipments, Scenario
     vehicle runs and Scenario legs sheets; `scenario_bridges` ((scenario name,
     costing.compare.bridge.Bridge) pairs) the Scenario bridge sheets."""
@@ -144,7 +145,7 @@ def write_costed(path: str, model: Model, results: list[CostedShipment], problem
     if "Invoice check" in sheets:
         write_invoice_check(w, sheets["Invoice check"], results)
     if map_png:
-        write_map(w, sheets["Map"], map_png)
+        write_map(w, sheets["Map"], map_png.result() if hasattr(map_png, "result") else map_png)
     write_problems(w, problems_ws, problems)
     write_run(w, run_ws, model, results, problems, info, last_row, n_legs, runs, len(quoted))
     summary.activate()
