@@ -246,3 +246,86 @@ def test_streamed_texts_are_escaped_as_xlsxwriter_escapes_them(tmp_path):
     for _round in range(2):  # the second round from the block's memory of recent texts
         assert [block._text(t) for t in texts] == theirs
     wb2.close()
+
+
+def test_compiled_measure_is_the_cell_by_cell_measure(tmp_path):
+    """The measure made once per shape (`_compile_measure`) leaves every column's measure, the
+    caption counts and the layout's long-text records as the cell-by-cell measure
+    (`RowBlock._measure_cells`) does, for every kind of value: numbers of both signs in monotone
+    and non-monotone formats, ints, bools, NaN, texts short and over 40 characters, None, and
+    formulas of their own with text, number and bool values."""
+    import datetime as dt
+    import random
+
+    from costing.model import Model, Settings
+    from costing.sheets.formats import Writer
+    from costing.sheets.rowxml import FORMULA, NUMBER, TEXT, Column, RowBlock, Shape
+
+    def measured(compiled: bool):
+        w = Writer(str(tmp_path / f"m{compiled}.xlsx"), Model(Settings(), (), (), (), ()),
+                   dt.datetime(2026, 1, 1))
+        ws = w.wb.add_worksheet("S")
+        ws.write_string(0, 0, "head")
+        money = w.wb.add_format({"num_format": "#,##0.00"})
+        pct = w.wb.add_format({"num_format": "0.0%"})
+        general = w.wb.add_format({"num_format": "General"})
+        shape = Shape([Column(0, TEXT), Column(1, NUMBER), Column(2, NUMBER, money), Column(3, NUMBER, pct),
+                       Column(4, NUMBER, general), Column(5, FORMULA, money, "B{r}*2"), Column(6, FORMULA),
+                       Column(9, TEXT, general)])
+        rng = random.Random(11)
+        texts = ["", "ab", "a longer text", "x" * 45, "two\nlines of it", None]
+        numbers = [None, 0, 0.0, -0.0, 1.5, -2.25, 1e20, -7, 3, True, False, float("nan"), "n/a", 123456.789]
+        block = RowBlock(ws, 1)
+        lay_texts = []
+        if block.lay is not None:
+            record = block.lay.text
+            block.lay.text = lambda *a: (lay_texts.append(a[:3]), record(*a))[1]
+        for row in range(1, 2600):  # past the rows counted for the caption rule
+            values = [rng.choice(texts), rng.choice(numbers), rng.choice(numbers), rng.choice(numbers),
+                      rng.choice(numbers), rng.choice(numbers),
+                      rng.choice([None, ("SUM(A1:A3)", 6.0), ("\"ab\"", "ab"), ("1=1", True), ("-B2", -4.5)]),
+                      rng.choice(texts)]
+            if compiled:
+                block._measure(row, shape, values)
+            else:
+                block._measure_cells(row, shape, values)
+        state = {(col, m.fmt.num_format if m.fmt is not None else None):
+                 (m.pos, m.pos_row, m.neg, m.neg_row, sorted(m.seen.items(), key=repr), m.text, m.text_row)
+                 for (col, _f), m in block.measures.items()}
+        w.wb.close()
+        return repr(state), dict(block.counted), lay_texts
+
+    assert measured(True) == measured(False)
+
+
+def test_compiled_legs_row_values_are_the_cell_functions_values():
+    """`legs.row_values` (one list expression, attribute reads in line) gives, for every leg of
+    the example week and of its scenarios, the values of calling each column's cell function
+    (LEG_CELLS), texts through cell_text; and it reads in line only the cell functions that
+    only read attributes."""
+    from pathlib import Path
+
+    from costing import pipeline
+    from costing.sheets.formats import cell_text
+    from costing.sheets.legs import LEG_SPEC, _attr_path, row_values
+
+    assert _attr_path(lambda r, g: g.card.per_km) == (1, "card.per_km")
+    assert _attr_path(lambda r, g: r.shipment.shipment_id) == (0, "shipment.shipment_id")
+    assert _attr_path(lambda r, g: g.seq or 0) is None and _attr_path(lambda r, g: basis(g)) is None
+    assert _attr_path(lambda r, g: g.card.f()) is None and _attr_path(len) is None
+    example = Path(__file__).resolve().parents[1] / "examples" / "hollowmere-week.xlsx"
+    model, _p, _d = pipeline.load(str(example))
+    costed = pipeline.run(model)
+    n = 0
+    for res in costed.results + [r for sc in costed.scenarios for r in sc.results]:
+        for leg in res.legs:
+            want = [cell_text(f(res, leg)) if kind == "text" else f(res, leg)
+                    for _name, _w, kind, f, _formula in LEG_SPEC]
+            got = row_values(res, leg)
+            assert [type(v) for v in got] == [type(v) for v in want] and repr(got) == repr(want)
+            n += 1
+    assert n > 100
+
+
+def basis(_g):  # a call, for the test above
+    return None

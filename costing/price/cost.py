@@ -25,6 +25,7 @@ ROUND is half away from zero to the currency's minor unit, as the spreadsheet RO
 from __future__ import annotations
 
 from dataclasses import dataclass, fields
+from functools import cached_property
 
 from costing.model import Depot, LaneUse, Model, RateCard, Shipment
 from costing.money import minor_unit, round_money
@@ -137,7 +138,7 @@ class CostedShipment:
         """The carrier's charge in the run's currency (None when no tariff fits)."""
         return None if self.quote is None else self.quote.charge
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def parts_cost(self) -> float:
         """What the parts of the route bought from carriers cost, in the run's currency (0 without
         any): the sum of their charges."""
@@ -145,17 +146,17 @@ class CostedShipment:
 
     stops_in_hours: bool = False  # the hours quantity includes breaks and rests (clock in search)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def subtotal(self) -> float:
         """Sum of the rounded leg costs, in the run's currency (rounded to its minor unit)."""
         return round_money(sum(leg.leg_cost for leg in self.legs), self.places)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def min_charge_uplift(self) -> float:
         """What the minimum charge adds above the subtotal (0 when the subtotal reaches it), currency."""
         return round_money(max(0.0, self.min_charge - self.subtotal), self.places) if self.legs else 0.0
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def standalone_cost(self) -> float:
         """Subtotal plus the minimum-charge uplift (plus its own empty return, when Settings
         return_empty is yes, and the parts of the route bought from carriers), currency: what the
@@ -166,14 +167,14 @@ class CostedShipment:
         return round_money(self.subtotal + self.min_charge_uplift + self.empty_return_alone + self.parts_cost,
                            self.places)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def allocated_cost(self) -> float:
         """Sum of the leg's shares of the vehicle runs they ride in, currency (the legs' own
         cost before the plan stage has run)."""
         return round_money(sum(leg.leg_cost if leg.cost_share is None else leg.cost_share
                                for leg in self.legs), self.places)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def total_cost(self) -> float:
         """What the shipment costs, currency: its allocated share of the vehicle runs and of
         their empty returns, plus the minimum-charge uplift when it shares no vehicle (with
@@ -185,7 +186,7 @@ class CostedShipment:
         return round_money(self.allocated_cost + self.empty_return_cost + uplift + self.parts_cost,
                            self.places)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def saving(self) -> float:
         """Stand-alone cost minus total cost, currency: what sharing vehicles saves (>= 0)."""
         return round_money(self.standalone_cost - self.total_cost, self.places)
@@ -195,12 +196,12 @@ class CostedShipment:
         """Most vehicles on any leg (the load split over vehicles); 0 when not routed."""
         return max((leg.vehicles for leg in self.legs), default=0)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def distance_km(self) -> float:
         """Route length in km (the legs' stated or estimated km)."""
         return sum(leg.use.km for leg in self.legs)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def drive_hours(self) -> float:
         """Driving hours of the route (the legs' stated or estimated hours)."""
         return sum(leg.use.hours for leg in self.legs)
@@ -220,12 +221,12 @@ class CostedShipment:
         """Daily rests added by the rule set, in hours."""
         return sum(leg.rest_hours for leg in self.legs)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def elapsed_hours(self) -> float:
         """Driving, handling, breaks and rests, in hours."""
         return sum(leg.elapsed_hours for leg in self.legs)
 
-    @property
+    @cached_property  # the record is frozen: computed once
     def co2e_kg(self) -> float:
         """Emissions of the route, kg CO2e: the legs' shares of their vehicle runs (the legs'
         own emissions before the plan stage has run)."""

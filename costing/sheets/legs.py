@@ -199,6 +199,46 @@ def _shapes(w: Writer, shift: int, letters: dict[str, str], runs: str, run_lette
     return shapes
 
 
+def _attr_path(fn) -> tuple[int, str] | None:
+    """(0 for the result, 1 for the leg, "a.b") when the cell function `fn` only reads an attribute
+    chain of one of its two arguments (``lambda r, g: g.card.per_km`` is (1, "card.per_km")), read
+    from its bytecode; None for any other function."""
+    import dis
+
+    code = getattr(fn, "__code__", None)
+    if code is None or code.co_argcount != 2:
+        return None
+    ins = [i for i in dis.get_instructions(fn) if i.opname not in ("RESUME", "NOP", "CACHE", "PRECALL")]
+    if len(ins) < 3 or ins[0].opname != "LOAD_FAST" or ins[-1].opname != "RETURN_VALUE":
+        return None
+    if ins[0].argval not in code.co_varnames[:2] or any(i.opname != "LOAD_ATTR" for i in ins[1:-1]):
+        return None
+    return code.co_varnames.index(ins[0].argval), ".".join(i.argval for i in ins[1:-1])
+
+
+def _compile_row_values():
+    """A function (result, leg) -> the values of the leg's Legs row, in LEG_COLUMNS order, as
+    ``[cell_text(f(res, leg)) if text else f(res, leg) for each column's cell function f]``, in one
+    list expression: a cell function that only reads attributes (`_attr_path`) is read in line,
+    the others are called."""
+    scope = {"cell_text": cell_text}
+    items = []
+    for k, (_name, _width, kind, fn, _formula) in enumerate(LEG_SPEC):
+        path = _attr_path(fn)
+        if path is None:
+            scope[f"f{k}"] = fn
+            expr = f"f{k}(r, g)"
+        else:
+            expr = ("r", "g")[path[0]] + "." + path[1]
+        items.append(f"cell_text({expr})" if kind == "text" else expr)
+    source = f"def row_values(r, g):\n    return [{', '.join(items)}]\n"
+    exec(compile(source, "<costing.sheets.legs row values>", "exec"), scope)  # noqa: S102
+    return scope["row_values"]
+
+
+row_values = _compile_row_values()
+
+
 def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | None = None,
                runs_sheet: str = VEHICLE_RUNS, run_row=None, runs_shift: int = 0,
                fast: bool | None = None) -> tuple[dict, dict[str, int]]:
@@ -234,9 +274,7 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
     w.header(ws, columns)
     shapes = _shapes(w, shift, letters, runs, run_letter, key is not None) if fast else None
     block = RowBlock(ws, 1) if fast else None
-    value_of = [spec[3] for spec in LEG_SPEC]
     watched = [LEG[name] for name in WATCHED]  # fast path: those still empty or 0 on every leg
-    texts = [spec[2] == "text" for spec in LEG_SPEC]
     r = 1
     for i, res in enumerate(results):
         if not res.legs:
@@ -255,7 +293,7 @@ def write_legs(w: Writer, legs_sheets, results, key: tuple[str, list[str]] | Non
         if block is not None:
             row_key = [cell_text(key[1][i])] if key is not None else []
             for leg in res.legs:
-                values = [cell_text(v(res, leg)) if t else v(res, leg) for v, t in zip(value_of, texts)]
+                values = row_values(res, leg)
                 if watched:
                     watched = [j for j in watched if not values[j]]
                 if leg.run_id:

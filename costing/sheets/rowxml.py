@@ -194,6 +194,7 @@ class RowBlock:
         self._styles: dict[int, str] = {}
         self._plans: dict[int, list] = {}  # id(shape) -> its cells' XML pieces (`_plan`)
         self._measure_plans: dict[int, list] = {}  # id(shape) -> its measured cells (`_measure_plan`)
+        self._measurers: dict[int, object] = {}  # id(shape) -> its compiled measure (`_compile_measure`)
         self._compiled: dict[tuple, object] = {}  # (id(shape), share) -> its row writer (`_compile`)
         self._texts: dict[str, str] = {}  # streamed text -> its cell's end (`_text`)
         self._group: list[tuple] = []  # rows that may share their formulas, not yet written (`_take`)
@@ -264,10 +265,17 @@ class RowBlock:
 
     # -- private --
     def _measure(self, row: int, shape: Shape, values: Sequence) -> None:
+        fn = self._measurers.get(id(shape))
+        if fn is None:
+            fn = self._measurers[id(shape)] = _compile_measure(self._measure_plan(shape), shape, self)
+        fn(row, values)
+
+    def _measure_cells(self, row: int, shape: Shape, values: Sequence) -> None:
+        """What `_measure`'s compiled function does, cell by cell (the reference it is tested
+        against)."""
         plan = self._measure_plans.get(id(shape))
         if plan is None:
             plan = self._measure_plan(shape)
-        lay = self.lay
         cells = 0
         for i, m, text, own_formula in plan:
             v = values[i]
@@ -275,25 +283,31 @@ class RowBlock:
                 continue
             if own_formula:
                 v = v[1]
-            cells += 1
-            if text or isinstance(v, str):
-                s = "" if v is None else v
-                n = _line(s)
-                if n > 40 and lay is not None:
-                    lay.text(row, shape.columns[i].col, s, m.fmt)  # long text and caption rules: as written
-                    cells -= 1  # counted by the layout itself
-                elif m.text is None or n > _line(m.text):
-                    m.text, m.text_row = s, row
-            elif isinstance(v, bool) or not m.monotone:
-                if v not in m.seen:
-                    m.seen[v] = row
-            elif v >= 0:
-                if m.pos is None or v > m.pos:
-                    m.pos, m.pos_row = v, row
-            elif m.neg is None or v < m.neg:
-                m.neg, m.neg_row = v, row
+            cells += self._measure_cell(m, row, shape.columns[i].col, v, text)
         if row < _MEASURED_ROWS:
             self.counted[row] = self.counted.get(row, 0) + cells
+
+    def _measure_cell(self, m: _Measure, row: int, col: int, v, text: bool) -> int:
+        """Measure one cell's value `v` (a formula's: its cached value); the cells it counts
+        for the caption rule (0: the layout counts it itself)."""
+        lay = self.lay
+        if text or isinstance(v, str):
+            s = "" if v is None else v
+            n = _line(s)
+            if n > 40 and lay is not None:
+                lay.text(row, col, s, m.fmt)  # long text and caption rules: as written
+                return 0  # counted by the layout itself
+            if m.text is None or n > _line(m.text):
+                m.text, m.text_row = s, row
+        elif isinstance(v, bool) or not m.monotone:
+            if v not in m.seen:
+                m.seen[v] = row
+        elif v >= 0:
+            if m.pos is None or v > m.pos:
+                m.pos, m.pos_row = v, row
+        elif m.neg is None or v < m.neg:
+            m.neg, m.neg_row = v, row
+        return 1
 
     def _measure_plan(self, shape: Shape) -> list[tuple]:
         """Per measured column of `shape` (dates are not measured): (its index in the row's
@@ -544,6 +558,42 @@ def _compile(plan: list[tuple], streaming: bool, text_cell, share: str = PLAIN) 
     scope = {"own": _own_formula, "cached": _cached, "text_cell": text_cell}
     exec(compile(source, "<costing.sheets.rowxml row writer>", "exec"), scope)  # noqa: S102
     return scope["row_xml"]
+
+
+def _compile_measure(plan: list[tuple], shape: Shape, block: RowBlock):
+    """A function (row, values) measuring one row of `shape` as `RowBlock._measure_cells` does,
+    made once per shape: a number of exact type float or int (not bool) is measured in line
+    (the largest and the smallest of a column whose format shows them in a monotone width, else
+    each distinct value once); texts, and any other value, go through `RowBlock._measure_cell`."""
+    lines = ["def measure(r, values):", "    cells = 0"]
+    scope = {"cell": block._measure_cell, "counted": block.counted, "LIMIT": _MEASURED_ROWS}
+    for k, (i, m, text, own_formula) in enumerate(plan):
+        scope[f"m{k}"] = m
+        col = shape.columns[i].col
+        if text:
+            lines.append(f"    cells += cell(m{k}, r, {col}, values[{i}], True)")
+            continue
+        lines += [f"    v = values[{i}]", "    if v is not None:"]
+        if own_formula:
+            lines.append("        v = v[1]")
+        lines.append("        if v.__class__ is float or v.__class__ is int:")
+        lines.append("            cells += 1")
+        if m.monotone:
+            lines += ["            if v >= 0:",
+                      f"                if m{k}.pos is None or v > m{k}.pos:",
+                      f"                    m{k}.pos = v",
+                      f"                    m{k}.pos_row = r",
+                      f"            elif m{k}.neg is None or v < m{k}.neg:",
+                      f"                m{k}.neg = v",
+                      f"                m{k}.neg_row = r"]
+        else:
+            lines += [f"            if v not in m{k}.seen:",
+                      f"                m{k}.seen[v] = r"]
+        lines += ["        else:",
+                  f"            cells += cell(m{k}, r, {col}, v, False)"]
+    lines += ["    if r < LIMIT:", "        counted[r] = counted.get(r, 0) + cells"]
+    exec(compile("\n".join(lines) + "\n", "<costing.sheets.rowxml measure>", "exec"), scope)  # noqa: S102
+    return scope["measure"]
 
 
 def _line(s: str) -> int:
