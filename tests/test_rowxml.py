@@ -329,3 +329,44 @@ def test_compiled_legs_row_values_are_the_cell_functions_values():
 
 def basis(_g):  # a call, for the test above
     return None
+
+
+def test_compiled_leg_values_read_what_each_column_shows():
+    """`formats.leg_value`, `shipment_value` and `shipment_values` (compiled list expressions)
+    against the rule written out here: a column reads the leg's attribute of its name, except
+    km and hours (the lane step's), the two handling costs (start_/end_handling_cost) and the
+    shares (the leg's own figure when the plan set none); a Summary column sums its Legs columns
+    leg by leg, rounded to the currency's minor unit when it is money."""
+    from pathlib import Path
+
+    from costing import pipeline
+    from costing.contract.outputs import SUM, SUMMARY_COLUMNS, SUMMED
+    from costing.money import round_money
+    from costing.sheets.formats import leg_value, shipment_value, shipment_values
+
+    def rule(leg, col):
+        if col in ("distance_km", "drive_hours"):
+            return leg.use.km if col == "distance_km" else leg.use.hours
+        if col in ("cost_share", "co2e_share"):
+            own = leg.leg_cost if col == "cost_share" else leg.co2e_kg
+            share = getattr(leg, col)
+            return own if share is None else share
+        return getattr(leg, {"handling_start_cost": "start_handling_cost",
+                             "handling_end_cost": "end_handling_cost"}.get(col, col))
+
+    example = Path(__file__).resolve().parents[1] / "examples" / "hollowmere-week.xlsx"
+    model, _p, _d = pipeline.load(str(example))
+    costed = pipeline.run(model)
+    cols = {c for cs in SUMMED.values() for c in cs} | {"cost_share", "co2e_share"}
+    for res in costed.results:
+        for leg in res.legs:
+            for c in cols:
+                assert repr(leg_value(leg, c)) == repr(rule(leg, c)), c
+        many = shipment_values(res)
+        for col, legs_cols in SUMMED.items():
+            total = 0
+            for leg in res.legs:
+                for c in legs_cols:
+                    total += rule(leg, c)
+            want = round_money(total, res.places) if SUMMARY_COLUMNS[SUM[col]][2] == "money" else total
+            assert repr(shipment_value(res, col)) == repr(many[col]) == repr(want), col

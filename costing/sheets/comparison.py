@@ -44,8 +44,9 @@ def write_comparison(w: Writer, ws, results, analysis) -> None:
         chosen = alts.get(res.objective, res)
         out.write_string(r, c["shipment_id"], cell_text(res.shipment.shipment_id))
         out.write_string(r, c["chosen"], res.objective)
+        keys = {id(a): _key(a) for a in (chosen, *alts.values())}  # each route's key once
         routed = [alts[o] for o in OBJECTIVES if o in alts and alts[o].status == ROUTED]
-        out.write_number(r, c["routes"], len({_key(a) for a in routed}))
+        out.write_number(r, c["routes"], len({keys[id(a)] for a in routed}))
         for obj in OBJECTIVES:
             alt = alts.get(obj)
             if alt is None:
@@ -59,7 +60,8 @@ def write_comparison(w: Writer, ws, results, analysis) -> None:
                 expr = w.round_f(f"{col[f'{obj}_total_cost']}{x}-{col[f'{res.objective}_total_cost']}{x}")
                 out.write_formula(r, c[f"{obj}_cost_vs_chosen"], "=" + expr, f["money"],
                                   round_money(alt.total_cost - chosen.total_cost, w.places))
-            same = chosen.status == ROUTED and _key(alt) == _key(chosen) and alt.bought == chosen.bought
+            same = (chosen.status == ROUTED and keys[id(alt)] == keys[id(chosen)]
+                    and alt.bought == chosen.bought)
             if same:
                 text = CHOSEN_ROUTE
             elif alt.bought:

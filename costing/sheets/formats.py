@@ -168,40 +168,57 @@ def sheet_ref(name: str) -> str:
     return f"'{name}'" if " " in name else name
 
 
-_LEG_ATTR = {"handling_start_cost": "start_handling_cost", "handling_end_cost": "end_handling_cost"}
+# what a numeric Legs column reads of a leg (the rest read the attribute of the column's name)
+_LEG_EXPR = {"distance_km": "leg.use.km", "drive_hours": "leg.use.hours",
+             "cost_share": "(leg.leg_cost if leg.cost_share is None else leg.cost_share)",
+             "co2e_share": "(leg.co2e_kg if leg.co2e_share is None else leg.co2e_share)",
+             "handling_start_cost": "leg.start_handling_cost", "handling_end_cost": "leg.end_handling_cost"}
+
+
+def _leg_values(cols):
+    """A function leg -> [leg_value(leg, c) for c in cols], in one list expression (_LEG_EXPR)."""
+    if not all(c.isidentifier() for c in cols):
+        raise ValueError(f"not column names: {cols}")
+    items = [_LEG_EXPR.get(c, f"leg.{c}") for c in cols]
+    scope: dict = {}
+    source = f"def values(leg):\n    return [{', '.join(items)}]\n"
+    exec(compile(source, "<costing.sheets.formats leg values>", "exec"), scope)  # noqa: S102
+    return scope["values"]
+
+
+_ONE_VALUE: dict = {}  # column, or tuple of columns -> its values function (`leg_value`, `shipment_value`)
 
 
 def leg_value(leg, col: str) -> float:
     """The cached value of a numeric Legs column of `leg` (shares fall back to the leg's own
     figures when no plan stage has set them)."""
-    if col == "distance_km":
-        return leg.use.km
-    if col == "drive_hours":
-        return leg.use.hours
-    if col == "cost_share":
-        return leg.leg_cost if leg.cost_share is None else leg.cost_share
-    if col == "co2e_share":
-        return leg.co2e_kg if leg.co2e_share is None else leg.co2e_share
-    return getattr(leg, _LEG_ATTR.get(col, col))
+    fn = _ONE_VALUE.get(col)
+    if fn is None:
+        fn = _ONE_VALUE[col] = _leg_values([col])
+    return fn(leg)[0]
 
 
 def shipment_value(res: CostedShipment, col: str) -> float:
     """The cached value of a summed Summary column, from the same rounded leg figures."""
-    legs_cols = SUMMED[col]
-    total = sum(leg_value(leg, c) for leg in res.legs for c in legs_cols)
+    cols = tuple(SUMMED[col])
+    fn = _ONE_VALUE.get(cols)
+    if fn is None:
+        fn = _ONE_VALUE[cols] = _leg_values(cols)
+    total = sum(v for leg in res.legs for v in fn(leg))  # leg by leg, its columns in turn
     kind = SUMMARY_COLUMNS[SUM[col]][2]
     return round_money(total, res.places) if kind == "money" else total
 
 
 _SUMMED_LEG_COLS = tuple(dict.fromkeys(c for cols in SUMMED.values() for c in cols))
 _SUMMED_MONEY = {col: SUMMARY_COLUMNS[SUM[col]][2] == "money" for col in SUMMED}
+_summed_leg_values = _leg_values(_SUMMED_LEG_COLS)
 
 
 def shipment_values(res: CostedShipment) -> dict[str, float]:
     """``shipment_value(res, col)`` for every summed Summary column at once: each leg's figures
     are read once, and each column is summed in the same order (leg by leg, its Legs columns in
     turn), so the values are the same floats."""
-    rows = [[leg_value(leg, c) for c in _SUMMED_LEG_COLS] for leg in res.legs]
+    rows = [_summed_leg_values(leg) for leg in res.legs]
     at = {c: i for i, c in enumerate(_SUMMED_LEG_COLS)}
     out = {}
     for col, legs_cols in SUMMED.items():

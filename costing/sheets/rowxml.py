@@ -157,7 +157,7 @@ class Shape:
 class _Measure:
     """What decides one column's width, for one format: see the module docstring."""
 
-    __slots__ = ("fmt", "monotone", "pos", "pos_row", "neg", "neg_row", "seen", "text", "text_row")
+    __slots__ = ("fmt", "monotone", "pos", "pos_row", "neg", "neg_row", "seen", "text", "text_row", "text_n")
 
     def __init__(self, fmt, nf):
         self.fmt = fmt
@@ -168,6 +168,7 @@ class _Measure:
         self.seen: dict = {}
         self.text: str | None = None
         self.text_row = 0
+        self.text_n = 0  # _line(text): its longest line
 
 
 class RowBlock:
@@ -297,8 +298,8 @@ class RowBlock:
             if n > 40 and lay is not None:
                 lay.text(row, col, s, m.fmt)  # long text and caption rules: as written
                 return 0  # counted by the layout itself
-            if m.text is None or n > _line(m.text):
-                m.text, m.text_row = s, row
+            if m.text is None or n > m.text_n:
+                m.text, m.text_row, m.text_n = s, row, n
         elif isinstance(v, bool) or not m.monotone:
             if v not in m.seen:
                 m.seen[v] = row
@@ -564,14 +565,23 @@ def _compile_measure(plan: list[tuple], shape: Shape, block: RowBlock):
     """A function (row, values) measuring one row of `shape` as `RowBlock._measure_cells` does,
     made once per shape: a number of exact type float or int (not bool) is measured in line
     (the largest and the smallest of a column whose format shows them in a monotone width, else
-    each distinct value once); texts, and any other value, go through `RowBlock._measure_cell`."""
+    each distinct value once), and so is a text of one line of at most 40 characters (the longest
+    of its column); longer texts, and any other value, go through `RowBlock._measure_cell`."""
     lines = ["def measure(r, values):", "    cells = 0"]
     scope = {"cell": block._measure_cell, "counted": block.counted, "LIMIT": _MEASURED_ROWS}
     for k, (i, m, text, own_formula) in enumerate(plan):
         scope[f"m{k}"] = m
         col = shape.columns[i].col
-        if text:
-            lines.append(f"    cells += cell(m{k}, r, {col}, values[{i}], True)")
+        if text:  # a text of one line of at most 40 characters in line, any other through `cell`
+            lines += [f"    v = values[{i}]",
+                      "    if v.__class__ is str and len(v) <= 40 and '\\n' not in v:",
+                      "        cells += 1",
+                      f"        if m{k}.text is None or len(v) > m{k}.text_n:",
+                      f"            m{k}.text = v",
+                      f"            m{k}.text_row = r",
+                      f"            m{k}.text_n = len(v)",
+                      "    else:",
+                      f"        cells += cell(m{k}, r, {col}, v, True)"]
             continue
         lines += [f"    v = values[{i}]", "    if v is not None:"]
         if own_formula:
