@@ -370,3 +370,47 @@ def test_compiled_leg_values_read_what_each_column_shows():
                     total += rule(leg, c)
             want = round_money(total, res.places) if SUMMARY_COLUMNS[SUM[col]][2] == "money" else total
             assert repr(shipment_value(res, col)) == repr(many[col]) == repr(want), col
+
+
+@pytest.mark.parametrize("fast", [True, False])
+def test_a_whole_row_is_the_cells_written_one_by_one(tmp_path, monkeypatch, fast):
+    """`RowSink.add_row` against the same cells written through write_* one by one (xlsxwriter's
+    own cells when FAST_ROWS is off): a date as a datetime, a number None (no cell), NaN
+    (#NUM!), a template formula with {r} and {rr}, a formula of its own."""
+    import datetime as dt
+
+    from costing.model import Model, Settings
+    from costing.sheets.formats import Writer
+    from costing.sheets.rowxml import DATE, FORMULA, NUMBER, TEXT, Column, RowSink, Shape
+
+    monkeypatch.setattr(rowxml, "FAST_ROWS", fast)
+    paths = []
+    for whole in (True, False):
+        path = str(tmp_path / f"w{whole}.xlsx")
+        w = Writer(path, Model(Settings(), (), (), (), ()), dt.datetime(2026, 1, 1))
+        ws = w.wb.add_worksheet("S")
+        ws.write_string(0, 0, "head")
+        money = w.f["money"]
+        shape = Shape([Column(0, TEXT), Column(1, NUMBER), Column(2, DATE, w.f["date"]),
+                       Column(3, FORMULA, money, "ROUND(B{r}*2,2)+{rr}"), Column(4, FORMULA)])
+        out = RowSink(ws, 1)
+        rows = [["a", 1.5, dt.datetime(2026, 3, 2), 3.0, ("B2+1", 2.5)],
+                ["b", None, None, 0.0, ("SUM(B2:B3)", 1.5)],
+                ["c", float("nan"), dt.datetime(2026, 3, 4), 1.0, ("1=1", True)]]
+        for r, values in enumerate(rows, start=1):
+            if whole:
+                out.add_row(r, shape, values, rr=7)
+                continue
+            out.write_string(r, 0, values[0])
+            if values[1] is not None:
+                out.write_number(r, 1, values[1])
+            if values[2] is not None:
+                out.write_datetime(r, 2, values[2], w.f["date"])
+            out.write_formula(r, 3, f"=ROUND(B{r + 1}*2,2)+7", money, values[3])
+            out.write_formula(r, 4, "=" + values[4][0], None, values[4][1])
+        out.finish()
+        w.wb.close()
+        paths.append(path)
+    assert _same(paths[0], paths[1], ["S"]) == 14  # the header, 5 + 3 + 5 cells
+    cells = _cells(paths[0], "S")[0]
+    assert cells["B4"][:2] == ("=#NUM!", "f") or cells["B4"][2] == "#NUM!"

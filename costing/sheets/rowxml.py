@@ -147,6 +147,8 @@ class Shape:
         self.formulas = tuple(_escape(c.template) if c.template is not None else None
                               for c in self.columns)
         self.texts = tuple(i for i, c in enumerate(self.columns) if c.kind == TEXT)
+        self.numbers = tuple(i for i, c in enumerate(self.columns) if c.kind == NUMBER)
+        self.dates = tuple(i for i, c in enumerate(self.columns) if c.kind == DATE)
         for c in self.columns:
             if c.shared and (c.kind != FORMULA or c.template is None or "{rr}" in c.template):
                 raise ValueError(f"column {c.col}: only a formula template without {{rr}} is shared")
@@ -686,6 +688,36 @@ class RowSink:
             self.ws.write_datetime(row, col, when, fmt)
             return
         self._cell(row, col, DATE, fmt, self.ws._convert_date_time(when))
+
+    def add_row(self, row: int, shape: Shape, values: Sequence, rr: int = 0) -> None:
+        """Write a whole row of `shape` at once, one value per column as RowBlock.add takes them,
+        except that a date is a datetime: the cells the write_* calls would write (a number None:
+        no cell; a template's ``{r}`` this row's number, ``{rr}`` `rr`). Fast, the row goes to
+        the block as it is; cell by cell (FAST_ROWS off), or when a number is NaN or infinite
+        (#NUM!, as write_number writes it), each cell goes through write_*."""
+        numbers = shape.numbers
+        if self.fast and all(values[i] is None or values[i] - values[i] == 0 for i in numbers):
+            self._flush()
+            self.row = row
+            values = list(values)
+            for i in shape.dates:
+                if values[i] is not None:
+                    values[i] = self.ws._convert_date_time(values[i])
+            self.block.add(row, shape, values, rr)
+            return
+        for c, v in zip(shape.columns, values):
+            if c.kind == TEXT:
+                self.write_string(row, c.col, v, c.fmt)
+            elif v is None:
+                continue
+            elif c.kind == NUMBER:
+                self.write_number(row, c.col, v, c.fmt)
+            elif c.kind == DATE:
+                self.write_datetime(row, c.col, v, c.fmt)
+            elif c.template is None:
+                self.write_formula(row, c.col, "=" + v[0], c.fmt, v[1])
+            else:
+                self.write_formula(row, c.col, "=" + c.template.format(r=row + 1, rr=rr), c.fmt, v)
 
     def finish(self) -> None:
         """Hand over the last row and close the block."""
