@@ -108,9 +108,8 @@ def analyse(model: Model, router: Router, results: list[CostedShipment],
         t0 = time.perf_counter()
         for obj in OBJECTIVES:
             ships = [r.shipment for r in routed if r.objective != obj]
-            if aside is not None:
-                aside.adopt(router, obj, ships)
-            router.prepare(ships, obj, force=True)
+            if aside is None or not aside.adopt(router, obj, ships):  # adopted: prepare has nothing left
+                router.prepare(ships, obj, force=True)
         for r in results:
             if r.status == ROUTED:
                 s = r.shipment
@@ -169,12 +168,15 @@ class Aside:
         self.job = aside.series(calls)
         self.seconds = 0.0  # the trade-off searches' own wall seconds, in the other process
 
-    def adopt(self, router: Router, objective: str, shipments) -> None:
+    def adopt(self, router: Router, objective: str, shipments) -> bool:
         """Record the batched searches of `objective` made aside, when they were made for exactly
-        `shipments` (the plan may have changed which shipments are routed)."""
+        `shipments` (the plan may have changed which shipments are routed); whether they were.
+        Then ``router.prepare(shipments, objective, force=True)`` would find every batch made."""
         part = self._parts.get(objective)
-        if part is not None and part[1] == [s.shipment_id for s in shipments]:
-            router.adopt(self.job.result(part[0]))
+        if part is None or part[1] != [s.shipment_id for s in shipments]:
+            return False
+        router.adopt(self.job.result(part[0]))
+        return True
 
     def frontiers(self) -> dict[str, tuple]:
         """``Router.frontier_found`` by shipment id, made aside ({} when none were asked)."""
