@@ -17,11 +17,13 @@ What it guarantees:
 - **Nothing lost.** When the child cannot give a value (it raised, was killed, or exited without
   one), `result` calls the function in this process instead, at that point: an error is then
   raised here, with its own traceback, and a flaky child costs time, never a result.
-- **Only where forking is safe.** `available` is true only on a platform with ``os.fork``, with
-  two or more usable cores, in a process with one thread (forking a process with other threads
-  running can leave a lock held for ever in the child: a spreadsheet application hosting the
-  add-on, a Dask worker), and unless the environment sets ``COSTING_ASIDE=0``. Otherwise `start`
-  defers the call, and `result` makes it, in this process: the same value, one core.
+- **Only where forking is safe.** `available` is true only on Linux (``os.fork``), with two or
+  more usable cores, in a process with one Python thread (forking a process with other threads
+  running can leave a lock held for ever in the child: a Dask worker runs its tasks in threads),
+  outside `one_process` (the LibreOffice add-on, inside Calc's process, and ``costing run
+  --single-process``), and unless the environment sets ``COSTING_ASIDE=0``. Otherwise `start`
+  defers the call, and `result` makes it, in this process: the same value, one core. (numpy's
+  BLAS keeps idle threads of its own; it prepares them for a fork itself.)
 - **No stray processes.** `result` and `close` wait for the child; `close` (or leaving the `with`
   block, or the Job being collected) kills a child whose value is no longer wanted.
 
@@ -29,8 +31,10 @@ The child exits with ``os._exit``: it runs none of this process's exit handlers 
 of its buffered output. It freezes the inherited objects out of its cyclic collector's reach
 (``gc.freeze``), so its collections do not visit, and copy, the parent's pages.
 
-Who uses it: `costing.pipeline.run` (the trade-off searches beside the plan stage and the
-comparison, `Options.aside`) and the command line (the map picture beside the sheets).
+Who uses it: `costing.pipeline.run` (`Options.aside`: the comparison's batched searches and the
+trade-off searches beside the plan stage, `costing.plan.analysis.Aside`), the command line (the
+map picture beside the sheets) and `costing.sheets.assemble` (the heaviest worksheets' XML
+beside the others' at close).
 
 Examples
 --------
@@ -42,6 +46,7 @@ Examples
 
 from __future__ import annotations
 
+import contextlib
 import gc
 import os
 import pickle
@@ -49,7 +54,7 @@ import signal
 import sys
 import tempfile
 import threading
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from typing import Any
 
 ENV = "COSTING_ASIDE"  # "0": never fork (every Job runs in this process)
@@ -63,11 +68,28 @@ def cores() -> int:
         return os.cpu_count() or 1
 
 
+_held = 0  # `one_process` blocks open
+
+
+@contextlib.contextmanager
+def one_process() -> Iterator[None]:
+    """Keep every Job of the block in this process (``costing run --single-process``; the
+    LibreOffice add-on, whose Python runs inside Calc's process among Calc's own threads, which
+    Python's thread count does not see)."""
+    global _held
+    _held += 1
+    try:
+        yield
+    finally:
+        _held -= 1
+
+
 def available() -> bool:
-    """Whether `start` forks a child: ``os.fork`` exists, two or more cores are usable, this process
-    runs one thread, and ``COSTING_ASIDE`` is not ``0``."""
-    return (hasattr(os, "fork") and os.environ.get(ENV, "1") != "0" and cores() >= 2
-            and threading.active_count() == 1)
+    """Whether `start` forks a child: on Linux (``os.fork``; elsewhere forking a process that runs
+    system frameworks is not safe), two or more usable cores, one Python thread in this process,
+    outside `one_process`, and ``COSTING_ASIDE`` is not ``0``."""
+    return (sys.platform.startswith("linux") and hasattr(os, "fork") and not _held
+            and os.environ.get(ENV, "1") != "0" and cores() >= 2 and threading.active_count() == 1)
 
 
 class Job:
@@ -76,13 +98,14 @@ class Job:
     it, so an early value can be collected while the child works on the next."""
 
     def __init__(self, calls: list[tuple[Callable[..., Any], tuple, dict]], fork: bool):
-        self._calls: list | None = list(calls)
+        self._calls = list(calls)
         self._values: dict[int, Any] = {}
         self._got = 0  # values read from the child so far (in order)
         self._pid: int | None = None
         self._pipe = None  # the read end, as a file: where each value is in the spool
         self._spool = None  # the values, pickled, one after the other
         self.forked = False  # whether a child process computes (or computed) the values
+        self._owner = os.getpid()  # a child forked later inherits this Job: only its owner stops it
         if fork:
             self._fork()
 
@@ -100,6 +123,8 @@ class Job:
 
     def close(self) -> None:
         """Stop a child whose values were not all collected, and wait for it (nothing else)."""
+        if os.getpid() != self._owner:  # in another Job's child: not ours to stop
+            return
         if self._pid is not None:
             try:
                 os.kill(self._pid, signal.SIGKILL)

@@ -122,6 +122,9 @@ def _parser() -> argparse.ArgumentParser:
 def _common(p):
     p.add_argument("--objective", choices=OBJECTIVES, default=None,
                    help="objective for shipments that do not name one (overrides Settings)")
+    p.add_argument("--single-process", action="store_true",
+                   help="do everything in this process (by default, with two or more cores, some searches, "
+                   "the map and part of the writing run in a second one; the workbook is the same)")
     p.add_argument("--overwrite", action="store_true", help="replace OUTPUT if it exists")
     p.add_argument("--quiet", action="store_true", help="print only errors")
 
@@ -367,8 +370,15 @@ class _Progress:
 PROGRESS_DELAY = 2.0  # seconds a stage runs before its progress bar appears
 
 
-@fewer_collections()  # costing.collector: one block for load, run, map and write
 def _run(input_path: str, output: str, args, input_label: str | None = None) -> int:
+    from costing import aside
+
+    with aside.one_process() if getattr(args, "single_process", False) else contextlib.nullcontext():
+        return _run_here(input_path, output, args, input_label)
+
+
+@fewer_collections()  # costing.collector: one block for load, run, map and write
+def _run_here(input_path: str, output: str, args, input_label: str | None = None) -> int:
     from costing import aside, pipeline
     from costing.sheets.map import start_map
     from costing.sheets.writer import OutputLimitError, RunInfo, run_time, write_costed

@@ -266,3 +266,31 @@ def test_a_lexicographic_weight_pickles_to_itself():
     w = Lex(7.49, 106193, 3)
     back = pickle.loads(pickle.dumps(w))
     assert type(back) is Lex and tuple(back) == (7.49, 106193, 3)  # was Lex((7.49, 106193, 3), 0, 0)
+
+
+def test_single_process_forks_nothing(tmp_path, monkeypatch):
+    monkeypatch.setattr(pipeline, "ASIDE_SHIPMENTS", 1)
+    monkeypatch.setattr(assemble, "ASIDE_CELLS", 0)
+    forked = []
+    series = aside.series
+
+    def counted(calls, fork=None):
+        job = series(calls, fork)
+        forked.append(job.forked)
+        return job
+
+    monkeypatch.setattr(aside, "series", counted)
+    argv = ["run", str(EXAMPLE), "-o", str(tmp_path / "one.xlsx"), "--quiet", "--single-process"]
+    assert cli.main(argv) == 0
+    assert forked and not any(forked)  # the jobs were made, all in this process
+    with aside.one_process():
+        assert not aside.available()
+
+
+def test_the_addon_costs_in_one_process(tmp_path, monkeypatch):
+    from costing.addon import core
+
+    seen = []
+    monkeypatch.setattr(cli, "main", lambda argv: seen.append(argv) or 1)
+    core.cost(str(EXAMPLE), "week.xlsx", str(tmp_path / "out.xlsx"))
+    assert seen and "--single-process" in seen[0]

@@ -309,7 +309,8 @@ def cost(xlsx: str, doc_name: str, output: str, objective: str | None = None) ->
         return first
     from costing import cli
 
-    argv = ["run", xlsx, "-o", output] + (["--objective", objective] if objective else [])
+    # one process: the add-on runs inside Calc's, whose own threads rule out forking it
+    argv = ["run", xlsx, "-o", output, "--single-process"] + (["--objective", objective] if objective else [])
     out, err = io.StringIO(), io.StringIO()
     try:
         with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
