@@ -3,6 +3,7 @@ input and writing as many plain rows.
 
     python -m benchmarks.bench_week                  # 1,000 depots, 2,000 lanes, 5,000 shipments
     python -m benchmarks.bench_week --smoke          # 200 depots, 400 lanes, 200 shipments
+    python -m benchmarks.bench_week --serial         # no second process (costing.aside)
 
 The input is the invented, seeded network of `benchmarks.bench_workbook` (depots in a region of
 lat/lon joined to their nearest neighbours, trunk lanes up to 250 km), with 40 origins and the
