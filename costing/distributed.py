@@ -602,8 +602,9 @@ def run(model: Model, options: pipeline.Options | None = None, client=None, shar
     t0 = time.perf_counter()
     threads = sum(client.nthreads().values()) or 1
     count = shards or threads
-    base_options = replace(options, scenarios=False, progress=None)
-    sub_options = replace(options, analyses=False, scenarios=False, progress=None)
+    # aside off: a worker runs its tasks in threads, where forking is not safe (costing.aside)
+    base_options = replace(options, scenarios=False, progress=None, aside=False)
+    sub_options = replace(options, analyses=False, scenarios=False, progress=None, aside=False)
     networks = {}
 
     def shipped(m: Model):
