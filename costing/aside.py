@@ -198,8 +198,8 @@ class Job:
         if self._got <= k or self._got >= len(self._calls):
             self._reap()
 
-    def _reap(self) -> int | None:
-        """Close the pipe and wait for the child; its exit status (None when there was none)."""
+    def _reap(self) -> None:
+        """Close the pipe and the spool, and wait for the child (if there is one)."""
         if self._pipe is not None:
             self._pipe.close()
             self._pipe = None
@@ -207,16 +207,14 @@ class Job:
             self._spool.close()
             self._spool = None
         pid, self._pid = self._pid, None
-        if pid is None:
-            return None
-        while True:
+        while pid is not None:
             try:
-                _pid, status = os.waitpid(pid, 0)
-            except ChildProcessError:
-                return None
+                os.waitpid(pid, 0)
             except InterruptedError:
                 continue
-            return os.waitstatus_to_exitcode(status)
+            except ChildProcessError:
+                pass
+            pid = None
 
 
 def start(fn: Callable[..., Any], *args, fork: bool | None = None, **kwargs) -> Job:

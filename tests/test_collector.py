@@ -19,6 +19,19 @@ def test_docstring_examples():
     assert doctest.testmod(collector).failed == 0
 
 
+def _thresholds_seen_in(monkeypatch, module, name: str) -> list:
+    """The collector's thresholds at each call of ``module.name`` (wrapped for the test)."""
+    seen = []
+    real = getattr(module, name)
+
+    def spy(*args, **kwargs):
+        seen.append(gc.get_threshold())
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(module, name, spy)
+    return seen
+
+
 def test_thresholds_raised_in_the_run_and_put_back(monkeypatch, tmp_path):
     from costing.example import write_example
 
@@ -27,14 +40,7 @@ def test_thresholds_raised_in_the_run_and_put_back(monkeypatch, tmp_path):
     model, problems, _note = pipeline.load(path)
     assert model is not None
     before = gc.get_threshold()
-    seen = []
-    real = pipeline.plan_week
-
-    def spy(*args, **kwargs):
-        seen.append(gc.get_threshold())
-        return real(*args, **kwargs)
-
-    monkeypatch.setattr(pipeline, "plan_week", spy)
+    seen = _thresholds_seen_in(monkeypatch, pipeline, "plan_week")
     pipeline.run(model)
     assert seen and all(t == collector.THRESHOLDS for t in seen)
     assert gc.get_threshold() == before
@@ -72,14 +78,7 @@ def test_the_command_line_run_is_one_block(cli, tmp_path, monkeypatch):
     import costing.sheets.map as map_module
 
     before = gc.get_threshold()
-    seen = []
-    real = map_module.draw_map
-
-    def spy(*args, **kwargs):
-        seen.append(gc.get_threshold())
-        return real(*args, **kwargs)
-
-    monkeypatch.setattr(map_module, "draw_map", spy)
+    seen = _thresholds_seen_in(monkeypatch, map_module, "draw_map")
     code, _o, err = cli("demo", "-o", str(tmp_path / "out.xlsx"))
     assert code == 0, err
     assert seen == [collector.THRESHOLDS]
